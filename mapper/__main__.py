@@ -1,0 +1,6 @@
+"""``python -m mapper`` runs the ``netfit`` command."""
+import sys
+
+from .cli import main
+
+sys.exit(main())

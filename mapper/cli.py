@@ -1,0 +1,195 @@
+"""The ``netfit`` command: parses arguments, calls :mod:`mapper.flow`, prints.
+
+Data goes to stdout, logs and progress to stderr.  Exit codes: 0 success,
+1 the answer is "no", 2 bad input or usage, 3 internal error.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import logging
+import os
+import sys
+import traceback
+
+from . import __version__
+from .errors import InputError, NetfitError
+
+__all__ = ["main", "COMMANDS"]
+
+log = logging.getLogger("mapper")
+
+#: command name -> (help, function that adds its arguments, function that runs it)
+COMMANDS: dict = {}
+
+
+def command(name, help, add_args):
+    """Register a command: ``add_args(subparser)`` declares its options."""
+    def deco(fn):
+        COMMANDS[name] = (help, add_args, fn)
+        return fn
+    return deco
+
+
+def _read_options(args) -> dict:
+    opts = {}
+    if getattr(args, "top", None):
+        opts["top"] = args.top
+    if getattr(args, "allow_outside", False):
+        opts["allow_outside"] = True
+    return opts
+
+
+def _add_read_args(p):
+    p.add_argument("--top", metavar="NAME", help="top module/model (default: the one nothing else instantiates)")
+    p.add_argument("--allow-outside", action="store_true",
+                   help="let .search and includes read files outside the design's folder")
+
+
+def _print_json(obj) -> None:
+    json.dump(obj, sys.stdout, indent=2, sort_keys=False)
+    sys.stdout.write("\n")
+
+
+# -- inspect --------------------------------------------------------------
+def _inspect_args(p):
+    p.add_argument("design")
+    _add_read_args(p)
+    p.add_argument("--json", action="store_true", help="print JSON")
+
+
+@command("inspect", "show ports, storage, node counts, depth and warnings of a design", _inspect_args)
+def cmd_inspect(args):
+    from . import flow
+    info = flow.inspect(args.design, **_read_options(args))
+    if args.json:
+        _print_json(info)
+        return 0
+    print(f"design   {info['design']}  ({info['file']})")
+    print(f"inputs   {len(info['inputs'])}: {_short(info['inputs'])}")
+    print(f"outputs  {len(info['outputs'])}: {_short(info['outputs'])}")
+    kinds = ", ".join(f"{k} {v}" for k, v in info["storage_kinds"].items())
+    print(f"storage  {info['storage']}" + (f" ({kinds})" if kinds else ""))
+    print(f"nodes    {info['nodes']}")
+    for k, v in info["kinds"].items():
+        print(f"  {k:<14}{v:>8}")
+    print(f"depth    {info['depth']} logic levels")
+    if info["max_fanout_net"] is not None:
+        print(f"fan-out  largest {info['max_fanout']} (net {info['max_fanout_net']})")
+    print(f"warnings {len(info['warnings'])}")
+    for w in info["warnings"]:
+        print(f"  {w}")
+    return 0
+
+
+def _short(names, limit=10):
+    s = " ".join(names[:limit])
+    return s + (f" … (+{len(names) - limit})" if len(names) > limit else "")
+
+
+# -- verify ---------------------------------------------------------------
+def _verify_args(p):
+    p.add_argument("a")
+    p.add_argument("b")
+    _add_read_args(p)
+    p.add_argument("--json", action="store_true", help="print JSON")
+
+
+@command("verify", "prove two designs do the same logic, or show an input that tells them apart",
+         _verify_args)
+def cmd_verify(args):
+    from . import flow
+    res = flow.verify(args.a, args.b, **_read_options(args))
+    if args.json:
+        _print_json(res)
+    else:
+        if res["equivalent"]:
+            print(f"equal: {args.a} and {args.b} do the same logic (proved by {res['method']})")
+        else:
+            print(f"different: {args.a} and {args.b} ({res['method']})")
+            cex = res.get("counterexample") or {}
+            for k, v in (cex.get("inputs") or {}).items():
+                print(f"  input  {k} = {v}")
+            for k, v in (cex.get("state") or {}).items():
+                print(f"  state  {k} = {v}")
+            for d in cex.get("differs", []):
+                print(f"  output {d['output']}: {d['a']} in A, {d['b']} in B")
+        for note in res.get("notes", []):
+            print(f"note: {note}", file=sys.stderr)
+    return 0 if res["equivalent"] else 1
+
+
+# -- convert --------------------------------------------------------------
+def _convert_args(p):
+    p.add_argument("source")
+    p.add_argument("dest")
+    _add_read_args(p)
+    p.add_argument("--json", action="store_true", help="print JSON")
+
+
+@command("convert", "read a design and write it in another format (chosen by suffix)", _convert_args)
+def cmd_convert(args):
+    from . import flow
+    res = flow.convert(args.source, args.dest, **_read_options(args))
+    if args.json:
+        _print_json(res)
+    else:
+        print(f"wrote {res['to']}: {res['inputs']} inputs, {res['outputs']} outputs, "
+              f"{res['storage']} storage, {res['nodes']} nodes")
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="netfit", description=(
+        "Fit a gate-level design onto parts you can buy (chips or relays), with the fewest parts, "
+        "proven to do the same logic."))
+    p.add_argument("--version", action="version", version=f"netfit {__version__}")
+    p.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+    p.add_argument("-q", "--quiet", action="store_true", help="no progress or notes on stderr")
+    p.add_argument("-v", "--verbose", action="store_true", help="more log output on stderr")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    for name, (help, add_args, _) in COMMANDS.items():
+        sp = sub.add_parser(name, help=help, description=help)
+        add_args(sp)
+    return p
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    level = logging.WARNING if not args.verbose else logging.INFO
+    if args.quiet:
+        level = logging.ERROR
+    logging.basicConfig(level=level, format="%(levelname)s: %(message)s", stream=sys.stderr)
+    if not args.command:
+        parser.print_help(sys.stderr)
+        return 2
+    _, _, run = COMMANDS[args.command]
+    try:
+        return run(args)
+    except InputError as exc:
+        for d in exc.diagnostics:
+            print(str(d), file=sys.stderr)
+        return exc.exit_code
+    except NetfitError as exc:
+        print(f"netfit: error: {exc}", file=sys.stderr)
+        if args.debug and exc.exit_code == 3:
+            traceback.print_exc()
+        return exc.exit_code
+    except KeyboardInterrupt:
+        print("netfit: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
+    except Exception as exc:  # a bug of ours
+        print(f"netfit: internal error: {type(exc).__name__}: {exc}", file=sys.stderr)
+        if args.debug:
+            traceback.print_exc()
+        else:
+            print("netfit: run again with --debug for the traceback, and please report it", file=sys.stderr)
+        return 3
+
+
+if __name__ == "__main__":
+    sys.exit(main())

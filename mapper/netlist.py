@@ -1,0 +1,349 @@
+"""The gate graph: what every reader makes and every later stage reads.
+
+A :class:`Netlist` maps each signal (net) name to what drives it:
+
+* ``Input``    -- a primary input;
+* ``Logic``    -- a logic node: ordered fan-in nets and a :class:`~mapper.logic.function.Function`
+  (a constant is a logic node with no fan-ins);
+* ``Storage``  -- a latch or flip-flop: data net, kind, control net, initial value.
+
+Storage kinds follow the BLIF ``.latch`` types: ``re`` rising edge, ``fe``
+falling edge, ``ah`` transparent while the control is high, ``al`` transparent
+while low, ``as`` asynchronous (no control).  Initial values: 0, 1,
+2 (don't care), 3 (unknown).
+
+Bus bits are named ``name[i]``; flattened hierarchy uses ``/``-joined instance
+paths.  ``Netlist.graph()`` gives the ``networkx.DiGraph`` view (edges from
+fan-in to node); every check and analysis is iterative, never recursive over
+depth, because netlists can be thousands of levels deep.
+
+Examples
+--------
+>>> from mapper.logic.function import Function
+>>> n = Netlist("half")
+>>> n.add_input("a"); n.add_input("b")
+>>> n.add_logic("s", ["a", "b"], Function.from_table(2, 0b0110))
+>>> n.add_logic("c", ["a", "b"], Function.from_table(2, 0b1000))
+>>> n.add_output("s"); n.add_output("c")
+>>> n.check()
+[]
+>>> n.depth()
+1
+"""
+from __future__ import annotations
+
+import logging
+from collections import Counter
+from dataclasses import dataclass, field
+
+import networkx as nx
+
+from .errors import Diagnostic, NetlistError
+from .logic.function import Function
+
+__all__ = [
+    "Input",
+    "Logic",
+    "Storage",
+    "Netlist",
+    "STORAGE_KINDS",
+    "INIT_DONT_CARE",
+    "INIT_UNKNOWN",
+]
+
+log = logging.getLogger(__name__)
+
+STORAGE_KINDS = ("re", "fe", "ah", "al", "as")
+INIT_DONT_CARE = 2
+INIT_UNKNOWN = 3
+
+
+@dataclass(frozen=True)
+class Input:
+    """A primary input."""
+
+    fanins: tuple = ()
+
+
+@dataclass(frozen=True)
+class Logic:
+    """A logic node: ``func`` over the ordered ``fanins``."""
+
+    fanins: tuple
+    func: Function
+
+
+@dataclass(frozen=True)
+class Storage:
+    """A storage element driving its net from data net ``d``.
+
+    ``control`` is the clock or enable net (``None`` for kind ``as`` or when
+    the source gave none); ``init`` is 0, 1, 2 (don't care) or 3 (unknown).
+    """
+
+    d: str
+    kind: str = "re"
+    control: str | None = None
+    init: int = INIT_UNKNOWN
+
+    @property
+    def fanins(self) -> tuple:
+        return (self.d,) if self.control is None else (self.d, self.control)
+
+
+@dataclass
+class Netlist:
+    """A flat gate-level design.  See the module docstring."""
+
+    name: str
+    inputs: list = field(default_factory=list)
+    outputs: list = field(default_factory=list)
+    nodes: dict = field(default_factory=dict)
+    #: nets named by ``.clock`` (BLIF) or used as clocks; kept for writers
+    clocks: list = field(default_factory=list)
+    #: where each net was defined or first used: net -> (file, line, col)
+    origin: dict = field(default_factory=dict)
+    #: warnings found while reading or checking
+    warnings: list = field(default_factory=list)
+    #: external don't-care network (BLIF ``.exdc``): outputs named like ours;
+    #: where it is 1 the output value does not matter
+    exdc: "Netlist | None" = None
+
+    # -- building ---------------------------------------------------------
+    def _drive(self, name: str, node, where) -> None:
+        if name in self.nodes:
+            first = self.origin.get(name)
+            at = f" (first driven at {first[0]}:{first[1]})" if first and first[0] else ""
+            raise NetlistError(Diagnostic(f"net '{name}' has two drivers{at}", *(where or (None, None, None))))
+        self.nodes[name] = node
+        if where is not None:
+            self.origin[name] = where
+
+    def add_input(self, name: str, where=None) -> None:
+        """Declare a primary input (order is kept)."""
+        self._drive(name, Input(), where)
+        self.inputs.append(name)
+
+    def add_output(self, name: str, where=None) -> None:
+        """Declare a primary output net (order is kept; may be any driven net)."""
+        if name in self.outputs:
+            raise NetlistError(Diagnostic(f"output '{name}' is declared twice", *(where or (None, None, None))))
+        self.outputs.append(name)
+        if where is not None and name not in self.origin:
+            self.origin[name] = where
+
+    def add_logic(self, name: str, fanins, func: Function, where=None) -> None:
+        fanins = tuple(fanins)
+        if len(fanins) != func.n:
+            raise ValueError(f"node {name}: {len(fanins)} fan-ins but a function of {func.n}")
+        self._drive(name, Logic(fanins, func), where)
+
+    def add_constant(self, name: str, value: int, where=None) -> None:
+        self.add_logic(name, (), Function.constant(value), where)
+
+    def add_storage(self, name: str, d: str, kind: str = "re", control: str | None = None,
+                    init: int = INIT_UNKNOWN, where=None) -> None:
+        if kind not in STORAGE_KINDS:
+            raise ValueError(f"unknown storage kind {kind!r}")
+        if init not in (0, 1, 2, 3):
+            raise ValueError(f"bad initial value {init!r}")
+        self._drive(name, Storage(d, kind, control, init), where)
+
+    # -- queries ----------------------------------------------------------
+    def storage(self) -> dict:
+        """Storage elements in definition order: net -> :class:`Storage`."""
+        return {k: v for k, v in self.nodes.items() if isinstance(v, Storage)}
+
+    def logic(self) -> dict:
+        return {k: v for k, v in self.nodes.items() if isinstance(v, Logic)}
+
+    def fanouts(self) -> dict:
+        """net -> list of nets it feeds (outputs not counted)."""
+        out = {k: [] for k in self.nodes}
+        for name, node in self.nodes.items():
+            for f in node.fanins:
+                out.setdefault(f, []).append(name)
+        return out
+
+    def graph(self) -> nx.DiGraph:
+        """The gate graph: one node per net (attribute ``node``), edges fan-in -> node."""
+        g = nx.DiGraph()
+        for name, node in self.nodes.items():
+            g.add_node(name, node=node)
+        for name, node in self.nodes.items():
+            for f in node.fanins:
+                g.add_edge(f, name)
+        return g
+
+    def combinational_graph(self) -> nx.DiGraph:
+        """The gate graph without edges into storage elements (they break loops)."""
+        g = nx.DiGraph()
+        g.add_nodes_from(self.nodes)
+        for name, node in self.nodes.items():
+            if isinstance(node, Logic):
+                for f in node.fanins:
+                    g.add_edge(f, name)
+        return g
+
+    def topological_order(self) -> list:
+        """Every net, fan-ins before the logic that reads them; storage and
+        inputs count as sources.  Raises :class:`NetlistError` on a loop."""
+        indeg = {}
+        users: dict = {}
+        for name, node in self.nodes.items():
+            if isinstance(node, Logic):
+                indeg[name] = len(node.fanins)
+                for f in node.fanins:
+                    users.setdefault(f, []).append(name)
+            else:
+                indeg[name] = 0
+        ready = [n for n, d in indeg.items() if d == 0]
+        order = []
+        while ready:
+            n = ready.pop()
+            order.append(n)
+            for u in users.get(n, ()):
+                indeg[u] -= 1
+                if indeg[u] == 0:
+                    ready.append(u)
+        if len(order) != len(self.nodes):
+            missing = [f for node in self.nodes.values() for f in node.fanins if f not in self.nodes]
+            if missing:
+                raise NetlistError(Diagnostic(f"net '{missing[0]}' is used but never driven"))
+            raise NetlistError(self._loop_diagnostics())
+        return order
+
+    def levels(self) -> dict:
+        """net -> logic level (inputs, constants and storage outputs are level 0)."""
+        lev = {}
+        for n in self.topological_order():
+            node = self.nodes[n]
+            if isinstance(node, Logic) and node.fanins:
+                lev[n] = 1 + max(lev[f] for f in node.fanins)
+            else:
+                lev[n] = 0
+        return lev
+
+    def depth(self) -> int:
+        """Largest logic level of any net."""
+        lev = self.levels()
+        return max(lev.values(), default=0)
+
+    def kind_counts(self) -> Counter:
+        """Node counts by kind of function (``and2``, ``xor2``, ``const``, ``cover5`` ...)."""
+        c = Counter()
+        for node in self.nodes.values():
+            if isinstance(node, Input):
+                continue
+            if isinstance(node, Storage):
+                c[f"storage-{node.kind}"] += 1
+                continue
+            c[describe_function(node.func)] += 1
+        return c
+
+    # -- checks -----------------------------------------------------------
+    def _where(self, net):
+        return self.origin.get(net) or (None, None, None)
+
+    def _loop_diagnostics(self) -> list:
+        g = self.combinational_graph()
+        diags = []
+        for comp in nx.strongly_connected_components(g):
+            if len(comp) > 1 or any(g.has_edge(n, n) for n in comp):
+                nets = sorted(comp)
+                shown = ", ".join(nets[:12]) + (f", … ({len(nets)} nets)" if len(nets) > 12 else "")
+                diags.append(Diagnostic(
+                    f"combinational loop not broken by a storage element through nets: {shown}",
+                    *self._where(nets[0])))
+        return diags
+
+    def check(self) -> list:
+        """Check the circuit; raise :class:`NetlistError` with every error found.
+
+        Errors: undriven nets (used or declared as output but never driven),
+        combinational loops.  Warnings (returned, and appended to
+        ``self.warnings``): unused inputs, dangling logic (nodes that reach no
+        output or storage element).
+        """
+        errors = []
+        reported = set()
+        for name, node in self.nodes.items():
+            for f in node.fanins:
+                if f not in self.nodes and f not in reported:
+                    reported.add(f)
+                    errors.append(Diagnostic(f"net '{f}' is used but never driven", *self._where(f)))
+        for o in self.outputs:
+            if o not in self.nodes and o not in reported:
+                reported.add(o)
+                errors.append(Diagnostic(f"output '{o}' is never driven", *self._where(o)))
+        if not errors:
+            errors.extend(self._loop_diagnostics())
+        if errors:
+            raise NetlistError(errors)
+
+        warnings = []
+        used = set()
+        for node in self.nodes.values():
+            used.update(node.fanins)
+        used.update(self.outputs)
+        unused = [i for i in self.inputs if i not in used]
+        for i in unused:
+            warnings.append(Diagnostic(f"input '{i}' is not used", *self._where(i), severity="warning"))
+        # dangling: not in the transitive fan-in of any output or storage element
+        live = set(self.outputs)
+        stack = list(self.outputs)
+        for name, node in self.nodes.items():
+            if isinstance(node, Storage):
+                live.add(name)
+                stack.append(name)
+        while stack:
+            n = stack.pop()
+            for f in self.nodes[n].fanins:
+                if f not in live:
+                    live.add(f)
+                    stack.append(f)
+        dangling = [n for n, node in self.nodes.items()
+                    if not isinstance(node, Input) and n not in live]
+        if dangling:
+            shown = ", ".join(dangling[:8]) + (" …" if len(dangling) > 8 else "")
+            warnings.append(Diagnostic(
+                f"{len(dangling)} logic node(s) drive nothing that reaches an output: {shown}",
+                *self._where(dangling[0]), severity="warning"))
+        self.warnings.extend(warnings)
+        return warnings
+
+    def copy(self) -> "Netlist":
+        n = Netlist(self.name, list(self.inputs), list(self.outputs), dict(self.nodes),
+                    list(self.clocks), dict(self.origin), list(self.warnings), self.exdc)
+        return n
+
+    def __len__(self) -> int:
+        return len(self.nodes)
+
+
+_NAMED = {
+    (1, 0b10): "buf", (1, 0b01): "inv",
+    (2, 0b1000): "and2", (2, 0b0111): "nand2", (2, 0b1110): "or2", (2, 0b0001): "nor2",
+    (2, 0b0110): "xor2", (2, 0b1001): "xnor2",
+}
+
+
+def describe_function(func: Function) -> str:
+    """A short human name for a node's function kind (for counts and reports)."""
+    if func.n == 0:
+        return "const"
+    if func.has_table or func.n <= 6:
+        t = func.table()
+        name = _NAMED.get((func.n, t))
+        if name:
+            return name
+        full = (1 << (1 << func.n)) - 1
+        if t == 1 << (full.bit_length() - 1):
+            return f"and{func.n}"
+        if t == full ^ (1 << (full.bit_length() - 1)):
+            return f"nand{func.n}"
+        if t == full ^ 1:
+            return f"or{func.n}"
+        if t == 1:
+            return f"nor{func.n}"
+    return f"cover{func.n}"
