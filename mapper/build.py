@@ -1,0 +1,302 @@
+"""The build: cells placed in slots of numbered parts, support parts and wiring.
+
+A :class:`Build` is what fit/ makes and what analyze/ and write/ read; they
+know nothing of how it was made.  Everything a writer needs is here or
+derived from here:
+
+* ``parts`` -- numbered logic parts (``U1``… chips, ``K1``… relays);
+* ``cells`` -- one :class:`CellInstance` per used slot: the cell it performs
+  and the net on each of its pins;
+* ``contacts`` -- for relay builds, one :class:`ContactInstance` per used
+  pole: the coil net that moves it and the nets on its common, normally-open
+  and normally-closed terminals;
+* ``support`` -- decoupling capacitors, coil diodes, pull-down resistors;
+* ``ties`` -- unused inputs of used slots, tied to a supply rail.
+
+Nets are derived (:meth:`Build.nets`), never stored twice.  The build turns
+back into logic with :meth:`Build.to_netlist`, which is what the prover checks
+against the design.
+"""
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass, field
+
+from .errors import InternalError
+from .logic.function import Function
+from .netlist import Netlist
+
+__all__ = ["PartInstance", "CellInstance", "ContactInstance", "SupportInstance", "Tie", "Build",
+           "SUPPLY_NETS"]
+
+#: names of the supply rails in every build
+SUPPLY_NETS = ("VCC", "GND")
+
+
+@dataclass
+class PartInstance:
+    """One logic part placed in the build (``ref`` is ``U3`` or ``K7``)."""
+
+    ref: str
+    part_id: str
+
+
+@dataclass
+class CellInstance:
+    """One used slot: ``cell`` performed in slot ``slot`` of part ``part_ref``.
+
+    ``pins`` maps every pin name of the cell (inputs and outputs) to a net;
+    an input tied to a rail names ``VCC`` or ``GND``.  ``origin`` is the design
+    net this cell's output implements, when there is one (a hint for the prover
+    and for reports).  ``init`` is the initial value of a storage cell.
+    """
+
+    name: str
+    cell: str
+    part_ref: str
+    slot: int
+    pins: dict
+    origin: str | None = None
+    init: int = 3
+
+
+@dataclass
+class ContactInstance:
+    """One changeover pole of relay ``part_ref``, moved by the relay's coil.
+
+    ``com``, ``no`` and ``nc`` are the nets on the common, normally-open and
+    normally-closed terminals (``None`` when that terminal is unused).
+    """
+
+    part_ref: str
+    pole: int
+    com: str | None
+    no: str | None
+    nc: str | None
+
+
+@dataclass
+class SupportInstance:
+    """A support part (``C1`` decoupling capacitor, ``D1`` coil diode, ``R1`` load)."""
+
+    ref: str
+    part_id: str
+    nets: tuple
+    purpose: str
+
+
+@dataclass
+class Tie:
+    """An unused input pin of a used part, tied to a rail."""
+
+    part_ref: str
+    pin: int
+    rail: str
+    reason: str = "unused input"
+
+
+@dataclass
+class Build:
+    """The mapped result (see module docstring)."""
+
+    design: str
+    target: object  # mapper.fit.target.Target
+    inputs: list
+    outputs: list
+    parts: list = field(default_factory=list)
+    cells: list = field(default_factory=list)
+    contacts: list = field(default_factory=list)
+    #: relay builds: part ref -> coil net (the coil's other end is GND)
+    coils: dict = field(default_factory=dict)
+    support: list = field(default_factory=list)
+    ties: list = field(default_factory=list)
+    #: output port -> net that carries it (ports may be renamed internally)
+    output_nets: dict = field(default_factory=dict)
+    #: nets driven by the supply through contacts: relay builds' source rail
+    rail: str = "VCC"
+    cautions: list = field(default_factory=list)
+    notes: list = field(default_factory=list)
+    verified: str = "not checked"
+    #: filled by analyze/: a dict of timing figures
+    timing: dict = field(default_factory=dict)
+
+    # -- derived views ----------------------------------------------------
+    def part(self, ref: str) -> PartInstance:
+        for p in self.parts:
+            if p.ref == ref:
+                return p
+        raise KeyError(ref)
+
+    def part_def(self, ref_or_id: str):
+        pid = ref_or_id
+        for p in self.parts:
+            if p.ref == ref_or_id:
+                pid = p.part_id
+                break
+        return self.target.parts[pid]
+
+    def part_counts(self) -> Counter:
+        return Counter(p.part_id for p in self.parts)
+
+    def cell_counts(self) -> Counter:
+        return Counter(c.cell for c in self.cells)
+
+    def support_counts(self) -> Counter:
+        return Counter(s.part_id for s in self.support)
+
+    def slots_available(self) -> int:
+        total = 0
+        for p in self.parts:
+            pd = self.target.parts[p.part_id]
+            total += pd.relay.poles if pd.relay is not None else len(pd.slots)
+        return total
+
+    def slots_used(self) -> int:
+        return len(self.cells) + len(self.contacts)
+
+    def spare_slots(self) -> int:
+        return self.slots_available() - self.slots_used()
+
+    def pin_of(self, cell: CellInstance, pin: str) -> int | str:
+        """Package pin (number, or terminal name) of ``pin`` of ``cell``."""
+        pd = self.target.parts[self.part(cell.part_ref).part_id]
+        for s in pd.slots:
+            if s.index == cell.slot:
+                if pin in s.pins:
+                    return s.pins[pin]
+                break
+        if pin in getattr(pd, "shared_pins", {}):
+            return pd.shared_pins[pin]
+        raise InternalError(f"{cell.part_ref} slot {cell.slot} has no pin {pin}")
+
+    def nets(self) -> dict:
+        """net -> sorted list of ``(ref, pin)`` it joins (supply pins included)."""
+        out: dict = {}
+
+        def add(net, ref, pin):
+            if net is not None:
+                out.setdefault(net, set()).add((ref, pin))
+
+        for c in self.cells:
+            for pin, net in c.pins.items():
+                add(net, c.part_ref, self.pin_of(c, pin))
+        for k in self.contacts:
+            add(k.com, k.part_ref, f"COM{k.pole}")
+            add(k.no, k.part_ref, f"NO{k.pole}")
+            add(k.nc, k.part_ref, f"NC{k.pole}")
+        for ref, net in self.coils.items():
+            add(net, ref, "COIL+")
+            add("GND", ref, "COIL-")
+        for p in self.parts:
+            pd = self.target.parts[p.part_id]
+            for rail, pin in pd.supply_pins.items():
+                add(rail, p.ref, pin)
+        for t in self.ties:
+            add(t.rail, t.part_ref, t.pin)
+        for s in self.support:
+            for i, net in enumerate(s.nets, 1):
+                add(net, s.ref, i)
+        return {n: sorted(v, key=lambda rp: (_refkey(rp[0]), str(rp[1]))) for n, v in sorted(out.items())}
+
+    # -- logic view -------------------------------------------------------
+    def to_netlist(self) -> Netlist:
+        """The build as logic, for the prover.
+
+        Gate cells become logic nodes with their catalog functions; storage
+        cells become storage elements.  Relay builds turn their contact
+        networks back into logic with :func:`mapper.fit.relay.contact_logic`.
+        """
+        n = Netlist(f"{self.design}@{self.target.name}")
+        for i in self.inputs:
+            n.add_input(i)
+        cells = self.target.cells
+        for c in self.cells:
+            cd = cells[c.cell]
+            if cd.storage is not None:
+                d = c.pins[cd.inputs[0]]
+                ctrl = c.pins.get(cd.inputs[1]) if len(cd.inputs) > 1 else None
+                q = c.pins[cd.output]
+                n.add_storage(q, _net(d), cd.storage, _net(ctrl) if ctrl else None, c.init)
+                for extra in cd.extra_outputs:
+                    if c.pins.get(extra):
+                        n.add_logic(c.pins[extra], [q], Function.from_table(1, 0b01))
+                continue
+            fanins = [c.pins[p] for p in cd.inputs]
+            n.add_logic(c.pins[cd.output], [_net(f) for f in fanins], cd.function)
+        if self.contacts or self.coils:
+            from .fit.relay import contact_logic
+            contact_logic(self, n)
+        for rail, value in (("VCC", 1), ("GND", 0)):
+            if rail not in n.nodes and _used(n, rail):
+                n.add_constant(rail, value)
+        for o in self.outputs:
+            net = self.output_nets.get(o, o)
+            if net != o:
+                if o in n.nodes:
+                    raise InternalError(f"output {o} is both a port and an internal net")
+                n.add_logic(o, [net], Function.from_table(1, 0b10))
+            n.add_output(o)
+        return n
+
+    def hints(self) -> dict:
+        """design net -> build net believed equal (for the prover)."""
+        h = {}
+        for c in self.cells:
+            if c.origin is not None:
+                cd = self.target.cells[c.cell]
+                h[c.origin] = c.pins[cd.output]
+        return h
+
+    # -- summary ----------------------------------------------------------
+    def cost(self) -> tuple[float, str]:
+        total = 0.0
+        currency = ""
+        for pid, count in list(self.part_counts().items()) + list(self.support_counts().items()):
+            pd = self.target.parts[pid]
+            if pd.price is not None:
+                total += pd.price.value * count
+                currency = currency or pd.currency
+        return round(total, 4), currency
+
+    def summary(self) -> dict:
+        """The ``--json`` summary of ``netfit build`` (stable, append-only keys)."""
+        cost, currency = self.cost()
+        s = {
+            "design": self.design,
+            "target": self.target.name,
+            "parts_total": len(self.parts),
+            "parts": dict(sorted(self.part_counts().items())),
+            "cells": dict(sorted(self.cell_counts().items())),
+            "slots_used": self.slots_used(),
+            "slots_available": self.slots_available(),
+            "spare_slots": self.spare_slots(),
+            "support_parts": dict(sorted(self.support_counts().items())),
+            "delay_s": self.timing.get("delay_s"),
+            "cost": cost,
+            "currency": currency,
+            "verified": self.verified,
+        }
+        for key in ("delay_typ_s", "supply_current_a", "supply_current_typ_a"):
+            if key in self.timing:
+                s[key] = self.timing[key]
+        if self.contacts or self.coils:
+            s["poles_used"] = len(self.contacts)
+            s["poles_available"] = self.slots_available()
+        s["ties"] = len(self.ties)
+        s["cautions"] = list(self.cautions)
+        s["notes"] = list(self.notes)
+        return s
+
+
+def _net(name):
+    return name
+
+
+def _used(n: Netlist, net: str) -> bool:
+    return any(net in node.fanins for node in n.nodes.values())
+
+
+def _refkey(ref: str):
+    head = ref.rstrip("0123456789")
+    tail = ref[len(head):]
+    return (head, int(tail) if tail else 0)

@@ -1,0 +1,165 @@
+"""k-feasible cuts of an AIG with their truth tables.
+
+Published method: priority cuts -- A. Mishchenko, S. Cho, S. Chatterjee,
+R. Brayton, "Combinational and sequential mapping with priority cuts",
+ICCAD 2007.  Each AND node keeps only its ``C`` best cuts (by a cost the
+caller supplies, evaluated while enumerating, so that cut computation and the
+first mapping pass are one sweep), plus its trivial cut.
+
+A cut is a tuple of leaf variables in increasing order and the truth table of
+the node over those leaves (leaf ``j`` is table input ``j``; see
+:mod:`mapper.logic.function`).  Tables are small integers (at most 16 bits
+for ``k = 4``); merging two cuts expands each child table into the merged
+leaf space through a cached lookup, so no per-minterm Python loop runs in the
+hot path.
+
+Examples
+--------
+>>> from mapper.logic.aig import AIG
+>>> g = AIG(); a, b, c = (g.add_input(x) for x in "abc")
+>>> f = g.add_and(g.add_and(a, b), c)
+>>> cuts = enumerate_cuts(g, k=3, limit=4)
+>>> ((1, 2, 3), 128) in cuts[f >> 1]   # the 3-leaf cut {a, b, c} computes AND3
+True
+"""
+from __future__ import annotations
+
+from ..logic.function import var_mask
+
+__all__ = ["enumerate_cuts", "expand_table", "reduce_support"]
+
+_EXPAND: dict = {}
+
+
+def expand_table(table: int, positions: tuple, n: int) -> int:
+    """Re-express a table over ``len(positions)`` inputs in an ``n``-input space.
+
+    Input ``i`` of ``table`` becomes input ``positions[i]`` of the result.
+    """
+    key = (table, positions, n)
+    r = _EXPAND.get(key)
+    if r is None:
+        r = 0
+        for m in range(1 << n):
+            idx = 0
+            for i, p in enumerate(positions):
+                if (m >> p) & 1:
+                    idx |= 1 << i
+            if (table >> idx) & 1:
+                r |= 1 << m
+        _EXPAND[key] = r
+    return r
+
+
+def reduce_support(leaves: tuple, table: int):
+    """Drop leaves the table does not depend on; returns ``(leaves, table)``."""
+    n = len(leaves)
+    keep = []
+    for j in range(n):
+        m = var_mask(n, j)
+        s = 1 << j
+        if ((table & m) >> s) != (table & ~m & ((1 << (1 << n)) - 1)):
+            keep.append(j)
+    if len(keep) == n:
+        return leaves, table
+    # project onto kept inputs: read the table where dropped inputs are 0
+    new = 0
+    for m in range(1 << len(keep)):
+        idx = 0
+        for i, j in enumerate(keep):
+            if (m >> i) & 1:
+                idx |= 1 << j
+        if (table >> idx) & 1:
+            new |= 1 << m
+    return tuple(leaves[j] for j in keep), new
+
+
+def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after=None, cuts=None):
+    """Priority cuts of every AND node.
+
+    Parameters
+    ----------
+    aig : AIG
+    k : int
+        Largest number of leaves.
+    limit : int
+        Cuts kept per node besides the trivial one.
+    cost : callable or None
+        ``cost(var, leaves, table) -> sortable`` ranking a cut (lower is
+        better); called in topological order, so it may read mapping data of
+        the leaves.  Default: fewer leaves first.
+    nodes : iterable or None
+        Restrict to these AND variables (must be closed under fan-in cones
+        of interest); default all.
+    after : callable or None
+        ``after(var)`` runs once the node's cuts are stored (the mapper
+        matches the node there, so that ``cost`` of later nodes can read it).
+    cuts : dict or None
+        The dictionary to fill (lets ``after`` read it while it grows).
+
+    Returns
+    -------
+    dict
+        var -> list of ``(leaves, table)``; the trivial cut ``((var,), 0b10)``
+        comes last.  Inputs and latch outputs have only their trivial cut.
+    """
+    f0, f1 = aig.f0, aig.f1
+    if cuts is None:
+        cuts = {}
+    trivial = {}
+    it = range(1, aig.num_vars) if nodes is None else sorted(nodes)
+    for v in it:
+        triv = ((v,), 0b10)
+        trivial[v] = triv
+        if f0[v] < 0:
+            cuts[v] = [triv]
+            continue
+        a, b = f0[v], f1[v]
+        va, vb = a >> 1, b >> 1
+        ca = cuts.get(va) or [((va,), 0b10)]
+        cb = cuts.get(vb) or [((vb,), 0b10)]
+        seen = {}
+        for la, ta in ca:
+            for lb, tb in cb:
+                if la == lb:
+                    leaves = la
+                else:
+                    s = set(la)
+                    s.update(lb)
+                    if len(s) > k:
+                        continue
+                    leaves = tuple(sorted(s))
+                n = len(leaves)
+                full = (1 << (1 << n)) - 1
+                if leaves == la:
+                    xa = ta
+                else:
+                    xa = expand_table(ta, tuple(leaves.index(x) for x in la), n)
+                if leaves == lb:
+                    xb = tb
+                else:
+                    xb = expand_table(tb, tuple(leaves.index(x) for x in lb), n)
+                if a & 1:
+                    xa ^= full
+                if b & 1:
+                    xb ^= full
+                t = xa & xb
+                leaves, t = reduce_support(leaves, t)
+                if leaves not in seen:
+                    seen[leaves] = t
+        found = list(seen.items())
+        # remove dominated cuts (a proper subset of leaves exists)
+        if len(found) > 1:
+            sets = [(frozenset(l), l, t) for l, t in found]
+            found = [(l, t) for s, l, t in sets
+                     if not any(o < s for o, _, _ in sets)]
+        if cost is not None:
+            found.sort(key=lambda lt: cost(v, lt[0], lt[1]))
+        else:
+            found.sort(key=lambda lt: len(lt[0]))
+        found = found[:limit]
+        found.append(triv)
+        cuts[v] = found
+        if after is not None:
+            after(v)
+    return cuts

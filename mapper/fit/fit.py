@@ -1,0 +1,178 @@
+"""Fit a design onto a gate target: map, place storage, pack, and search for fewer parts.
+
+The search keeps a change only when the whole-part count falls (ties broken
+by delay, then by wires); every candidate is a complete build, and the one
+returned is proved equal to the design by the caller (:mod:`mapper.flow`).
+
+Candidates tried:
+
+* the mapping with every cell of the target;
+* re-mapping the mapped logic itself (its NAND/NOR structure often exposes
+  sharing the first subject graph hid);
+* for each part type in the build, the mapping without that cell type,
+  when its cells might move into spare slots of the others.
+"""
+from __future__ import annotations
+
+import logging
+from dataclasses import replace
+
+from ..errors import UsageError
+from ..logic.function import Function
+from ..netlist import Netlist, Storage
+from .gates import Mapping, map_logic
+from .library import CellLibrary
+from .pack import pack
+
+__all__ = ["fit_gates", "mapping_netlist"]
+
+log = logging.getLogger(__name__)
+
+_LIBS: dict = {}
+
+
+def _library(target, exclude=frozenset()) -> CellLibrary:
+    key = (target.name, target.path, frozenset(exclude))
+    lib = _LIBS.get(key)
+    if lib is None:
+        t = target
+        if exclude:
+            t = _restricted(target, exclude)
+        lib = _LIBS[key] = CellLibrary(t)
+    return lib
+
+
+def _restricted(target, exclude):
+    cells = {k: v for k, v in target.cells.items() if k not in exclude}
+    carriers = {k: v for k, v in target.carriers.items() if k not in exclude}
+    return replace(target, cells=cells, carriers=carriers)
+
+
+def _score(build):
+    return (len(build.parts), build.timing.get("levels", 0), len(build.cells))
+
+
+def fit_gates(design: Netlist, target, effort: int = 1, progress=None) -> "Build":
+    """The build with the fewest whole parts found for ``design`` on ``target``."""
+    storage_cells = _storage_cells(target)
+    best = None
+    tried = []
+
+    def consider(mapping, label, lib_target):
+        nonlocal best
+        b = _assemble(design, lib_target, mapping, storage_cells)
+        b.timing["levels"] = mapping.depth
+        tried.append((label, len(b.parts)))
+        if best is None or _score(b) < _score(best):
+            best = b
+        return b
+
+    lib = _library(target)
+    m = map_logic(design, lib)
+    consider(m, "all cells", target)
+    # re-map the mapped logic: a second subject graph built from the first cover
+    if effort > 0:
+        for _ in range(2):
+            again = map_logic(mapping_netlist(design, m, target), lib)
+            if again.area < m.area - 1e-9:
+                m = again
+                consider(m, "re-mapped", target)
+            else:
+                break
+    # drop a part type and see whether the others absorb its work
+    if effort > 0 and len(lib.cells) > 1:
+        for cell in sorted(set(best.cell_counts())):
+            if cell not in lib.cells or cell in storage_cells.values():
+                continue
+            try:
+                sub = _library(target, frozenset({cell}))
+            except ValueError:
+                continue
+            if sub.inverter() is None:
+                continue
+            try:
+                m2 = map_logic(design, sub)
+            except RuntimeError:
+                continue
+            consider(m2, f"without {cell}", target)
+    log.info("tried: %s", ", ".join(f"{l}: {n} parts" for l, n in tried))
+    best.notes.append("part search: " + "; ".join(f"{l} {n}" for l, n in tried))
+    return best
+
+
+def _storage_cells(target) -> dict:
+    """storage kind -> cell name among the target's cells."""
+    out = {}
+    for name, cd in target.cells.items():
+        if cd.storage is not None and target.carriers.get(name):
+            out.setdefault(cd.storage, name)
+    return out
+
+
+def _assemble(design, target, mapping: Mapping, storage_cells):
+    storage_uses = []
+    extra_cells = []
+    cautions = []
+    for net, node in design.storage().items():
+        d, ctrl = mapping.storage_nets[net]
+        kind = node.kind
+        cell = storage_cells.get(kind)
+        invert_ctrl = False
+        if cell is None:
+            flipped = {"fe": "re", "al": "ah", "re": "fe", "ah": "al"}.get(kind)
+            if flipped in storage_cells:
+                cell, invert_ctrl = storage_cells[flipped], True
+        if cell is None:
+            raise UsageError(
+                f"target {target.name} has no storage part for a '{kind}' storage element ({net}); "
+                "building storage from gates is not supported yet — use a target with flip-flops/latches")
+        cd = target.cells[cell]
+        if ctrl is None:
+            raise UsageError(f"storage element {net} has no clock or enable net")
+        if invert_ctrl:
+            inv_net = f"{ctrl}_n"
+            extra_cells.append(_inverter_use(target, ctrl, inv_net))
+            ctrl = inv_net
+        pins = {cd.inputs[0]: d, cd.inputs[1]: ctrl, cd.output: net}
+        for extra in cd.inputs[2:]:
+            pins[extra] = "VCC"  # preset/clear inactive (active low)
+        storage_uses.append((cell, pins, net, node.init))
+        if node.init in (0, 1):
+            cautions.append(
+                f"{net} must start at {node.init}: the part powers up in an unknown state; drive its "
+                f"{'clear' if node.init == 0 else 'preset'} input from a power-on reset if it matters")
+    if extra_cells:
+        mapping = Mapping(mapping.cells + extra_cells, mapping.outputs, mapping.storage_nets,
+                          mapping.area, mapping.depth)
+    b = pack(design.name, target, design.inputs, design.outputs, mapping, storage_uses)
+    b.cautions.extend(cautions)
+    return b
+
+
+def _inverter_use(target, src, out):
+    from .gates import CellUse
+    lib = _library(target)
+    impl = lib.inverter()
+    (cell, args), = impl.gates
+    return CellUse(cell, tuple(src for _ in args), out, None)
+
+
+def mapping_netlist(design: Netlist, mapping: Mapping, target) -> Netlist:
+    """The mapped logic as a netlist over the same ports and storage (for re-mapping)."""
+    n = Netlist(design.name)
+    for i in design.inputs:
+        n.add_input(i)
+    for net, node in design.storage().items():
+        d, c = mapping.storage_nets[net]
+        n.add_storage(net, d, node.kind, c, node.init)
+    for rail, v in (("VCC", 1), ("GND", 0)):
+        n.add_constant(rail, v)
+    for c in mapping.cells:
+        cd = target.cells[c.cell]
+        n.add_logic(c.out, c.args, cd.function)
+    for o in design.outputs:
+        net = mapping.outputs[o]
+        if net != o:
+            n.add_logic(o, [net], Function.from_table(1, 0b10))
+        n.add_output(o)
+    return n

@@ -1,0 +1,428 @@
+"""Cut-based mapping of a design onto the logic cells of a gate target.
+
+The published methods this follows:
+
+* subject graph: an AIG with structural hashing and complemented edges
+  (:mod:`mapper.logic.aig`);
+* k-feasible priority cuts with truth tables (Mishchenko, Cho, Chatterjee,
+  Brayton, ICCAD 2007) -- :mod:`mapper.fit.cuts`;
+* Boolean matching of each cut's function, in both output phases, against
+  the target's match table (:mod:`mapper.fit.library`: exact minimum NAND2 /
+  NOR2 chains, or supergates of the target's cells);
+* cover selection: a delay-oriented pass, then area-flow passes and exact
+  local area recovery with reference counting (Mishchenko, Chatterjee,
+  Brayton, "Improvements to technology mapping for LUT-based FPGAs", IEEE
+  TCAD 26(2), 2007), where every node is matched in both phases and the
+  phase each signal is built in is chosen by the cover itself (an inverter
+  is one more candidate for a phase), not one gate at a time.
+
+The result is a list of cell uses over named nets (:class:`CellUse`);
+:mod:`mapper.fit.pack` places them in slots of parts.
+"""
+from __future__ import annotations
+
+import logging
+from dataclasses import dataclass, field
+
+from ..logic.aig import AIG, from_netlist
+from .cuts import enumerate_cuts
+from .library import GND, VCC, CellLibrary, Impl
+
+__all__ = ["CellUse", "Mapping", "map_logic"]
+
+log = logging.getLogger(__name__)
+
+INF = float("inf")
+
+
+@dataclass
+class CellUse:
+    """One cell in the mapped logic: ``cell`` with ``args`` nets on its
+    inputs (in the cell's input order) driving net ``out``."""
+
+    cell: str
+    args: tuple
+    out: str
+    origin: str | None = None
+
+
+@dataclass
+class Mapping:
+    """Mapped combinational logic plus what the packer needs to know."""
+
+    cells: list
+    #: design output -> net (a cell output, an input, ``VCC`` or ``GND``)
+    outputs: dict
+    #: storage net -> (d net, control net or None) in the mapped logic
+    storage_nets: dict = field(default_factory=dict)
+    area: float = 0.0
+    depth: int = 0
+
+
+class _Choice:
+    __slots__ = ("impl", "leaves", "inv", "af", "arr")
+
+    def __init__(self, impl, leaves, inv, af, arr):
+        self.impl = impl
+        self.leaves = leaves
+        self.inv = inv  # True: built as an inverter of the other phase
+        self.af = af
+        self.arr = arr
+
+
+def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
+              area_passes: int = 3, seed_names: bool = True) -> Mapping:
+    """Map the combinational logic of ``design`` onto the cells of ``lib``.
+
+    Storage elements stay as they are: their outputs are free inputs of the
+    mapped logic and their data/control nets are extra roots.
+    """
+    aig, litmap = from_netlist(design)
+    roots = [lit for _, lit in aig.outputs]
+    for latch in aig.latches:
+        roots.append(latch.next)
+        if latch.control is not None:
+            roots.append(latch.control)
+    mapper = _Mapper(aig, lib, k, cuts_per_node)
+    mapper.run(roots, area_passes)
+    names = {}
+    if seed_names:
+        for net, lit in litmap.items():
+            if lit > 1:
+                names.setdefault((lit >> 1, lit & 1), net)
+    return mapper.instantiate(design, litmap, names)
+
+
+class _Mapper:
+    def __init__(self, aig: AIG, lib: CellLibrary, k: int, limit: int):
+        self.aig = aig
+        self.lib = lib
+        self.k = k
+        self.limit = limit
+        nv = aig.num_vars
+        self.refs = [max(1, r) for r in aig.fanout_counts()]
+        self.best = [[None, None] for _ in range(nv)]
+        inv = lib.inverter()
+        self.inv_cost = inv.cost if inv is not None else INF
+        self.inv_depth = inv.depth if inv is not None else 0
+        for v in range(nv):
+            if not aig.is_and(v):
+                self.best[v][0] = _Choice(None, None, False, 0.0, 0)
+                self.best[v][1] = _Choice(None, None, True, self.inv_cost, self.inv_depth)
+        self.cuts = None
+        self.mode = "delay"
+
+    # -- evaluation of one node --------------------------------------------
+    def _cut_cost(self, v, leaves, table):
+        n = len(leaves)
+        full = (1 << (1 << n)) - 1
+        best = INF
+        for tt in (table, table ^ full):
+            impl = self.lib.lookup(n, tt)
+            if impl is None:
+                continue
+            af = impl.cost + sum(self.best[l][0].af / self.refs[l] for l in leaves)
+            best = min(best, af)
+        return best
+
+    def _match(self, v):
+        full_cache = {}
+        cands = [None, None]
+        for leaves, table in self.cuts[v]:
+            if leaves == (v,):
+                continue
+            n = len(leaves)
+            full = full_cache.get(n)
+            if full is None:
+                full = full_cache[n] = (1 << (1 << n)) - 1
+            lf = 0.0
+            la = 0
+            for l in leaves:
+                c = self.best[l][0]
+                lf += c.af / self.refs[l]
+                if c.arr > la:
+                    la = c.arr
+            for p, tt in ((0, table), (1, table ^ full)):
+                impl = self.lib.lookup(n, tt)
+                if impl is None:
+                    continue
+                ch = _Choice(impl, leaves, False, impl.cost + lf, la + impl.depth)
+                if self._better(ch, cands[p]):
+                    cands[p] = ch
+        # a phase may come from the other (as matched by a cut) through an inverter
+        direct = list(cands)
+        for p in (0, 1):
+            o = direct[1 - p]
+            if o is not None and self.inv_cost < INF:
+                ch = _Choice(None, None, True, o.af + self.inv_cost, o.arr + self.inv_depth)
+                if self._better(ch, cands[p]):
+                    cands[p] = ch
+        if cands[0] is None and cands[1] is None:
+            raise RuntimeError(f"no match for node {v}")
+        self.best[v] = cands
+
+    def _better(self, a, b):
+        if b is None:
+            return True
+        if self.mode == "delay":
+            return (a.arr, a.af) < (b.arr, b.af)
+        return (a.af, a.arr) < (b.af, b.arr)
+
+    def _after(self, v):
+        if self.aig.is_and(v):
+            self._match(v)
+
+    # -- passes ------------------------------------------------------------
+    def run(self, roots, area_passes):
+        aig = self.aig
+        cone = aig.cone(roots)
+        self.mode = "delay"
+        self.cuts = {}
+        enumerate_cuts(aig, self.k, self.limit, cost=self._cut_cost, after=self._after, cuts=self.cuts)
+        self.roots = roots
+        self.mode = "area"
+        for _ in range(area_passes):
+            used = self._cover_refs(roots)
+            # blend estimated and actual references (area flow of the next pass)
+            for v in range(aig.num_vars):
+                r = used.get(v, 0)
+                self.refs[v] = max(1.0, (self.refs[v] + 2 * r) / 3.0)
+            for v in cone:
+                self._match(v)
+        self._exact_area(roots, cone)
+
+    def _cover_refs(self, roots):
+        """Variables' references in the current cover (leaf uses + roots)."""
+        refs: dict = {}
+        need = set()
+        stack = []
+        for lit in roots:
+            v, p = lit >> 1, lit & 1
+            refs[v] = refs.get(v, 0) + 1
+            if (v, p) not in need:
+                need.add((v, p))
+                stack.append((v, p))
+        while stack:
+            v, p = stack.pop()
+            ch = self.best[v][p]
+            if ch.inv:
+                nxt = [(v, 1 - p)]
+            elif ch.leaves is None:
+                continue
+            else:
+                nxt = [(l, 0) for l in ch.leaves]
+                for l in ch.leaves:
+                    refs[l] = refs.get(l, 0) + 1
+            for q in nxt:
+                if q not in need:
+                    need.add(q)
+                    stack.append(q)
+        self.need = need
+        return refs
+
+    def _exact_area(self, roots, cone):
+        """Exact local area recovery: choose each needed node-phase's match
+        by the area it really adds given everything else in the cover."""
+        # reference counts of node-phases in the cover
+        refc: dict = {}
+
+        def deps(vp):
+            ch = self.best[vp[0]][vp[1]]
+            if ch.inv:
+                return self.inv_cost, ((vp[0], 1 - vp[1]),)
+            if ch.leaves is None:
+                return 0.0, ()
+            return ch.impl.cost, tuple((l, 0) for l in ch.leaves)
+
+        def ref(vp):
+            """Add a reference; returns the area newly paid (iterative)."""
+            area = 0.0
+            stack = [vp]
+            while stack:
+                x = stack.pop()
+                c = refc.get(x, 0)
+                refc[x] = c + 1
+                if c == 0:
+                    a, ds = deps(x)
+                    area += a
+                    stack.extend(ds)
+            return area
+
+        def deref(vp):
+            area = 0.0
+            stack = [vp]
+            while stack:
+                x = stack.pop()
+                c = refc[x] - 1
+                refc[x] = c
+                if c == 0:
+                    a, ds = deps(x)
+                    area += a
+                    stack.extend(ds)
+            return area
+
+        for lit in roots:
+            ref((lit >> 1, lit & 1))
+        aig = self.aig
+        for v in cone:
+            for p in (0, 1):
+                vp = (v, p)
+                if not refc.get(vp):
+                    continue
+                old = self.best[v][p]
+                # free this choice's cone, try alternatives, keep the cheapest
+                count = refc[vp]
+                refc[vp] = 1
+                base = deref(vp)
+                best_ch, best_area = old, base
+                for leaves, table in self.cuts[v]:
+                    if leaves == (v,):
+                        continue
+                    n = len(leaves)
+                    tt = table if p == 0 else table ^ ((1 << (1 << n)) - 1)
+                    impl = self.lib.lookup(n, tt)
+                    if impl is None:
+                        continue
+                    ch = _Choice(impl, leaves, False, 0.0, 0)
+                    self.best[v][p] = ch
+                    area = ref(vp)
+                    deref(vp)
+                    if area < best_area - 1e-9:
+                        best_ch, best_area = ch, area
+                if not old.inv and self.inv_cost < INF and refc.get((v, 1 - p), 0) > 0:
+                    ch = _Choice(None, None, True, 0.0, 0)
+                    if self.best[v][1 - p].inv is False:
+                        self.best[v][p] = ch
+                        area = ref(vp)
+                        deref(vp)
+                        if area < best_area - 1e-9:
+                            best_ch, best_area = ch, area
+                self.best[v][p] = best_ch
+                ref(vp)
+                refc[vp] = count
+        self._cover_refs(roots)
+
+    # -- instantiation -------------------------------------------------------
+    def instantiate(self, design, litmap, names) -> Mapping:
+        aig = self.aig
+        lib = self.lib
+        sym = {name: _symmetric(cd.function) for name, cd in lib.cells.items()}
+        cells: list = []
+        strash: dict = {}
+        taken = set(design.inputs) | {"VCC", "GND"}
+        taken.update(n for n in design.nodes if n in design.storage())
+        netof: dict = {}
+        counter = [0]
+
+        def fresh(pref=None):
+            if pref is not None and pref not in taken:
+                taken.add(pref)
+                return pref
+            while True:
+                counter[0] += 1
+                name = f"_n{counter[0]}"
+                if name not in taken and name not in design.nodes:
+                    taken.add(name)
+                    return name
+
+        for v in range(aig.num_vars):
+            if not aig.is_and(v) and v:
+                netof[(v, 0)] = aig.names[v]
+
+        def gate(cell, args, pref, origin):
+            key = (cell, tuple(sorted(args)) if sym[cell] else tuple(args))
+            out = strash.get(key)
+            if out is None:
+                out = fresh(pref)
+                strash[key] = out
+                cells.append(CellUse(cell, tuple(args), out, origin))
+            return out
+
+        def build(vp):
+            # iterative post-order over the needed node-phases
+            stack = [(vp, False)]
+            while stack:
+                (v, p), ready = stack.pop()
+                if (v, p) in netof:
+                    continue
+                if v == 0:
+                    netof[(0, p)] = "VCC" if p else "GND"
+                    continue
+                ch = self.best[v][p]
+                deps = [(v, 1 - p)] if ch.inv else [(l, 0) for l in ch.leaves]
+                if not ready:
+                    stack.append(((v, p), True))
+                    for d in deps:
+                        if d not in netof:
+                            stack.append((d, False))
+                    continue
+                pref = names.get((v, p))
+                if ch.inv:
+                    impl = lib.inverter()
+                    leaf_nets = [netof[(v, 1 - p)]]
+                else:
+                    impl = ch.impl
+                    leaf_nets = [netof[(l, 0)] for l in ch.leaves]
+                netof[(v, p)] = self._emit(impl, leaf_nets, gate, pref)
+
+        for lit in self.roots:
+            build((lit >> 1, lit & 1))
+        outputs = {}
+        for name, lit in aig.outputs:
+            outputs[name] = netof[(lit >> 1, lit & 1)] if lit > 1 else ("VCC" if lit else "GND")
+        storage_nets = {}
+        for latch in aig.latches:
+            d = latch.next
+            dn = netof[(d >> 1, d & 1)] if d > 1 else ("VCC" if d else "GND")
+            cn = None
+            if latch.control is not None:
+                c = latch.control
+                cn = netof[(c >> 1, c & 1)] if c > 1 else ("VCC" if c else "GND")
+            storage_nets[latch.name] = (dn, cn)
+        area = sum(lib.costs[c.cell] for c in cells)
+        return Mapping(cells, outputs, storage_nets, area, _depth(cells, design.inputs))
+
+    @staticmethod
+    def _emit(impl: Impl, leaf_nets, gate, pref):
+        n = len(leaf_nets)
+        sig = list(leaf_nets)
+        last = n + len(impl.gates) - 1
+
+        def net(x):
+            if x == GND:
+                return "GND"
+            if x == VCC:
+                return "VCC"
+            return sig[x]
+
+        for i, (cell, args) in enumerate(impl.gates):
+            idx = n + i
+            is_out = idx == impl.out
+            sig.append(gate(cell, [net(a) for a in args], pref if is_out else None,
+                            pref if is_out else None))
+        del last
+        return net(impl.out)
+
+
+def _symmetric(func) -> bool:
+    n = func.n
+    if n < 2:
+        return True
+    t = func.table()
+    from .cuts import expand_table
+    for j in range(n - 1):
+        perm = list(range(n))
+        perm[j], perm[j + 1] = perm[j + 1], perm[j]
+        if expand_table(t, tuple(perm), n) != t:
+            return False
+    return True
+
+
+def _depth(cells, inputs) -> int:
+    lev = {i: 0 for i in inputs}
+    best = 0
+    for c in cells:  # cells are emitted in topological order
+        d = 1 + max((lev.get(a, 0) for a in c.args), default=0)
+        lev[c.out] = d
+        best = max(best, d)
+    return best
