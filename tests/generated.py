@@ -11,10 +11,10 @@ from __future__ import annotations
 import io
 from pathlib import Path
 
-from ariths_gen.multi_bit_circuits import adders, multipliers
+from ariths_gen.multi_bit_circuits import adders, multipliers, others
 from ariths_gen.wire_components import Bus
 
-__all__ = ["ADDERS", "MULTIPLIERS", "make", "bus_value", "operand_words"]
+__all__ = ["ADDERS", "MULTIPLIERS", "COMPARATORS", "make", "bus_value", "operand_words"]
 
 ADDERS = {
     "rca": adders.UnsignedRippleCarryAdder,
@@ -32,15 +32,22 @@ MULTIPLIERS = {
     "csa": multipliers.UnsignedCarrySaveMultiplier,
 }
 
+#: comparators: one output ``<name>_out`` (a < b, a >= b ...)
+COMPARATORS = {
+    "lt": others.UnsignedCompareLT,
+    "gte": others.UnsignedCompareGTE,
+    "gt": others.UnsignedCompareGT,
+}
+
 
 def make(kind: str, width: int, folder, fmt: str = "blif", hier: bool = False) -> Path:
     """Write one generated circuit; returns its path.
 
-    ``kind`` is a key of :data:`ADDERS` or :data:`MULTIPLIERS`.  Inputs are
+    ``kind`` is a key of :data:`ADDERS`, :data:`MULTIPLIERS` or :data:`COMPARATORS`.  Inputs are
     the buses ``a[i]``, ``b[i]``; the output bus is ``<name>_out[i]`` where
     ``name`` is ``f"{kind}{width}"``.
     """
-    cls = ADDERS.get(kind) or MULTIPLIERS[kind]
+    cls = ADDERS.get(kind) or MULTIPLIERS.get(kind) or COMPARATORS[kind]
     name = f"{kind}{width}"
     circuit = cls(Bus("a", width), Bus("b", width), name=name)
     buf = io.StringIO()
