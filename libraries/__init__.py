@@ -1,0 +1,1 @@
+"""Part catalogs shipped with netfit (XML data, schema catalog.rng); found through importlib.resources."""
