@@ -239,6 +239,7 @@ class _Reader:
         self.files = set()    # resolved paths read
         self.file_rank = {}   # file name as shown in diagnostics -> order of reading
         self.queue = []       # (path, where of the .search token)
+        self.search_failed = False
         self.funcs = {}       # (n, cubes, phase) -> Function (shared between nodes)
 
     # -- diagnostics --
@@ -264,6 +265,7 @@ class _Reader:
                 data = path.read_bytes()
             except OSError as exc:
                 reason = exc.strerror or str(exc)
+                self.search_failed = True
                 self.err(f"cannot read '{path}': {reason}", where or (str(path), None, None))
                 continue
             self.files.add(key)
@@ -283,10 +285,12 @@ class _Reader:
             except OSError:
                 inside = False
             if not inside:
+                self.search_failed = True
                 self.err(f"'.search {name}' leads outside the design's folder {self.root} "
                          "(allow it with --allow-outside)", where)
                 return
         if not p.is_file():
+            self.search_failed = True
             self.err(f"'.search {name}': no such file ({p})", where)
             return
         self.queue.append((p, where))
@@ -614,7 +618,9 @@ class _Reader:
                 child = self.models.get(it[1])
                 if child is None:
                     known = ", ".join(sorted(self.models)[:10])
-                    err(f"unknown model '{it[1]}' (models read: {known})", it[3])
+                    if not self.search_failed:
+                        # when a .search failed, the model may well be in the missing file
+                        err(f"unknown model '{it[1]}' (models read: {known})", it[3])
                     maybe.update(a for _, a, _ in it[2])
                     continue
                 ins = {n for n, _ in child.inputs} | {n for n, _ in child.clocks}
