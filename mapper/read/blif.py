@@ -270,7 +270,7 @@ class _Reader:
                 continue
             self.files.add(key)
             self.file_rank[str(path)] = len(self.file_rank)
-            text = data.decode("utf-8", errors="replace")
+            text = data.decode("utf-8-sig", errors="replace")
             self.parse(path, text, self.file_rank[str(path)])
 
     def search(self, including: Path, name: str, where) -> None:

@@ -37,7 +37,7 @@ from ..logic.function import MAX_TABLE_INPUTS
 from ..netlist import Logic, Netlist, Storage
 from . import atomic_write
 
-__all__ = ["FORMAT", "VERSION", "netlist_dict", "write_netlist"]
+__all__ = ["FORMAT", "VERSION", "netlist_dict", "write_netlist", "dumps"]
 
 FORMAT = "netfit-netlist"
 VERSION = 1
@@ -72,5 +72,19 @@ def netlist_dict(netlist: Netlist) -> dict:
 
 def write_netlist(netlist: Netlist, path, protect=()) -> None:
     """Write ``netlist`` as JSON to ``path`` (atomically; never over a file in ``protect``)."""
-    text = json.dumps(netlist_dict(netlist), indent=1, ensure_ascii=False) + "\n"
-    atomic_write(path, text, protect=protect)
+    atomic_write(path, dumps(netlist_dict(netlist)), protect=protect)
+
+
+def dumps(data: dict) -> str:
+    """JSON text of ``data``: one top-level key per line and, in the lists
+    ``nodes`` and ``storage``, one entry per line (readable and diffable, and
+    several times faster than fully indented output on big netlists)."""
+    parts = []
+    for key, value in data.items():
+        k = json.dumps(key)
+        if key in ("nodes", "storage") and value:
+            body = ",\n  ".join(json.dumps(e, ensure_ascii=False) for e in value)
+            parts.append(f" {k}: [\n  {body}\n ]")
+        else:
+            parts.append(f" {k}: {json.dumps(value, ensure_ascii=False)}")
+    return "{\n" + ",\n".join(parts) + "\n}\n"

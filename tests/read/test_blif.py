@@ -454,3 +454,22 @@ def test_invalid_file(path, netfit):
     assert code == 2
     assert f"{path}:{line}:{col}: error: " in err
     assert "Traceback" not in err and "internal error" not in err
+
+
+def test_crlf_line_ends_and_byte_order_mark(tmp_path):
+    p = tmp_path / "dos.blif"
+    p.write_bytes(b"\xef\xbb\xbf.model m\r\n.inputs a b\r\n.outputs y\r\n.names a b y\r\n1- 1\r\n.end\r\n")
+    n = read(p)
+    assert n.inputs == ["a", "b"] and n.origin["y"] == (str(p), 4, 12)
+
+
+def test_flattened_name_clash_is_a_positioned_error(tmp_path):
+    # a parent net spelled like an instance-internal net: two drivers after flattening
+    p = tmp_path / "clash.blif"
+    p.write_text(".model top\n.inputs a\n.outputs y inv_0/t\n.names a inv_0/t\n1 1\n"
+                 ".subckt inv i=a o=y\n.end\n.model inv\n.inputs i\n.outputs o\n.names i t\n0 1\n"
+                 ".names t o\n1 1\n.end\n")
+    with pytest.raises(BlifError) as exc:
+        read(p)
+    d = exc.value.first
+    assert (d.line, d.col) == (11, 10) and "'inv_0/t' has two drivers" in d.message

@@ -307,3 +307,13 @@ def test_convert_bad_input_reports_position(tmp_path, netfit):
     code, out, err = netfit("convert", src, tmp_path / "x.json")
     assert code == 2 and f"{src}:5:3: error: bad output value '7'" in err
     assert not (tmp_path / "x.json").exists()
+
+
+def test_json_text_parses_back_to_the_dict(tmp_path):
+    n = read_design(VALID / "latches.blif")
+    d = wjson.netlist_dict(n)
+    assert json.loads(wjson.dumps(d)) == d
+    e = wjson.netlist_dict(read_design(VALID / "exdc.blif"))
+    assert json.loads(wjson.dumps(e)) == e
+    empty = wjson.netlist_dict(Netlist("nothing"))
+    assert json.loads(wjson.dumps(empty)) == empty
