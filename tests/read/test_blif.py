@@ -473,3 +473,14 @@ def test_flattened_name_clash_is_a_positioned_error(tmp_path):
         read(p)
     d = exc.value.first
     assert (d.line, d.col) == (11, 10) and "'inv_0/t' has two drivers" in d.message
+
+
+def test_cli_subprocess_prints_positions_without_traceback():
+    import subprocess
+    import sys
+    bad = INVALID / "mixed_phase.blif"
+    proc = subprocess.run([sys.executable, "-m", "mapper", "inspect", str(bad)],
+                          capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 2
+    assert proc.stderr.startswith(f"{bad}:7:4: error: ")
+    assert "Traceback" not in proc.stderr and proc.stdout == ""
