@@ -139,6 +139,93 @@ def cmd_convert(args):
     return 0
 
 
+# -- targets --------------------------------------------------------------
+def _targets_args(p):
+    p.add_argument("name", nargs="?", metavar="TARGET",
+                   help="a target name or a target .xml file: show its cells, parts, defaults and sources")
+    p.add_argument("--json", action="store_true", help="print JSON")
+
+
+@command("targets", "list the targets, or show one target's cells, parts, defaults and data sources",
+         _targets_args)
+def cmd_targets(args):
+    from . import flow
+    if not args.name:
+        rows = flow.targets()
+        if args.json:
+            _print_json(rows)
+            return 0
+        width = max((len(r["name"]) for r in rows), default=4)
+        print(f"{'target':<{width}}  description")
+        for r in rows:
+            print(f"{r['name']:<{width}}  {r['description']}")
+        return 0
+    info = flow.target_info(args.name)
+    if args.json:
+        _print_json(info)
+        return 0
+    _print_target(info)
+    return 0
+
+
+def _si_text(value, unit) -> str:
+    """``7e-09, "s"`` -> ``"7 ns"`` (three significant digits)."""
+    if value == 0:
+        return f"0 {unit}"
+    for scale, prefix in ((1e3, "k"), (1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p")):
+        if abs(value) >= scale:
+            return f"{value / scale:.3g} {prefix}{unit}"
+    return f"{value:.3g} {unit}"
+
+
+def _print_target(t) -> None:
+    print(f"target    {t['name']}  ({t['kind']})")
+    print(f"          {t['description']}")
+    print(f"file      {t['path']}")
+    for c in t["catalogs"]:
+        print(f"catalog   {c}")
+    print("\ncells")
+    for c in t["cells"]:
+        what = c["function"] if not c["storage"] else f"{c['function']}  (storage {c['storage']})"
+        outs = " ".join([c["output"]] + c["extra_outputs"])
+        print(f"  {c['name']:<11}{'(' + ' '.join(c['inputs']) + ') -> ' + outs:<34}{what}")
+        print(f"  {'':<11}carried by {', '.join(c['carriers']) or '-'}")
+    print("\nparts")
+    for p in t["parts"]:
+        price = f"{p['price']['value']:.2f} {p['currency']}" if p["price"] else "-"
+        print(f"  {p['id']:<14}{p['description']}")
+        print(f"  {'':<14}{p['package']}, {p['pin_count']} pins, {len(p['slots'])} slots; price {price}")
+        for cell, d in p["delay_max_s"].items():
+            typ = p["delay_typ_s"][cell]
+            print(f"  {'':<14}delay {cell}: {_si_text(typ['value'], 's')} typical ({typ['conditions']}), "
+                  f"{_si_text(d['value'], 's')} maximum ({d['conditions']})")
+        if p["relay"]:
+            r = p["relay"]
+            print(f"  {'':<14}{r['poles']} pole(s), form {r['form']}; coil {_si_text(r['coil_voltage_v']['value'], 'V')}, "
+                  f"{r['coil_resistance_ohm']['value']:g} ohm, {_si_text(r['coil_current_a']['value'], 'A')}; "
+                  f"operate {_si_text(r['operate_time_s']['value'], 's')}, release {_si_text(r['release_time_s']['value'], 's')}, "
+                  f"bounce {_si_text(r['bounce_time_s']['value'], 's')}; contacts {r['contact_rating']}")
+        for s in p["slots"]:
+            pins = " ".join(f"{k}={v}" for k, v in s["pins"].items())
+            print(f"  {'':<14}slot {s['index']}  {s['cell']:<11}{pins}")
+        fixed = [f"{n}={num}" for n, num in {**p["supply_pins"], **p["shared_pins"]}.items()]
+        if fixed:
+            print(f"  {'':<14}pins   {' '.join(fixed)}" + (f"  (not connected: {' '.join(map(str, p['nc_pins']))})"
+                                                          if p["nc_pins"] else ""))
+    print("\ndefaults")
+    print(f"  objective   {', then '.join(t['objective'])}")
+    for r in t["support_rules"]:
+        print(f"  support     {r['part']} x{r['count']} per {r['per']}" + (f"  ({r['source']})" if r["source"] else ""))
+    if t["supply_voltage_v"]:
+        s = t["supply_voltage_v"]
+        print(f"  supply      {_si_text(s['value'], 'V')}  ({s['source']})")
+    if t["other_parts"]:
+        print(f"  also in the catalogs: {', '.join(t['other_parts'])}")
+    print("\ndata sources (figures and pinouts citing each)")
+    for src, n in t["sources"].items():
+        print(f"  {n:>4}  {src}")
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="netfit", description=(
         "Fit a gate-level design onto parts you can buy (chips or relays), with the fewest parts, "

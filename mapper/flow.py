@@ -11,7 +11,7 @@ from pathlib import Path
 from .read import read_design
 from .write import writer_for
 
-__all__ = ["inspect", "verify", "convert"]
+__all__ = ["inspect", "verify", "convert", "targets", "target_info"]
 
 log = logging.getLogger(__name__)
 
@@ -67,3 +67,17 @@ def convert(src, dst, **read_options) -> dict:
     writer.write_netlist(n, Path(dst), protect=(src,))
     return {"from": str(src), "to": str(dst), "inputs": len(n.inputs), "outputs": len(n.outputs),
             "storage": len(n.storage()), "nodes": len(n.nodes) - len(n.inputs)}
+
+
+def targets() -> list:
+    """The built-in targets: a list of ``{"name", "description", "path"}``."""
+    from .fit.target import builtin_targets
+    import importlib.resources
+    root = importlib.resources.files("mapper.targets")
+    return [{"name": n, "description": d, "path": str(root.joinpath(n + ".xml"))} for n, d in builtin_targets()]
+
+
+def target_info(name_or_path) -> dict:
+    """Everything about one target (built-in name or path): cells, parts, defaults, data sources."""
+    from .fit.target import describe_target, load_target as _load
+    return describe_target(_load(name_or_path))

@@ -347,7 +347,7 @@ def _read_xml(data: bytes, display: str, root_tag: str, what: str, err_cls):
     if root.getroottree().docinfo.doctype:
         fail(f"a document type declaration is not allowed in a {what}", 1)
     if root.tag != root_tag:
-        fail(f"expected a <{root_tag}> {what}, found <{root.tag}>", root.sourceline)
+        fail(f"expected a {what} (a <{root_tag}> element at the top), found <{root.tag}>", root.sourceline)
     return root
 
 
@@ -361,14 +361,35 @@ def _validate(root, package: str, schema_name: str, display: str, what: str) -> 
     schema = _schema(package, schema_name)
     if schema.validate(root):
         return []
-    diags, seen = [], set()
+    # libxml2 often says several things about one fault (the datatype, then the element that failed);
+    # one diagnostic per line reads better.  Messages without a line only repeat a lined one.
+    by_line: dict = {}
     for e in schema.error_log:
-        key = (e.line, e.message)
-        if key in seen:
-            continue
-        seen.add(key)
-        diags.append(Diagnostic(f"does not fit the {what} schema: {e.message}", display, e.line or None))
-    return diags
+        msgs = by_line.setdefault(e.line or None, [])
+        if e.message not in msgs:
+            msgs.append(e.message)
+    if len(by_line) > 1:
+        by_line.pop(None, None)
+    return [Diagnostic(f"does not fit the {what} schema: {'; '.join(msgs)}", display, line)
+            for line, msgs in sorted(by_line.items(), key=lambda kv: kv[0] or 0)]
+
+
+_FIGURE_TAGS = frozenset({"pinout", "typ", "max", "quiescent", "per-unit", "input", "output", "rating", "price",
+                          "coil-voltage", "coil-resistance", "coil-current", "operate-time", "release-time",
+                          "bounce-time", "contact-rating"})
+
+
+def _unsourced(root, display: str) -> list:
+    """Figures without a ``source`` (the schema would only say the element 'failed to validate')."""
+    out = []
+    for el in root.iter():
+        if not isinstance(el.tag, str) or (el.tag in ("input", "output") and el.get("value") is None):
+            continue  # a cell's pins, not figures
+        if el.tag in _FIGURE_TAGS and not (el.get("source") or "").strip():
+            out.append(Diagnostic(f"<{el.tag}> has no source=\"...\": every number says where it came from "
+                                  f"(a generic datasheet family, common practice, from memory, ...)", display,
+                                  el.sourceline))
+    return out
 
 
 def _display(path) -> str:
@@ -502,7 +523,8 @@ def _cell_from(el, c: _Collector) -> CellDef | None:
                    description=el.get("description") or "")
 
 
-def _part_from(el, cells: dict, c: _Collector, display: str, default_currency: str) -> PartDef | None:
+def _part_from(el, cells: dict, c: _Collector, display: str, default_currency: str,
+               broken: frozenset = frozenset()) -> PartDef | None:
     pid = el.get("id")
     kind = el.get("kind")
     n_before = len(c.diags)
@@ -546,8 +568,14 @@ def _part_from(el, cells: dict, c: _Collector, display: str, default_currency: s
         indices.add(idx)
         cell = cells.get(cname)
         if cell is None:
-            known = ", ".join(sorted(cells)) or "none"
-            c.err(s, f"part {pid}: slot {idx} performs unknown cell {cname!r} (cells of this catalog: {known})")
+            if cname not in broken:  # a cell with a fault of its own was reported already
+                known = ", ".join(sorted(cells)) or "none"
+                c.err(s, f"part {pid}: slot {idx} performs unknown cell {cname!r} (cells of this catalog: {known})")
+            else:
+                c.diags.append(None)  # the part is not usable, but say nothing more
+            for p in s.findall("pin"):  # still account for its pins, so they are not reported unassigned
+                if p.get("number") is not None:
+                    claim(p, int(p.get("number")), f"slot {idx} {p.get('name')}")
             continue
         pins: dict = {}
         for p in s.findall("pin"):
@@ -609,6 +637,8 @@ def _part_from(el, cells: dict, c: _Collector, display: str, default_currency: s
     slot_cells = {s.cell for s in slots}
     for d in el.findall("delay"):
         cname = d.get("cell")
+        if cname in broken:
+            continue
         if cname not in slot_cells:
             c.err(d, f"part {pid}: delay for cell {cname!r}, which no slot of the part performs")
             continue
@@ -620,7 +650,8 @@ def _part_from(el, cells: dict, c: _Collector, display: str, default_currency: s
         m = _delay_figure(d.find("max"), c, f"part {pid} maximum delay", path, kind == "chip")
         if t is not None and m is not None:
             if m.value < t.value:
-                c.err(d.find("max"), f"part {pid}: maximum delay {m.value:g} s is below the typical {t.value:g} s")
+                c.err(d.find("max"), f"part {pid}: maximum delay {d.find('max').get('value')} is below the "
+                                     f"typical {d.find('typ').get('value')}")
             delay_typ[cname], delay_max[cname] = t, m
     if kind in ("chip", "relay"):
         for cname in sorted(slot_cells):
@@ -664,7 +695,8 @@ def _part_from(el, cells: dict, c: _Collector, display: str, default_currency: s
             c.err(cr, f"part {pid} contact rating: {exc}")
         poles = int(relay_el.get("poles"))
         if poles != len(slots):
-            c.err(relay_el, f"part {pid}: {poles} poles but {len(slots)} slots (one slot per pole)")
+            c.err(relay_el, f"part {pid}: the relay has {poles} pole{'s' * (poles != 1)} but the pinout "
+                            f"{len(slots)} slot{'s' * (len(slots) != 1)} (one slot per pole)")
         if None not in figs.values() and ccur is not None:
             relay = RelayData(poles=poles, form=relay_el.get("form"), coil_voltage=figs["coil-voltage"],
                               coil_resistance=figs["coil-resistance"], coil_current=figs["coil-current"],
@@ -696,12 +728,16 @@ def _load_catalog_full(path, data: bytes | None = None) -> _Catalog:
     if data is None:
         data = _read_bytes(path)
     root = _read_xml(data, display, "catalog", "catalog", CatalogError)
-    diags = _validate(root, "mapper.libraries", "catalog.rng", display, "catalog")
+    diags = _unsourced(root, display)
+    lines_said = {d.line for d in diags}
+    diags += [d for d in _validate(root, "mapper.libraries", "catalog.rng", display, "catalog")
+              if d.line not in lines_said]
     if diags:
         raise CatalogError(diags)
     c = _Collector(display)
     cells: dict = {}
     lines: dict = {}
+    broken: set = set()
     for el in root.findall("cell"):
         name = el.get("name")
         if name in cells or f"cell:{name}" in lines:
@@ -711,6 +747,8 @@ def _load_catalog_full(path, data: bytes | None = None) -> _Catalog:
         cell = _cell_from(el, c)
         if cell is not None:
             cells[name] = cell
+        else:
+            broken.add(name)
     parts: dict = {}
     currency = root.get("currency") or ""
     for el in root.findall("part"):
@@ -719,11 +757,11 @@ def _load_catalog_full(path, data: bytes | None = None) -> _Catalog:
             c.err(el, f"part {pid} is declared twice (first on line {lines[pid]})")
             continue
         lines[pid] = el.sourceline
-        part = _part_from(el, cells, c, display, currency)
+        part = _part_from(el, cells, c, display, currency, frozenset(broken))
         if part is not None:
             parts[pid] = part
     if c.diags:
-        raise CatalogError(c.diags)
+        raise CatalogError([d for d in c.diags if d is not None])
     log.debug("catalog %s: %d cells, %d parts", display, len(cells), len(parts))
     return _Catalog(root.get("name"), " ".join((root.findtext("description") or "").split()), display,
                     parts, cells, lines)
