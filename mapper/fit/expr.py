@@ -9,7 +9,8 @@ ordered list of input names.
 Accepted (a small subset of the Verilog expression grammar, IEEE 1364):
 
 * names: letters, digits, ``_`` and ``$``, not starting with a digit or ``$``;
-* constants ``1'b0`` and ``1'b1`` (also ``1'B0``, ``1'B1``), and bare ``0``/``1``;
+* constants ``1'b0`` and ``1'b1`` (also ``1'B0``, ``1'B1``); a bare ``0`` or ``1`` is
+  refused, since Verilog makes it 32 bits wide and ``~``, ``!`` and ``&&`` then act differently;
 * unary ``~`` and ``!`` (the same on one-bit values);
 * binary ``&``, ``^``, ``~^``, ``^~`` (XNOR), ``|``, and also ``&&``, ``||``;
 * the conditional ``c ? a : b`` and parentheses.
@@ -80,8 +81,7 @@ _UNARY_PREC = 10
 
 _TOKEN = re.compile(
     r"\s*(?:"
-    r"(?P<const>1'[bB][01])"
-    r"|(?P<num>[0-9][0-9_]*(?:'[sS]?[bBoOdDhH][0-9a-zA-Z_?]*)?)"
+    r"(?P<num>(?:[0-9][0-9_]*)?'[sS]?[bBoOdDhH][0-9a-zA-Z_?]*|[0-9][0-9_]*)"
     r"|(?P<name>[A-Za-z_][A-Za-z0-9_$]*)"
     r"|(?P<op>~\^|\^~|&&|\|\||~&|~\||[~!&|^?:()=])"
     r")"
@@ -112,11 +112,11 @@ def _tokens(text: str) -> list[_Tok]:
         tok = m.group(kind)
         col = m.start(kind) + 1
         if kind == "num":
-            if tok in ("0", "1"):
-                kind = "const"
-                tok = "1'b" + tok
-            else:
+            # Verilog reads letters, digits and '?' after 1'b as part of the number ("1'b0?A" is one
+            # token); a bare 0 or 1 is 32 bits wide, which changes what ~, && and ! do around it.
+            if tok.lower() not in ("1'b0", "1'b1"):
                 raise ExprError(f"only the one-bit constants 1'b0 and 1'b1 are allowed, not {tok!r}", col)
+            kind = "const"
         if kind == "op" and tok in ("~&", "~|"):
             raise ExprError(f"reduction operator {tok!r} is not allowed in a cell function "
                             f"(write ~(A & B) instead)", col)

@@ -211,6 +211,8 @@ def test_assignment_parts():
     # Verilog allows these two (a wider constant; '&B' as a reduction), a one-bit cell function does not
     ("A & 2'b01", 5, "one-bit constants", False),
     ("A & & B", 5, "expected a name", False),
+    ("A & 1", 5, "one-bit constants", False),
+    ("1'b0?A:B", 1, "one-bit constants", True),
 ])
 def test_malformed_expressions_have_columns(text, col, words, verilog_too):
     with pytest.raises(ExprError) as err:
