@@ -234,14 +234,17 @@ class AIG:
         return sorted(seen)
 
 
-def from_netlist(netlist, aig: AIG | None = None, inputs: dict | None = None):
+def from_netlist(netlist, aig: AIG | None = None, inputs: dict | None = None,
+                 storage: dict | None = None):
     """Build (or extend) an AIG from a :class:`~mapper.netlist.Netlist`.
 
     Returns ``(aig, litmap)`` where ``litmap`` maps every net to its literal.
     Primary inputs are created by name unless ``inputs`` (name -> literal)
     gives them, which lets two netlists share inputs in one AIG (a miter).
     Storage elements become latches whose ``next``/``control`` literals are
-    filled in after all logic exists.
+    filled in after all logic exists.  ``storage`` (name -> literal) likewise
+    gives storage outputs that already exist (shared with another netlist);
+    no latch is created for those.
     """
     from ..netlist import Input, Logic, Storage
 
@@ -256,6 +259,9 @@ def from_netlist(netlist, aig: AIG | None = None, inputs: dict | None = None):
     latches = []
     for name, node in netlist.nodes.items():
         if isinstance(node, Storage):
+            if storage is not None and name in storage:
+                litmap[name] = storage[name]
+                continue
             latch = aig.add_latch(name, node.kind, node.init)
             litmap[name] = 2 * latch.var
             latches.append((latch, node))

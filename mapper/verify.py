@@ -1,0 +1,575 @@
+"""Proof that two netlists do the same logic, or an input that tells them apart.
+
+How :func:`check_equivalence` decides
+-------------------------------------
+1. **Ports.**  Inputs, outputs and storage elements are matched by name.  A
+   port or storage element present in only one design, or matched storage
+   elements of different kinds, make the answer "not equivalent" (method
+   ``"ports"`` or ``"storage"``) with a note naming them; no proof is tried
+   for such a pair, and there is no counterexample.
+2. **A shared-input miter.**  Both designs go into one AIG
+   (:mod:`mapper.logic.aig`) whose inputs are the shared primary inputs and
+   the shared storage outputs (free variables).  Compared pairs: every
+   primary output, and for every storage element its next-state (data)
+   function and its control (clock/enable) function.  Where ``a.exdc`` (the
+   external don't cares of BLIF ``.exdc``: a netlist whose outputs are named
+   like the design's outputs) is 1, an output difference does not count.
+3. **Random simulation** of the miter with thousands of patterns at once;
+   a difference found here is returned at once (method ``"simulation"``).
+4. **SAT sweeping** (Kuehlmann, Paruthi, Krohm and Ganai, "Robust Boolean
+   reasoning for equivalence checking and functional property verification",
+   IEEE TCAD 21(12), 2002; Mishchenko, Chatterjee, Jiang and Brayton,
+   "FRAIGs: a unifying representation for logic synthesis and verification",
+   ICCAD 2006 / ERL technical report 2005): nodes whose simulation
+   signatures agree, possibly up to complement, are candidate equivalences.
+   The miter is rebuilt node by node in topological order; each node with a
+   candidate is proved equal to it by a SAT call with a conflict budget and,
+   when proved, merged into it, so later proofs only see the logic between
+   merged points.  A disproof yields a pattern that is simulated (with its
+   distance-1 neighbours) to split the candidate classes.  Caller's
+   ``hints`` (net of A -> net of B believed equal) are tried first.
+5. **Output proofs** on the swept graph: each compared pair is proved equal
+   or a counterexample is read off the SAT model (method ``"sat-sweeping"``;
+   ``"sat-miter"`` when sweeping is switched off).  The CNF is our own
+   Tseitin encoding over the AIG (:mod:`mapper.logic.cnf`).
+
+Every counterexample is replayed on both netlists with
+:func:`mapper.simulate.simulate`; one that does not reproduce is our bug and
+raises :class:`~mapper.errors.InternalError`.
+
+Storage elements
+----------------
+Storage outputs are free variables, so "equivalent" here means the next-state
+and control functions agree in *every* state, which implies the designs
+behave alike cycle by cycle from any common starting state.  A difference may
+lie in a state the designs never reach (a note says so).  Initial values:
+don't care (2) and unknown (3) match anything; different known values
+(0 against 1) make the answer "not equivalent" with a note (method
+``"initial-values"`` when the logic is otherwise equal).
+"""
+from __future__ import annotations
+
+import logging
+import random
+import time
+from dataclasses import dataclass, field
+
+from pysat.solvers import Solver
+
+from .errors import InternalError, NetfitError
+from .logic.aig import AIG, from_netlist
+from .logic.cnf import AigCnf
+from .netlist import Netlist
+from .simulate import simulate
+
+__all__ = [
+    "EquivalenceResult",
+    "ProofLimitError",
+    "check_equivalence",
+    "DEFAULT_SOLVER",
+    "DEFAULT_CONFLICT_BUDGET",
+]
+
+log = logging.getLogger(__name__)
+
+#: the pysat back end; chosen by measurement (bench/bench_verify.py --solvers)
+DEFAULT_SOLVER = "minisat22"
+#: conflicts allowed for each candidate proof while sweeping
+DEFAULT_CONFLICT_BUDGET = 1000
+#: random patterns simulated before any SAT call
+DEFAULT_PATTERNS = 2048
+#: at most this many tries to merge one node (each failed try refines the classes)
+_MAX_TRIES = 4
+
+_SWEEP_REFS = ("SAT sweeping (Kuehlmann et al., IEEE TCAD 2002; "
+               "Mishchenko et al., ICCAD 2006)")
+
+
+class ProofLimitError(NetfitError):
+    """The SAT solver ran out of its budget before deciding an output."""
+
+    exit_code = 1
+
+
+@dataclass
+class EquivalenceResult:
+    """The answer of :func:`check_equivalence`.
+
+    Attributes
+    ----------
+    equivalent : bool
+    method : str
+        What decided it: ``"structural"``, ``"simulation"``, ``"sat-miter"``,
+        ``"sat-sweeping"``, ``"ports"``, ``"storage"`` or ``"initial-values"``.
+    counterexample : dict or None
+        ``{"inputs": {name: 0/1}, "state": {storage: 0/1}, "differs":
+        [{"output": name, "kind": "output" | "next-state" | "control",
+        "a": 0/1, "b": 0/1}]}``; ``None`` when equivalent or when the
+        difference is in the ports or initial values.
+    notes : list of str
+    stats : dict
+        Sizes, SAT calls, merges and seconds (for reports and benchmarks).
+    """
+
+    equivalent: bool
+    method: str
+    counterexample: dict | None = None
+    notes: list = field(default_factory=list)
+    stats: dict = field(default_factory=dict)
+
+    def to_dict(self) -> dict:
+        """Plain data with the stable keys ``equivalent``, ``method``,
+        ``counterexample``, ``notes`` and ``stats``."""
+        return {
+            "equivalent": self.equivalent,
+            "method": self.method,
+            "counterexample": self.counterexample,
+            "notes": list(self.notes),
+            "stats": dict(self.stats),
+        }
+
+
+@dataclass
+class _Pair:
+    kind: str  # "output", "next-state", "control"
+    name: str  # output or storage name
+    a_net: str
+    b_net: str
+    la: int
+    lb: int
+    dc: int = 0  # literal where the difference does not count (0: nowhere)
+
+
+# -- port matching ---------------------------------------------------------
+def _only(xs, ys) -> list:
+    ys = set(ys)
+    return [x for x in xs if x not in ys]
+
+
+def _show(names, limit=8) -> str:
+    s = ", ".join(f"'{n}'" for n in names[:limit])
+    return s + (f" … ({len(names)} in all)" if len(names) > limit else "")
+
+
+def _match_ports(a: Netlist, b: Netlist, notes: list) -> bool:
+    ok = True
+    for what, xa, xb in (("input", a.inputs, b.inputs), ("output", a.outputs, b.outputs),
+                         ("storage element", list(a.storage()), list(b.storage()))):
+        ma, mb = _only(xa, xb), _only(xb, xa)
+        if ma:
+            notes.append(f"{what}s only in A: {_show(ma)}" if len(ma) > 1 else f"{what} only in A: {_show(ma)}")
+            ok = False
+        if mb:
+            notes.append(f"{what}s only in B: {_show(mb)}" if len(mb) > 1 else f"{what} only in B: {_show(mb)}")
+            ok = False
+    return ok
+
+
+def _match_storage(a: Netlist, b: Netlist, notes: list) -> tuple[bool, bool]:
+    """(kinds and controls agree, initial values agree)."""
+    kinds_ok = init_ok = True
+    sb = b.storage()
+    for name, x in a.storage().items():
+        y = sb[name]
+        if x.kind != y.kind:
+            notes.append(f"storage element '{name}' is of kind '{x.kind}' in A but '{y.kind}' in B")
+            kinds_ok = False
+        elif (x.control is None) != (y.control is None):
+            which = "A" if x.control is None else "B"
+            notes.append(f"storage element '{name}' has no control net in {which} only")
+            kinds_ok = False
+        if x.init in (0, 1) and y.init in (0, 1) and x.init != y.init:
+            notes.append(f"storage element '{name}' starts at {x.init} in A but at {y.init} in B")
+            init_ok = False
+    return kinds_ok, init_ok
+
+
+# -- the miter ------------------------------------------------------------
+def _build_miter(a: Netlist, b: Netlist, notes: list):
+    g = AIG()
+    shared_in = {name: g.add_input(name) for name in a.inputs}
+    shared_st = {}
+    for name, st in a.storage().items():
+        shared_st[name] = 2 * g.add_latch(name, st.kind, st.init).var
+    _, la = from_netlist(a, g, inputs=shared_in, storage=shared_st)
+    _, lb = from_netlist(b, g, inputs=shared_in, storage=shared_st)
+    dc = {}
+    if a.exdc is not None:
+        extra = _only(a.exdc.inputs, a.inputs)
+        if extra:
+            notes.append(f"don't-care network reads nets that are not inputs of A ({_show(extra)}); "
+                         "they are treated as free inputs")
+        _, le = from_netlist(a.exdc, g, inputs=shared_in, storage=shared_st)
+        unknown = _only(a.exdc.outputs, a.outputs)
+        if unknown:
+            notes.append(f"don't-care outputs {_show(unknown)} name no output of A; ignored")
+        dc = {o: le[o] for o in a.exdc.outputs if o in la}
+        notes.append("output differences where A's don't-care network (.exdc) is 1 do not count")
+    if b.exdc is not None:
+        notes.append("B's don't-care network (.exdc) is not used; only A's counts")
+    pairs = [_Pair("output", o, o, o, la[o], lb[o], dc.get(o, 0)) for o in a.outputs]
+    sb = b.storage()
+    for name, x in a.storage().items():
+        y = sb[name]
+        pairs.append(_Pair("next-state", name, x.d, y.d, la[x.d], lb[y.d]))
+        if x.kind != "as" and x.control is not None and y.control is not None:
+            pairs.append(_Pair("control", name, x.control, y.control, la[x.control], lb[y.control]))
+    return g, pairs, la, lb
+
+
+def _free_vars(g: AIG) -> list:
+    """(name, var) of every input and storage output of the miter."""
+    out = [(g.names[v], v) for v in g.inputs]
+    out += [(latch.name, latch.var) for latch in g.latches]
+    return out
+
+
+def _simulate_free(g: AIG, free: list, words: dict, mask: int) -> list:
+    """Simulate the miter with ``words`` keyed by free-variable name."""
+    latch_names = {latch.name for latch in g.latches}
+    inputs = {n: w for n, w in words.items() if n not in latch_names}
+    latches = {n: w for n, w in words.items() if n in latch_names}
+    return g.simulate(inputs, mask, latches)
+
+
+def _diff_word(vals, p: _Pair, mask: int) -> int:
+    x = AIG.lit_value(vals, p.la, mask) ^ AIG.lit_value(vals, p.lb, mask)
+    if p.dc:
+        x &= ~AIG.lit_value(vals, p.dc, mask)
+    return x & mask
+
+
+# -- counterexamples --------------------------------------------------------
+def _replay(a: Netlist, b: Netlist, pairs: list, inputs: dict, state: dict) -> list:
+    """Differences the netlists themselves show for one input and state."""
+    va = simulate(a, inputs, 1, state)
+    vb = simulate(b, inputs, 1, state)
+    vdc = simulate(a.exdc, inputs, 1, state) if a.exdc is not None else {}
+    differs = []
+    for p in pairs:
+        x, y = va[p.a_net] & 1, vb[p.b_net] & 1
+        if x == y:
+            continue
+        if p.kind == "output" and p.dc and vdc.get(p.name, 0) & 1:
+            continue
+        differs.append({"output": p.name, "kind": p.kind, "a": x, "b": y})
+    return differs
+
+
+def _counterexample(a, b, pairs, assignment: dict) -> dict:
+    """Build and check a counterexample from free-variable values."""
+    inputs = {n: assignment.get(n, 0) & 1 for n in a.inputs}
+    state = {n: assignment.get(n, 0) & 1 for n in a.storage()}
+    differs = _replay(a, b, pairs, inputs, state)
+    if not differs:
+        raise InternalError(
+            "the prover found a difference that simulation of the two netlists does not "
+            f"reproduce (inputs {inputs}, state {state})")
+    return {"inputs": inputs, "state": state, "differs": differs}
+
+
+# -- SAT sweeping -----------------------------------------------------------
+class _Prover:
+    """The swept copy of a miter, its CNF and its solver."""
+
+    def __init__(self, g: AIG, free: list, sig: list, mask: int, nbits: int,
+                 solver: str, budget: int, rng: random.Random, sweep: bool):
+        self.g = g
+        self.free = free
+        self.sig = sig
+        self.mask = mask
+        self.nbits = nbits
+        self.budget = budget
+        self.rng = rng
+        self.sweep = sweep
+        self.stats = {"sat_calls": 0, "merged_by_sat": 0, "merged_by_structure": 0,
+                      "disproved": 0, "undecided": 0, "refinements": 0}
+        if sweep:
+            self.n = AIG()
+            self.newlit = [-1] * g.num_vars
+            self.newlit[0] = 0
+            for name, v in free:
+                self.newlit[v] = self.n.add_input(name)
+        else:
+            self.n = g
+            self.newlit = [2 * v for v in range(g.num_vars)]
+        self.solver = Solver(name=solver)
+        self.enc = AigCnf(self.n, sink=self.solver)
+
+    def close(self) -> None:
+        self.solver.delete()
+
+    # -- SAT ----------------------------------------------------------------
+    def _solve(self, assumptions, budget):
+        self.stats["sat_calls"] += 1
+        if budget is None:
+            return self.solver.solve(assumptions=assumptions)
+        self.solver.conf_budget(budget)
+        return self.solver.solve_limited(assumptions=assumptions)
+
+    def _model_assignment(self) -> dict:
+        """Free-variable values (name -> 0/1) of the last model; variables
+        the solver never saw get random values."""
+        model = self.solver.get_model() or []
+        out = {}
+        for name, v in self.free:
+            sv = self.newlit[v] >> 1  # AIG var in the swept graph; SAT var sv + 1
+            if sv < len(model):
+                out[name] = 1 if model[sv] > 0 else 0
+            else:
+                out[name] = self.rng.getrandbits(1)
+        return out
+
+    def prove_equal(self, x: int, y: int, budget):
+        """``True`` if swept literals ``x`` and ``y`` are equal, a model
+        assignment if not, ``None`` if the budget ran out."""
+        sx, sy = self.enc.lit(x), self.enc.lit(y)
+        for assumptions in ([sx, -sy], [-sx, sy]):
+            r = self._solve(assumptions, budget)
+            if r is None:
+                return None
+            if r:
+                return self._model_assignment()
+        self.solver.add_clause([-sx, sy])
+        self.solver.add_clause([sx, -sy])
+        return True
+
+    def prove_pair(self, x: int, y: int, dc: int, budget):
+        """Like :meth:`prove_equal`, but differences where ``dc`` is 1 do not count."""
+        if not dc:
+            return self.prove_equal(x, y, budget)
+        sx, sy, sd = self.enc.lit(x), self.enc.lit(y), self.enc.lit(dc)
+        for assumptions in ([sx, -sy, -sd], [-sx, sy, -sd]):
+            r = self._solve(assumptions, budget)
+            if r is None:
+                return None
+            if r:
+                return self._model_assignment()
+        return True
+
+    # -- simulation refinement ------------------------------------------------
+    def refine(self, assignment: dict) -> None:
+        """Add ``assignment`` and its distance-1 neighbours to the signatures."""
+        names = [n for n, _ in self.free]
+        flips = names if len(names) <= 63 else self.rng.sample(names, 63)
+        k = len(flips) + 1
+        words = {}
+        for n in names:
+            w = (1 << k) - 1 if assignment.get(n, 0) else 0
+            words[n] = w
+        for i, n in enumerate(flips, start=1):
+            words[n] ^= 1 << i
+        vals = _simulate_free(self.g, self.free, words, (1 << k) - 1)
+        shift = self.nbits
+        sig = self.sig
+        for v in range(len(sig)):
+            sig[v] |= vals[v] << shift
+        self.nbits += k
+        self.mask = (1 << self.nbits) - 1
+        self.stats["refinements"] += 1
+
+    # -- the sweep ------------------------------------------------------------------
+    def _key(self, v: int) -> tuple[int, int]:
+        s = self.sig[v]
+        return (s ^ self.mask, 1) if s & 1 else (s, 0)
+
+    def run_sweep(self, roots, hints: dict) -> None:
+        """Rebuild the cone of ``roots`` in the swept graph, merging proved
+        equivalences (see the module docstring)."""
+        g, n, newlit = self.g, self.n, self.newlit
+        f0, f1 = g.f0, g.f1
+        cone = g.cone(roots)
+        processed = [0] + [v for _, v in self.free]
+        members: dict = {}
+        stale = False
+
+        def rebuild():
+            members.clear()
+            for u in processed:
+                members.setdefault(self._key(u)[0], []).append(u)
+
+        rebuild()
+        budget = self.budget
+        for v in cone:
+            a, b = f0[v], f1[v]
+            nl = n.add_and(newlit[a >> 1] ^ (a & 1), newlit[b >> 1] ^ (b & 1))
+            result_lit = nl
+            tries = 0
+            tried = set()
+            while tries < _MAX_TRIES:
+                if stale:
+                    rebuild()
+                    stale = False
+                key, ph = self._key(v)
+                cand = None
+                hint = hints.get(v)
+                if hint is not None and hint[0] not in tried and newlit[hint[0]] >= 0:
+                    r, compl = hint
+                    if self.sig[v] == (self.sig[r] ^ (self.mask if compl else 0)):
+                        cand = (r, compl)
+                        self.stats["hints_tried"] = self.stats.get("hints_tried", 0) + 1
+                if cand is None:
+                    for r in members.get(key, ()):
+                        if r not in tried:
+                            cand = (r, ph ^ self._key(r)[1])
+                            break
+                if cand is None:
+                    break
+                r, compl = cand
+                tried.add(r)
+                target = newlit[r] ^ compl
+                if target == nl:
+                    self.stats["merged_by_structure"] += 1
+                    break
+                tries += 1
+                res = self.prove_equal(nl, target, budget)
+                if res is True:
+                    self.stats["merged_by_sat"] += 1
+                    result_lit = target
+                    break
+                if res is None:
+                    self.stats["undecided"] += 1
+                    break
+                self.stats["disproved"] += 1
+                self.refine(res)
+                stale = True
+            newlit[v] = result_lit
+            processed.append(v)
+            if not stale:
+                members.setdefault(self._key(v)[0], []).append(v)
+
+
+def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
+                      conflict_budget: int = DEFAULT_CONFLICT_BUDGET, seed=0,
+                      patterns: int = DEFAULT_PATTERNS, sweep: bool = True,
+                      solver: str = DEFAULT_SOLVER, output_budget: int | None = None
+                      ) -> EquivalenceResult:
+    """Prove two netlists do the same logic, or find an input that tells them apart.
+
+    Parameters
+    ----------
+    a, b : Netlist
+        Checked netlists; ports and storage elements are matched by name.
+    hints : dict, optional
+        Net of ``a`` -> net of ``b`` the caller believes equal (for example
+        from the mapper); tried first as sweeping candidates.  Wrong hints
+        cost time, never correctness.
+    conflict_budget : int
+        Conflicts allowed for each internal candidate proof while sweeping.
+    seed
+        Seed of the random patterns (the answer never depends on it; the
+        time and the counterexample found may).
+    patterns : int
+        Random patterns simulated first.
+    sweep : bool
+        Use SAT sweeping (default); ``False`` proves the outputs on the
+        plain miter.
+    solver : str
+        pysat solver name.
+    output_budget : int, optional
+        Conflicts allowed for each output proof; ``None`` for no limit.
+
+    Returns
+    -------
+    EquivalenceResult
+
+    Raises
+    ------
+    ProofLimitError
+        If ``output_budget`` ran out before an output was decided.
+    InternalError
+        If a counterexample does not reproduce in simulation (a bug).
+    """
+    t0 = time.perf_counter()
+    notes: list = []
+    stats: dict = {}
+    if not _match_ports(a, b, notes):
+        return EquivalenceResult(False, "ports", None, notes, stats)
+    kinds_ok, init_ok = _match_storage(a, b, notes)
+    if a.storage():
+        notes.append("storage outputs are free variables: next-state and control functions are "
+                     "compared in every state, reachable or not")
+
+    g, pairs, lit_a, lit_b = _build_miter(a, b, notes)
+    free = _free_vars(g)
+    stats["miter_ands"] = g.num_ands
+    stats["compared"] = len(pairs)
+
+    def finish(equal: bool, method: str, cex=None) -> EquivalenceResult:
+        if equal and not kinds_ok:
+            equal, method = False, "storage"
+        elif equal and not init_ok:
+            equal, method = False, "initial-values"
+        stats["seconds"] = round(time.perf_counter() - t0, 6)
+        if cex is not None and any(d["kind"] != "output" for d in cex["differs"]):
+            notes.append("the state in the counterexample may not be reachable from the initial state")
+        return EquivalenceResult(equal, method, cex, notes, stats)
+
+    todo = [p for p in pairs if p.la != p.lb]
+    if not todo:
+        return finish(True, "structural")
+
+    # random simulation (patterns 0 and 1 are all-zero and all-one)
+    rng = random.Random(seed)
+    nbits = max(2, patterns)
+    mask = (1 << nbits) - 1
+    words = {name: (rng.getrandbits(nbits) & ~3 & mask) | 2 for name, _ in free}
+    vals = _simulate_free(g, free, words, mask)
+    for p in todo:
+        d = _diff_word(vals, p, mask)
+        if d:
+            k = (d & -d).bit_length() - 1
+            assignment = {name: (w >> k) & 1 for name, w in words.items()}
+            return finish(False, "simulation", _counterexample(a, b, todo, assignment))
+
+    prover = _Prover(g, free, vals, mask, nbits, solver, conflict_budget, rng, sweep)
+    try:
+        if sweep:
+            hint_vars = _resolve_hints(hints, lit_a, lit_b, notes) if hints else {}
+            roots = []
+            for p in todo:
+                roots += [p.la, p.lb] + ([p.dc] if p.dc else [])
+            prover.run_sweep(roots, hint_vars)
+        nl = prover.newlit
+        for p in todo:
+            x = nl[p.la >> 1] ^ (p.la & 1)
+            y = nl[p.lb >> 1] ^ (p.lb & 1)
+            dc = (nl[p.dc >> 1] ^ (p.dc & 1)) if p.dc else 0
+            if x == y:
+                continue
+            res = prover.prove_pair(x, y, dc, output_budget)
+            if res is None:
+                raise ProofLimitError(
+                    f"could not decide {p.kind} '{p.name}' within {output_budget} conflicts")
+            if res is not True:
+                stats.update(prover.stats)
+                method = "sat-sweeping" if sweep else "sat-miter"
+                return finish(False, method, _counterexample(a, b, todo, res))
+        stats.update(prover.stats)
+        if sweep:
+            stats["swept_ands"] = prover.n.num_ands
+            notes.append(f"{_SWEEP_REFS}: {prover.stats['merged_by_sat']} internal equivalences "
+                         f"proved and merged")
+        return finish(True, "sat-sweeping" if sweep else "sat-miter")
+    finally:
+        prover.close()
+
+
+def _resolve_hints(hints: dict, la: dict, lb: dict, notes: list) -> dict:
+    """Map hint net names to miter variables: ``{later var: (earlier var, complemented)}``."""
+    out = {}
+    unknown = 0
+    for na, nb in hints.items():
+        if na not in la or nb not in lb:
+            unknown += 1
+            continue
+        x, y = la[na], lb[nb]
+        if x >> 1 == y >> 1:
+            continue
+        if y >> 1 > x >> 1:
+            out[y >> 1] = (x >> 1, (x ^ y) & 1)
+        else:
+            out[x >> 1] = (y >> 1, (x ^ y) & 1)
+    if unknown:
+        notes.append(f"{unknown} hint(s) name nets that do not exist; ignored")
+    return out
