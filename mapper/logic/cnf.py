@@ -21,7 +21,7 @@ Examples
 >>> enc.lit(x)
 4
 >>> sorted(map(sorted, enc.clauses))
-[[-4, -3, -2], [-4, 2], [-4, 3]]
+[[-4, 2], [-4, 3], [-3, -2, 4]]
 """
 from __future__ import annotations
 
