@@ -1,0 +1,659 @@
+"""Tests of the structural Verilog reader (mapper/read/verilog.py).
+
+Outside sources used here, named beside each check:
+* textbook definitions of the half and full adder, 2:1 and 4:1 multiplexers,
+  the 4-bit ripple-carry adder, the SR latch, the D latch and the D flip-flop
+  with synchronous reset (common practice), written in the test corpus in
+  several styles (primitives, assigns, instances);
+* circuits written by the ariths-gen generator library (flat and
+  hierarchical Verilog of adders and multipliers), checked against Python's
+  integer arithmetic and proven equal to the BLIF the same library writes;
+* pyslang, an independent Verilog/SystemVerilog front end: it must accept
+  every valid file of the corpus, and its constant evaluation gives the
+  value of random vector expressions (IEEE 1364-2005 width rules) that our
+  reading must reproduce;
+* IEEE 1364-2005 for the meaning of constructs (sections named beside checks).
+"""
+from __future__ import annotations
+
+import random
+import re
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+import generated
+from mapper.errors import InputError, NetlistError
+from mapper.netlist import Storage
+from mapper.read import read_design
+from mapper.read.verilog import VerilogError, read, read_text
+from mapper.simulate import run_cycles, simulate
+
+HERE = Path(__file__).parent / "verilog"
+VALID = HERE / "valid"
+INVALID = HERE / "invalid"
+LOOPS = {"sr_latch_nor.v"}  # valid Verilog that the netlist check refuses
+
+pyslang = pytest.importorskip("pyslang")
+
+
+# -- helpers -----------------------------------------------------------------
+def exhaustive(names):
+    """Words enumerating every assignment of ``names``: pattern k is binary k."""
+    n = len(names)
+    words = {}
+    for j, name in enumerate(names):
+        w = 0
+        for k in range(1 << n):
+            if (k >> j) & 1:
+                w |= 1 << k
+        words[name] = w
+    return words, (1 << (1 << n)) - 1
+
+
+def bit(word, k):
+    return (word >> k) & 1
+
+
+def bus(values, name, width, k, indices=None):
+    """Integer value of bus ``name`` in pattern ``k`` (bit i is net name[i])."""
+    idx = indices if indices is not None else range(width)
+    return sum(bit(values[f"{name}[{i}]"], k) << p for p, i in enumerate(idx))
+
+
+def words_for(assign: list[dict], names):
+    """Words from a list of per-pattern {name: 0/1} dicts."""
+    words = {n: 0 for n in names}
+    for k, a in enumerate(assign):
+        for n in names:
+            if a[n]:
+                words[n] |= 1 << k
+    return words, (1 << len(assign)) - 1
+
+
+def slang_errors(path) -> list[str]:
+    """pyslang's errors for a file (an independent front end's opinion)."""
+    tree = pyslang.syntax.SyntaxTree.fromFile(str(path))
+    comp = pyslang.ast.Compilation()
+    comp.addSyntaxTree(tree)
+    return [str(d.code) for d in comp.getAllDiagnostics() if d.isError()]
+
+
+def _expect(path):
+    first = path.read_text().splitlines()[0]
+    m = re.match(r"// expect: (\d+):(\d+): (.+)$", first)
+    assert m, f"{path.name}: first line must be '// expect: LINE:COL: message'"
+    return int(m[1]), int(m[2]), m[3]
+
+
+# -- the invalid corpus ------------------------------------------------------
+INVALID_FILES = sorted(list(INVALID.glob("*.v")) + list(INVALID.glob("*.sv")))
+
+
+def test_invalid_corpus_is_big_enough():
+    assert len(INVALID_FILES) >= 20
+
+
+@pytest.mark.parametrize("path", INVALID_FILES, ids=lambda p: p.name)
+def test_invalid_file(path, netfit):
+    # Each file states the position and message it must produce (first line).
+    line, col, msg = _expect(path)
+    with pytest.raises(InputError) as exc:
+        read_design(path)
+    first = exc.value.first
+    assert (first.file, first.line, first.col) == (str(path), line, col), str(exc.value)
+    assert msg in first.message, str(exc.value)
+    code, out, err = netfit("inspect", path)
+    assert code == 2
+    assert err.startswith(f"{path}:{line}:{col}: error: ")
+    assert "Traceback" not in err and "internal error" not in err
+
+
+def test_bad_input_gives_no_traceback_in_a_real_process(tmp_path):
+    # The installed command as a user runs it: position, exit 2, no traceback.
+    path = INVALID / "multiply.v"
+    line, col, msg = _expect(path)
+    res = subprocess.run([sys.executable, "-m", "mapper", "inspect", str(path)],
+                         capture_output=True, text=True, timeout=120)
+    assert res.returncode == 2
+    assert res.stderr.startswith(f"{path}:{line}:{col}: error: {msg}")
+    assert "Traceback" not in res.stderr
+
+
+def test_several_errors_are_collected():
+    # initial, integer and an asynchronous reset: all three reported in one run.
+    with pytest.raises(VerilogError) as exc:
+        read(INVALID / "several_errors.v")
+    where = [(d.line, d.col) for d in exc.value.diagnostics]
+    assert where == [(3, 3), (4, 3), (5, 25)]
+    assert all("outside the structural subset" in d.message for d in exc.value.diagnostics)
+
+
+# -- the valid corpus ----------------------------------------------------------
+VALID_FILES = sorted(VALID.glob("*.v"))
+
+
+@pytest.mark.parametrize("path", VALID_FILES, ids=lambda p: p.name)
+def test_valid_file_is_accepted_by_pyslang_and_read(path):
+    # source: pyslang, an independent front end, finds no error in the file
+    assert slang_errors(path) == []
+    n = read(path)
+    assert n.inputs and n.outputs
+    if path.name not in LOOPS:
+        read_design(path)  # and the netlist check passes
+
+
+def _sim(name):
+    n = read_design(VALID / name)
+    words, mask = exhaustive(n.inputs)
+    return n, simulate(n, words, mask), mask.bit_length()
+
+
+@pytest.mark.parametrize("name", ["half_adder_prims.v", "half_adder_assign.v"])
+def test_half_adder(name):
+    # textbook: sum = a XOR b, carry = a AND b (common practice)
+    n, v, P = _sim(name)
+    assert n.inputs == ["a", "b"] and n.outputs == ["s", "c"]
+    for k in range(P):
+        a, b = bit(k, 0), bit(k, 1)
+        assert bit(v["s"], k) == a ^ b
+        assert bit(v["c"], k) == a & b
+
+
+@pytest.mark.parametrize("name", ["full_adder_prims.v", "full_adder_assign.v", "full_adder_inst.v"])
+def test_full_adder(name):
+    # textbook: {cout, s} = a + b + cin (common practice)
+    n, v, P = _sim(name)
+    assert n.inputs == ["a", "b", "cin"] and n.outputs == ["s", "cout"]
+    for k in range(P):
+        total = bit(k, 0) + bit(k, 1) + bit(k, 2)
+        assert bit(v["s"], k) == total & 1
+        assert bit(v["cout"], k) == total >> 1
+
+
+@pytest.mark.parametrize("name", ["mux2_prims.v", "mux2_assign.v"])
+def test_mux2(name):
+    # textbook: y = d0 when s = 0, d1 when s = 1 (common practice)
+    n, v, P = _sim(name)
+    for k in range(P):
+        x = {i: bit(k, j) for j, i in enumerate(n.inputs)}
+        assert bit(v["y"], k) == (x["d1"] if x["s"] else x["d0"])
+
+
+@pytest.mark.parametrize("name", ["mux4_assign.v", "mux4_sop.v", "mux4_inst.v"])
+def test_mux4(name):
+    # textbook: y = d[s] (common practice)
+    n, v, P = _sim(name)
+    assert n.inputs == ["d[0]", "d[1]", "d[2]", "d[3]", "s[0]", "s[1]"]
+    for k in range(P):
+        d, s = k & 15, k >> 4
+        assert bit(v["y"], k) == (d >> s) & 1
+
+
+@pytest.mark.parametrize("name", ["ripple4_inst.v", "ripple4_assign.v", "ripple4_ascending.v"])
+def test_ripple4(name):
+    # textbook: a 4-bit adder gives {cout, sum} = a + b + cin for all 512 inputs (common practice)
+    n, v, P = _sim(name)
+    asc = name == "ripple4_ascending.v"
+    idx = [3, 2, 1, 0] if asc else [0, 1, 2, 3]  # [0:3]: bit 3 is the least significant (IEEE 1364-2005 4.2.1)
+    ins = n.inputs
+    assert set(ins) == {f"a[{i}]" for i in range(4)} | {f"b[{i}]" for i in range(4)} | {"cin"}
+    for k in range(P):
+        x = {name_: bit(k, j) for j, name_ in enumerate(ins)}
+        a = sum(x[f"a[{i}]"] << p for p, i in enumerate(idx))
+        b = sum(x[f"b[{i}]"] << p for p, i in enumerate(idx))
+        total = a + b + x["cin"]
+        assert bus(v, "sum", 4, k, idx) == total & 15
+        assert bit(v["cout"], k) == total >> 4
+
+
+def test_sr_latch_from_nors_is_refused_as_a_loop():
+    # textbook: the SR latch is two cross-coupled NORs, i.e. a combinational loop (common
+    # practice); netfit reads it as such and its netlist check refuses it, naming both nets.
+    n = read(VALID / "sr_latch_nor.v")
+    assert n.storage() == {}
+    with pytest.raises(NetlistError) as exc:
+        n.check()
+    d = exc.value.first
+    assert "combinational loop" in d.message and "q, qn" in d.message
+    assert (d.file, d.line) == (str(VALID / "sr_latch_nor.v"), 3)
+
+
+def _latch_reference(seq, init=0, low=False):
+    """textbook D latch (common practice): q follows d while enabled, else holds."""
+    q = init
+    out = []
+    for en, d in seq:
+        out.append(q)
+        if en != low:
+            q = d
+    return out
+
+
+@pytest.mark.parametrize("name,kind", [("d_latch_star.v", "ah"), ("d_latch_list.v", "ah"),
+                                       ("d_latch_low.v", "al")])
+def test_d_latch(name, kind):
+    n = read_design(VALID / name)
+    st_ = n.storage()
+    assert list(st_) == ["q"]
+    q = st_["q"]
+    assert (q.kind, q.control, q.d, q.init) == (kind, "en", "d", 3)  # no initial value: unknown (3)
+    rng = random.Random(7)
+    seq = [(rng.getrandbits(1), rng.getrandbits(1)) for _ in range(40)]
+    outs = run_cycles(n, [{"en": e, "d": d} for e, d in seq], 1)
+    assert [o["q"] for o in outs] == _latch_reference(seq, 0, low=kind == "al")
+
+
+def test_dff_with_synchronous_reset():
+    # textbook: on each rising clock edge q <= 0 when rst, else d (common practice)
+    n = read_design(VALID / "dff_sync_reset.v")
+    q = n.storage()["q"]
+    assert (q.kind, q.control, q.init) == ("re", "clk", 3)
+    assert n.clocks == ["clk"]
+    # the reset is folded into the data logic: exhaustive check of the next state
+    words, mask = exhaustive(["rst", "d"])
+    v = simulate(n, words, mask)
+    for k in range(4):
+        rst, d = bit(k, 0), bit(k, 1)
+        assert bit(v[q.d], k) == (0 if rst else d)
+    rng = random.Random(3)
+    seq = [(rng.getrandbits(1), rng.getrandbits(1)) for _ in range(50)]
+    outs = run_cycles(n, [{"clk": 0, "rst": r, "d": d} for r, d in seq], 1)
+    state, expect = 0, []
+    for r, d in seq:
+        expect.append(state)
+        state = 0 if r else d
+    assert [o["q"] for o in outs] == expect
+
+
+def test_vector_register_with_enable_load_and_initial_value():
+    n = read_design(VALID / "dff_vector_negedge.v")
+    st_ = n.storage()
+    assert sorted(st_) == [f"q[{i}]" for i in range(4)]
+    assert {s.kind for s in st_.values()} == {"fe"}
+    assert [st_[f"q[{i}]"].init for i in range(4)] == [1, 0, 1, 0]  # 4'b0101, bit 0 first
+    rng = random.Random(11)
+    seq = [{"clk": 0, "en": rng.getrandbits(1), "load": rng.getrandbits(1),
+            **{f"d[{i}]": rng.getrandbits(1) for i in range(4)}} for _ in range(60)]
+    outs = run_cycles(n, seq, 1)
+    # IEEE 1364-2005 9.2.2: the last non-blocking assignment to a bit in a block wins
+    q, expect = 0b0101, []
+    for c in seq:
+        expect.append(q)
+        nxt = q
+        if c["en"]:
+            nxt = sum(c[f"d[{i}]"] << i for i in range(4))
+        if c["load"]:
+            nxt |= 1
+        q = nxt
+    assert [sum(o[f"q[{i}]"] << i for i in range(4)) for o in outs] == expect
+
+
+def test_counter_counts():
+    # a 2-bit counter: 0, 1, 2, 3, 0 ... after a reset (common practice)
+    n = read_design(VALID / "counter2.v")
+    seq = [{"clk": 0, "rst": 1}] + [{"clk": 0, "rst": 0}] * 9
+    outs = run_cycles(n, seq, 1, unknown="random", seed=5)
+    assert [o["n[0]"] + 2 * o["n[1]"] for o in outs[1:]] == [0, 1, 2, 3, 0, 1, 2, 3, 0]
+
+
+def test_nested_latch_and_complete_level_block():
+    n = read_design(VALID / "latch_nested.v")
+    st_ = n.storage()
+    assert list(st_) == ["q"] and st_["q"].kind == "ah"
+    assert "m" not in st_  # assigned on every path: plain logic
+    rng = random.Random(5)
+    seq = [{k: rng.getrandbits(1) for k in "abde"} for _ in range(80)]
+    outs = run_cycles(n, seq, 1)
+    q, expect_q = 0, []
+    for c in seq:
+        expect_q.append(q)
+        if c["a"] and c["b"]:
+            q = c["d"]
+        elif not c["a"]:
+            q = c["e"]
+    assert [o["q"] for o in outs] == expect_q
+    assert [o["m"] for o in outs] == [c["d"] if c["a"] else c["e"] for c in seq]
+
+
+def test_directives_macros_and_conditionals():
+    n, v, P = _sim("directives.v")
+    assert n.inputs == [f"a[{i}]" for i in range(4)]
+    for k in range(P):
+        assert bit(v["y"], k) == int(k == 15)  # reduction AND
+        assert bit(v["z"], k) == int(k != 0)  # the `ifdef branch taken: reduction OR
+
+
+def test_parameters_and_overrides():
+    n, v, P = _sim("params.v")
+    for k in range(0, P, 7):
+        assert bus(v, "y", 8, k) == (~k) & 255
+
+
+def test_netlist_style_escaped_names_supplies_and_delays():
+    n, v, P = _sim("netlist_style.v")
+    assert n.inputs == ["in.a", "in.b"]
+    assert n.outputs == ["out0", "out1", "out2"]
+    for k in range(P):
+        a, b = bit(k, 0), bit(k, 1)
+        assert bit(v["out0"], k) == (a & 1) ^ b
+        assert bit(v["out1"], k) == a and bit(v["out2"], k) == a
+    assert any("delays are ignored" in w.message for w in n.warnings)
+
+
+def test_hierarchy_is_flattened_with_instance_paths():
+    n, v, P = _sim("hier_deep.v")
+    for k in range(P):
+        assert bit(v["y1"], k) == bit(k, 0) and bit(v["y2"], k) == bit(k, 0)
+    inner = [x for x in n.nodes if "/" in x]
+    assert inner and all(x.split("/")[0] in ("m1", "m2") for x in inner)
+    assert "m1/t" in n.nodes or "m2/t" in n.nodes
+
+
+def test_choosing_the_top(netfit):
+    path = INVALID / "several_tops.v"
+    n = read(path, top="second")
+    assert n.name == "second"
+    code, out, err = netfit("inspect", path, "--top", "first", "--json", as_json=True)
+    assert code == 0 and out["design"] == "first"
+    with pytest.raises(VerilogError) as exc:
+        read(path, top="third")
+    assert "no module named 'third'" in exc.value.first.message
+
+
+def test_include_inside_and_outside_the_folder(tmp_path):
+    (tmp_path / "d").mkdir()
+    (tmp_path / "defs.vh").write_text("`define INV(x) ~x\n")
+    (tmp_path / "d" / "gates.vh").write_text("module inv1(input a, output y);\n  not (y, a);\nendmodule\n")
+    main = tmp_path / "d" / "main.v"
+    main.write_text('`include "gates.vh"\nmodule main(input a, output y);\n  inv1 u (.a(a), .y(y));\nendmodule\n')
+    n = read_design(main)
+    assert n.name == "main" and n.outputs == ["y"]
+    out = tmp_path / "d" / "out.v"
+    out.write_text('`include "../defs.vh"\nmodule m(input a, output y); assign y = a; endmodule\n')
+    with pytest.raises(VerilogError) as exc:
+        read(out)
+    assert "outside the design's folder" in exc.value.first.message
+    # allowed, the included file is read (and its macro with arguments refused, in that file)
+    with pytest.raises(VerilogError) as exc:
+        read(out, allow_outside=True)
+    assert exc.value.first.file.endswith("defs.vh") and exc.value.first.line == 1
+
+
+def test_deep_text_does_not_exhaust_the_stack(tmp_path):
+    # 3000-term operator chains and a 3000-level else-chain of ?: (parsed in loops, lowered
+    # iteratively), and a 3000-gate inverter chain: no recursion over depth.
+    N = 3000
+    terms = " & ".join(f"a[{i % 8}]" for i in range(N))
+    chain = " : ".join(f"a[{i % 8}] ? a[{(i + 1) % 8}]" for i in range(N)) + " : 1'b0"
+    invs = "\n".join(f"  not (w{i + 1}, w{i});" for i in range(N))
+    text = (f"module deep(input [7:0] a, output y, output z, output w);\n  assign y = {terms};\n"
+            f"  assign z = {chain};\n  wire w0 = a[0];\n{invs}\n  assign w = w{N};\nendmodule\n")
+    p = tmp_path / "deep.v"
+    p.write_text(text)
+    n = read_design(p)
+    words, mask = exhaustive(n.inputs)
+    v = simulate(n, words, mask)
+    assert v["y"] == words["a[0]"] & words["a[1]"] & words["a[2]"] & words["a[3]"] \
+        & words["a[4]"] & words["a[5]"] & words["a[6]"] & words["a[7]"]
+    for k in range(mask.bit_length()):
+        a = [bit(words[f"a[{i}]"], k) for i in range(8)]
+        first = next((i for i in range(N) if a[i % 8]), None)  # the first condition that holds
+        assert bit(v["z"], k) == (0 if first is None else a[(first + 1) % 8])
+    assert v["w"] == words["a[0]"]  # an even number of inversions
+    assert n.depth() >= N
+    # nesting in parentheses is limited, with a message instead of a crash
+    p2 = tmp_path / "parens.v"
+    p2.write_text("module p(input a, output y);\n  assign y = " + "(" * 300 + "a" + ")" * 300 + ";\nendmodule\n")
+    with pytest.raises(VerilogError) as exc:
+        read(p2)
+    assert "nested more than" in exc.value.first.message
+
+
+# -- expression semantics against pyslang's constant evaluation -------------------
+OPERANDS = {"a": 8, "b": 4, "c": 1}
+
+
+def _slang_eval(samples, expr, width):
+    """Value of ``expr`` for each sample of (a, b, c), by pyslang's constant evaluation."""
+    mods = []
+    for i, (a, b, c) in enumerate(samples):
+        mods.append(f"module s{i};\n  localparam [7:0] a = 8'd{a};\n  localparam [3:0] b = 4'd{b};\n"
+                    f"  localparam [0:0] c = 1'd{c};\n  localparam [{width - 1}:0] y = {expr};\nendmodule\n")
+    tree = pyslang.syntax.SyntaxTree.fromText("".join(mods))
+    comp = pyslang.ast.Compilation()
+    comp.addSyntaxTree(tree)
+    errors = [str(d.code) for d in comp.getAllDiagnostics() if d.isError()]
+    assert not errors, (expr, errors)
+    out = {}
+    for inst in comp.getRoot().topInstances:
+        for sym in inst.body:
+            if sym.name == "y":
+                m = re.fullmatch(r"(\d+)'([bodh])([0-9a-fA-F]+)", str(sym.value))
+                assert m, str(sym.value)
+                out[int(inst.name[1:])] = int(m[3], {"b": 2, "o": 8, "d": 10, "h": 16}[m[2]])
+    return [out[i] for i in range(len(samples))]
+
+
+def _our_eval(samples, expr, width):
+    text = (f"module t(input [7:0] a, input [3:0] b, input c, output [{width - 1}:0] y);\n"
+            f"  assign y = {expr};\nendmodule\n")
+    n = read_text(text, "t.v")
+    n.check()
+    assign = []
+    for a, b, c in samples:
+        x = {f"a[{i}]": (a >> i) & 1 for i in range(8)}
+        x.update({f"b[{i}]": (b >> i) & 1 for i in range(4)})
+        x["c"] = c
+        assign.append(x)
+    words, mask = words_for(assign, n.inputs)
+    v = simulate(n, words, mask)
+    return [sum(bit(v[f"y[{i}]"], k) << i for i in range(width)) for k in range(len(samples))]
+
+
+def _sized(x):
+    """An unsized number may not stand alone in a concatenation (IEEE 1364-2005 5.1.14)."""
+    m = re.fullmatch(r"(\d+)|'h(\d)", x)
+    return f"3'd{m[1] or m[2]}" if m else x
+
+
+def _expr_strategy():
+    leaf = st.one_of(
+        st.sampled_from(["a", "b", "c", "a[3:0]", "a[7:4]", "a[5]", "b[2:1]", "a[1+:3]", "b[3-:2]"]),
+        st.sampled_from(["1'b1", "4'hA", "3'o5", "8'd200", "2'b01", "5", "0", "'h3"]),
+    )
+    unary = ["~", "!", "&", "|", "^", "~&", "~|", "~^", "-"]
+    binary = ["&", "|", "^", "~^", "^~", "&&", "||", "==", "!=", "<", "<=", ">", ">=", "+", "-"]
+
+    def extend(inner):
+        return st.one_of(
+            st.tuples(st.sampled_from(unary), inner).map(lambda t: f"{t[0]}({t[1]})"),
+            st.tuples(inner, st.sampled_from(binary), inner).map(lambda t: f"({t[0]} {t[1]} {t[2]})"),
+            st.tuples(inner, inner, inner).map(lambda t: f"({t[0]} ? {t[1]} : {t[2]})"),
+            st.lists(inner, min_size=1, max_size=3).map(lambda xs: "{" + ", ".join(map(_sized, xs)) + "}"),
+            st.tuples(st.integers(1, 3), inner).map(lambda t: "{%d{%s}}" % (t[0], _sized(t[1]))),
+            st.tuples(inner, st.sampled_from(["<<", ">>"]), st.integers(0, 5)).map(
+                lambda t: f"({t[0]} {t[1]} {t[2]})"),
+        )
+
+    return st.recursive(leaf, extend, max_leaves=8)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(expr=_expr_strategy(), width=st.sampled_from([1, 4, 9, 16]), seed=st.integers(0, 2 ** 16))
+def test_random_expressions_agree_with_pyslang(expr, width, seed):
+    # source: pyslang's constant evaluation of the same expression (IEEE 1364-2005 5.4 widths:
+    # context-determined operands widen to the assignment's width before the operation)
+    rng = random.Random(seed)
+    samples = [(rng.getrandbits(8), rng.getrandbits(4), rng.getrandbits(1)) for _ in range(12)]
+    assert _our_eval(samples, expr, width) == _slang_eval(samples, expr, width), expr
+
+
+# Width rules of IEEE 1364-2005 5.4 where a careless reader goes wrong: context-determined
+# operands (~, -, +, &, |, ^, ?: branches) widen to the target before the operation;
+# comparison operands widen to each other only; reductions, !, && and || are self-determined.
+WIDTH_CASES = [
+    ("~c", 4), ("~b", 8), ("~b + a", 16), ("~(b & 4'hF)", 6), ("-b", 8), ("-c", 3),
+    ("b - a", 9), ("a + b", 9), ("(a + b) >> 1", 8), ("((a + b) >> 1)", 9),
+    ("~b == 4'hF", 1), ("~b == 8'hF0", 1), ("b < a", 1), ("~c < c", 1), ("b != 0", 1),
+    ("!b", 4), ("~&b", 3), ("c ? ~b : a", 8), ("c ? b : ~a[1:0]", 4), ("{~c}", 4),
+    ("{2{~b[0]}}", 4), ("~{b}", 6), ("a[7:4] ^~ b", 5), ("(b << 2) | c", 8), ("b << 2", 4),
+    ("1'b1 + 1'b1", 2), ("1'b1 + 1'b1", 1), ("b && a[0]", 2), ("~b[3:2] + 1", 4),
+]
+
+
+@pytest.mark.parametrize("expr,width", WIDTH_CASES)
+def test_width_rules_agree_with_pyslang(expr, width):
+    # source: pyslang's constant evaluation of the same assignment
+    rng = random.Random(expr)
+    samples = [(rng.getrandbits(8), rng.getrandbits(4), rng.getrandbits(1)) for _ in range(24)]
+    samples += [(0, 0, 0), (255, 15, 1)]
+    assert _our_eval(samples, expr, width) == _slang_eval(samples, expr, width)
+
+
+def test_operators_file_agrees_with_pyslang():
+    # every right-hand side of operators.v, evaluated by pyslang at random inputs
+    text = (VALID / "operators.v").read_text()
+    rng = random.Random(1)
+    samples = [(rng.getrandbits(8), rng.getrandbits(4), 0) for _ in range(40)]
+    n = read_design(VALID / "operators.v")
+    assign = [{**{f"a[{i}]": (a >> i) & 1 for i in range(8)}, **{f"b[{i}]": (b >> i) & 1 for i in range(4)}}
+              for a, b, _ in samples]
+    words, mask = words_for(assign, n.inputs)
+    v = simulate(n, words, mask)
+    found = 0
+    for m in re.finditer(r"assign (\w)(?:\[(\d+)(?::(\d+))?\])?\s*=\s*(.+?);", text):
+        name, hi, lo, expr = m[1], m[2], m[3], m[4]
+        hi = int(hi)
+        lo = int(lo) if lo is not None else hi
+        width = hi - lo + 1
+        want = _slang_eval(samples, expr, width)
+        got = [sum(bit(v[f"{name}[{lo + i}]"], k) << i for i in range(width)) for k in range(len(samples))]
+        assert got == want, expr
+        found += 1
+    assert found == 11
+
+
+# -- the ariths-gen generator: flat and hierarchical Verilog --------------------------
+GOOD_HIER = ["rca", "cla", "csel", "pg", "arr", "dadda", "wallace", "csa"]
+ALL_KINDS = list(generated.ADDERS) + list(generated.MULTIPLIERS)
+
+
+def _arith_check(n, kind, width, pairs):
+    words, mask = generated.operand_words(width, pairs)
+    v = simulate(n, words, mask)
+    out = n.outputs[0].split("[")[0]
+    for k, (x, y) in enumerate(pairs):
+        got = sum(bit(v[o], k) << i for i, o in enumerate(n.outputs))
+        want = x + y if kind in generated.ADDERS else x * y
+        assert got == want, (kind, x, y)
+    assert all(o.startswith(out + "[") for o in n.outputs)
+
+
+@pytest.mark.parametrize("kind", ALL_KINDS)
+@pytest.mark.parametrize("hier", [False, True], ids=["flat", "hier"])
+def test_ariths_gen_small_exhaustive(tmp_path, kind, hier):
+    # source: ariths-gen writes the circuit; Python's integers give the answer (all 256 pairs)
+    if hier and kind not in GOOD_HIER:
+        pytest.skip("ariths-gen's hierarchical form of this circuit drives a net twice (tested below)")
+    n = read_design(generated.make(kind, 4, tmp_path, fmt="v", hier=hier))
+    assert n.inputs == [f"a[{i}]" for i in range(4)] + [f"b[{i}]" for i in range(4)]
+    _arith_check(n, kind, 4, [(x, y) for x in range(16) for y in range(16)])
+
+
+@pytest.mark.parametrize("kind", ["rca", "cla", "arr", "dadda", "wallace", "csel"])
+@pytest.mark.parametrize("hier", [False, True], ids=["flat", "hier"])
+def test_ariths_gen_equal_to_its_blif_twin(tmp_path, kind, hier):
+    # source: ariths-gen writes both files; the proof (mapper.verify) must find them equal,
+    # port by port (bus bits named name[i] in both), and the sums/products must be right.
+    from mapper.verify import check_equivalence
+    width = 8
+    v = read_design(generated.make(kind, width, tmp_path, fmt="v", hier=hier))
+    # ariths-gen's hierarchical BLIF of multipliers is malformed, so the twin is its flat BLIF
+    b = read_design(generated.make(kind, width, tmp_path, fmt="blif", hier=False))
+    assert v.inputs == b.inputs and v.outputs == b.outputs
+    res = check_equivalence(v, b)
+    assert res.equivalent, res.to_dict()
+    rng = random.Random(kind)
+    _arith_check(v, kind, width, [(rng.getrandbits(width), rng.getrandbits(width)) for _ in range(300)])
+
+
+@pytest.mark.parametrize("kind", sorted(set(ALL_KINDS) - set(GOOD_HIER)))
+def test_ariths_gen_hierarchical_double_driver_is_refused(tmp_path, kind):
+    # ariths-gen's hierarchical sk/bk/ks connect the same net to the outputs of two instances
+    # (legal Verilog for pyslang, which resolves wired nets); a netlist of real gates cannot
+    # join two outputs, so the reader refuses it and names the net and both lines.
+    path = generated.make(kind, 4, tmp_path, fmt="v", hier=True)
+    assert slang_errors(path) == []
+    with pytest.raises(VerilogError) as exc:
+        read(path)
+    d = exc.value.first
+    assert re.search(r"net '\w+\[0\]' has two drivers \(first driven at line \d+\)", d.message)
+    assert d.line is not None and d.col is not None
+
+
+@pytest.mark.slow
+def test_ariths_gen_big_multiplier(tmp_path):
+    # a 16x16 array multiplier (about 1.5 k gates in 1.5 k assigns), random operands
+    n = read_design(generated.make("arr", 16, tmp_path, fmt="v", hier=True))
+    rng = random.Random(2)
+    _arith_check(n, "arr", 16, [(rng.getrandbits(16), rng.getrandbits(16)) for _ in range(500)])
+
+
+# -- convert and verify through the command line ---------------------------------------
+@pytest.mark.parametrize("name", ["ripple4_inst.v", "dff_vector_negedge.v", "latch_nested.v", "params.v"])
+def test_convert_to_blif_proves_equal(tmp_path, netfit, name):
+    src = VALID / name
+    dst = tmp_path / (Path(name).stem + ".blif")
+    code, out, err = netfit("convert", src, dst)
+    assert code == 0, err
+    code, out, err = netfit("verify", src, dst, "--json", as_json=True)
+    assert code == 0 and out["equivalent"], out
+    from mapper.verify import check_equivalence
+    a, b = read_design(src), read_design(dst)
+    assert a.inputs == b.inputs and a.outputs == b.outputs
+    assert sorted(a.storage()) == sorted(b.storage())
+    assert check_equivalence(a, b).equivalent
+
+
+def test_convert_ariths_gen_to_blif(tmp_path, netfit):
+    src = generated.make("wallace", 6, tmp_path, fmt="v", hier=True)
+    dst = tmp_path / "w.blif"
+    assert netfit("convert", src, dst)[0] == 0
+    code, out, err = netfit("verify", src, dst)
+    assert code == 0, out + err
+    rng = random.Random(9)
+    _arith_check(read_design(dst), "wallace", 6, [(rng.getrandbits(6), rng.getrandbits(6)) for _ in range(200)])
+
+
+# -- smaller points of the standard ----------------------------------------------------
+def test_implicit_nets_and_unused_unconnected_inputs():
+    # IEEE 1364-2005 6.1.2: an undeclared name on a gate terminal or port is an implicit wire
+    n = read_text("module m(input a, b, output y);\n  and (t, a, b);\n  not (y, t);\nendmodule\n")
+    n.check()
+    words, mask = exhaustive(n.inputs)
+    assert simulate(n, words, mask)["y"] == (~(words["a"] & words["b"])) & mask
+
+
+def test_storage_without_initial_value_is_unknown_and_reg_init_is_kept():
+    n = read_text("module m(input c, d, output reg q, output reg r = 1'b1);\n"
+                  "  always @(posedge c) begin q <= d; r <= ~d; end\nendmodule\n")
+    st_ = n.storage()
+    assert st_["q"].init == 3 and st_["r"].init == 1
+    assert isinstance(st_["q"], Storage) and st_["q"].control == "c"
+
+
+def test_unconnected_output_is_fine_and_width_mismatch_warns():
+    text = ("module sub(input [3:0] a, output [3:0] y, output z);\n  assign y = ~a;\n  assign z = &a;\nendmodule\n"
+            "module m(input [1:0] x, output [3:0] y);\n  sub u (.a(x), .y(y), .z());\nendmodule\n")
+    n = read_text(text)
+    n.check()
+    words, mask = exhaustive(n.inputs)
+    v = simulate(n, words, mask)
+    for k in range(4):
+        assert sum(bit(v[f"y[{i}]"], k) << i for i in range(4)) == (~k) & 15  # x widened with zeros
+    assert any("is 4 bit(s) wide but is connected to 2 bit(s)" in w.message for w in n.warnings)

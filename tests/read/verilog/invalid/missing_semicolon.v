@@ -1,0 +1,5 @@
+// expect: 4:3: expected ';' after the assignment, found 'assign'
+module missing_semicolon(input a, output y, z);
+  assign y = a
+  assign z = ~a;
+endmodule

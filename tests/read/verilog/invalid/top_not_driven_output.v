@@ -1,0 +1,3 @@
+// expect: 2:46: output 'y' is never driven
+module top_not_driven_output(input a, output y);
+endmodule
