@@ -113,7 +113,8 @@ def cmd_verify(args):
             for k, v in (cex.get("state") or {}).items():
                 print(f"  state  {k} = {v}")
             for d in cex.get("differs", []):
-                print(f"  output {d['output']}: {d['a']} in A, {d['b']} in B")
+                what = {"next-state": "next state of", "control": "control of"}.get(d.get("kind"), "output")
+                print(f"  {what} {d['output']}: {d['a']} in A, {d['b']} in B")
         for note in res.get("notes", []):
             print(f"note: {note}", file=sys.stderr)
     return 0 if res["equivalent"] else 1
