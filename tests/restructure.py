@@ -180,10 +180,13 @@ def _express(w: _Writer, name: str, fanins: tuple, func: Function) -> None:
         w.tree(w.or2, terms, name)
 
 
-def restructure(net: Netlist, seed: int = 1, max_support: int = 4, collapse: float = 0.7) -> Netlist:
+def restructure(net: Netlist, seed: int = 1, max_support: int = 4, collapse: float = 0.7,
+                names: dict | None = None) -> Netlist:
     """A logically equal copy of ``net`` with different structure (module docstring).
 
-    ``collapse`` is the chance that a node tries to absorb its fan-ins.
+    ``collapse`` is the chance that a node tries to absorb its fan-ins.  When
+    ``names`` is a dict it receives old net -> new net for every net that
+    survives (absorbed nets have no counterpart).
     """
     rng = random.Random(seed)
     funcs = _collapse(net, max_support, rng, collapse)
@@ -207,6 +210,8 @@ def restructure(net: Netlist, seed: int = 1, max_support: int = 4, collapse: flo
     rng.shuffle(items)  # node order in the file does not matter
     for name, (fanins, func) in items:
         _express(w, rename[name], tuple(rename[f] for f in fanins), func)
+    if names is not None:
+        names.update((k, rename[k]) for k in net.nodes if k in funcs or k in keep)
     for o in net.outputs:
         out.add_output(o)
     out.clocks = list(net.clocks)
