@@ -119,6 +119,9 @@ class Build:
     verified: str = "not checked"
     #: filled by analyze/: a dict of timing figures
     timing: dict = field(default_factory=dict)
+    #: relay builds: seal-in storage (:class:`mapper.fit.relay.RelayLatch`), read by
+    #: :func:`mapper.fit.relay.contact_logic` to turn each into a storage element
+    latches: list = field(default_factory=list)
 
     # -- derived views ----------------------------------------------------
     def part(self, ref: str) -> PartInstance:
@@ -282,6 +285,9 @@ class Build:
         if self.contacts or self.coils:
             s["poles_used"] = len(self.contacts)
             s["poles_available"] = self.slots_available()
+            for key in ("coil_current_a", "coil_voltage_v"):
+                if key in self.timing:
+                    s[key] = self.timing[key]
         s["ties"] = len(self.ties)
         s["cautions"] = list(self.cautions)
         s["notes"] = list(self.notes)
