@@ -111,13 +111,12 @@ from __future__ import annotations
 
 import gc
 import logging
-from pathlib import Path
 
 from ..errors import Diagnostic, InputError
 from ..logic.function import MAX_TABLE_INPUTS, Function, var_mask
 from ..netlist import INIT_UNKNOWN, Netlist
 from .verilog_lex import lex_file
-from .verilog_parse import GATES, parse
+from .verilog_parse import parse
 
 __all__ = ["VerilogError", "read", "read_text"]
 
@@ -220,7 +219,7 @@ class _Scope:
     """One module instance being elaborated."""
 
     __slots__ = ("module", "prefix", "params", "syms", "parent", "inst_name", "inst_at", "hint",
-                 "ports", "_inits")
+                 "ports", "_inits", "ancestors")
 
     def __init__(self, module, prefix, parent, inst_name, inst_at):
         self.module, self.prefix, self.parent = module, prefix, parent
@@ -230,6 +229,8 @@ class _Scope:
         self.hint = prefix + "n"
         self.ports: list = []
         self._inits = None
+        #: module names from the top down to this one (to catch recursion)
+        self.ancestors = (parent.ancestors if parent is not None else frozenset()) | {module.name}
 
     def chain(self):
         s, names = self, []
@@ -1205,8 +1206,8 @@ class _Elaborator:
         mod = self.modules.get(inst.module)
         if mod is None:
             self.fail(inst.module_at, f"unknown module '{inst.module}'")
-        chain = scope.chain()
-        if mod.name in chain:
+        if mod.name in scope.ancestors:
+            chain = scope.chain()
             loop = " → ".join(reversed(chain)) + f" → {mod.name}"
             self.fail(inst.module_at, f"module '{mod.name}' instantiates itself ({loop})")
         # parameter overrides
@@ -1358,7 +1359,6 @@ class _Elaborator:
                 real[root_of[s]] = s
         # references to each class (fan-ins and outputs), for sweeping
         refs = [0] * nslots
-        out_set = set(self.top_outputs)
 
         def fanin_slots(s):
             d = drv[s]
@@ -1619,8 +1619,8 @@ def read_text(text: str, file: str = "<text>", top: str | None = None) -> Netlis
     """Read Verilog from a string (for tests and tools); see :func:`read`."""
     from .verilog_lex import lex_text
     diags: list = []
-    tokens = lex_text(text, file, diags)
-    return _finish_read(tokens, diags, file, top)
+    modules = parse(lex_text(text, file, diags), diags)
+    return _elaborate(modules, diags, file, top)
 
 
 def read(path, top: str | None = None, allow_outside: bool = False) -> Netlist:
@@ -1658,14 +1658,15 @@ def read(path, top: str | None = None, allow_outside: bool = False) -> Netlist:
             tokens = lex_file(path, diags, allow_outside=allow_outside)
         except OSError as exc:
             raise VerilogError(Diagnostic(f"cannot read the file: {exc.strerror or exc}", str(path)))
-        return _finish_read(tokens, diags, str(path), top)
+        modules = parse(tokens, diags)
+        del tokens  # the syntax tree keeps what it needs
+        return _elaborate(modules, diags, str(path), top)
     finally:
         if was_enabled:
             gc.enable()
 
 
-def _finish_read(tokens, diags, file, top):
-    modules = parse(tokens, diags)
+def _elaborate(modules, diags, file, top):
     if any(d.severity == "error" for d in diags):
         _raise(diags)
     el = _Elaborator(modules, file, diags)

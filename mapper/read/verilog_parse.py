@@ -183,7 +183,9 @@ def _outside(what: str) -> str:
 class _Parser:
     def __init__(self, tokens, diags):
         # a few extra end tokens let peek(k) look ahead without bounds checks
-        self.t = list(tokens) + [tokens[-1]] * 4
+        self.t = tokens
+        if tokens[-1][0] != "eof" or len(tokens) < 5 or tokens[-5][0] != "eof":
+            tokens.extend([tokens[-1]] * 4)
         self.i = 0
         self.diags = diags
         self.nettype = "wire"
@@ -249,10 +251,6 @@ class _Parser:
         """Skip tokens through the keyword ``closer`` (nesting of the same
         opener counted); stops before ``endmodule`` when the closer is not
         ``endmodule`` itself."""
-        opener = None
-        for k, v in _CLOSERS.items():
-            if v == closer:
-                opener = k if opener is None else opener
         openers = {k for k, v in _CLOSERS.items() if v == closer}
         depth = 0
         while True:
@@ -401,7 +399,7 @@ class _Parser:
         return modules
 
     def module(self):
-        kw = self.take()
+        self.take()
         try:
             name = self.ident("a module name")
         except _Syntax:
@@ -653,7 +651,7 @@ class _Parser:
             raise _Skipped()
         if k in ("module", "macromodule"):
             self.syntax(tok, "a module cannot be declared inside another; "
-                             f"is 'endmodule' missing before this line?")
+                             "is 'endmodule' missing before this line?")
         if k == "sys":
             self.refuse(tok, f"the system task '{tok[1]}'")
             self.skip_item()
@@ -752,7 +750,7 @@ class _Parser:
             self.syntax(self.peek(), f"expected a delay value after '#', found {self.describe(self.peek())}")
 
     def cont_assign(self, mod):
-        kw = self.take()
+        self.take()
         if self.kind() == "(":
             self.refuse(self.peek(), "a drive strength")
             self.skip_item()
