@@ -5,7 +5,7 @@ gate by gate (common practice): every 2-input gate is two relays, one per
 input (series make contacts for AND, parallel for OR, changeovers for XOR,
 break contacts for the inverted forms); an inverter is one relay; a buffer
 or constant none.  Wider gates are trees of 2-input gates; any other cover
-is two-level logic (an inverter per complemented input, a tree of AND2 per
+is two-level logic from an irredundant cover (an inverter per complemented input, a tree of AND2 per
 product term, a tree of OR2 for the sum, an inverter when the cover lists
 the OFF-set).  A latch is a 2-input gate (data and enable): two relays;
 edge-triggered storage is two latches: four relays.
@@ -68,7 +68,10 @@ def template_relays(netlist) -> int:
         elif kind.rstrip("0123456789") in ("and", "or", "nand", "nor"):
             total += 2 * _gates2(k)
         else:
-            cubes, phase = node.func.cover()
+            func = node.func
+            if func.has_table:   # a designer would minimize first: an irredundant cover
+                func = type(func).from_table(k, func.table())
+            cubes, phase = func.cover()
             inverted = {j for c in cubes for j, ch in enumerate(c) if ch == "0"}
             total += len(inverted)
             for c in cubes:

@@ -51,9 +51,11 @@ internal decision functions greedily (add one at a time while the cost
 falls, then drop any whose removal does not raise it).
 
 Recursion: the builder recurses over decision nodes along one path of a
-network; a path decides each leaf and each internal function at most once,
-so the depth is bounded by the window size (leaves plus internal
-candidates, both capped), never by the netlist's depth.
+network.  Along a path each leaf is lifted out at most once and restricts
+the care set at most once, and each internal function is decided at most
+once (afterwards it no longer divides the care set), so the depth is
+bounded by the window size (twice the leaves plus the internal candidates,
+all capped), never by the netlist's depth.
 """
 from __future__ import annotations
 
@@ -258,12 +260,15 @@ class ContactSynth:
                 break
         if pick is None:
             # F depends on no single leaf inside C yet is not constant there:
-            # split on a leaf that divides the care set
+            # split the care set on a leaf that divides it (no lifting, so the
+            # care set strictly shrinks and the leaf is never split again)
             for j in self.order:
-                c0, c1 = self._split(C, j)
-                if c0 and c1:
-                    pick = j
-                    break
+                m = self.masks[j]
+                if C & m and C & ~m:
+                    hi = self._build(F & m, C & m)
+                    lo = self._build(F & ~m & self.full, C & ~m & self.full)
+                    return self._node(self.leaf(j), hi, lo)
+            raise AssertionError("a non-constant function on a care set no leaf divides")
         F1, C1, F0, C0 = self._lift(F, C, pick)
         hi = self._build(F1, C1)
         lo = self._build(F0, C0)
@@ -374,7 +379,7 @@ def _evaluate(n, targets, cands, order, permitted, poles_per_relay, extra, pole_
 
 def synthesize(n: int, targets: list, candidates: dict | None = None, poles_per_relay: int = 1,
                extra: dict | None = None, order=None, orders=None, effort: int = 1,
-               time_budget: float = 20.0) -> SynthResult:
+               bound: tuple | None = None, time_budget: float = 60.0) -> SynthResult | None:
     """Contact networks for ``targets`` over ``n`` leaves with the fewest relays.
 
     Parameters
@@ -400,12 +405,18 @@ def synthesize(n: int, targets: list, candidates: dict | None = None, poles_per_
         More starting orders to try (the best one is sifted).
     effort : int
         0: the initial order only, no internal functions; 1: the searches.
+    bound : tuple, optional
+        A cost ``(relays, levels, poles)`` known to be reachable otherwise:
+        evaluations far above it are abandoned early, and ``None`` is
+        returned when the best result has more relays.
     time_budget : float
-        Seconds after which the searches stop improving.
+        Seconds after which the searches stop improving (a safety net for
+        very large windows; the designs of the tests and benchmarks never
+        reach it, so their results do not depend on the machine).
 
     Returns
     -------
-    SynthResult
+    SynthResult or None
     """
     t0 = time.perf_counter()
     cands = dict(list((candidates or {}).items())[:MAX_CANDIDATES])
@@ -413,39 +424,56 @@ def synthesize(n: int, targets: list, candidates: dict | None = None, poles_per_
     targets = [(name, t, c) for name, t, c in targets]
     evals = 0
     history = []
+    inf = 1 << 62
+    best = None
+    best_cost = (inf, inf, inf)
 
-    def ev(order_, permitted_, bound=None):
-        """Evaluate; with ``bound`` (a cost), give up (None) once the poles show it cannot beat it
-        (``P`` poles per relay: more than ``P * relays`` poles cannot fit in fewer relays)."""
+    def ev(order_, permitted_):
+        """Evaluate; give up (None) once the poles show it cannot beat the best so far
+        (``P`` poles per relay: more than ``P * relays`` poles cannot fit in fewer relays).
+        Before anything is found, twice the ``bound`` is the limit: a search may pass
+        above the bound on its way below it."""
         nonlocal evals
         evals += 1
-        limit = None if bound is None else poles_per_relay * bound[0]
+        if best is not None:
+            limit = poles_per_relay * best_cost[0]
+        elif bound is not None:
+            limit = 2 * poles_per_relay * bound[0]
+        else:
+            limit = None
         try:
             return _evaluate(n, targets, cands, order_, permitted_, poles_per_relay, extra, limit)
         except _TooBig:
             return None
 
-    base_order = list(order) if order is not None else list(range(n))
-    best_order = base_order
-    best = ev(best_order, [])
-    history.append(("initial order", best[4]))
+    def offer(r, tie_ok=False) -> bool:
+        nonlocal best, best_cost
+        if r is None:
+            return False
+        if r[4] < best_cost or (tie_ok and best is not None and r[4] == best_cost):
+            best, best_cost = r, r[4]
+            return True
+        return False
 
     def out_of_time():
         return time.perf_counter() - t0 > time_budget
 
+    base_order = list(order) if order is not None else list(range(n))
+    best_order = base_order
+    offer(ev(best_order, []))
+    history.append(("initial order", best_cost))
+
     if effort > 0 and n > 1:
         if n <= EXHAUSTIVE_LIMIT:
             for perm in itertools.permutations(range(n)):
-                r = ev(list(perm), [], best[4])
-                if r is not None and r[4] < best[4]:
-                    best, best_order = r, list(perm)
-            history.append(("exhaustive order", best[4]))
+                if offer(ev(list(perm), [])):
+                    best_order = list(perm)
+            history.append(("exhaustive order", best_cost))
         else:
             for other in [list(reversed(base_order))] + [list(o) for o in (orders or ())]:
-                r = ev(other, [], best[4])
-                if r is not None and r[4] < best[4]:
-                    best, best_order = r, other
-            history.append(("best starting order", best[4]))
+                if offer(ev(other, [])):
+                    best_order = other
+            history.append(("best starting order", best_cost))
             # descent by swapping neighbours, then sifting (Rudell, ICCAD 1993: one
             # variable moved through every position) while the window is small
             for _sweep in range(4):
@@ -454,9 +482,8 @@ def synthesize(n: int, targets: list, candidates: dict | None = None, poles_per_
                     if out_of_time():
                         break
                     cand_order = best_order[:i] + [best_order[i + 1], best_order[i]] + best_order[i + 2:]
-                    r = ev(cand_order, [], best[4])
-                    if r is not None and r[4] < best[4]:
-                        best, best_order, improved = r, cand_order, True
+                    if offer(ev(cand_order, [])):
+                        best_order, improved = cand_order, True
                 if not improved:
                     break
             if n <= SIFT_LIMIT:
@@ -466,32 +493,30 @@ def synthesize(n: int, targets: list, candidates: dict | None = None, poles_per_
                     rest = [x for x in best_order if x != j]
                     for pos in range(len(rest) + 1):
                         cand_order = rest[:pos] + [j] + rest[pos:]
-                        if cand_order == best_order:
-                            continue
-                        r = ev(cand_order, [], best[4])
-                        if r is not None and r[4] < best[4]:
-                            best, best_order = r, cand_order
-            history.append(("sifted order", best[4]))
+                        if cand_order != best_order and offer(ev(cand_order, [])):
+                            best_order = cand_order
+                history.append(("sifted order", best_cost))
 
     permitted: list = []
     if effort > 0 and cands:
-        # greedy choice of re-amplification points: try each candidate in turn
-        keys = list(cands)
-        for k in keys:
+        # greedy choice of re-amplification points: try each candidate in turn; a candidate
+        # that is used and costs nothing is kept (it may pay off with later ones)
+        for k in list(cands):
             if out_of_time():
                 break
             trial = permitted + [k]
-            r = ev(best_order, trial, best[4])
-            if r is not None and r[4] <= best[4] and (r[4] < best[4] or k in r[0].cand_net):
-                best, permitted = r, trial
+            r = ev(best_order, trial)
+            if offer(r, tie_ok=r is not None and k in r[0].cand_net):
+                permitted = trial
         for k in list(permitted):
             if out_of_time():
                 break
             trial = [x for x in permitted if x != k]
-            r = ev(best_order, trial, best[4])
-            if r is not None and r[4] <= best[4]:
-                best, permitted = r, trial
-        history.append(("re-amplification points", best[4]))
+            if offer(ev(best_order, trial), tie_ok=True):
+                permitted = trial
+        history.append(("re-amplification points", best_cost))
+    if best is None or (bound is not None and best_cost[0] > bound[0]):
+        return None
     cs, roots, live, counts, cost = best
     return SynthResult(cs, roots, [cs.poles[i] for i in live], counts, cost, best_order, permitted,
                        evals, time.perf_counter() - t0, history)

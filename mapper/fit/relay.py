@@ -59,11 +59,14 @@ Synthesis
 diagrams over exact truth tables (Shannon 1938/1949; Lee 1959; Akers 1978),
 with a leaf-order search, pass-through of existing nets, shared
 sub-networks between outputs, and internal nets chosen as re-amplification
-points (nets with a coil of their own).  Designs with more than
-:data:`WINDOW_LEAVES` inputs and storage outputs are cut into windows of at
-most that many leaves at nets of many fan-outs (fan-out-free cones, merged
-while they fit); the nets where windows meet get coils when a later window
-decides on them.
+points (nets with a coil of their own).  Every design is cut into windows
+at nets of many fan-outs (fan-out-free cones, merged while they fit) of at
+most ten leaves, and again of at most four (close to gate by gate, with
+pass-through); the nets where windows meet get coils when a later window
+decides on them.  A design of at most :data:`WINDOW_LEAVES` inputs and
+storage outputs is also built as one window over all its leaves, abandoned
+as soon as it cannot beat the windowed plans.  The plan with the fewest
+relays is kept.
 
 Timing, supply current and the feedback-loop check live in
 :mod:`mapper.analyze.relay_timing`.
@@ -88,8 +91,8 @@ log = logging.getLogger(__name__)
 
 #: most leaves (inputs and storage outputs) one window's truth tables range over
 WINDOW_LEAVES = 16
-#: leaves per window when a design must be cut into windows
-SPLIT_LEAVES = 10
+#: leaves per window of the windowed plans (each tried; the one with fewest relays kept)
+SPLIT_LEAVES = (10, 4)
 
 #: ``COM = COIL ? NO : NC`` over fan-ins (coil, no, nc), input 0 least significant
 MUX_FUNCTION = Function.from_table(3, sum(
@@ -143,6 +146,11 @@ class _Names:
     def __init__(self, taken):
         self.taken = set(taken) | {"VCC", "GND"}
         self.counter = 0
+
+    def copy(self) -> "_Names":
+        c = _Names(())
+        c.taken, c.counter = set(self.taken), self.counter
+        return c
 
     def fresh(self, base: str | None = None) -> str:
         if base is not None and base not in self.taken:
@@ -307,6 +315,164 @@ def _cone(g, roots) -> list:
 
 
 # ---------------------------------------------------------------------------
+# plans: networks for a choice of windows
+@dataclass
+class _Context:
+    g: object
+    want: list
+    inverted: set
+    inv_names: dict
+    latch_vars: set
+    ctrl_poles: Counter
+    design_name: dict
+    state_net: dict
+    net_of_var: dict
+    P: int
+    effort: int
+
+
+@dataclass
+class _Plan:
+    poles: list
+    latches: list
+    output_nets: dict
+    reamp: list
+    windows: list
+    single: bool
+    stats: list
+    names: object
+    relays: int
+
+
+def _plan(ctx: _Context, windows: list, single: bool, names, bound):
+    """Networks, storage and output nets for one choice of windows, or ``None``
+    when a ``bound`` (relays) is given and the single window cannot beat it."""
+    g, want, inverted, P = ctx.g, ctx.want, ctx.inverted, ctx.P
+    net_of_var = dict(ctx.net_of_var)
+    poles: list = []          # (com, coil, no, nc) by net names
+    wanted_net: dict = {}     # (kind, name) -> net name, "VCC" or None (open)
+    reamp: list = []
+    stats: list = []
+    for w_index, win in enumerate(windows):
+        leaves, n = win.leaves, len(win.leaves)
+        full, val = _window_tables(g, leaves, win.nodes, inverted)
+        if single:
+            tlist = [(f"{kind}:{name}", _lit_table(val, lit, full), None) for kind, name, lit in want]
+        else:
+            tlist = [(f"var:{v}", val[v], None) for v in win.targets]
+        extra: dict = {}
+        for j, v in enumerate(leaves):
+            k = (1 if v in ctx.latch_vars else 0) + (0 if single else ctx.ctrl_poles.get(2 * v, 0))
+            if k:
+                extra[("leaf", j)] = k   # hold contacts (and clock poles in windows)
+        if single:
+            for latch in g.latches:
+                extra[("target", f"control:{latch.name}")] = 2 if latch.kind in ("re", "fe") else 1
+                if latch.kind in ("re", "fe"):
+                    extra[("relay", f"master:{latch.name}")] = 1
+        roots_for_order = [lit >> 1 for _, _, lit in want] if single else win.targets
+        res = synthesize(n, tlist, {v: val[v] for v in win.nodes}, P, extra=extra,
+                         order=_dfs_order(g, leaves, roots_for_order), effort=ctx.effort,
+                         bound=(bound, 1 << 30, 1 << 30) if bound is not None else None)
+        if res is None:
+            return None
+        stats.append(res)
+        log.debug("window %d: %d leaves, cost %s, %d evaluations, %.2f s",
+                  w_index, n, res.cost, res.evaluations, res.seconds)
+        cs = res.synth
+        local: dict = {RAIL: "VCC"}
+        for j, v in enumerate(leaves):
+            local[cs.leaf(j)] = net_of_var[v]
+        preferred: dict = {}
+        if single:
+            for kind, name, lit in want:
+                r = res.roots[f"{kind}:{name}"]
+                if kind == "output" and r > n and r not in local and name not in local.values():
+                    local[r] = name  # the output's own net carries its name
+        for key, r in res.roots.items():
+            if key.startswith("var:") and r > n and int(key[4:]) in ctx.design_name:
+                preferred.setdefault(r, ctx.design_name[int(key[4:])])
+        for key, r in cs.cand_net.items():
+            if r > n and key in ctx.design_name:
+                preferred.setdefault(r, ctx.design_name[key])
+        for com, _, _, _ in res.poles:
+            if com not in local:
+                local[com] = names.fresh(preferred.get(com))
+        for com, var, no, nc in res.poles:
+            poles.append((local[com], local[var], None if no is None else local[no],
+                          None if nc is None else local[nc]))
+        for key, r in res.roots.items():
+            net = None if r == OPEN else local[r]
+            if single:
+                kind, name = key.split(":", 1)
+                wanted_net[(kind, name)] = net
+            else:
+                if net is None or net == "VCC":
+                    raise InternalError(f"window result {key} is a constant")
+                net_of_var[int(key[4:])] = net
+        reamp += [local[cs.cand_net[k]] for k in res.permitted
+                  if k in cs.cand_net and cs.cand_net[k] in local]
+
+    if not single:
+        # results in the polarity asked: a complemented one is a break contact on its net's relay
+        comp: dict = {}
+        for kind, name, lit in want:
+            v = lit >> 1
+            if v == 0:
+                wanted_net[(kind, name)] = "VCC" if lit & 1 else None
+                continue
+            net = net_of_var[v]
+            if (lit & 1) ^ (v in inverted):
+                if net not in comp:
+                    comp[net] = names.fresh(f"{net}_n")
+                    poles.append((comp[net], net, None, "VCC"))
+                net = comp[net]
+            wanted_net[(kind, name)] = net
+
+    output_nets = {}
+    for name, lit in g.outputs:
+        if lit in ctx.inv_names:
+            q = ctx.inv_names[lit]
+            if q not in output_nets.values():
+                poles.append((q, ctx.state_net[q], None, "VCC"))
+            output_nets[name] = q
+        else:
+            net = wanted_net[("output", name)]
+            output_nets[name] = "GND" if net is None else net
+
+    latches = []
+    for latch in g.latches:
+        d_net = wanted_net[("d", latch.name)]
+        c_net = wanted_net[("control", latch.name)]
+        if c_net is None or c_net == "VCC":
+            raise UsageError(f"storage element {latch.name} has a constant clock or enable")
+        state = ctx.state_net[latch.name]
+        hold = names.fresh(f"{latch.name}_hold")
+        master = mhold = None
+        if latch.kind in ("re", "fe"):
+            master = names.fresh(f"{latch.name}_master")
+            mhold = names.fresh(f"{latch.name}_master_hold")
+            if latch.kind == "re":   # master transparent while the clock is 0, slave while it is 1
+                poles.append((master, c_net, mhold, d_net))
+                poles.append((state, c_net, master, hold))
+            else:
+                poles.append((master, c_net, d_net, mhold))
+                poles.append((state, c_net, hold, master))
+            poles.append((mhold, master, "VCC", None))
+        elif latch.kind == "ah":
+            poles.append((state, c_net, d_net, hold))
+        else:
+            poles.append((state, c_net, hold, d_net))
+        poles.append((hold, state, "VCC", None))
+        inv = latch.var in inverted
+        latches.append(RelayLatch(latch.name, latch.kind, d_net, c_net, 1 if inv else 0, state, hold,
+                                  master, mhold, inv))
+    per_coil = Counter(coil for _, coil, _, _ in poles)
+    relays = sum(-(-k // P) for k in per_coil.values())
+    return _Plan(poles, latches, output_nets, reamp, windows, single, stats, names, relays)
+
+
+# ---------------------------------------------------------------------------
 # the build
 def fit_relays(design: Netlist, target, effort: int = 1) -> Build:
     """Build ``design`` as relay contact networks on ``target``'s relays.
@@ -357,129 +523,34 @@ def fit_relays(design: Netlist, target, effort: int = 1) -> Build:
     latch_vars = {latch.var for latch in g.latches}
 
     leaves_all = list(g.inputs) + [latch.var for latch in g.latches]
-    single = len(leaves_all) <= WINDOW_LEAVES
-    if single:
+    ctx = _Context(g, want, inverted, inv_names, latch_vars, ctrl_poles, design_name, state_net,
+                   dict(net_of_var), P, effort)
+    need_and = sorted({lit >> 1 for _, _, lit in want if (lit >> 1) and g.is_and(lit >> 1)})
+    # windows cut at nets of many fan-outs: always possible, never far from the templates;
+    # small windows and smaller ones (close to gate by gate, with pass-through), the better kept
+    split = None
+    for limit in SPLIT_LEAVES:
+        p = _plan(ctx, _windows(g, need_and, limit), False, names.copy(),
+                  split.relays if split is not None else None)
+        if p is not None and (split is None or p.relays < split.relays):
+            split = p
+    best = split
+    if len(leaves_all) <= WINDOW_LEAVES:
+        # one window over every leaf: exact decision diagrams with sharing across outputs,
+        # abandoned as soon as it cannot beat the windowed plan
         need = sorted({lit >> 1 for _, _, lit in want if lit > 1})
-        windows = [_Window(list(leaves_all), _cone(g, need), [])]
-    else:
-        need = sorted({lit >> 1 for _, _, lit in want if (lit >> 1) and g.is_and(lit >> 1)})
-        windows = _windows(g, need, SPLIT_LEAVES)
-
-    poles: list = []          # (com, coil, no, nc) by net names
-    wanted_net: dict = {}     # (kind, name) -> net name, "VCC" or None (open)
-    reamp: list = []
-    stats: list = []
-    for w_index, win in enumerate(windows):
-        leaves, n = win.leaves, len(win.leaves)
-        full, val = _window_tables(g, leaves, win.nodes, inverted)
-        if single:
-            tlist = [(f"{kind}:{name}", _lit_table(val, lit, full), None) for kind, name, lit in want]
-        else:
-            tlist = [(f"var:{v}", val[v], None) for v in win.targets]
-        extra: dict = {}
-        for j, v in enumerate(leaves):
-            k = (1 if v in latch_vars else 0) + (0 if single else ctrl_poles.get(2 * v, 0))
-            if k:
-                extra[("leaf", j)] = k   # hold contacts (and clock poles in windows)
-        if single:
-            for latch in g.latches:
-                extra[("target", f"control:{latch.name}")] = ctrl_poles[latch.control]
-                if latch.kind in ("re", "fe"):
-                    extra[("relay", f"master:{latch.name}")] = 1
-        roots_for_order = [lit >> 1 for _, _, lit in want] if single else win.targets
-        res = synthesize(n, tlist, {v: val[v] for v in win.nodes}, P, extra=extra,
-                         order=_dfs_order(g, leaves, roots_for_order), effort=effort)
-        stats.append(res)
-        log.debug("window %d: %d leaves, cost %s, %d evaluations, %.2f s",
-                  w_index, n, res.cost, res.evaluations, res.seconds)
-        cs = res.synth
-        local: dict = {RAIL: "VCC"}
-        for j, v in enumerate(leaves):
-            local[cs.leaf(j)] = net_of_var[v]
-        preferred: dict = {}
-        if single:
-            for kind, name, lit in want:
-                r = res.roots[f"{kind}:{name}"]
-                if kind == "output" and r > n and r not in local and name not in local.values():
-                    local[r] = name  # the output's own net carries its name
-        for key, r in res.roots.items():
-            if key.startswith("var:") and r > n and int(key[4:]) in design_name:
-                preferred.setdefault(r, design_name[int(key[4:])])
-        for key, r in cs.cand_net.items():
-            if r > n and key in design_name:
-                preferred.setdefault(r, design_name[key])
-        for com, _, _, _ in res.poles:
-            if com not in local:
-                local[com] = names.fresh(preferred.get(com))
-        for com, var, no, nc in res.poles:
-            poles.append((local[com], local[var], None if no is None else local[no],
-                          None if nc is None else local[nc]))
-        for key, r in res.roots.items():
-            net = None if r == OPEN else local[r]
-            if single:
-                kind, name = key.split(":", 1)
-                wanted_net[(kind, name)] = net
-            else:
-                if net is None or net == "VCC":
-                    raise InternalError(f"window result {key} is a constant")
-                net_of_var[int(key[4:])] = net
-        reamp += [local[cs.cand_net[k]] for k in res.permitted
-                  if k in cs.cand_net and cs.cand_net[k] in local]
-
-    if not single:
-        # results in the polarity asked: a complemented one is a break contact on its net's relay
-        comp: dict = {}
-        for kind, name, lit in want:
-            v = lit >> 1
-            if v == 0:
-                wanted_net[(kind, name)] = "VCC" if lit & 1 else None
-                continue
-            net = net_of_var[v]
-            if (lit & 1) ^ (v in inverted):
-                if net not in comp:
-                    comp[net] = names.fresh(f"{net}_n")
-                    poles.append((comp[net], net, None, "VCC"))
-                net = comp[net]
-            wanted_net[(kind, name)] = net
-
-    output_nets = {}
-    for name, lit in g.outputs:
-        if lit in inv_names:
-            q = inv_names[lit]
-            if q not in output_nets.values():
-                poles.append((q, state_net[q], None, "VCC"))
-            output_nets[name] = q
-        else:
-            net = wanted_net[("output", name)]
-            output_nets[name] = "GND" if net is None else net
-
-    latches = []
-    for latch in g.latches:
-        d_net = wanted_net[("d", latch.name)]
-        c_net = wanted_net[("control", latch.name)]
-        if c_net is None or c_net == "VCC":
-            raise UsageError(f"storage element {latch.name} has a constant clock or enable")
-        state = state_net[latch.name]
-        hold = names.fresh(f"{latch.name}_hold")
-        master = mhold = None
-        if latch.kind in ("re", "fe"):
-            master = names.fresh(f"{latch.name}_master")
-            mhold = names.fresh(f"{latch.name}_master_hold")
-            if latch.kind == "re":   # master transparent while the clock is 0, slave while it is 1
-                poles.append((master, c_net, mhold, d_net))
-                poles.append((state, c_net, master, hold))
-            else:
-                poles.append((master, c_net, d_net, mhold))
-                poles.append((state, c_net, hold, master))
-            poles.append((mhold, master, "VCC", None))
-        elif latch.kind == "ah":
-            poles.append((state, c_net, d_net, hold))
-        else:
-            poles.append((state, c_net, hold, d_net))
-        poles.append((hold, state, "VCC", None))
-        inv = latch.var in inverted
-        latches.append(RelayLatch(latch.name, latch.kind, d_net, c_net, 1 if inv else 0, state, hold,
-                                  master, mhold, inv))
+        whole = _plan(ctx, [_Window(list(leaves_all), _cone(g, need), [])], True, names.copy(),
+                      split.relays)
+        if whole is not None and whole.relays <= split.relays:
+            best = whole
+    names = best.names
+    poles = list(best.poles)
+    latches = best.latches
+    output_nets = best.output_nets
+    reamp = best.reamp
+    windows = best.windows
+    single = best.single
+    stats = best.stats
 
     b = Build(design.name, target, list(design.inputs), list(design.outputs))
     b.output_nets = output_nets
@@ -494,7 +565,7 @@ def fit_relays(design: Netlist, target, effort: int = 1) -> Build:
     if reamp:
         b.notes.append(f"re-amplification points (nets with a coil of their own): {', '.join(reamp)}")
     if not single:
-        b.notes.append(f"the design was cut into {len(windows)} windows of at most {SPLIT_LEAVES} leaves")
+        b.notes.append(f"the design was cut into {len(windows)} windows at nets of many fan-outs")
     b.timing.update(relay_timing(b))
     b.timing.update(relay_supply(b))
     b.timing["synthesis"] = {
