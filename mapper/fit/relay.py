@@ -121,6 +121,8 @@ class RelayLatch:
     master: str | None = None
     master_hold: str | None = None
     inverted: bool = False
+    #: the design's initial value (0, 1, 2 don't care, 3 unknown)
+    design_init: int = 3
 
 
 # ---------------------------------------------------------------------------
@@ -466,7 +468,7 @@ def _plan(ctx: _Context, windows: list, single: bool, names, bound):
         poles.append((hold, state, "VCC", None))
         inv = latch.var in inverted
         latches.append(RelayLatch(latch.name, latch.kind, d_net, c_net, 1 if inv else 0, state, hold,
-                                  master, mhold, inv))
+                                  master, mhold, inv, latch.init))
     per_coil = Counter(coil for _, coil, _, _ in poles)
     relays = sum(-(-k // P) for k in per_coil.values())
     return _Plan(poles, latches, output_nets, reamp, windows, single, stats, names, relays)
@@ -543,7 +545,6 @@ def fit_relays(design: Netlist, target, effort: int = 1) -> Build:
                       split.relays)
         if whole is not None and whole.relays <= split.relays:
             best = whole
-    names = best.names
     poles = list(best.poles)
     latches = best.latches
     output_nets = best.output_nets
@@ -671,7 +672,8 @@ def _cautions(b: Build, target, loops: list) -> None:
     volts = t.get("coil_voltage_v")
     b.cautions.append(
         f"supply: {t['supply_current_a'] * 1000:.0f} mA at {volts:g} V with every coil energized "
-        f"({len(b.parts)} relay{'s' if len(b.parts) != 1 else ''}); use a supply rated above that with margin, and fuse it")
+        f"({len(b.parts)} relay{'s' if len(b.parts) != 1 else ''}); use a supply rated above that "
+        "with margin, and fuse it")
     ratings = sorted({target.parts[p.part_id].relay.contact_rating for p in b.parts})
     b.cautions.append(
         "contacts switching mains voltage: only as local electrical codes and licensed practice allow; "
@@ -685,12 +687,17 @@ def _cautions(b: Build, target, loops: list) -> None:
             "the diode across each coil lengthens its release time (figures in the timing assume "
             "so); a zener in series with the diode restores most of it")
     for lt in b.latches:
+        if lt.inverted:
+            start = ("must start at 1: its relay holds the complement, so with every relay released "
+                     "at power-up it starts at 1")
+        elif lt.design_init == 0:
+            start = "powers up at 0 (its relay released), as the design starts"
+        else:
+            start = ("powers up at 0 (its relay released); the design leaves the start open: add a "
+                     "power-on reset if another start matters")
         b.cautions.append(
-            f"{lt.net}: relay storage powers up released (0) "
-            + ("— built holding the complement so the design's initial 1 holds" if lt.inverted
-               else "; drive it from a power-on reset if another start matters")
-            + "; the clock or enable must stay long enough for the hold contact to close "
-            f"(≥ {t.get('per_level_s', 0) * 1000:.1f} ms)")
+            f"{lt.net}: {start}; hold the clock or enable in each state at least "
+            f"{t.get('per_level_s', 0) * 1000:.1f} ms so the hold contact closes")
     for net, amps in sorted(t.get("input_coil_current_a", {}).items()):
         b.cautions.append(f"input {net} carries {amps * 1000:.0f} mA of coil current when on")
     over = t.get("contact_overloads", [])
