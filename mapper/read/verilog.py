@@ -474,12 +474,15 @@ class _Elaborator:
                 else:
                     w[n] = sym.width
             elif op == "sel":
+                self.lookup(scope, n.val, n.at)
                 w[n] = 1
             elif op == "part":
+                self.lookup(scope, n.val, n.at)
                 a = self.const_int(scope, n.args[0], "index")
                 b = self.const_int(scope, n.args[1], "index")
                 w[n] = abs(a - b) + 1
             elif op in ("part+", "part-"):
+                self.lookup(scope, n.val, n.at)
                 k = self.const_int(scope, n.args[1], "width")
                 if k < 1:
                     self.fail(n.args[1].at, f"a part-select must be at least 1 bit wide, not {k}")
@@ -1142,11 +1145,15 @@ class _Elaborator:
                     ctrl = en_cache[key] = self.enable(v, blk.at, scope.hint)
                 kind = "ah"
                 d = self.latch_data(v, blk.at, scope.hint)
+            if ctrl >= 2:
+                ctrl = self.constant_cone(ctrl)
             if ctrl < 2:
-                # enabled always (or never): plain logic or a constant hold
-                if ctrl == (1 if kind == "ah" else 0):
+                if ctrl == (1 if kind == "ah" else 0):  # open on every path: plain logic
                     self.drive(slot, ("a", d), blk.at)
-                continue
+                    continue
+                # the conditions that assign it can never hold: a latch that never opens
+                self.warn(blk.at, f"'{self.name[slot]}' is assigned only under conditions that "
+                                  "never hold; it keeps its initial value")
             self.drive(slot, ("s", d, kind, ctrl, init), blk.at)
 
     def run_level(self, scope, st, env, reader, blocking):
@@ -1183,6 +1190,38 @@ class _Elaborator:
         bits = self.lower(scope, st.b, len(slots), reader=reader)
         for s, b in zip(slots, bits):
             env[s] = b
+
+    def constant_cone(self, b, limit=MAX_TABLE_INPUTS):
+        """``b`` itself, or 0/1 when the logic made for it here is constant over
+        its leaves (nets with a name, inputs, storage); at most ``limit`` leaves."""
+        inner, leaves, seen = [], [], {b}
+        stack = [b]
+        while stack:
+            s = stack.pop()
+            d = self.drv[s]
+            if s >= 2 and self.gen[s] and d is not None and d[0] == "l":
+                inner.append(s)
+                for f in d[1]:
+                    if f not in seen:
+                        seen.add(f)
+                        stack.append(f)
+            else:
+                leaves.append(s)
+                if len(leaves) > limit:
+                    return b
+        # a node made here is always numbered after its fan-ins: slot order is topological
+        order = sorted(inner)
+        k = len(leaves)
+        full = (1 << (1 << k)) - 1
+        val = {s: (full if s == 1 else 0) if s < 2 else var_mask(k, j) for j, s in enumerate(leaves)}
+        for s in order:
+            d = self.drv[s]
+            val[s] = d[2].eval_words([val[f] for f in d[1]], full)
+        if val[b] == 0:
+            return 0
+        if val[b] == full:
+            return 1
+        return b
 
     def enable(self, v, at, hint):
         """Bit that is 1 where the tree ``v`` assigns (reaches a non-HOLD leaf)."""

@@ -171,7 +171,7 @@ class _Skipped(Exception):
     """A construct outside the subset was reported and skipped whole."""
 
 
-class _Refused(Exception):
+class _Refused(_Syntax):
     """A construct outside the subset inside an expression was reported;
     the caller skips the whole item it is in."""
 
