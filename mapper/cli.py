@@ -140,6 +140,55 @@ def cmd_convert(args):
     return 0
 
 
+# -- build ----------------------------------------------------------------
+def _build_args(p):
+    p.add_argument("design")
+    p.add_argument("--target", "-t", required=True, metavar="T",
+                   help="target name (see `netfit targets`) or a target .xml file")
+    p.add_argument("-o", "--out", metavar="DIR", help="write the build's files into DIR")
+    p.add_argument("--effort", type=int, default=1, choices=(0, 1),
+                   help="0: one mapping pass; 1 (default): also search for fewer parts")
+    _add_read_args(p)
+    p.add_argument("--json", action="store_true", help="print the build summary as JSON")
+
+
+def _si(value, unit):
+    if value is None:
+        return "-"
+    for scale, prefix in ((1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p")):
+        if abs(value) >= scale or scale == 1e-12:
+            if value == 0:
+                return f"0 {unit}"
+            return f"{value / scale:.3g} {prefix}{unit}"
+    return f"{value} {unit}"
+
+
+@command("build", "fit a design onto a target with the fewest whole parts, proven equal to the design",
+         _build_args)
+def cmd_build(args):
+    from . import flow
+    b = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, **_read_options(args))
+    s = b.summary()
+    if args.json:
+        _print_json(s)
+        return 0
+    print(f"design  {s['design']}  on target {s['target']}   proof: {s['verified']}")
+    print(f"parts   {s['parts_total']}  (" + ", ".join(f"{k} ×{v}" for k, v in s["parts"].items()) + ")")
+    print(f"cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
+    print(f"slots   {s['slots_used']} used of {s['slots_available']}  ({s['spare_slots']} spare)")
+    if s["support_parts"]:
+        print("support " + ", ".join(f"{k} ×{v}" for k, v in s["support_parts"].items()))
+    print(f"delay   {_si(s['delay_s'], 's')} worst path (maximum figures)")
+    if "supply_current_a" in s:
+        print(f"supply  {_si(s['supply_current_a'], 'A')} worst case")
+    print(f"cost    {s['cost']:.2f} {s['currency']}")
+    for c in s["cautions"]:
+        print(f"caution: {c}")
+    if args.out:
+        print(f"wrote   {args.out}")
+    return 0
+
+
 # -- targets --------------------------------------------------------------
 def _targets_args(p):
     p.add_argument("name", nargs="?", metavar="TARGET",

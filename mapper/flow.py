@@ -11,7 +11,8 @@ from pathlib import Path
 from .read import read_design
 from .write import writer_for
 
-__all__ = ["inspect", "verify", "convert", "targets", "target_info"]
+__all__ = ["inspect", "verify", "convert", "load_target", "targets", "target_info", "fit", "build",
+           "write_build"]
 
 log = logging.getLogger(__name__)
 
@@ -69,6 +70,12 @@ def convert(src, dst, **read_options) -> dict:
             "storage": len(n.storage()), "nodes": len(n.nodes) - len(n.inputs)}
 
 
+def load_target(name_or_path):
+    """A built-in target by name, or a user's target file."""
+    from .fit.target import load_target as _load
+    return _load(name_or_path)
+
+
 def targets() -> list:
     """The built-in targets: a list of ``{"name", "description", "path"}``."""
     from .fit.target import builtin_targets
@@ -81,3 +88,84 @@ def target_info(name_or_path) -> dict:
     """Everything about one target (built-in name or path): cells, parts, defaults, data sources."""
     from .fit.target import describe_target, load_target as _load
     return describe_target(_load(name_or_path))
+
+
+def fit(design, target, effort: int = 1, keep=()):
+    """Map a read design onto a loaded target and prove the build; returns the Build.
+
+    A build that fails its proof is a bug of ours (:class:`InternalError`,
+    exit 3), never a result.
+    """
+    from .analyze.timing import static_timing
+    from .errors import InternalError
+    from .verify import check_equivalence
+
+    if getattr(target, "kind", "gates") == "relay":
+        from .fit.relay import fit_relays
+        build = fit_relays(design, target, effort=effort)
+    else:
+        from .fit.fit import fit_gates
+        build = fit_gates(design, target, effort=effort, keep=keep)
+    if getattr(target, "kind", "gates") != "relay":
+        # relay builds carry their own timing and supply figures (mapper.analyze.relay_timing)
+        build.timing.update(static_timing(build))
+        _supply(build)
+    result = check_equivalence(design, build.to_netlist(), hints=build.hints())
+    if not result.equivalent:
+        raise InternalError(
+            f"the build of {design.name} on {target.name} does not do the same logic as the design "
+            f"({result.method}; counterexample {result.counterexample}) — this is a bug in netfit")
+    build.verified = "proved"
+    build.notes.extend(result.notes)
+    return build
+
+
+def _supply(build) -> None:
+    """Supply current: quiescent per part plus per active unit (worst case: every unit active)."""
+    worst = typ = 0.0
+    for p in build.parts:
+        pd = build.target.parts[p.part_id]
+        q = pd.current_quiescent.value if pd.current_quiescent is not None else 0.0
+        u = pd.current_per_unit.value if pd.current_per_unit is not None else 0.0
+        used = sum(1 for c in build.cells if c.part_ref == p.ref) + sum(
+            1 for k in build.contacts if k.part_ref == p.ref)
+        if pd.relay is not None:
+            coil = pd.relay.coil_current.value
+            worst += coil
+            typ += coil / 2
+        else:
+            worst += q + u * used
+            typ += q + u * used / 2
+    build.timing["supply_current_a"] = round(worst, 9)
+    build.timing["supply_current_typ_a"] = round(typ, 9)
+
+
+def build(path, target_name, out_dir=None, effort: int = 1, **read_options):
+    """``netfit build``: read, fit, prove, and write the build's files when ``out_dir`` is given."""
+    design = read_design(path, **read_options)
+    target = load_target(target_name)
+    b = fit(design, target, effort=effort)
+    if out_dir is not None:
+        write_build(b, out_dir, protect=(path,))
+    return b
+
+
+def write_build(b, out_dir, protect=()) -> list:
+    """Write every build output the writers offer into ``out_dir``; returns the paths."""
+    import importlib
+
+    out = Path(out_dir)
+    written = []
+    for suffix, modname in (("blif", "mapper.write.blif"), ("json", "mapper.write.json"),
+                            ("v", "mapper.write.verilog")):
+        try:
+            mod = importlib.import_module(modname)
+        except ModuleNotFoundError:
+            continue
+        fn = getattr(mod, "write_build", None)
+        if fn is None:
+            continue
+        p = out / f"{b.design}.{suffix}"
+        fn(b, p, protect=protect)
+        written.append(p)
+    return written

@@ -74,7 +74,8 @@ def reduce_support(leaves: tuple, table: int):
     return tuple(leaves[j] for j in keep), new
 
 
-def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after=None, cuts=None):
+def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after=None, cuts=None,
+                   boundary=frozenset()):
     """Priority cuts of every AND node.
 
     Parameters
@@ -96,6 +97,10 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
         matches the node there, so that ``cost`` of later nodes can read it).
     cuts : dict or None
         The dictionary to fill (lets ``after`` read it while it grows).
+    boundary : set of int
+        Variables no cut may reach through: their parents see only their
+        trivial cut, so each stays a signal of its own in any cover (used
+        to keep hazard-covering terms that a functional match would drop).
 
     Returns
     -------
@@ -116,8 +121,8 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
             continue
         a, b = f0[v], f1[v]
         va, vb = a >> 1, b >> 1
-        ca = cuts.get(va) or [((va,), 0b10)]
-        cb = cuts.get(vb) or [((vb,), 0b10)]
+        ca = [((va,), 0b10)] if va in boundary else (cuts.get(va) or [((va,), 0b10)])
+        cb = [((vb,), 0b10)] if vb in boundary else (cuts.get(vb) or [((vb,), 0b10)])
         seen = {}
         for la, ta in ca:
             for lb, tb in cb:

@@ -52,8 +52,12 @@ def _score(build):
     return (len(build.parts), build.timing.get("levels", 0), len(build.cells))
 
 
-def fit_gates(design: Netlist, target, effort: int = 1, progress=None) -> "Build":
-    """The build with the fewest whole parts found for ``design`` on ``target``."""
+def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
+    """The build with the fewest whole parts found for ``design`` on ``target``.
+
+    ``keep`` names design nets that must stay signals of their own (see
+    :func:`mapper.fit.gates.map_logic`).
+    """
     storage_cells = _storage_cells(target)
     best = None
     tried = []
@@ -68,36 +72,70 @@ def fit_gates(design: Netlist, target, effort: int = 1, progress=None) -> "Build
         return b
 
     lib = _library(target)
-    m = map_logic(design, lib)
+    m = map_logic(design, lib, keep=keep)
     consider(m, "all cells", target)
     # re-map the mapped logic: a second subject graph built from the first cover
     if effort > 0:
         for _ in range(2):
-            again = map_logic(mapping_netlist(design, m, target), lib)
+            again = map_logic(mapping_netlist(design, m, target), lib, keep=keep)
             if again.area < m.area - 1e-9:
                 m = again
                 consider(m, "re-mapped", target)
             else:
                 break
-    # drop a part type and see whether the others absorb its work
+    # seeds from a single complete cell type (NAND2 or NOR2), alone and with
+    # each other type: one kind of part packs best, and its mapping is exact
     if effort > 0 and len(lib.cells) > 1:
-        for cell in sorted(set(best.cell_counts())):
-            if cell not in lib.cells or cell in storage_cells.values():
-                continue
-            try:
-                sub = _library(target, frozenset({cell}))
-            except ValueError:
-                continue
-            if sub.inverter() is None:
-                continue
-            try:
-                m2 = map_logic(design, sub)
-            except RuntimeError:
-                continue
-            consider(m2, f"without {cell}", target)
+        for base in _complete_cells(lib):
+            others = [c for c in lib.cells if c != base]
+            for extra in [None] + others:
+                keep_cells = {base} if extra is None else {base, extra}
+                trial = frozenset(c for c in lib.cells if c not in keep_cells)
+                try:
+                    sub = _library(target, trial)
+                    m2 = map_logic(design, sub, keep=keep)
+                except (ValueError, RuntimeError):
+                    continue
+                consider(m2, "only " + "+".join(sorted(keep_cells)), target)
+    # drop part types one at a time (greedy descent over cell subsets):
+    # fewer kinds of part often means fewer parts, since spare slots pool
+    if effort > 0 and len(lib.cells) > 1:
+        excluded: frozenset = frozenset()
+        for _ in range(8):
+            step = None
+            for cell in sorted(set(best.cell_counts())):
+                if cell not in lib.cells or cell in excluded:
+                    continue
+                trial = excluded | {cell}
+                try:
+                    sub = _library(target, trial)
+                except ValueError:
+                    continue
+                if sub.inverter() is None:
+                    continue
+                try:
+                    m2 = map_logic(design, sub, keep=keep)
+                except RuntimeError:
+                    continue
+                before = _score(best)
+                b2 = consider(m2, "without " + "+".join(sorted(trial)), target)
+                if _score(b2) < before:
+                    step = trial
+            if step is None:
+                break
+            excluded = step
     log.info("tried: %s", ", ".join(f"{l}: {n} parts" for l, n in tried))
     best.notes.append("part search: " + "; ".join(f"{l} {n}" for l, n in tried))
     return best
+
+
+def _complete_cells(lib) -> list:
+    """2-input cells that can build any function alone (NAND2, NOR2)."""
+    out = []
+    for name, cd in lib.cells.items():
+        if cd.function.n == 2 and cd.function.table() in (0b0111, 0b0001):
+            out.append(name)
+    return sorted(out)
 
 
 def _storage_cells(target) -> dict:

@@ -71,19 +71,23 @@ class _Choice:
 
 
 def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
-              area_passes: int = 3, seed_names: bool = True) -> Mapping:
+              area_passes: int = 3, seed_names: bool = True, keep=()) -> Mapping:
     """Map the combinational logic of ``design`` onto the cells of ``lib``.
 
     Storage elements stay as they are: their outputs are free inputs of the
-    mapped logic and their data/control nets are extra roots.
+    mapped logic and their data/control nets are extra roots.  Nets named
+    in ``keep`` stay signals of their own in the cover (no cut spans them),
+    so logic that is functionally redundant there -- a consensus term added
+    against a hazard -- survives mapping.
     """
     aig, litmap = from_netlist(design)
+    boundary = frozenset(litmap[n] >> 1 for n in keep if n in litmap and litmap[n] > 1)
     roots = [lit for _, lit in aig.outputs]
     for latch in aig.latches:
         roots.append(latch.next)
         if latch.control is not None:
             roots.append(latch.control)
-    mapper = _Mapper(aig, lib, k, cuts_per_node)
+    mapper = _Mapper(aig, lib, k, cuts_per_node, boundary)
     mapper.run(roots, area_passes)
     names = {}
     if seed_names:
@@ -94,8 +98,9 @@ def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
 
 
 class _Mapper:
-    def __init__(self, aig: AIG, lib: CellLibrary, k: int, limit: int):
+    def __init__(self, aig: AIG, lib: CellLibrary, k: int, limit: int, boundary=frozenset()):
         self.aig = aig
+        self.boundary = boundary
         self.lib = lib
         self.k = k
         self.limit = limit
@@ -178,7 +183,8 @@ class _Mapper:
         cone = aig.cone(roots)
         self.mode = "delay"
         self.cuts = {}
-        enumerate_cuts(aig, self.k, self.limit, cost=self._cut_cost, after=self._after, cuts=self.cuts)
+        enumerate_cuts(aig, self.k, self.limit, cost=self._cut_cost, after=self._after, cuts=self.cuts,
+                       boundary=self.boundary)
         self.roots = roots
         self.mode = "area"
         for _ in range(area_passes):

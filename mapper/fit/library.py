@@ -23,15 +23,23 @@ a package when they share that net, which a per-cut match cannot know.
 """
 from __future__ import annotations
 
+import hashlib
 import logging
+import os
+import pickle
+import tempfile
 from dataclasses import dataclass
+from pathlib import Path
 from functools import lru_cache
+from itertools import combinations_with_replacement
 
 from ..logic.function import var_mask
 
 __all__ = ["Impl", "CellLibrary", "GND", "VCC"]
 
 log = logging.getLogger(__name__)
+
+_CACHE_VERSION = 1
 
 #: signal numbers of the rails inside an :class:`Impl`
 GND = -1
@@ -113,8 +121,32 @@ class CellLibrary:
             return _exact_impl(self.exact_gate[0], self.exact_gate[1], n, table, self.costs[self.exact_gate[0]])
         lib = self._tables.get(n)
         if lib is None:
-            lib = self._tables[n] = self._enumerate(n)
+            lib = self._tables[n] = self._cached(n)
         return lib.get(table)
+
+    def _cached(self, n: int) -> dict:
+        """The supergate table over ``n`` leaves, from the on-disk cache when
+        an identical set of cells and costs was enumerated before."""
+        key = hashlib.sha256(repr((_CACHE_VERSION, n, sorted(
+            (name, cd.function.n, cd.function.table(), self.costs[name])
+            for name, cd in self.cells.items()))).encode()).hexdigest()[:24]
+        folder = Path(os.environ.get("NETFIT_CACHE") or Path.home() / ".cache" / "netfit")
+        path = folder / f"match-{key}.pickle"
+        try:
+            with open(path, "rb") as fh:
+                return pickle.load(fh)
+        except (OSError, pickle.PickleError, EOFError, AttributeError, ValueError):
+            pass
+        table = self._enumerate(n)
+        try:
+            folder.mkdir(parents=True, exist_ok=True)
+            fd, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
+            with os.fdopen(fd, "wb") as fh:
+                pickle.dump(table, fh, protocol=pickle.HIGHEST_PROTOCOL)
+            os.replace(tmp, path)
+        except OSError as exc:  # a read-only home is no reason to fail
+            log.debug("match table cache not written: %s", exc)
+        return table
 
     def inverter(self) -> Impl:
         """Cheapest inverter of leaf 0."""
@@ -125,11 +157,17 @@ class CellLibrary:
         changed = False
         same = pool_a is pool_b
         for name, ctab, c in two:
+            # the four minterm masks of the 2-input cell, as all-ones or zero
+            m0, m1, m2, m3 = (full if (ctab >> m) & 1 else 0 for m in range(4))
+            get = best.get
             for i, (ta, ia) in enumerate(pool_a):
+                na = ~ta & full
+                base = ia.cost + c
                 for tb, ib in (pool_b[i:] if same else pool_b):
-                    t = _apply(ctab, 2, (ta, tb), full)
-                    old = best.get(t)
-                    if old is not None and old.cost <= ia.cost + ib.cost + c:
+                    nb = ~tb & full
+                    t = (m0 & na & nb) | (m1 & ta & nb) | (m2 & na & tb) | (m3 & ta & tb)
+                    old = get(t)
+                    if old is not None and old.cost <= base + ib.cost:
                         continue
                     changed |= offer(t, _compose(name, c, n, ia, ib))
         return changed
@@ -155,8 +193,12 @@ class CellLibrary:
         sigs = list(base.items())
         for name, cd in cells:
             a = cd.function.n
+            if a > 4:
+                continue  # wider cells over at most four leaves only repeat inputs
             ctab = cd.function.table()
-            for combo in _tuples(len(sigs), a):
+            combos = (combinations_with_replacement(range(len(sigs)), a) if _symmetric_table(ctab, a)
+                      else _tuples(len(sigs), a))
+            for combo in combos:
                 tabs = [sigs[i][0] for i in combo]
                 t = _apply(ctab, a, tabs, full)
                 args = tuple(sigs[i][1].out for i in combo)
@@ -219,6 +261,16 @@ def _remap(impl: Impl, n_from: int, positions, n_to: int) -> Impl:
 
     return Impl(impl.cost, impl.depth,
                 tuple((c, tuple(s(a) for a in args)) for c, args in impl.gates), s(impl.out))
+
+
+def _symmetric_table(t: int, n: int) -> bool:
+    from .cuts import expand_table
+    for j in range(n - 1):
+        perm = list(range(n))
+        perm[j], perm[j + 1] = perm[j + 1], perm[j]
+        if expand_table(t, tuple(perm), n) != t:
+            return False
+    return True
 
 
 def _tuples(m: int, a: int):

@@ -20,7 +20,7 @@ from __future__ import annotations
 import logging
 from collections import Counter, defaultdict
 from functools import lru_cache
-from itertools import product
+from itertools import combinations_with_replacement, product
 
 from ..build import Build, CellInstance, PartInstance, SupportInstance, Tie
 from ..errors import UsageError
@@ -62,16 +62,25 @@ def _embeddings(_tid, key):
                 continue
             b = hd.function.n
             choices = list(range(a)) + ["GND", "VCC"]
-            if len(choices) ** b > 200_000:
-                continue
             htab = hd.function.table()
-            for assign in product(choices, repeat=b):
+            if _symmetric(htab, b):
+                tries = combinations_with_replacement(choices, b)
+            elif len(choices) ** b <= 50_000:
+                tries = product(choices, repeat=b)
+            else:
+                continue
+            for assign in tries:
                 if not all(i in assign for i in range(a)):
                     continue
                 if _composed(htab, b, assign, a) == want:
                     out[name].append((host, assign))
                     break
     return dict(out)
+
+
+def _symmetric(t: int, n: int) -> bool:
+    from .library import _symmetric_table
+    return _symmetric_table(t, n)
 
 
 def _composed(htab: int, b: int, assign, a: int) -> int:
@@ -216,8 +225,7 @@ def add_support(build: Build) -> None:
     counters: Counter = Counter()
     for rule in getattr(build.target, "support_rules", []) or []:
         per = rule.per
-        pd = build.target.parts[rule.part_id]
-        prefix = {"support": "C"}.get(pd.kind, "C")
+        pd = build.target.parts[rule.part]
         prefix = _ref_prefix(pd)
         if per == "chip":
             for p in build.parts:
