@@ -13,7 +13,9 @@ written from scratch.  This prints, per design, what each way costs:
 * ``check``        -- Netlist.check() of the result;
 * ``peak MiB``     -- peak Python memory of our read (tracemalloc).
 
-and, once, the import time of each in a fresh interpreter.  Designs: random
+and, once, the import time of each in a fresh interpreter.  All times are CPU
+seconds of the process (``time.process_time``), so other work on a shared
+machine does not inflate them much.  Designs: random
 gate-level Verilog of our own (primitives and assigns mixed) at about 10k and
 100k gates, and ariths-gen array multipliers as flat and hierarchical Verilog.
 
@@ -64,7 +66,7 @@ def random_design(gates: int, path: Path, seed: int = 1) -> Path:
 def import_time(stmt: str, before: str = "pass") -> float:
     """Seconds to run ``stmt`` (an import) in a fresh interpreter after ``before``
     (best of 3), with a bytecode cache as an installed package has one."""
-    code = f"{before}; import time; t = time.perf_counter(); {stmt}; print(time.perf_counter() - t)"
+    code = f"{before}; import time; t = time.process_time(); {stmt}; print(time.process_time() - t)"
     env = dict(os.environ)
     env.pop("PYTHONDONTWRITEBYTECODE", None)
     env["PYTHONPYCACHEPREFIX"] = str(Path(tempfile.gettempdir()) / "netfit-bench-pycache")
@@ -82,9 +84,9 @@ def slang_times(path: Path):
         import pyslang
     except ImportError:
         return None, None
-    t0 = time.perf_counter()
+    t0 = time.process_time()
     tree = pyslang.syntax.SyntaxTree.fromFile(str(path))
-    t1 = time.perf_counter()
+    t1 = time.process_time()
     sm = tree.sourceManager
     Token = pyslang.parsing.Token
     sink = []
@@ -103,7 +105,7 @@ def slang_times(path: Path):
     finally:
         if was:
             gc.enable()
-    t2 = time.perf_counter()
+    t2 = time.process_time()
     return t1 - t0, t2 - t1
 
 
@@ -112,18 +114,18 @@ def measure(path: Path) -> dict:
     gc.disable()
     try:
         diags: list = []
-        t0 = time.perf_counter()
+        t0 = time.process_time()
         toks = verilog_lex.lex_file(path, diags)
-        t1 = time.perf_counter()
+        t1 = time.process_time()
         verilog_parse.parse(toks, diags)
-        t2 = time.perf_counter()
+        t2 = time.process_time()
     finally:
         gc.enable()
-    t3 = time.perf_counter()
+    t3 = time.process_time()
     n = read(path)
-    t4 = time.perf_counter()
+    t4 = time.process_time()
     n.check()
-    t5 = time.perf_counter()
+    t5 = time.process_time()
     tracemalloc.start()
     read(path)
     peak = tracemalloc.get_traced_memory()[1]
@@ -171,7 +173,7 @@ def main(argv=None) -> int:
             else:
                 cells.append(f"{v:>12.2f}")
         print(f"{name:<24}" + "".join(cells))
-    print("times in seconds; 'read' includes lex and parse")
+    print("CPU seconds; 'read' includes lex and parse")
     return 0
 
 

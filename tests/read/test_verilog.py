@@ -354,6 +354,22 @@ def test_hierarchy_is_flattened_with_instance_paths():
     assert "m1/t" in n.nodes or "m2/t" in n.nodes
 
 
+def test_port_connections_with_expressions_and_concatenations():
+    # IEEE 1364-2005 12.3.9: a port connection acts as a continuous assignment (input: port =
+    # expression; output: expression = port), concatenations joining bits most significant first
+    n, v, P = _sim("port_expressions.v")
+    for k in range(P):
+        x = {nm: bit(k, j) for j, nm in enumerate(n.inputs)}
+        a, b = x["a"], x["b"]
+        vv = [x[f"v[{i}]"] for i in range(4)]
+        inv = a ^ b
+        want = {"y[1]": a, "y[0]": b, "z": a | b,
+                "w[3]": (vv[2] & vv[0]) ^ inv, "w[2]": (vv[3] & vv[1]) ^ inv,
+                "w[1]": 1 - vv[0], "w[0]": 1 - vv[1]}
+        for o, val in want.items():
+            assert bit(v[o], k) == val, (o, x)
+
+
 def test_choosing_the_top(netfit):
     path = INVALID / "several_tops.v"
     n = read(path, top="second")
