@@ -42,7 +42,11 @@ What is read
   ``@(en, d)`` with ``if (en) q = d;`` → a latch of kind ``ah`` controlled by
   ``en`` (``al`` for ``if (!en)`` or ``if (~en)``); nested conditions give a
   latch whose enable is the logic of the paths that assign it.  A level-
-  sensitive block that assigns a bit on every path is plain logic.  Every
+  sensitive block that assigns a bit on every path is plain logic; paths
+  whose conditions cannot hold do not count (an enable that is always true
+  over the inputs of its conditions is folded away, and a bit assigned only
+  under conditions that never hold stays a latch that never opens, with a
+  warning).  Every
   net such a block reads must be in its event list (or the list is ``*``);
   reading a reg that the same block assigns, before it is assigned on all
   paths, is refused (it would be a loop through the block).  A ``reg``
@@ -61,12 +65,18 @@ What is read
   created where the standard creates them (a gate terminal, a port
   connection, the left side of ``assign``) unless `` `default_nettype none ``.
 
+A net has one driver: a net driven twice (two gates, an instance output and
+an ``assign`` …) is an error naming it and both lines; wired logic is
+outside the subset.
+
 Everything else — ``initial`` blocks, tasks, functions, loops, ``case``,
 ``generate``, ``inout``, tristate and switch primitives, ``x``/``z`` values,
 ``signed``, memories, hierarchical names, system tasks, ``assign`` to a reg
 — gives ``file:line:col: error: … is outside the structural subset`` at the
 construct's first token; the reader skips it and goes on, so one run lists
-every such place.  Nothing is dropped silently.
+every such place (a plain syntax error ends only its module).  Errors are
+reported in the order of the text, each once, at most 50.  Nothing is
+dropped silently.
 
 Names
 -----
@@ -1733,6 +1743,8 @@ def _elaborate(modules, diags, file, top):
         netlist = None
     if netlist is None or any(d.severity == "error" for d in diags):
         _raise(diags)
+    log.debug("%s: top '%s', %d inputs, %d outputs, %d nets", file, netlist.name,
+              len(netlist.inputs), len(netlist.outputs), len(netlist.nodes))
     return netlist
 
 
