@@ -836,3 +836,25 @@ def test_unconnected_output_is_fine_and_width_mismatch_warns():
     for k in range(4):
         assert sum(bit(v[f"y[{i}]"], k) << i for i in range(4)) == (~k) & 15  # x widened with zeros
     assert any("is 4 bit(s) wide but is connected to 2 bit(s)" in w.message for w in n.warnings)
+
+
+@pytest.mark.parametrize("gate", ["and", "nand", "or", "nor", "xor", "xnor"])
+def test_primitives_wider_than_a_table(gate):
+    # 20 inputs: more than a truth table may hold, so the reader builds a tree; the textbook
+    # meaning of an n-input gate (common practice) at 2000 random input patterns
+    names = ", ".join(f"a[{i}]" for i in range(20))
+    n = read_text(f"module w(input [19:0] a, output y);\n  {gate} g ({'y'}, {names});\nendmodule\n")
+    n.check()
+    assert max(node.func.n for node in n.logic().values()) <= 16
+    rng = random.Random(gate)
+    pats = [rng.getrandbits(20) for _ in range(2000)]
+    pats += [0, (1 << 20) - 1]
+    words, mask = words_for([{f"a[{i}]": (p >> i) & 1 for i in range(20)} for p in pats], n.inputs)
+    v = simulate(n, words, mask)
+    for k, p in enumerate(pats):
+        base = {"and": "and", "nand": "and", "or": "or", "nor": "or", "xor": "xor", "xnor": "xor"}[gate]
+        val = {"and": p == (1 << 20) - 1, "or": p != 0, "xor": bin(p).count("1") & 1}[base]
+        if gate in ("nand", "nor", "xnor"):
+            val = not val
+        assert bit(v["y"], k) == int(val), (gate, p)
+
