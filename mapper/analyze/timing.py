@@ -1,96 +1,469 @@
 """Static timing of a build from the catalog's propagation delays.
 
-Arrival times run from the primary inputs and storage outputs (time 0)
-through every cell, adding the delay of the part its slot sits in, to the
-outputs and the data inputs of storage cells.  Both the typical and the
-maximum catalog figures are propagated; the worst path uses maximum delays.
-Iterative over a topological order of the cells, never recursive.
+What it computes
+----------------
+Arrival times run from the primary inputs (time 0) and from the outputs of
+storage cells (their clock arrival plus the catalog's clock-to-output delay)
+through every logic cell, adding the delay of the part its slot sits in, to
+the outputs and to the data inputs of storage cells.  Four arrivals are
+propagated for every net:
+
+* latest with maximum figures -- the worst path (``delay_s``);
+* latest with typical figures (``delay_typ_s``);
+* earliest with minimum figures -- the best path (the catalogs give typical
+  and maximum delays only, so the minimum is taken to be the typical figure);
+* earliest with maximum figures.
+
+Each output gets its worst and best path, listed part by part with package
+pins (:meth:`mapper.build.Build.pin_of`), and the build's critical path is
+the worst of all of them.
+
+Loads.  The catalog figures hold for the load their ``conditions`` name (15
+or 50 pF).  Where a part lists a rating ``delay-per-unit-load`` (seconds per
+unit load on its output) that term is added for the net's fan-out load,
+counted from the ``input_load`` of the parts the net feeds; the built-in
+catalogs give no such rating, so their figures are used as they stand.  A
+net loaded beyond its driver's ``output_drive`` is listed in
+``overloaded`` either way.
+
+Storage.  For a sequential build the highest safe clock rate comes from the
+storage-to-storage paths (static timing analysis as in every digital-design
+textbook; the setup relation below is common practice):
+
+    T >= launch clock arrival (max) + clock-to-output (max) + logic (max)
+         + setup of the capturing cell - capture clock arrival (min)
+
+and the hold slack from the same paths with minimum figures.  Setup and hold
+times come from part ratings ``setup-time`` / ``hold-time`` when the catalog
+gives them (the built-in catalogs do not; then they count as 0 and a note
+says so).  Clocks are traced back through inverters to their source: a path
+launched on one edge and captured on the other has half a period (a 50 %
+duty cycle is assumed).  Transparent latches are timed like flip-flops
+clocked at their enable's opening edge (no time borrowing), which is
+conservative.
+
+Relay builds have contacts, not cells; their timing (operate and release
+times) comes from :mod:`mapper.analyze.relay_timing` and this module returns
+nothing for them.
+
+Everything is iterative over a topological order of the cells.
 """
 from __future__ import annotations
 
 import logging
 
-__all__ = ["static_timing", "cell_delay"]
+__all__ = ["static_timing", "cell_delay", "net_loads", "LOAD_RATING", "SETUP_RATING", "HOLD_RATING"]
 
 log = logging.getLogger(__name__)
 
+#: part rating (seconds per unit load on the output) that makes delay depend on load
+LOAD_RATING = "delay-per-unit-load"
+#: part ratings read for storage cells
+SETUP_RATING = "setup-time"
+HOLD_RATING = "hold-time"
 
-def cell_delay(build, cell) -> tuple[float, float]:
-    """(typical, maximum) delay in seconds of one placed cell; 0 when the
-    catalog gives none."""
+_RAILS = ("VCC", "GND")
+_EDGE = {"re": "rise", "ah": "rise", "fe": "fall", "al": "fall"}
+_CLOCK_ROLES = ("clock", "enable")
+
+
+def cell_delay(build, cell, load_ul: float = 0.0) -> tuple[float, float]:
+    """(typical, maximum) delay in seconds of one placed cell.
+
+    Zero when the catalog gives no figure.  ``load_ul`` (unit loads on the
+    cell's output) adds ``load_ul`` times the part's ``delay-per-unit-load``
+    rating when the catalog has one.
+    """
     pd = build.part_def(cell.part_ref)
     typ = pd.delay_typ.get(cell.cell) if pd.delay_typ else None
     mx = pd.delay_max.get(cell.cell) if pd.delay_max else None
     t = typ.value if typ is not None else 0.0
     m = mx.value if mx is not None else t
-    return t, max(m, t)
+    m = max(m, t)
+    rate = getattr(pd, "ratings", {}).get(LOAD_RATING)
+    if rate is not None and load_ul > 0:
+        t += rate.value * load_ul
+        m += rate.value * load_ul
+    return t, m
+
+
+def net_loads(build) -> dict:
+    """net -> fan-out load in unit loads (sum of ``input_load`` over the cell inputs it feeds)."""
+    target = build.target
+    loads: dict = {}
+    for c in build.cells:
+        pd = build.part_def(c.part_ref)
+        per = pd.input_load.value if pd.input_load is not None else 0.0
+        for p in target.cells[c.cell].inputs:
+            net = c.pins.get(p)
+            if net is not None and net not in _RAILS:
+                loads[net] = loads.get(net, 0.0) + per
+    return loads
+
+
+class _Graph:
+    """The cells of a build as a timing graph (one arc per used input pin)."""
+
+    def __init__(self, build):
+        self.build = build
+        target = build.target
+        self.comb = []       # logic cells in topological order
+        self.storage = []    # storage cells
+        self.driver = {}     # net -> logic cell driving it
+        self.sdriver = {}    # net -> (storage cell, output pin)
+        for c in build.cells:
+            cd = target.cells[c.cell]
+            if cd.storage is None:
+                self.driver[c.pins[cd.output]] = c
+            else:
+                self.storage.append(c)
+                for o in (cd.output,) + tuple(cd.extra_outputs):
+                    if c.pins.get(o):
+                        self.sdriver[c.pins[o]] = (c, o)
+        indeg, users = {}, {}
+        for c in build.cells:
+            cd = target.cells[c.cell]
+            if cd.storage is not None:
+                continue
+            deps = {c.pins[p] for p in cd.inputs if c.pins.get(p) in self.driver}
+            indeg[id(c)] = len(deps)
+            for d in deps:
+                users.setdefault(d, []).append(c)
+        ready = [c for c in build.cells if target.cells[c.cell].storage is None and indeg[id(c)] == 0]
+        ready.reverse()
+        while ready:
+            c = ready.pop()
+            self.comb.append(c)
+            for u in users.get(c.pins[target.cells[c.cell].output], ()):
+                indeg[id(u)] -= 1
+                if indeg[id(u)] == 0:
+                    ready.append(u)
+        if len(self.comb) != len(indeg):
+            log.warning("the build's logic cells form a loop; %d cells left out of the timing",
+                        len(indeg) - len(self.comb))
+        loads = net_loads(build)
+        self.loads = loads
+        self.delay = {}
+        for c in build.cells:
+            cd = target.cells[c.cell]
+            self.delay[id(c)] = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0))
+
+
+def _propagate(g: _Graph, starts: dict, pick_late: bool, use_max: bool):
+    """Arrival per net from ``starts`` (net -> time) through the logic cells.
+
+    Returns ``(arrival, prev)`` with ``prev[net] = (input pin, input net, cell)``
+    of the arc that set the arrival.  Rails never arrive.
+    """
+    target = g.build.target
+    arr = dict(starts)
+    prev: dict = {}
+    k = 1 if use_max else 0
+    for c in g.comb:
+        cd = target.cells[c.cell]
+        best = None
+        for p in cd.inputs:
+            n = c.pins.get(p)
+            if n is None or n in _RAILS or n not in arr:
+                continue
+            if best is None or (arr[n] > arr[best[1]] if pick_late else arr[n] < arr[best[1]]):
+                best = (p, n)
+        if best is None:
+            continue  # a cell fed from rails only: a constant
+        out = c.pins[cd.output]
+        arr[out] = arr[best[1]] + g.delay[id(c)][k]
+        prev[out] = (best[0], best[1], c)
+    return arr, prev
+
+
+def _path(g: _Graph, prev: dict, end: str, arrivals: list) -> list:
+    """The arcs from a start point to ``end``, first to last, with pins and arrivals."""
+    b = g.build
+    target = b.target
+    hops = []
+    n = end
+    seen = set()
+    while n in prev and n not in seen:
+        seen.add(n)
+        pin, n_in, c = prev[n]
+        cd = target.cells[c.cell]
+        t, m = g.delay[id(c)]
+        hop = {
+            "cell": c.cell, "part": c.part_ref, "part_id": b.part(c.part_ref).part_id, "slot": c.slot,
+            "from_pin": pin, "from_pin_number": b.pin_of(c, pin),
+            "to_pin": cd.output, "to_pin_number": b.pin_of(c, cd.output),
+            "net_in": n_in, "net": n, "delay_s": m, "delay_typ_s": t,
+        }
+        for key, arr in arrivals:
+            hop[key] = arr.get(n)
+        hops.append(hop)
+        n = n_in
+    hops.reverse()
+    return hops
+
+
+def _start_of(g: _Graph, net: str) -> dict:
+    if net in g.sdriver:
+        c, pin = g.sdriver[net]
+        return {"net": net, "kind": "storage", "part": c.part_ref, "cell": c.cell, "pin": pin,
+                "pin_number": g.build.pin_of(c, pin)}
+    return {"net": net, "kind": "input"}
+
+
+def _first_net(prev: dict, end: str) -> str:
+    n = end
+    seen = set()
+    while n in prev and n not in seen:
+        seen.add(n)
+        n = prev[n][1]
+    return n
+
+
+def _clock_source(g: _Graph, net: str) -> tuple[str, int]:
+    """Trace a clock net back through inverting/buffering cells: (source net, inversions)."""
+    target = g.build.target
+    inv = 0
+    seen = set()
+    while net in g.driver and net not in seen:
+        seen.add(net)
+        c = g.driver[net]
+        cd = target.cells[c.cell]
+        nets = [c.pins[p] for p in cd.inputs]
+        live = {n for n in nets if n not in _RAILS}
+        if len(live) != 1:
+            break
+        src = live.pop()
+        t = cd.function.table()
+        vals = []
+        for v in (0, 1):
+            m = 0
+            for j, n in enumerate(nets):
+                bit = v if n == src else (1 if n == "VCC" else 0)
+                m |= bit << j
+            vals.append((t >> m) & 1)
+        if vals == [1, 0]:
+            inv ^= 1
+        elif vals != [0, 1]:
+            break
+        net = src
+    return net, inv
+
+
+def _rating(pd, name) -> float | None:
+    f = getattr(pd, "ratings", {}).get(name)
+    return f.value if f is not None else None
+
+
+def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> dict:
+    """Storage-to-storage paths: highest safe clock rate, hold slack, input setup, clock to output."""
+    b = g.build
+    target = b.target
+    # clock arrivals: from the inputs, and from storage outputs for clocks made by storage (ripple)
+    late_clk, _ = _propagate(g, base_late, True, True)
+    early_clk, _ = _propagate(g, base_typ, False, False)
+    info = []
+    missing_setup = set()
+    for c in g.storage:
+        cd = target.cells[c.cell]
+        pd = b.part_def(c.part_ref)
+        ctrl_pin = next((p for p in cd.inputs if cd.roles.get(p) in _CLOCK_ROLES), None)
+        if ctrl_pin is None and len(cd.inputs) > 1:
+            ctrl_pin = cd.inputs[1]
+        clk = c.pins.get(ctrl_pin) if ctrl_pin else None
+        src, inv = _clock_source(g, clk) if clk else (None, 0)
+        edge = _EDGE.get(cd.storage, "rise")
+        if inv:
+            edge = "fall" if edge == "rise" else "rise"
+        setup = _rating(pd, SETUP_RATING)
+        hold = _rating(pd, HOLD_RATING)
+        if setup is None:
+            missing_setup.add(pd.id)
+        t, m = g.delay[id(c)]
+        info.append({
+            "cell": c, "clock": clk, "source": src, "edge": edge,
+            "clk_late": late_clk.get(clk, 0.0) if clk else 0.0,
+            "clk_early": early_clk.get(clk, 0.0) if clk else 0.0,
+            "clk2q": (t, m), "setup": setup or 0.0, "hold": hold or 0.0,
+            "d": c.pins.get(cd.inputs[0]),
+            "outs": [c.pins[o] for o in (cd.output,) + tuple(cd.extra_outputs) if c.pins.get(o)],
+        })
+    # one propagation per (clock source, edge) group of launching cells
+    groups: dict = {}
+    for s in info:
+        groups.setdefault((s["source"], s["edge"]), []).append(s)
+    worst_period = 0.0
+    worst = None
+    hold_slack = None
+    hold_worst = None
+    for (src, edge), launch in groups.items():
+        late0 = {}
+        early0 = {}
+        for s in launch:
+            for q in s["outs"]:
+                late0[q] = s["clk_late"] + s["clk2q"][1]
+                early0[q] = s["clk_early"] + s["clk2q"][0]
+        late, lprev = _propagate(g, late0, True, True)
+        early, eprev = _propagate(g, early0, False, False)
+        for cap in info:
+            d = cap["d"]
+            if d is None or d not in late:
+                continue
+            if cap["source"] != src:
+                continue  # a different clock: no synchronous relation assumed
+            need = late[d] + cap["setup"] - cap["clk_early"]
+            period = need if cap["edge"] == edge else 2 * need
+            if period > worst_period:
+                worst_period = period
+                first = _first_net(lprev, d)
+                worst = {"from": _start_of(g, first), "to": {"part": cap["cell"].part_ref, "cell": cap["cell"].cell,
+                                                               "net": d},
+                         "arrival_s": late[d], "setup_s": cap["setup"],
+                         "half_cycle": cap["edge"] != edge,
+                         "path": _path(g, lprev, d, [("arrival_s", late)])}
+            if d in early:
+                slack = early[d] - cap["clk_late"] - cap["hold"]
+                if hold_slack is None or slack < hold_slack:
+                    hold_slack = slack
+                    hold_worst = {"from": _start_of(g, _first_net(eprev, d)),
+                                  "to": {"part": cap["cell"].part_ref, "cell": cap["cell"].cell, "net": d}}
+    own = max((s["clk2q"][1] + s["setup"] for s in info), default=0.0)
+    notes = []
+    if worst is None:
+        notes.append("no storage-to-storage path: the clock rate is limited only by the storage parts' "
+                     "own clock-to-output delay")
+    period = max(worst_period, own)
+    if missing_setup:
+        notes.append("the catalog gives no setup or hold time for " + ", ".join(sorted(missing_setup))
+                     + ": they count as 0 in the clock rate")
+    if any(s["source"] is not None and s["source"] not in b.inputs for s in info):
+        notes.append("a clock or enable comes from logic, not straight from an input: check it for glitches")
+    # inputs to storage data, storage to outputs
+    inp0 = {i: 0.0 for i in b.inputs}
+    late_in, _ = _propagate(g, inp0, True, True)
+    input_setup = 0.0
+    for cap in info:
+        d = cap["d"]
+        if d in late_in and d not in g.sdriver:
+            input_setup = max(input_setup, late_in[d] + cap["setup"] - cap["clk_early"])
+    q0 = {}
+    for s in info:
+        for q in s["outs"]:
+            q0[q] = s["clk_late"] + s["clk2q"][1]
+    late_q, _ = _propagate(g, q0, True, True)
+    clk_to_out = max((late_q.get(b.output_nets.get(o, o), 0.0) for o in b.outputs
+                      if b.output_nets.get(o, o) in late_q), default=None)
+    out = {
+        "clock_period_min_s": period,
+        "clock_max_hz": (1.0 / period) if period > 0 else None,
+        "clock_path": worst,
+        "hold_slack_s": hold_slack,
+        "hold_path": hold_worst,
+        "input_setup_s": input_setup,
+        "clock_to_output_s": clk_to_out,
+        "clock_notes": notes,
+    }
+    return out
 
 
 def static_timing(build) -> dict:
-    """Worst and best arrival per output and the critical path.
+    """Static timing figures of a gate build (see the module docstring).
 
-    Returns a dict with ``delay_s`` (worst path, maximum delays),
-    ``delay_typ_s``, ``levels``, ``outputs`` (output -> ``[best_s, worst_s]``)
-    and ``critical_path`` (list of ``{"cell", "part", "slot", "net", "arrival_s"}``).
+    Returns a dict with the stable keys
+
+    * ``delay_s`` -- worst path with maximum delays; ``delay_typ_s`` with typical;
+    * ``levels`` -- most cells on any path;
+    * ``outputs`` -- output -> ``[best_s, worst_s]`` (best with minimum, worst with maximum figures);
+    * ``paths`` -- one dict per output: ``worst_s``, ``worst_typ_s``, ``best_s``, ``best_max_s``,
+      ``levels``, ``worst_path`` and ``best_path`` (hops with parts and pins), ``worst_start``,
+      ``best_start``;
+    * ``critical_path`` -- hops of the worst path of the whole build (each with ``cell``, ``part``,
+      ``part_id``, ``slot``, ``from_pin``/``from_pin_number``, ``to_pin``/``to_pin_number``,
+      ``net_in``, ``net``, ``delay_s``, ``delay_typ_s``, ``arrival_s``, ``arrival_typ_s``) and
+      ``critical_start`` / ``critical_end``;
+    * ``overloaded`` -- nets loaded beyond their driver's output drive;
+    * for builds with storage cells: ``clock_max_hz``, ``clock_period_min_s``, ``clock_path``,
+      ``hold_slack_s``, ``input_setup_s``, ``clock_to_output_s``, ``clock_notes``.
+
+    A build without logic cells (a relay build) gives an empty dict, so the
+    relay timing already in ``build.timing`` stands.
     """
-    cells = build.cells
+    if not build.cells:
+        if build.contacts or build.coils:
+            return {}
+        outs = {o: [0.0, 0.0] for o in build.outputs}
+        return {"delay_s": 0.0, "delay_typ_s": 0.0, "levels": 0, "outputs": outs, "paths": [
+            {"output": o, "worst_s": 0.0, "worst_typ_s": 0.0, "best_s": 0.0, "best_max_s": 0.0, "levels": 0,
+             "worst_path": [], "best_path": []} for o in build.outputs],
+            "critical_path": [], "overloaded": []}
+    g = _Graph(build)
     target = build.target
-    driver = {}
-    for c in cells:
+    # storage outputs start at their clock-to-output delay after the clock edge
+    base_late = {i: 0.0 for i in build.inputs}
+    base_typ = dict(base_late)
+    for c in g.storage:
         cd = target.cells[c.cell]
-        if cd.storage is None:
-            driver[c.pins[cd.output]] = c
-    # topological order of combinational cells
-    order, indeg, users = [], {}, {}
-    for c in cells:
+        t, m = g.delay[id(c)]
+        for o in (cd.output,) + tuple(cd.extra_outputs):
+            if c.pins.get(o):
+                base_late[c.pins[o]] = m
+                base_typ[c.pins[o]] = t
+    late, lprev = _propagate(g, base_late, True, True)
+    late_t, _ = _propagate(g, base_typ, True, False)
+    early, eprev = _propagate(g, base_typ, False, False)
+    early_m, _ = _propagate(g, base_late, False, True)
+    lev = {}
+    for c in g.comb:
         cd = target.cells[c.cell]
-        if cd.storage is not None:
+        ins = [c.pins[p] for p in cd.inputs if c.pins.get(p) not in _RAILS]
+        if ins:
+            lev[c.pins[cd.output]] = 1 + max((lev.get(n, 0) for n in ins), default=0)
+    ends = [(o, build.output_nets.get(o, o)) for o in build.outputs]
+    for c in g.storage:
+        cd = target.cells[c.cell]
+        for p in cd.inputs:
+            n = c.pins.get(p)
+            if n and n not in _RAILS:
+                ends.append((f"{c.part_ref}.{p}", n))
+    arrivals = [("arrival_s", late), ("arrival_typ_s", late_t)]
+    paths = []
+    outputs = {}
+    for o, net in ends[:len(build.outputs)]:
+        w = late.get(net, 0.0) if net not in _RAILS else 0.0
+        paths.append({
+            "output": o, "net": net,
+            "worst_s": w,
+            "worst_typ_s": late_t.get(net, 0.0),
+            "best_s": early.get(net, 0.0),
+            "best_max_s": early_m.get(net, 0.0),
+            "levels": lev.get(net, 0),
+            "worst_start": _start_of(g, _first_net(lprev, net)),
+            "worst_path": _path(g, lprev, net, arrivals),
+            "best_start": _start_of(g, _first_net(eprev, net)),
+            "best_path": _path(g, eprev, net, [("arrival_s", early)]),
+        })
+        outputs[o] = [early.get(net, 0.0), w]
+    live = [(label, n) for label, n in ends if n in late]
+    end_label, end = max(live, key=lambda ln: late[ln[1]], default=(None, None))
+    overloaded = []
+    for net, ul in sorted(g.loads.items()):
+        c = g.driver.get(net) or (g.sdriver.get(net) or (None,))[0]
+        if c is None:
             continue
-        deps = {c.pins[p] for p in cd.inputs if c.pins[p] in driver}
-        indeg[id(c)] = len(deps)
-        for d in deps:
-            users.setdefault(d, []).append(c)
-    ready = [c for c in cells if target.cells[c.cell].storage is None and indeg[id(c)] == 0]
-    while ready:
-        c = ready.pop()
-        order.append(c)
-        out = c.pins[target.cells[c.cell].output]
-        for u in users.get(out, ()):
-            indeg[id(u)] -= 1
-            if indeg[id(u)] == 0:
-                ready.append(u)
-    worst, best, typ, lev, prev = {}, {}, {}, {}, {}
-    for c in order:
-        cd = target.cells[c.cell]
-        t, m = cell_delay(build, c)
-        ins = [c.pins[p] for p in cd.inputs]
-        w_in = max(ins, key=lambda n: worst.get(n, 0.0))
-        out = c.pins[cd.output]
-        worst[out] = worst.get(w_in, 0.0) + m
-        best[out] = min((best.get(n, 0.0) for n in ins), default=0.0) + min(t, m)
-        typ[out] = max((typ.get(n, 0.0) for n in ins), default=0.0) + t
-        lev[out] = 1 + max((lev.get(n, 0) for n in ins), default=0)
-        prev[out] = (w_in, c)
-    ends = [build.output_nets.get(o, o) for o in build.outputs]
-    for c in cells:
-        cd = target.cells[c.cell]
-        if cd.storage is not None:
-            ends.append(c.pins[cd.inputs[0]])
-    outputs = {o: [best.get(build.output_nets.get(o, o), 0.0), worst.get(build.output_nets.get(o, o), 0.0)]
-               for o in build.outputs}
-    end = max(ends, key=lambda n: worst.get(n, 0.0), default=None)
-    path = []
-    n = end
-    while n in prev:
-        w_in, c = prev[n]
-        path.append({"cell": c.cell, "part": c.part_ref, "slot": c.slot, "net": n,
-                     "arrival_s": worst[n]})
-        n = w_in
-    path.reverse()
-    return {
-        "delay_s": worst.get(end, 0.0) if end is not None else 0.0,
-        "delay_typ_s": max((typ.get(n, 0.0) for n in ends), default=0.0),
-        "levels": max((lev.get(n, 0) for n in ends), default=0),
+        pd = build.part_def(c.part_ref)
+        if pd.output_drive is not None and ul > pd.output_drive.value + 1e-12:
+            overloaded.append({"net": net, "load_ul": round(ul, 6), "drive_ul": pd.output_drive.value,
+                               "part": c.part_ref})
+    out = {
+        "delay_s": late.get(end, 0.0) if end is not None else 0.0,
+        "delay_typ_s": max((late_t.get(n, 0.0) for _, n in ends), default=0.0),
+        "levels": max((lev.get(n, 0) for _, n in ends), default=0),
         "outputs": outputs,
-        "critical_path": path,
+        "paths": paths,
+        "critical_path": _path(g, lprev, end, arrivals) if end is not None else [],
+        "critical_start": _start_of(g, _first_net(lprev, end)) if end is not None else None,
+        "critical_end": {"net": end, "endpoint": end_label} if end is not None else None,
+        "overloaded": overloaded,
     }
+    if g.storage:
+        out.update(_sequential(g, base_late, base_typ))
+    return out

@@ -1,0 +1,713 @@
+"""Glitch finder: event-driven timing simulation of a build with delay ranges.
+
+The delay model
+---------------
+Every cell has one propagation delay, fixed for the circuit in hand but
+known only to lie in a range ``[min, max]`` from the catalog: ``max`` is the
+catalog's maximum figure, ``min`` its typical figure (the catalogs give no
+minimum; a fraction of the maximum can be asked for instead).  Because a
+cell's delay is the same for every change through it, two paths through the
+same cell share that cell's delay.  Changes propagate with transport delay
+(a pulse shorter than a cell's delay still passes it; real gates swallow
+some of those, so the widths reported are an upper view of what gets out).
+
+Every event carries its *path*: the set of cells it went through since the
+input change.  The time between two events is then a sum of cell delays
+with signs, and its exact range over the delay box is
+``[sum of min over cells only on the later path - sum of max over cells only
+on the earlier one, ...]``.  That is the pulse-width range reported: an AND
+of a signal and its own inverted copy pulses for exactly the inverter's
+delay range.
+
+What is searched
+----------------
+For every input state and every single-input change (and, on request, every
+change of two inputs at once) -- all of them when there are at most
+``max_transitions``, else that many drawn at random, and the count is
+stated:
+
+1. a three-valued simulation with the changing inputs unknown (E. B.
+   Eichelberger, IBM J. Res. Dev. 9(2), 1965) marks the nets that may move;
+   a net that may glitch must come out unknown and be reached from the
+   changing inputs by at least two paths of unknown nets -- other changes
+   are glitch-free for any delays and are not simulated further;
+2. for the nets still in question (outputs, and nets that reach a clock,
+   enable, preset or clear input of a storage cell), the paths from the
+   changing inputs are enumerated (at most :data:`PATHS_PER_NET` per net) and
+   the circuit is simulated at delay corners that make each path as early
+   (its cells at min, all others at max) and as late as possible, plus all
+   at min and all at max.  A race between two paths shows at one of those
+   corners whenever the delay ranges allow it in that order.
+
+A net that ends where it started but moved is a static-1 or static-0
+hazard; one that ends elsewhere but moved more than once is a dynamic
+hazard.  Every hazard reported was seen at a concrete delay vector inside
+the ranges, so none is invented; a hazard needing a race among three or
+more paths in a particular order may be missed -- the count of changes that
+the three-valued test could not rule out but no corner showed is reported
+(``not_shown``; most are changes that can glitch only under delays outside
+the catalog ranges).
+
+A glitch on a net that reaches a clock, enable, preset or clear input of a
+storage cell can store a wrong value: it is flagged as an error.
+
+Relay builds have no cells; :func:`relay_transfers` gives the interval
+during which each relay-driven net floats (the changeover contact breaks
+before it makes) and when it has settled (bounce added).
+"""
+from __future__ import annotations
+
+import heapq
+import logging
+import random
+from dataclasses import dataclass, field
+
+from ..logic.function import isop
+
+__all__ = [
+    "Gate",
+    "TimedCircuit",
+    "find_glitches",
+    "glitch_report",
+    "relay_transfers",
+    "PATHS_PER_NET",
+    "MAX_TRANSITIONS",
+    "BUILD_MAX_TRANSITIONS",
+    "WATCH_ROLES",
+]
+
+log = logging.getLogger(__name__)
+
+#: paths enumerated per net in question, per input change
+PATHS_PER_NET = 8
+#: input changes examined by ``netfit timing`` before it samples instead
+MAX_TRANSITIONS = 20000
+#: input changes examined for the figures in every build report
+BUILD_MAX_TRANSITIONS = 1024
+#: storage-cell input roles where a glitch is an error
+WATCH_ROLES = ("clock", "enable", "preset", "clear")
+#: hazards listed at most (the count of all is given)
+MAX_LISTED = 500
+
+_X = 2
+
+
+@dataclass
+class Gate:
+    """One timed cell: ``out = table(ins)`` after a delay in ``[dmin, dmax]`` seconds.
+
+    ``table`` is a truth table over ``ins`` (input 0 least significant).
+    ``part``, ``cell``, ``slot``, ``in_pins`` (``(name, number)`` per input)
+    and ``out_pin`` describe the cell for reports.
+    """
+
+    out: str
+    ins: tuple
+    table: int
+    dmin: float
+    dmax: float
+    part: str | None = None
+    cell: str | None = None
+    slot: int | None = None
+    in_pins: tuple = ()
+    out_pin: tuple | None = None
+
+
+@dataclass
+class TimedCircuit:
+    """A combinational circuit of timed gates (see :class:`Gate`).
+
+    ``inputs`` are the free variables (primary inputs and storage outputs),
+    ``outputs`` maps output names to nets, ``watch`` maps nets that reach a
+    storage cell's clock/enable/preset/clear to descriptions of those pins,
+    ``constants`` maps rail nets to 0/1.
+    """
+
+    name: str
+    inputs: list
+    gates: list
+    outputs: dict
+    watch: dict = field(default_factory=dict)
+    constants: dict = field(default_factory=dict)
+
+    @classmethod
+    def from_build(cls, build, min_fraction: float | None = None) -> "TimedCircuit":
+        """The logic cells of a gate build with their catalog delay ranges.
+
+        ``min`` is the typical figure, or ``min_fraction`` times the maximum
+        when given.  Storage outputs become inputs; an inverted storage
+        output (``QN``) is a zero-delay inverter of ``Q``.
+        """
+        from .timing import cell_delay, net_loads
+
+        target = build.target
+        loads = net_loads(build)
+        gates = []
+        inputs = list(build.inputs)
+        watch: dict = {}
+        for c in build.cells:
+            cd = target.cells[c.cell]
+            if cd.storage is not None:
+                q = c.pins.get(cd.output)
+                if q and q not in inputs:
+                    inputs.append(q)
+                for extra in cd.extra_outputs:
+                    if c.pins.get(extra) and q:
+                        gates.append(Gate(c.pins[extra], (q,), 0b01, 0.0, 0.0, c.part_ref, c.cell, c.slot,
+                                          ((cd.output, build.pin_of(c, cd.output)),),
+                                          (extra, build.pin_of(c, extra))))
+                for p in cd.inputs:
+                    role = cd.roles.get(p)
+                    if role is None and len(cd.inputs) > 1 and p == cd.inputs[1]:
+                        role = "clock"  # a storage cell's control input
+                    net = c.pins.get(p)
+                    if role in WATCH_ROLES and net and net not in ("VCC", "GND"):
+                        watch.setdefault(net, []).append({
+                            "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
+                            "pin_number": build.pin_of(c, p), "role": role})
+                continue
+            t, m = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0))
+            lo = t if min_fraction is None else min_fraction * m
+            gates.append(Gate(
+                c.pins[cd.output], tuple(c.pins[p] for p in cd.inputs), cd.function.table(),
+                min(lo, m), m, c.part_ref, c.cell, c.slot,
+                tuple((p, build.pin_of(c, p)) for p in cd.inputs),
+                (cd.output, build.pin_of(c, cd.output))))
+        outputs = {o: build.output_nets.get(o, o) for o in build.outputs}
+        return cls(build.design, inputs, gates, outputs, watch, {"VCC": 1, "GND": 0})
+
+
+class _Engine:
+    """Integer-indexed form of a :class:`TimedCircuit` with the simulations."""
+
+    def __init__(self, circ: TimedCircuit):
+        self.circ = circ
+        ids: dict = {}
+
+        def nid(n):
+            if n not in ids:
+                ids[n] = len(ids)
+            return ids[n]
+
+        for i in circ.inputs:
+            nid(i)
+        for n in circ.constants:
+            nid(n)
+        for g in circ.gates:
+            for n in g.ins:
+                nid(n)
+            nid(g.out)
+        for n in list(circ.outputs.values()) + list(circ.watch):
+            nid(n)
+        self.ids = ids
+        self.names = list(ids)
+        self.input_ids = [ids[i] for i in circ.inputs]
+        # topological order of the gates
+        drv = {}
+        for k, g in enumerate(circ.gates):
+            drv[ids[g.out]] = k
+        indeg = [0] * len(circ.gates)
+        users: dict = {}
+        for k, g in enumerate(circ.gates):
+            deps = {ids[n] for n in g.ins if ids[n] in drv}
+            indeg[k] = len(deps)
+            for d in deps:
+                users.setdefault(d, []).append(k)
+        ready = [k for k in range(len(circ.gates)) if indeg[k] == 0][::-1]
+        order = []
+        while ready:
+            k = ready.pop()
+            order.append(k)
+            for u in users.get(ids[circ.gates[k].out], ()):
+                indeg[u] -= 1
+                if indeg[u] == 0:
+                    ready.append(u)
+        if len(order) != len(circ.gates):
+            raise ValueError("the circuit's cells form a loop; the glitch finder needs loop-free logic")
+        self.gates = [circ.gates[k] for k in order]
+        self.gin = [tuple(ids[n] for n in g.ins) for g in self.gates]
+        self.gout = [ids[g.out] for g in self.gates]
+        self.gtab = [g.table for g in self.gates]
+        self.dmin = [g.dmin for g in self.gates]
+        self.dmax = [g.dmax for g in self.gates]
+        self.driver = {o: k for k, o in enumerate(self.gout)}
+        self.fanout: dict = {}
+        for k, ins in enumerate(self.gin):
+            for n in set(ins):
+                self.fanout.setdefault(n, []).append(k)
+        self.const = {ids[n]: v for n, v in circ.constants.items()}
+        self.watch_ids = {ids[n] for n in circ.watch}
+        self.out_ids = {ids[n] for n in circ.outputs.values()}
+        self.look = sorted(self.watch_ids | self.out_ids)
+        self._cone: dict = {}
+        self._steady: dict = {}
+
+    # -- plain and three-valued evaluation --------------------------------
+    def steady(self, state: int) -> list:
+        """Net values (list by net id) with the inputs at ``state`` (bit i = input i)."""
+        v = self._steady.get(state)
+        if v is not None:
+            return v
+        vals = [0] * len(self.names)
+        for n, c in self.const.items():
+            vals[n] = c
+        for i, n in enumerate(self.input_ids):
+            vals[n] = (state >> i) & 1
+        for k, ins in enumerate(self.gin):
+            idx = 0
+            for j, n in enumerate(ins):
+                idx |= vals[n] << j
+            vals[self.gout[k]] = (self.gtab[k] >> idx) & 1
+        if len(self._steady) < 4096:
+            self._steady[state] = vals
+        return vals
+
+    def cone(self, changed: tuple) -> list:
+        """Gate indices (topological) reachable from the input indices ``changed``."""
+        key = changed
+        c = self._cone.get(key)
+        if c is not None:
+            return c
+        seen = set()
+        stack = [self.input_ids[i] for i in changed]
+        nets = set(stack)
+        while stack:
+            n = stack.pop()
+            for k in self.fanout.get(n, ()):
+                if k not in seen:
+                    seen.add(k)
+                    o = self.gout[k]
+                    if o not in nets:
+                        nets.add(o)
+                        stack.append(o)
+        c = sorted(seen)
+        self._cone[key] = c
+        return c
+
+    def _eval(self, k, vals) -> int:
+        idx = 0
+        for j, n in enumerate(self.gin[k]):
+            idx |= vals[n] << j
+        return (self.gtab[k] >> idx) & 1
+
+    def _eval3(self, k, vals) -> int:
+        idx = 0
+        xs = []
+        for j, n in enumerate(self.gin[k]):
+            v = vals[n]
+            if v == _X:
+                xs.append(j)
+            else:
+                idx |= v << j
+        t = self.gtab[k]
+        if not xs:
+            return (t >> idx) & 1
+        seen = set()
+        for m in range(1 << len(xs)):
+            i = idx
+            for b, j in enumerate(xs):
+                if (m >> b) & 1:
+                    i |= 1 << j
+            seen.add((t >> i) & 1)
+            if len(seen) == 2:
+                return _X
+        return seen.pop()
+
+    def ternary(self, state: int, changed: tuple):
+        """Three-valued values with the changed inputs unknown, and X-path counts per net."""
+        vals = list(self.steady(state))
+        cnt: dict = {}
+        for i in changed:
+            n = self.input_ids[i]
+            vals[n] = _X
+            cnt[n] = 1
+        for k in self.cone(changed):
+            v = self._eval3(k, vals)
+            o = self.gout[k]
+            vals[o] = v
+            if v == _X:
+                cnt[o] = min(sum(cnt.get(n, 0) for n in set(self.gin[k]) if vals[n] == _X), 1 << 30)
+        return vals, cnt
+
+    def paths(self, net: int, tern: list, changed_ids: set, limit: int) -> list:
+        """Up to ``limit`` paths (gate bit masks) from changed inputs to ``net`` through unknown nets."""
+        out = []
+        stack = [(net, 0)]
+        while stack and len(out) < limit:
+            n, mask = stack.pop()
+            if n in changed_ids:
+                out.append(mask)
+                continue
+            k = self.driver.get(n)
+            if k is None:
+                continue
+            for m in dict.fromkeys(self.gin[k]):
+                if tern[m] == _X:
+                    stack.append((m, mask | (1 << k)))
+        return out
+
+    # -- timed simulation ---------------------------------------------------
+    def simulate(self, vals0: list, changes: list, delay: list, look: set) -> dict:
+        """Transport-delay event simulation of input ``changes`` [(net id, value)] at time 0.
+
+        Returns net id -> list of ``(time, value, path mask, source net id)``
+        for the nets in ``look`` (changes of value only).
+        """
+        cur = list(vals0)
+        last: dict = {}
+        heap = []
+        seq = 0
+        for n, v in changes:
+            heap.append((0.0, seq, n, v, 0, n))
+            seq += 1
+        heapq.heapify(heap)
+        waves = {n: [] for n in look}
+        while heap:
+            t0 = heap[0][0]
+            eps = max(abs(t0), 1e-15) * 1e-9
+            touched: dict = {}
+            while heap and heap[0][0] <= t0 + eps:
+                t, _, n, v, form, src = heapq.heappop(heap)
+                if cur[n] == v:
+                    continue
+                old = cur[n]
+                cur[n] = v
+                if n in waves:
+                    waves[n].append((t, v, form, src))
+                for k in self.fanout.get(n, ()):
+                    touched.setdefault(k, []).append((n, old, form, src))
+            for k in sorted(touched):
+                ch = touched[k]
+                o = self.gout[k]
+                nv = self._eval(k, cur)
+                if nv == last.get(o, cur[o]):
+                    continue
+                cause = ch[0]
+                if len(ch) > 1:
+                    for c in ch:
+                        keep = cur[c[0]]
+                        cur[c[0]] = c[1]
+                        alt = self._eval(k, cur)
+                        cur[c[0]] = keep
+                        if alt != nv:
+                            cause = c
+                            break
+                last[o] = nv
+                heapq.heappush(heap, (t0 + delay[k], seq, o, nv, cause[2] | (1 << k), cause[3]))
+                seq += 1
+        return waves
+
+    def width(self, early: int, late: int) -> tuple[float, float]:
+        """Exact range of (time of path ``late``) - (time of path ``early``) over the delay box."""
+        lo = hi = 0.0
+        for k in _bits(late & ~early):
+            lo += self.dmin[k]
+            hi += self.dmax[k]
+        for k in _bits(early & ~late):
+            lo -= self.dmax[k]
+            hi -= self.dmin[k]
+        return lo, hi
+
+    def span(self, mask: int) -> tuple[float, float]:
+        lo = sum(self.dmin[k] for k in _bits(mask))
+        hi = sum(self.dmax[k] for k in _bits(mask))
+        return lo, hi
+
+
+def _sec(x: float) -> float:
+    """Seconds rounded to the femtosecond (sums of catalog figures carry float noise)."""
+    return round(x, 15)
+
+
+def _bits(mask: int):
+    k = 0
+    while mask:
+        if mask & 1:
+            yield k
+        mask >>= 1
+        k += 1
+
+
+def _transitions(n: int, sizes: tuple, limit: int, seed: int):
+    """(list of (state, changed tuple), total, exhaustive)."""
+    from itertools import combinations
+    groups = [c for s in sizes for c in combinations(range(n), s)]
+    total = (1 << n) * len(groups)
+    if total <= limit:
+        return [(s, c) for s in range(1 << n) for c in groups], total, True
+    rng = random.Random(seed)
+    seen = set()
+    out = []
+    while len(out) < limit:
+        s = rng.getrandbits(n) if n else 0
+        c = groups[rng.randrange(len(groups))]
+        if (s, c) in seen:
+            continue
+        seen.add((s, c))
+        out.append((s, c))
+    return out, total, False
+
+
+def _hop_list(eng: _Engine, mask: int, src: int) -> list:
+    """The cells of a path (a gate mask from source net ``src``) in order, with pins."""
+    hops = []
+    prev = src
+    for k in _bits(mask):  # gate indices are topological
+        g = eng.gates[k]
+        pin = None
+        for (p, num), n in zip(g.in_pins or [(None, None)] * len(g.ins), g.ins):
+            if eng.ids[n] == prev:
+                pin = (p, num)
+                break
+        hop = {"net_in": eng.names[prev], "net": g.out, "delay_s": [_sec(g.dmin), _sec(g.dmax)]}
+        if g.part is not None:
+            hop.update({"part": g.part, "cell": g.cell, "slot": g.slot})
+            if pin:
+                hop.update({"from_pin": pin[0], "from_pin_number": pin[1]})
+            if g.out_pin:
+                hop.update({"to_pin": g.out_pin[0], "to_pin_number": g.out_pin[1]})
+        hops.append(hop)
+        prev = eng.gout[k]
+    return hops
+
+
+def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int = MAX_TRANSITIONS,
+                  seed: int = 0, paths_per_net: int = PATHS_PER_NET) -> dict:
+    """Search ``circ`` for glitches (see the module docstring).
+
+    Returns a dict with ``hazards`` (list, see :func:`glitch_report`),
+    ``transitions`` (``checked``, ``total``, ``exhaustive``, ``sizes``,
+    ``timed_runs``, ``not_shown``) and ``errors`` (the count of hazards
+    that reach a storage cell's clock, enable, preset or clear).
+    """
+    eng = _Engine(circ)
+    n = len(circ.inputs)
+    sizes = (1, 2) if multi else (1,)
+    sizes = tuple(s for s in sizes if s <= n)
+    trans, total, exhaustive = _transitions(n, sizes, max_transitions, seed) if n else ([], 0, True)
+    groups: dict = {}
+    runs = 0
+    not_shown = 0
+    for state, changed in trans:
+        tern, cnt = eng.ternary(state, changed)
+        after = state
+        for i in changed:
+            after ^= 1 << i
+        v0 = eng.steady(state)
+        v1 = eng.steady(after)
+        cands = [m for m in eng.look if tern[m] == _X and cnt.get(m, 0) >= 2]
+        if not cands:
+            continue
+        changed_ids = {eng.input_ids[i] for i in changed}
+        masks = set()
+        for m in cands:
+            masks.update(eng.paths(m, tern, changed_ids, paths_per_net))
+        cone = eng.cone(changed)
+        corners = [("min", 0), ("max", 0)] + [(kind, p) for p in sorted(masks) for kind in ("early", "late")]
+        changes = [(eng.input_ids[i], v1[eng.input_ids[i]]) for i in changed]
+        look = set(cands)
+        found: dict = {}
+        for kind, p in corners:
+            delay = eng.dmax[:] if kind in ("max", "early") else eng.dmin[:]
+            if kind == "early":
+                for k in _bits(p):
+                    delay[k] = eng.dmin[k]
+            elif kind == "late":
+                for k in _bits(p):
+                    delay[k] = eng.dmax[k]
+            waves = eng.simulate(v0, changes, delay, look)
+            runs += 1
+            for m in cands:
+                ev = waves[m]
+                a, b = v0[m], v1[m]
+                if a == b and len(ev) >= 2:
+                    hk = f"static-{a}"
+                elif a != b and len(ev) >= 3:
+                    hk = "dynamic"
+                else:
+                    continue
+                (t1, _, f1, s1), (t2, _, f2, s2) = ev[0], ev[1]
+                key = (m, hk, frozenset({(f1, s1), (f2, s2)}))
+                if key not in found:
+                    found[key] = ((f1, s1), (f2, s2), t2 - t1)
+        static_cands = {m for m in cands if v0[m] == v1[m]}
+        shown = {k[0] for k in found}
+        not_shown += len(static_cands - shown)
+        cond_bits = [i for i in range(n) if i not in changed]
+        cond = 0
+        for b, i in enumerate(cond_bits):
+            cond |= ((state >> i) & 1) << b
+        dirs = tuple(f"{circ.inputs[i]} {'rises' if (after >> i) & 1 else 'falls'}" for i in changed)
+        for (m, hk, _pair), ((f1, s1), (f2, s2), ex) in found.items():
+            gkey = (m, hk, changed, _pair)
+            g = groups.get(gkey)
+            lo, hi = eng.width(f1, f2)
+            lo = max(lo, 0.0)
+            if g is None:
+                g = groups[gkey] = {
+                    "net": m, "kind": hk, "changed": changed, "conds": set(), "dirs": set(),
+                    "width": (lo, hi), "example": ex,
+                    "paths": [(f1, s1), (f2, s2)], "cond_bits": cond_bits,
+                }
+            else:
+                g["width"] = (min(g["width"][0], lo), max(g["width"][1], hi))
+            g["conds"].add(cond)
+            g["dirs"].add(dirs)
+    hazards = []
+    port_of: dict = {}
+    for o, net in circ.outputs.items():
+        port_of.setdefault(net, []).append(o)
+    for g in sorted(groups.values(), key=lambda g: (eng.names[g["net"]], g["kind"], g["changed"])):
+        net = eng.names[g["net"]]
+        names = [circ.inputs[i] for i in g["cond_bits"]]
+        when = _conditions(sorted(g["conds"]), names, exhaustive)
+        reaches = circ.watch.get(net, [])
+        paths = []
+        for f, s in g["paths"]:
+            lo, hi = eng.span(f)
+            paths.append({"from": eng.names[s], "delay_s": [_sec(lo), _sec(hi)], "hops": _hop_list(eng, f, s)})
+        for port in port_of.get(net, [None]):
+            hazards.append({
+                "output": port if port is not None else net,
+                "net": net,
+                "kind": g["kind"],
+                "inputs_changed": [circ.inputs[i] for i in g["changed"]],
+                "directions": sorted(", ".join(d) for d in g["dirs"]),
+                "when": when,
+                "width_s": [_sec(g["width"][0]), _sec(g["width"][1])],
+                "width_example_s": _sec(g["example"]),
+                "racing_paths": paths,
+                "reaches": reaches,
+                "error": bool(reaches),
+            })
+    errors = sum(1 for h in hazards if h["error"])
+    listed = hazards[:MAX_LISTED]
+    return {
+        "hazards": listed,
+        "hazards_total": len(hazards),
+        "errors": errors,
+        "transitions": {"checked": len(trans), "total": total, "exhaustive": exhaustive,
+                        "sizes": list(sizes), "timed_runs": runs, "not_shown": not_shown,
+                        "seed": None if exhaustive else seed},
+    }
+
+
+def _conditions(conds: list, names: list, exhaustive: bool) -> list:
+    """States of the other inputs, merged into cubes (dicts name -> value)."""
+    k = len(names)
+    if k == 0:
+        return [{}]
+    if k <= 12:
+        tab = 0
+        for c in conds:
+            tab |= 1 << c
+        cubes, _ = isop(tab, tab, k)
+        return [{names[j]: int(ch) for j, ch in enumerate(cube) if ch != "-"} for cube in sorted(cubes)]
+    return [{names[j]: (c >> j) & 1 for j in range(k)} for c in conds[:8]]
+
+
+def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
+                  seed: int = 0, min_fraction: float | None = None) -> dict:
+    """Glitch figures of a build for ``build.timing``.
+
+    Gate builds: :func:`find_glitches` on the build's cells, giving
+    ``hazards``, ``hazards_total``, ``glitch_errors`` and ``glitch_search``.
+    Relay builds: ``floating`` (:func:`relay_transfers`) and an empty
+    ``hazards`` list -- contact networks are timed by their relays' transfer
+    times instead.
+    """
+    if not build.cells:
+        out = {"hazards": [], "hazards_total": 0, "glitch_errors": 0}
+        if build.contacts:
+            out["floating"] = relay_transfers(build)
+            out["glitch_search"] = {"method": "relay transfer intervals"}
+        return out
+    circ = TimedCircuit.from_build(build, min_fraction)
+    res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed)
+    search = dict(res["transitions"])
+    search["min_delay"] = "typical figure" if min_fraction is None else f"{min_fraction:g} of the maximum"
+    return {"hazards": res["hazards"], "hazards_total": res["hazards_total"],
+            "glitch_errors": res["errors"], "glitch_search": search}
+
+
+def relay_transfers(build) -> list:
+    """For each pole of a relay build, when its common net may float and when it has settled.
+
+    The coil net's change arrives between its earliest and latest time (coil
+    levels of the relays before it: typical changeover delay at the earliest,
+    the longer of operate and release time plus bounce at the latest).  The
+    changeover contact then breaks -- the common terminal touches neither side
+    and its net floats (or is held by its load resistor) -- and makes within
+    the operate or release time; then it bounces for the bounce time.  So:
+
+    * ``floating_s`` = ``[earliest coil change, latest coil change + max(operate, release)]``
+    * ``settled_s`` = ``floating_s[1] + bounce``
+
+    each as seconds after the input change.  ``loaded`` says whether a
+    resistor to ``GND`` holds the net while it floats (common practice: a
+    relay-driven net feeding logic or a coil needs a defined load).
+    """
+    target = build.target
+    loaded = set()
+    for s in build.support:
+        pd = target.parts.get(s.part_id)
+        if pd is not None and pd.ratings.get("resistance") is not None and "GND" in s.nets:
+            loaded.update(x for x in s.nets if x != "GND")
+    sw = {}
+    for p in build.parts:
+        pd = target.parts[p.part_id]
+        r = pd.relay
+        if r is None:
+            continue
+        typ_fig = pd.delay_typ.get("changeover") if pd.delay_typ else None
+        typ = typ_fig.value if typ_fig is not None else r.operate_time.value
+        transfer = max(r.operate_time.value, r.release_time.value)
+        sw[p.ref] = (typ, transfer, r.bounce_time.value)
+    # earliest / latest arrival of every relay-driven net, iterative over a topological order
+    drivers: dict = {}
+    for k in build.contacts:
+        drivers.setdefault(k.com, []).append(k)
+    deps = {net: {x for k in ks for x in (k.no, k.nc, build.coils.get(k.part_ref)) if x in drivers}
+            for net, ks in drivers.items()}
+    indeg = {n: len(d - {n}) for n, d in deps.items()}
+    users: dict = {}
+    for n, d in deps.items():
+        for x in d - {n}:
+            users.setdefault(x, []).append(n)
+    ready = sorted((n for n, c in indeg.items() if c == 0), reverse=True)
+    order = []
+    while ready:
+        n = ready.pop()
+        order.append(n)
+        for u in users.get(n, ()):
+            indeg[u] -= 1
+            if indeg[u] == 0:
+                ready.append(u)
+    left = [n for n in drivers if n not in set(order)]  # loops (seal-in storage): timed from 0
+    early: dict = {}
+    late: dict = {}
+    for net in order + left:
+        e = []
+        la = []
+        for k in drivers[net]:
+            coil = build.coils.get(k.part_ref)
+            typ, transfer, bounce = sw.get(k.part_ref, (0.0, 0.0, 0.0))
+            e.append(early.get(coil, 0.0) + typ)
+            la.append(late.get(coil, 0.0) + transfer + bounce)
+            for x in (k.no, k.nc):
+                if x in drivers:
+                    e.append(early.get(x, 0.0))
+                    la.append(late.get(x, 0.0))
+        early[net] = min(e)
+        late[net] = max(la)
+    out = []
+    for k in build.contacts:
+        coil = build.coils.get(k.part_ref)
+        typ, transfer, bounce = sw.get(k.part_ref, (0.0, 0.0, 0.0))
+        start = early.get(coil, 0.0)
+        end = late.get(coil, 0.0) + transfer
+        out.append({"net": k.com, "part": k.part_ref, "pole": k.pole, "coil": coil,
+                    "floating_s": [round(start, 9), round(end, 9)],
+                    "settled_s": round(end + bounce, 9),
+                    "loaded": k.com in loaded})
+    return out
