@@ -20,6 +20,7 @@ from dataclasses import replace
 from ..errors import UsageError
 from ..logic.function import Function
 from ..netlist import Netlist, Storage
+from .electrical import split_fanout
 from .gates import Mapping, map_logic
 from .library import CellLibrary
 from .pack import pack
@@ -74,9 +75,21 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     lib = _library(target)
     m = map_logic(design, lib, keep=keep)
     consider(m, "all cells", target)
+    # further candidates cost a whole mapping each: fewer of them on big designs
+    size = max(1, len(design.nodes) - len(design.inputs))
+    budget = [int(min(40, 12_000 / size))] if effort > 0 else [0]
+
+    def spend() -> bool:
+        if budget[0] <= 0:
+            return False
+        budget[0] -= 1
+        return True
+
     # re-map the mapped logic: a second subject graph built from the first cover
     if effort > 0:
         for _ in range(2):
+            if not spend():
+                break
             again = map_logic(mapping_netlist(design, m, target), lib, keep=keep)
             if again.area < m.area - 1e-9:
                 m = again
@@ -86,17 +99,20 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     # seeds from a single complete cell type (NAND2 or NOR2), alone and with
     # each other type: one kind of part packs best, and its mapping is exact
     if effort > 0 and len(lib.cells) > 1:
-        for base in _complete_cells(lib):
-            others = [c for c in lib.cells if c != base]
-            for extra in [None] + others:
-                keep_cells = {base} if extra is None else {base, extra}
-                trial = frozenset(c for c in lib.cells if c not in keep_cells)
-                try:
-                    sub = _library(target, trial)
-                    m2 = map_logic(design, sub, keep=keep)
-                except (ValueError, RuntimeError):
-                    continue
-                consider(m2, "only " + "+".join(sorted(keep_cells)), target)
+        used = best.cell_counts()
+        seeds = [{base} for base in _complete_cells(lib)]
+        seeds += [{base, extra} for base in _complete_cells(lib)
+                  for extra in sorted(lib.cells, key=lambda c: (-used.get(c, 0), c)) if extra != base]
+        for keep_cells in seeds:
+            if not spend():
+                break
+            trial = frozenset(c for c in lib.cells if c not in keep_cells)
+            try:
+                sub = _library(target, trial)
+                m2 = map_logic(design, sub, keep=keep)
+            except (ValueError, RuntimeError):
+                continue
+            consider(m2, "only " + "+".join(sorted(keep_cells)), target)
     # drop part types one at a time (greedy descent over cell subsets):
     # fewer kinds of part often means fewer parts, since spare slots pool
     if effort > 0 and len(lib.cells) > 1:
@@ -107,6 +123,8 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
                 if cell not in lib.cells or cell in excluded:
                     continue
                 trial = excluded | {cell}
+                if not spend():
+                    break
                 try:
                     sub = _library(target, trial)
                 except ValueError:
@@ -182,8 +200,11 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
     if extra_cells:
         mapping = Mapping(mapping.cells + extra_cells, mapping.outputs, mapping.storage_nets,
                           mapping.area, mapping.depth)
+    notes = []
+    mapping = split_fanout(mapping, target, notes)
     b = pack(design.name, target, design.inputs, design.outputs, mapping, storage_uses)
     b.cautions.extend(cautions)
+    b.notes.extend(notes)
     return b
 
 

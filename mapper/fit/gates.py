@@ -316,7 +316,7 @@ class _Mapper:
         cells: list = []
         strash: dict = {}
         taken = set(design.inputs) | {"VCC", "GND"}
-        taken.update(n for n in design.nodes if n in design.storage())
+        taken.update(design.storage())
         netof: dict = {}
         counter = [0]
 
