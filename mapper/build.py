@@ -26,7 +26,7 @@ from .errors import InternalError
 from .logic.function import Function
 from .netlist import Netlist
 
-__all__ = ["PartInstance", "CellInstance", "ContactInstance", "SupportInstance", "Tie", "Build",
+__all__ = ["PartInstance", "CellInstance", "ContactInstance", "SupportInstance", "Tie", "Build", "GateStorage",
            "SUPPLY_NETS"]
 
 #: names of the supply rails in every build
@@ -58,6 +58,8 @@ class CellInstance:
     pins: dict
     origin: str | None = None
     init: int = 3
+    #: storage built from gates: the key of :attr:`Build.storage_groups` this cell belongs to
+    group: str | None = None
 
 
 @dataclass
@@ -83,6 +85,18 @@ class SupportInstance:
     part_id: str
     nets: tuple
     purpose: str
+
+
+@dataclass
+class GateStorage:
+    """A latch or flip-flop built from gates: data, control and output nets."""
+
+    kind: str
+    d: str
+    control: str
+    q: str
+    init: int = 3
+    template: str = ""
 
 
 @dataclass
@@ -122,6 +136,9 @@ class Build:
     #: relay builds: seal-in storage (:class:`mapper.fit.relay.RelayLatch`), read by
     #: :func:`mapper.fit.relay.contact_logic` to turn each into a storage element
     latches: list = field(default_factory=list)
+    #: gate builds: storage made of gates (a feedback loop of cells), group key ->
+    #: :class:`GateStorage`; the prover sees each group as one storage element
+    storage_groups: dict = field(default_factory=dict)
 
     # -- derived views ----------------------------------------------------
     def part(self, ref: str) -> PartInstance:
@@ -213,7 +230,14 @@ class Build:
         for i in self.inputs:
             n.add_input(i)
         cells = self.target.cells
+        # storage built from gates: one storage element per group.  The loop of
+        # gates inside is a fixed textbook template, checked on its own by
+        # tests/fit/test_storage.py with a settling simulation.
+        for q, g in self.storage_groups.items():
+            n.add_storage(g.q, g.d, g.kind, g.control, g.init)
         for c in self.cells:
+            if c.group is not None:
+                continue
             cd = cells[c.cell]
             if cd.storage is not None:
                 d = c.pins[cd.inputs[0]]

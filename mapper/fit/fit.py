@@ -24,6 +24,7 @@ from .electrical import split_fanout
 from .gates import Mapping, map_logic
 from .library import CellLibrary
 from .pack import pack
+from .storage import gate_storage
 
 __all__ = ["fit_gates", "mapping_netlist"]
 
@@ -103,7 +104,11 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
         seeds = [{base} for base in _complete_cells(lib)]
         seeds += [{base, extra} for base in _complete_cells(lib)
                   for extra in sorted(lib.cells, key=lambda c: (-used.get(c, 0), c)) if extra != base]
+        seen_seeds = set()
         for keep_cells in seeds:
+            if frozenset(keep_cells) in seen_seeds:
+                continue
+            seen_seeds.add(frozenset(keep_cells))
             if not spend():
                 break
             trial = frozenset(c for c in lib.cells if c not in keep_cells)
@@ -168,6 +173,8 @@ def _storage_cells(target) -> dict:
 def _assemble(design, target, mapping: Mapping, storage_cells):
     storage_uses = []
     extra_cells = []
+    loop_cells = []
+    groups = {}
     cautions = []
     for net, node in design.storage().items():
         d, ctrl = mapping.storage_nets[net]
@@ -178,13 +185,18 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
             flipped = {"fe": "re", "al": "ah", "re": "fe", "ah": "al"}.get(kind)
             if flipped in storage_cells:
                 cell, invert_ctrl = storage_cells[flipped], True
-        if cell is None:
-            raise UsageError(
-                f"target {target.name} has no storage part for a '{kind}' storage element ({net}); "
-                "building storage from gates is not supported yet — use a target with flip-flops/latches")
-        cd = target.cells[cell]
         if ctrl is None:
             raise UsageError(f"storage element {net} has no clock or enable net")
+        if cell is None:
+            cells, group = gate_storage(_library(target), kind, d, ctrl, net, node.init)
+            loop_cells.extend(cells)
+            groups[net] = group
+            if node.init in (0, 1):
+                cautions.append(
+                    f"{net} must start at {node.init}: a {group.template} powers up in an unknown state; "
+                    "force it with a power-on reset if it matters")
+            continue
+        cd = target.cells[cell]
         if invert_ctrl:
             inv_net = f"{ctrl}_n"
             extra_cells.append(_inverter_use(target, ctrl, inv_net))
@@ -202,7 +214,13 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
                           mapping.area, mapping.depth)
     notes = []
     mapping = split_fanout(mapping, target, notes)
+    if loop_cells:  # after the fan-out pass, whose ordering assumes no loops
+        mapping = Mapping(mapping.cells + loop_cells, mapping.outputs, mapping.storage_nets,
+                          mapping.area, mapping.depth)
+        notes.append(f"{len(groups)} storage element(s) built from gates: "
+                     + ", ".join(sorted({g.template for g in groups.values()})))
     b = pack(design.name, target, design.inputs, design.outputs, mapping, storage_uses)
+    b.storage_groups.update(groups)
     b.cautions.extend(cautions)
     b.notes.extend(notes)
     return b

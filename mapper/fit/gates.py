@@ -44,6 +44,7 @@ class CellUse:
     args: tuple
     out: str
     origin: str | None = None
+    group: str | None = None
 
 
 @dataclass

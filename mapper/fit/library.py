@@ -118,7 +118,10 @@ class CellLibrary:
     def lookup(self, n: int, table: int) -> Impl | None:
         """Cheapest known implementation of ``table`` over ``n`` leaves, or ``None``."""
         if self.exact_gate is not None:
-            return _exact_impl(self.exact_gate[0], self.exact_gate[1], n, table, self.costs[self.exact_gate[0]])
+            impl = _exact_impl(self.exact_gate[0], self.exact_gate[1], n, table, self.costs[self.exact_gate[0]])
+            if impl is not None:
+                return impl
+            # not in the shipped exact table: fall back to enumerated supergates
         lib = self._tables.get(n)
         if lib is None:
             lib = self._tables[n] = self._cached(n)

@@ -193,7 +193,8 @@ def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
             for pin, src in zip(cd.inputs, assign):
                 pins[pin] = src if isinstance(src, str) else use.args[src]
         pins[cd.output] = use.out
-        build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, pins, use.origin))
+        build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, pins, use.origin,
+                                        group=getattr(use, "group", None)))
     for cell, pins, origin, init in storage_uses:
         ref, slot = take(cell)
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, dict(pins), origin, init))
