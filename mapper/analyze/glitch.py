@@ -73,6 +73,7 @@ __all__ = [
     "PATHS_PER_NET",
     "MAX_TRANSITIONS",
     "BUILD_MAX_TRANSITIONS",
+    "BUILD_MAX_WORK",
     "WATCH_ROLES",
 ]
 
@@ -84,6 +85,8 @@ PATHS_PER_NET = 8
 MAX_TRANSITIONS = 20000
 #: input changes examined for the figures in every build report
 BUILD_MAX_TRANSITIONS = 1024
+#: cell evaluations allowed for the figures in every build report (keeps big builds quick)
+BUILD_MAX_WORK = 400_000
 #: storage-cell input roles where a glitch is an error
 WATCH_ROLES = ("clock", "enable", "preset", "clear")
 #: hazards listed at most (the count of all is given)
@@ -145,8 +148,20 @@ class TimedCircuit:
         gates = []
         inputs = list(build.inputs)
         watch: dict = {}
+        for key, grp in getattr(build, "storage_groups", {}).items():
+            # storage made of gates: its loop is one storage element here, as for the prover
+            if grp.q not in inputs:
+                inputs.append(grp.q)
+            if grp.control and grp.control not in ("VCC", "GND"):
+                cells = [c for c in build.cells if getattr(c, "group", None) == key]
+                watch.setdefault(grp.control, []).append({
+                    "part": cells[0].part_ref if cells else None, "cell": grp.template, "slot": None,
+                    "pin": "control", "pin_number": None,
+                    "role": "clock" if grp.kind in ("re", "fe") else "enable"})
         for c in build.cells:
             cd = target.cells[c.cell]
+            if getattr(c, "group", None) is not None:
+                continue
             if cd.storage is not None:
                 q = c.pins.get(cd.output)
                 if q and q not in inputs:
@@ -241,6 +256,8 @@ class _Engine:
         self.look = sorted(self.watch_ids | self.out_ids)
         self._cone: dict = {}
         self._steady: dict = {}
+        #: cell evaluations so far (the search's budget counts these)
+        self.work = 0
 
     # -- plain and three-valued evaluation --------------------------------
     def steady(self, state: int) -> list:
@@ -253,6 +270,7 @@ class _Engine:
             vals[n] = c
         for i, n in enumerate(self.input_ids):
             vals[n] = (state >> i) & 1
+        self.work += len(self.gin)
         for k, ins in enumerate(self.gin):
             idx = 0
             for j, n in enumerate(ins):
@@ -321,7 +339,9 @@ class _Engine:
             n = self.input_ids[i]
             vals[n] = _X
             cnt[n] = 1
-        for k in self.cone(changed):
+        cone = self.cone(changed)
+        self.work += len(cone)
+        for k in cone:
             v = self._eval3(k, vals)
             o = self.gout[k]
             vals[o] = v
@@ -362,6 +382,7 @@ class _Engine:
             seq += 1
         heapq.heapify(heap)
         waves = {n: [] for n in look}
+        work = 0
         while heap:
             t0 = heap[0][0]
             eps = max(abs(t0), 1e-15) * 1e-9
@@ -376,6 +397,7 @@ class _Engine:
                     waves[n].append((t, v, form, src))
                 for k in self.fanout.get(n, ()):
                     touched.setdefault(k, []).append((n, old, form, src))
+            work += len(touched)
             for k in sorted(touched):
                 ch = touched[k]
                 o = self.gout[k]
@@ -395,6 +417,7 @@ class _Engine:
                 last[o] = nv
                 heapq.heappush(heap, (t0 + delay[k], seq, o, nv, cause[2] | (1 << k), cause[3]))
                 seq += 1
+        self.work += work
         return waves
 
     def width(self, early: int, late: int) -> tuple[float, float]:
@@ -472,13 +495,15 @@ def _hop_list(eng: _Engine, mask: int, src: int) -> list:
 
 
 def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int = MAX_TRANSITIONS,
-                  seed: int = 0, paths_per_net: int = PATHS_PER_NET) -> dict:
+                  seed: int = 0, paths_per_net: int = PATHS_PER_NET, max_work: int | None = None) -> dict:
     """Search ``circ`` for glitches (see the module docstring).
 
     Returns a dict with ``hazards`` (list, see :func:`glitch_report`),
     ``transitions`` (``checked``, ``total``, ``exhaustive``, ``sizes``,
-    ``timed_runs``, ``not_shown``) and ``errors`` (the count of hazards
-    that reach a storage cell's clock, enable, preset or clear).
+    ``timed_runs``, ``not_shown``, ``stopped_early``) and ``errors`` (the
+    count of hazards that reach a storage cell's clock, enable, preset or
+    clear).  ``max_work`` bounds the cell evaluations; the search stops after
+    the change that passes it and says how many changes it examined.
     """
     eng = _Engine(circ)
     n = len(circ.inputs)
@@ -488,7 +513,13 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
     groups: dict = {}
     runs = 0
     not_shown = 0
+    checked = 0
+    stopped = False
     for state, changed in trans:
+        if max_work is not None and eng.work > max_work:
+            stopped = True
+            break
+        checked += 1
         tern, cnt = eng.ternary(state, changed)
         after = state
         for i in changed:
@@ -502,7 +533,6 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         masks = set()
         for m in cands:
             masks.update(eng.paths(m, tern, changed_ids, paths_per_net))
-        cone = eng.cone(changed)
         corners = [("min", 0), ("max", 0)] + [(kind, p) for p in sorted(masks) for kind in ("early", "late")]
         changes = [(eng.input_ids[i], v1[eng.input_ids[i]]) for i in changed]
         look = set(cands)
@@ -586,7 +616,8 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         "hazards": listed,
         "hazards_total": len(hazards),
         "errors": errors,
-        "transitions": {"checked": len(trans), "total": total, "exhaustive": exhaustive,
+        "transitions": {"checked": checked, "total": total, "exhaustive": exhaustive and not stopped,
+                        "stopped_early": stopped, "cell_evaluations": eng.work,
                         "sizes": list(sizes), "timed_runs": runs, "not_shown": not_shown,
                         "seed": None if exhaustive else seed},
     }
@@ -607,7 +638,8 @@ def _conditions(conds: list, names: list, exhaustive: bool) -> list:
 
 
 def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
-                  seed: int = 0, min_fraction: float | None = None) -> dict:
+                  seed: int = 0, min_fraction: float | None = None,
+                  max_work: int | None = BUILD_MAX_WORK) -> dict:
     """Glitch figures of a build for ``build.timing``.
 
     Gate builds: :func:`find_glitches` on the build's cells, giving
@@ -623,7 +655,7 @@ def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_T
             out["glitch_search"] = {"method": "relay transfer intervals"}
         return out
     circ = TimedCircuit.from_build(build, min_fraction)
-    res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed)
+    res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed, max_work=max_work)
     search = dict(res["transitions"])
     search["min_delay"] = "typical figure" if min_fraction is None else f"{min_fraction:g} of the maximum"
     return {"hazards": res["hazards"], "hazards_total": res["hazards_total"],
@@ -638,7 +670,9 @@ def relay_transfers(build) -> list:
     the longer of operate and release time plus bounce at the latest).  The
     changeover contact then breaks -- the common terminal touches neither side
     and its net floats (or is held by its load resistor) -- and makes within
-    the operate or release time; then it bounces for the bounce time.  So:
+    the operate or release time (a coil diode lengthens the release time as
+    in :mod:`mapper.analyze.relay_timing`); then it bounces for the bounce
+    time.  So:
 
     * ``floating_s`` = ``[earliest coil change, latest coil change + max(operate, release)]``
     * ``settled_s`` = ``floating_s[1] + bounce``
@@ -653,6 +687,13 @@ def relay_transfers(build) -> list:
         pd = target.parts.get(s.part_id)
         if pd is not None and pd.ratings.get("resistance") is not None and "GND" in s.nets:
             loaded.update(x for x in s.nets if x != "GND")
+    from .relay_timing import DIODE_RELEASE_FACTOR
+
+    diodes = set()
+    for s in build.support:
+        pd = target.parts.get(s.part_id)
+        if "diode" in f"{s.part_id} {pd.description if pd else ''}".lower():
+            diodes.update(s.nets)
     sw = {}
     for p in build.parts:
         pd = target.parts[p.part_id]
@@ -661,7 +702,8 @@ def relay_transfers(build) -> list:
             continue
         typ_fig = pd.delay_typ.get("changeover") if pd.delay_typ else None
         typ = typ_fig.value if typ_fig is not None else r.operate_time.value
-        transfer = max(r.operate_time.value, r.release_time.value)
+        release = r.release_time.value * (DIODE_RELEASE_FACTOR if build.coils.get(p.ref) in diodes else 1.0)
+        transfer = max(r.operate_time.value, release)
         sw[p.ref] = (typ, transfer, r.bounce_time.value)
     # earliest / latest arrival of every relay-driven net, iterative over a topological order
     drivers: dict = {}

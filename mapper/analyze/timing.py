@@ -102,34 +102,37 @@ def net_loads(build) -> dict:
 
 
 class _Graph:
-    """The cells of a build as a timing graph (one arc per used input pin)."""
+    """The cells of a build as a timing graph (one arc per used input pin).
+
+    Storage cells and storage built from gates (:attr:`Build.storage_groups`,
+    a loop of cells) are cut out of the graph and become storage points:
+    their outputs start paths, their data and control inputs end them.
+    """
 
     def __init__(self, build):
         self.build = build
         target = build.target
         self.comb = []       # logic cells in topological order
-        self.storage = []    # storage cells
+        self.points = []     # storage points (dicts, see _storage_points)
         self.driver = {}     # net -> logic cell driving it
-        self.sdriver = {}    # net -> (storage cell, output pin)
+        self.sdriver = {}    # net -> storage point whose output it is
+        logic = [c for c in build.cells if target.cells[c.cell].storage is None and c.group is None]
+        for c in logic:
+            self.driver[c.pins[target.cells[c.cell].output]] = c
+        loads = net_loads(build)
+        self.loads = loads
+        self.delay = {}
         for c in build.cells:
             cd = target.cells[c.cell]
-            if cd.storage is None:
-                self.driver[c.pins[cd.output]] = c
-            else:
-                self.storage.append(c)
-                for o in (cd.output,) + tuple(cd.extra_outputs):
-                    if c.pins.get(o):
-                        self.sdriver[c.pins[o]] = (c, o)
+            self.delay[id(c)] = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0))
         indeg, users = {}, {}
-        for c in build.cells:
+        for c in logic:
             cd = target.cells[c.cell]
-            if cd.storage is not None:
-                continue
             deps = {c.pins[p] for p in cd.inputs if c.pins.get(p) in self.driver}
             indeg[id(c)] = len(deps)
             for d in deps:
                 users.setdefault(d, []).append(c)
-        ready = [c for c in build.cells if target.cells[c.cell].storage is None and indeg[id(c)] == 0]
+        ready = [c for c in logic if indeg[id(c)] == 0]
         ready.reverse()
         while ready:
             c = ready.pop()
@@ -141,12 +144,66 @@ class _Graph:
         if len(self.comb) != len(indeg):
             log.warning("the build's logic cells form a loop; %d cells left out of the timing",
                         len(indeg) - len(self.comb))
-        loads = net_loads(build)
-        self.loads = loads
-        self.delay = {}
-        for c in build.cells:
+        self._storage_points()
+
+    def _storage_points(self) -> None:
+        b = self.build
+        target = b.target
+        for c in b.cells:
             cd = target.cells[c.cell]
-            self.delay[id(c)] = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0))
+            if cd.storage is None or c.group is not None:
+                continue
+            pd = b.part_def(c.part_ref)
+            ctrl_pin = next((p for p in cd.inputs if cd.roles.get(p) in _CLOCK_ROLES), None)
+            if ctrl_pin is None and len(cd.inputs) > 1:
+                ctrl_pin = cd.inputs[1]
+            outs = {c.pins[o]: (o, b.pin_of(c, o)) for o in (cd.output,) + tuple(cd.extra_outputs)
+                    if c.pins.get(o)}
+            self.points.append({
+                "part": c.part_ref, "cell": c.cell, "part_id": pd.id, "kind": cd.storage,
+                "clock": c.pins.get(ctrl_pin) if ctrl_pin else None, "d": c.pins.get(cd.inputs[0]),
+                "outs": outs, "delay": self.delay[id(c)],
+                "setup": _rating(pd, SETUP_RATING), "hold": _rating(pd, HOLD_RATING),
+            })
+        for key, grp in getattr(b, "storage_groups", {}).items():
+            cells = [c for c in b.cells if c.group == key]
+            clk2q = self._group_path(cells, grp.control, grp.q)
+            setup = self._group_path(cells, grp.d, grp.q)
+            self.points.append({
+                "part": cells[0].part_ref if cells else None, "cell": grp.template or "storage from gates",
+                "part_id": None, "kind": grp.kind, "clock": grp.control, "d": grp.d,
+                "outs": {grp.q: (None, None)}, "delay": clk2q,
+                # a latch made of gates must see D settle through its input gates before it closes
+                "setup": setup[1], "hold": 0.0, "group": key,
+            })
+        for pt in self.points:
+            for net in pt["outs"]:
+                self.sdriver[net] = pt
+
+    def _group_path(self, cells, src, dst) -> tuple[float, float]:
+        """Longest simple path (typical, maximum) from net ``src`` to net ``dst`` inside a storage group."""
+        target = self.build.target
+        users: dict = {}
+        for c in cells:
+            cd = target.cells[c.cell]
+            for p in cd.inputs:
+                users.setdefault(c.pins.get(p), []).append(c)
+        best = (0.0, 0.0)
+        stack = [(src, frozenset(), 0.0, 0.0)]
+        steps = 0
+        while stack and steps < 10_000:  # a template has a handful of cells
+            steps += 1
+            net, seen, t, m = stack.pop()
+            if net == dst and seen:
+                best = max(best, (t, m), key=lambda x: x[1])
+                continue
+            for c in users.get(net, ()):
+                if id(c) in seen:
+                    continue
+                out = c.pins[target.cells[c.cell].output]
+                dt, dm = self.delay[id(c)]
+                stack.append((out, seen | {id(c)}, t + dt, m + dm))
+        return best
 
 
 def _propagate(g: _Graph, starts: dict, pick_late: bool, use_max: bool):
@@ -203,10 +260,13 @@ def _path(g: _Graph, prev: dict, end: str, arrivals: list) -> list:
 
 
 def _start_of(g: _Graph, net: str) -> dict:
-    if net in g.sdriver:
-        c, pin = g.sdriver[net]
-        return {"net": net, "kind": "storage", "part": c.part_ref, "cell": c.cell, "pin": pin,
-                "pin_number": g.build.pin_of(c, pin)}
+    pt = g.sdriver.get(net)
+    if pt is not None:
+        pin, number = pt["outs"].get(net, (None, None))
+        out = {"net": net, "kind": "storage", "part": pt["part"], "cell": pt["cell"]}
+        if pin is not None:
+            out.update({"pin": pin, "pin_number": number})
+        return out
     return {"net": net, "kind": "input"}
 
 
@@ -257,35 +317,25 @@ def _rating(pd, name) -> float | None:
 def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> dict:
     """Storage-to-storage paths: highest safe clock rate, hold slack, input setup, clock to output."""
     b = g.build
-    target = b.target
     # clock arrivals: from the inputs, and from storage outputs for clocks made by storage (ripple)
     late_clk, _ = _propagate(g, base_late, True, True)
     early_clk, _ = _propagate(g, base_typ, False, False)
     info = []
     missing_setup = set()
-    for c in g.storage:
-        cd = target.cells[c.cell]
-        pd = b.part_def(c.part_ref)
-        ctrl_pin = next((p for p in cd.inputs if cd.roles.get(p) in _CLOCK_ROLES), None)
-        if ctrl_pin is None and len(cd.inputs) > 1:
-            ctrl_pin = cd.inputs[1]
-        clk = c.pins.get(ctrl_pin) if ctrl_pin else None
+    for pt in g.points:
+        clk = pt["clock"]
         src, inv = _clock_source(g, clk) if clk else (None, 0)
-        edge = _EDGE.get(cd.storage, "rise")
+        edge = _EDGE.get(pt["kind"], "rise")
         if inv:
             edge = "fall" if edge == "rise" else "rise"
-        setup = _rating(pd, SETUP_RATING)
-        hold = _rating(pd, HOLD_RATING)
-        if setup is None:
-            missing_setup.add(pd.id)
-        t, m = g.delay[id(c)]
+        if pt["setup"] is None and pt["part_id"]:
+            missing_setup.add(pt["part_id"])
         info.append({
-            "cell": c, "clock": clk, "source": src, "edge": edge,
+            "point": pt, "clock": clk, "source": src, "edge": edge,
             "clk_late": late_clk.get(clk, 0.0) if clk else 0.0,
             "clk_early": early_clk.get(clk, 0.0) if clk else 0.0,
-            "clk2q": (t, m), "setup": setup or 0.0, "hold": hold or 0.0,
-            "d": c.pins.get(cd.inputs[0]),
-            "outs": [c.pins[o] for o in (cd.output,) + tuple(cd.extra_outputs) if c.pins.get(o)],
+            "clk2q": pt["delay"], "setup": pt["setup"] or 0.0, "hold": pt["hold"] or 0.0,
+            "d": pt["d"], "outs": list(pt["outs"]),
         })
     # one propagation per (clock source, edge) group of launching cells
     groups: dict = {}
@@ -315,8 +365,8 @@ def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> dict:
             if period > worst_period:
                 worst_period = period
                 first = _first_net(lprev, d)
-                worst = {"from": _start_of(g, first), "to": {"part": cap["cell"].part_ref, "cell": cap["cell"].cell,
-                                                               "net": d},
+                worst = {"from": _start_of(g, first),
+                         "to": {"part": cap["point"]["part"], "cell": cap["point"]["cell"], "net": d},
                          "arrival_s": late[d], "setup_s": cap["setup"],
                          "half_cycle": cap["edge"] != edge,
                          "path": _path(g, lprev, d, [("arrival_s", late)])}
@@ -325,7 +375,7 @@ def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> dict:
                 if hold_slack is None or slack < hold_slack:
                     hold_slack = slack
                     hold_worst = {"from": _start_of(g, _first_net(eprev, d)),
-                                  "to": {"part": cap["cell"].part_ref, "cell": cap["cell"].cell, "net": d}}
+                                  "to": {"part": cap["point"]["part"], "cell": cap["point"]["cell"], "net": d}}
     own = max((s["clk2q"][1] + s["setup"] for s in info), default=0.0)
     notes = []
     if worst is None:
@@ -400,13 +450,11 @@ def static_timing(build) -> dict:
     # storage outputs start at their clock-to-output delay after the clock edge
     base_late = {i: 0.0 for i in build.inputs}
     base_typ = dict(base_late)
-    for c in g.storage:
-        cd = target.cells[c.cell]
-        t, m = g.delay[id(c)]
-        for o in (cd.output,) + tuple(cd.extra_outputs):
-            if c.pins.get(o):
-                base_late[c.pins[o]] = m
-                base_typ[c.pins[o]] = t
+    for pt in g.points:
+        t, m = pt["delay"]
+        for net in pt["outs"]:
+            base_late[net] = m
+            base_typ[net] = t
     late, lprev = _propagate(g, base_late, True, True)
     late_t, _ = _propagate(g, base_typ, True, False)
     early, eprev = _propagate(g, base_typ, False, False)
@@ -418,12 +466,10 @@ def static_timing(build) -> dict:
         if ins:
             lev[c.pins[cd.output]] = 1 + max((lev.get(n, 0) for n in ins), default=0)
     ends = [(o, build.output_nets.get(o, o)) for o in build.outputs]
-    for c in g.storage:
-        cd = target.cells[c.cell]
-        for p in cd.inputs:
-            n = c.pins.get(p)
+    for pt in g.points:
+        for label, n in (("data", pt["d"]), ("clock", pt["clock"])):
             if n and n not in _RAILS:
-                ends.append((f"{c.part_ref}.{p}", n))
+                ends.append((f"{pt['part']} {pt['cell']} {label}", n))
     arrivals = [("arrival_s", late), ("arrival_typ_s", late_t)]
     paths = []
     outputs = {}
@@ -446,13 +492,14 @@ def static_timing(build) -> dict:
     end_label, end = max(live, key=lambda ln: late[ln[1]], default=(None, None))
     overloaded = []
     for net, ul in sorted(g.loads.items()):
-        c = g.driver.get(net) or (g.sdriver.get(net) or (None,))[0]
-        if c is None:
+        c = g.driver.get(net)
+        ref = c.part_ref if c is not None else (g.sdriver.get(net) or {}).get("part")
+        if ref is None:
             continue
-        pd = build.part_def(c.part_ref)
+        pd = build.part_def(ref)
         if pd.output_drive is not None and ul > pd.output_drive.value + 1e-12:
             overloaded.append({"net": net, "load_ul": round(ul, 6), "drive_ul": pd.output_drive.value,
-                               "part": c.part_ref})
+                               "part": ref})
     out = {
         "delay_s": late.get(end, 0.0) if end is not None else 0.0,
         "delay_typ_s": max((late_t.get(n, 0.0) for _, n in ends), default=0.0),
@@ -464,6 +511,6 @@ def static_timing(build) -> dict:
         "critical_end": {"net": end, "endpoint": end_label} if end is not None else None,
         "overloaded": overloaded,
     }
-    if g.storage:
+    if g.points:
         out.update(_sequential(g, base_late, base_typ))
     return out
