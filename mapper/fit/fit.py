@@ -103,7 +103,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
         used = best.cell_counts()
         seeds = [{base} for base in _complete_cells(lib)]
         seeds += [{base, extra} for base in _complete_cells(lib)
-                  for extra in sorted(lib.cells, key=lambda c: (-used.get(c, 0), c)) if extra != base]
+                  for extra in sorted(used, key=lambda c: (-used[c], c)) if extra != base and extra in lib.cells]
         seen_seeds = set()
         for keep_cells in seeds:
             if frozenset(keep_cells) in seen_seeds:

@@ -39,7 +39,7 @@ __all__ = ["Impl", "CellLibrary", "GND", "VCC"]
 
 log = logging.getLogger(__name__)
 
-_CACHE_VERSION = 1
+_CACHE_VERSION = 2
 
 #: signal numbers of the rails inside an :class:`Impl`
 GND = -1
@@ -125,7 +125,11 @@ class CellLibrary:
         lib = self._tables.get(n)
         if lib is None:
             lib = self._tables[n] = self._cached(n)
-        return lib.get(table)
+        got = lib.get(table)
+        if got is None or isinstance(got, Impl):
+            return got
+        impl = lib[table] = Impl(*got)  # stored as a plain tuple: fast to unpickle
+        return impl
 
     def _cached(self, n: int) -> dict:
         """The supergate table over ``n`` leaves, from the on-disk cache when
@@ -145,7 +149,8 @@ class CellLibrary:
             folder.mkdir(parents=True, exist_ok=True)
             fd, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
             with os.fdopen(fd, "wb") as fh:
-                pickle.dump(table, fh, protocol=pickle.HIGHEST_PROTOCOL)
+                plain = {t: (i.cost, i.depth, i.gates, i.out) for t, i in table.items()}
+                pickle.dump(plain, fh, protocol=pickle.HIGHEST_PROTOCOL)
             os.replace(tmp, path)
         except OSError as exc:  # a read-only home is no reason to fail
             log.debug("match table cache not written: %s", exc)
@@ -219,7 +224,9 @@ class CellLibrary:
         else:
             small = list(best.items())
             wide = {}
-            sub = self.lookup(3, 0) and self._tables[3]
+            if 3 not in self._tables:
+                self._tables[3] = self._cached(3)
+            sub = {t: (i if isinstance(i, Impl) else Impl(*i)) for t, i in self._tables[3].items()}
             for drop in range(4):
                 keep = tuple(j for j in range(4) if j != drop)
                 for t3, impl in sub.items():
