@@ -191,6 +191,33 @@ class TimedCircuit:
         outputs = {o: build.output_nets.get(o, o) for o in build.outputs}
         return cls(build.design, inputs, gates, outputs, watch, {"VCC": 1, "GND": 0})
 
+    @classmethod
+    def from_netlist(cls, netlist, dmin: float, dmax: float) -> "TimedCircuit":
+        """A design's logic nodes as gates, each with the delay range ``[dmin, dmax]``.
+
+        Storage outputs become inputs and their controls are watched, as for
+        builds.  Nodes wider than a truth table are refused (``ValueError``).
+        """
+        from ..netlist import Logic, Storage
+
+        inputs = list(netlist.inputs)
+        gates = []
+        watch: dict = {}
+        consts = {}
+        for name, node in netlist.nodes.items():
+            if isinstance(node, Storage):
+                inputs.append(name)
+                if node.control is not None:
+                    watch.setdefault(node.control, []).append({
+                        "part": None, "cell": f"storage {name}", "slot": None, "pin": "control",
+                        "pin_number": None, "role": "clock" if node.kind in ("re", "fe") else "enable"})
+            elif isinstance(node, Logic):
+                if not node.fanins:
+                    consts[name] = node.func.constant_value()
+                    continue
+                gates.append(Gate(name, tuple(node.fanins), node.func.table(), dmin, dmax))
+        return cls(netlist.name, inputs, gates, {o: o for o in netlist.outputs}, watch, consts)
+
 
 class _Engine:
     """Integer-indexed form of a :class:`TimedCircuit` with the simulations."""
