@@ -119,42 +119,53 @@ class _Mapper:
         self.mode = "delay"
 
     # -- evaluation of one node --------------------------------------------
+    def _phase_vectors(self, leaves):
+        """Leaf phases to try: all positive, and each leaf in its cheaper phase
+        (a NAND-built signal is cheapest complemented)."""
+        best = self.best
+        cheap = tuple(1 if (best[l][1] is not None and best[l][0] is not None
+                            and best[l][1].af < best[l][0].af) else 0 for l in leaves)
+        if any(cheap):
+            return ((0,) * len(leaves), cheap)
+        return ((0,) * len(leaves),)
+
     def _cut_cost(self, v, leaves, table):
         n = len(leaves)
         full = (1 << (1 << n)) - 1
         best = INF
-        for tt in (table, table ^ full):
-            impl = self.lib.lookup(n, tt)
-            if impl is None:
-                continue
-            af = impl.cost + sum(self.best[l][0].af / self.refs[l] for l in leaves)
-            best = min(best, af)
+        for pv in self._phase_vectors(leaves):
+            t0 = flip_inputs(table, n, pv)
+            lf = sum(self.best[l][p].af / self.refs[l] for l, p in zip(leaves, pv))
+            for tt in (t0, t0 ^ full):
+                impl = self.lib.lookup(n, tt)
+                if impl is not None:
+                    best = min(best, impl.cost + lf)
         return best
 
     def _match(self, v):
-        full_cache = {}
         cands = [None, None]
         for leaves, table in self.cuts[v]:
             if leaves == (v,):
                 continue
             n = len(leaves)
-            full = full_cache.get(n)
-            if full is None:
-                full = full_cache[n] = (1 << (1 << n)) - 1
-            lf = 0.0
-            la = 0
-            for l in leaves:
-                c = self.best[l][0]
-                lf += c.af / self.refs[l]
-                if c.arr > la:
-                    la = c.arr
-            for p, tt in ((0, table), (1, table ^ full)):
-                impl = self.lib.lookup(n, tt)
-                if impl is None:
-                    continue
-                ch = _Choice(impl, leaves, False, impl.cost + lf, la + impl.depth)
-                if self._better(ch, cands[p]):
-                    cands[p] = ch
+            full = (1 << (1 << n)) - 1
+            for pv in self._phase_vectors(leaves):
+                lf = 0.0
+                la = 0
+                for l, p in zip(leaves, pv):
+                    c = self.best[l][p]
+                    lf += c.af / self.refs[l]
+                    if c.arr > la:
+                        la = c.arr
+                t0 = flip_inputs(table, n, pv)
+                lp = tuple(zip(leaves, pv))
+                for p, tt in ((0, t0), (1, t0 ^ full)):
+                    impl = self.lib.lookup(n, tt)
+                    if impl is None:
+                        continue
+                    ch = _Choice(impl, lp, False, impl.cost + lf, la + impl.depth)
+                    if self._better(ch, cands[p]):
+                        cands[p] = ch
         # a phase may come from the other (as matched by a cut) through an inverter
         direct = list(cands)
         for p in (0, 1):
@@ -217,8 +228,8 @@ class _Mapper:
             elif ch.leaves is None:
                 continue
             else:
-                nxt = [(l, 0) for l in ch.leaves]
-                for l in ch.leaves:
+                nxt = list(ch.leaves)
+                for l, _ in ch.leaves:
                     refs[l] = refs.get(l, 0) + 1
             for q in nxt:
                 if q not in need:
@@ -239,7 +250,7 @@ class _Mapper:
                 return self.inv_cost, ((vp[0], 1 - vp[1]),)
             if ch.leaves is None:
                 return 0.0, ()
-            return ch.impl.cost, tuple((l, 0) for l in ch.leaves)
+            return ch.impl.cost, ch.leaves
 
         def ref(vp):
             """Add a reference; returns the area newly paid (iterative)."""
@@ -286,16 +297,20 @@ class _Mapper:
                     if leaves == (v,):
                         continue
                     n = len(leaves)
-                    tt = table if p == 0 else table ^ ((1 << (1 << n)) - 1)
-                    impl = self.lib.lookup(n, tt)
-                    if impl is None:
-                        continue
-                    ch = _Choice(impl, leaves, False, 0.0, 0)
-                    self.best[v][p] = ch
-                    area = ref(vp)
-                    deref(vp)
-                    if area < best_area - 1e-9:
-                        best_ch, best_area = ch, area
+                    for pv in self._phase_vectors(leaves):
+                        if any(self.best[l][q] is None for l, q in zip(leaves, pv)):
+                            continue
+                        t0 = flip_inputs(table, n, pv)
+                        tt = t0 if p == 0 else t0 ^ ((1 << (1 << n)) - 1)
+                        impl = self.lib.lookup(n, tt)
+                        if impl is None:
+                            continue
+                        ch = _Choice(impl, tuple(zip(leaves, pv)), False, 0.0, 0)
+                        self.best[v][p] = ch
+                        area = ref(vp)
+                        deref(vp)
+                        if area < best_area - 1e-9:
+                            best_ch, best_area = ch, area
                 if not old.inv and self.inv_cost < INF and refc.get((v, 1 - p), 0) > 0:
                     ch = _Choice(None, None, True, 0.0, 0)
                     if self.best[v][1 - p].inv is False:
@@ -356,7 +371,7 @@ class _Mapper:
                     netof[(0, p)] = "VCC" if p else "GND"
                     continue
                 ch = self.best[v][p]
-                deps = [(v, 1 - p)] if ch.inv else [(l, 0) for l in ch.leaves]
+                deps = [(v, 1 - p)] if ch.inv else list(ch.leaves)
                 if not ready:
                     stack.append(((v, p), True))
                     for d in deps:
@@ -369,7 +384,7 @@ class _Mapper:
                     leaf_nets = [netof[(v, 1 - p)]]
                 else:
                     impl = ch.impl
-                    leaf_nets = [netof[(l, 0)] for l in ch.leaves]
+                    leaf_nets = [netof[lp] for lp in ch.leaves]
                 netof[(v, p)] = self._emit(impl, leaf_nets, gate, pref)
 
         for lit in self.roots:
@@ -409,6 +424,29 @@ class _Mapper:
                             pref if is_out else None))
         del last
         return net(impl.out)
+
+
+_FLIP: dict = {}
+
+
+def flip_inputs(table: int, n: int, phases) -> int:
+    """The table with input ``j`` complemented wherever ``phases[j]`` is 1:
+    the function of the leaves' complements that equals ``table`` of the leaves."""
+    if not any(phases):
+        return table
+    key = (table, n, tuple(phases))
+    r = _FLIP.get(key)
+    if r is None:
+        from ..logic.function import var_mask
+        full = (1 << (1 << n)) - 1
+        r = table
+        for j, ph in enumerate(phases):
+            if ph:
+                m = var_mask(n, j)
+                sh = 1 << j
+                r = ((r & m) >> sh) | ((r & ~m & full) << sh)
+        _FLIP[key] = r
+    return r
 
 
 def _symmetric(func) -> bool:
