@@ -12,7 +12,7 @@ from .read import read_design
 from .write import writer_for
 
 __all__ = ["inspect", "verify", "convert", "load_target", "targets", "target_info", "fit", "build",
-           "write_build"]
+           "write_build", "parts", "compare", "BUILD_FILES", "fit_hazard_free", "timing"]
 
 log = logging.getLogger(__name__)
 
@@ -100,35 +100,55 @@ def fit(design, target, effort: int = 1, keep=()):
     from .errors import InternalError
     from .verify import check_equivalence
 
+    import time
+
+    clock = [time.perf_counter()]
+    stages = {}
+
+    def lap(name):
+        now = time.perf_counter()
+        stages[name] = round(now - clock[0], 3)
+        clock[0] = now
+
     if getattr(target, "kind", "gates") == "relay":
         from .fit.relay import fit_relays
         build = fit_relays(design, target, effort=effort)
     else:
         from .fit.fit import fit_gates
         build = fit_gates(design, target, effort=effort, keep=keep)
+    lap("fit")
     if getattr(target, "kind", "gates") != "relay":
         # relay builds carry their own timing and supply figures (mapper.analyze.relay_timing)
         build.timing.update(static_timing(build))
         _supply(build)
+    lap("timing")
     result = check_equivalence(design, build.to_netlist(), hints=build.hints())
+    lap("proof")
     if not result.equivalent:
         raise InternalError(
             f"the build of {design.name} on {target.name} does not do the same logic as the design "
             f"({result.method}; counterexample {result.counterexample}) — this is a bug in netfit")
     build.verified = "proved"
     build.notes.extend(result.notes)
+    from .analyze.glitch import glitch_report
+    build.timing.update(glitch_report(build))  # hazards in every build report (budgeted)
+    lap("glitches")
+    build.timing["stage_s"] = stages
     return build
 
 
 def _supply(build) -> None:
     """Supply current: quiescent per part plus per active unit (worst case: every unit active)."""
+    from collections import Counter
+
     worst = typ = 0.0
+    per_part = Counter(c.part_ref for c in build.cells)
+    per_part.update(k.part_ref for k in build.contacts)
     for p in build.parts:
         pd = build.target.parts[p.part_id]
         q = pd.current_quiescent.value if pd.current_quiescent is not None else 0.0
         u = pd.current_per_unit.value if pd.current_per_unit is not None else 0.0
-        used = sum(1 for c in build.cells if c.part_ref == p.ref) + sum(
-            1 for k in build.contacts if k.part_ref == p.ref)
+        used = per_part[p.ref]
         if pd.relay is not None:
             coil = pd.relay.coil_current.value
             worst += coil
@@ -140,32 +160,213 @@ def _supply(build) -> None:
     build.timing["supply_current_typ_a"] = round(typ, 9)
 
 
-def build(path, target_name, out_dir=None, effort: int = 1, **read_options):
+def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, hazard_free: bool = False,
+          **read_options):
     """``netfit build``: read, fit, prove, and write the build's files when ``out_dir`` is given."""
-    design = read_design(path, **read_options)
+    from . import progress
+
+    with progress.stage("reading the design"):
+        design = read_design(path, **read_options)
     target = load_target(target_name)
-    b = fit(design, target, effort=effort)
+    with progress.stage(f"fitting {design.name} onto {target.name} and proving it"):
+        b = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
     if out_dir is not None:
-        write_build(b, out_dir, protect=(path,))
+        with progress.stage("writing the build's files"):
+            write_build(b, out_dir, protect=(path,), copies=copies)
     return b
 
 
-def write_build(b, out_dir, protect=()) -> list:
-    """Write every build output the writers offer into ``out_dir``; returns the paths."""
-    import importlib
+#: file names of ``netfit build -o DIR`` besides ``<design>.v/.blif/.json``
+BUILD_FILES = ("cells.v", "parts.csv", "wiring.txt", "schematic.svg", "report.html")
 
+
+def _file_stem(design: str) -> str:
+    import re
+    stem = re.sub(r"[^A-Za-z0-9._-]", "_", design).strip(".") or "design"
+    return stem + "_build" if stem == "cells" else stem
+
+
+def write_build(b, out_dir, protect=(), copies: int = 1) -> list:
+    """Write the build's files into ``out_dir``; returns their paths.
+
+    ``<design>.v`` and ``cells.v`` (structural Verilog and cell models),
+    ``<design>.blif``, ``<design>.json`` (the whole build), ``parts.csv``
+    (the ordering list for ``copies`` copies), ``wiring.txt``,
+    ``schematic.svg`` and ``report.html``.  Each file is written through a
+    temporary file and a rename; the wiring is checked (every pin on at most
+    one net) before any file is written.
+    """
+    from .write import blif, html, parts, svg, verilog, wiring
+    from .write import json as wjson
+
+    wiring.wiring(b)  # raises before anything is written if a pin would join two nets
     out = Path(out_dir)
+    stem = _file_stem(b.design)
+    jobs = [
+        (f"{stem}.v", verilog.write_build),  # also writes cells.v beside it
+        (f"{stem}.blif", blif.write_build),
+        (f"{stem}.json", wjson.write_build),
+        ("parts.csv", lambda b_, p, protect: parts.write_build(b_, p, protect=protect, copies=copies)),
+        ("wiring.txt", wiring.write_build),
+        ("schematic.svg", svg.write_build),
+        ("report.html", html.write_build),
+    ]
     written = []
-    for suffix, modname in (("blif", "mapper.write.blif"), ("json", "mapper.write.json"),
-                            ("v", "mapper.write.verilog")):
-        try:
-            mod = importlib.import_module(modname)
-        except ModuleNotFoundError:
-            continue
-        fn = getattr(mod, "write_build", None)
-        if fn is None:
-            continue
-        p = out / f"{b.design}.{suffix}"
+    for name, fn in jobs:
+        p = out / name
         fn(b, p, protect=protect)
         written.append(p)
+        if name.endswith(".v"):
+            written.append(out / verilog.CELLS_FILE)
+        log.info("wrote %s", p)
     return written
+
+
+def parts(path, target_name, effort: int = 1, copies: int = 1, **read_options) -> tuple:
+    """``netfit parts``: the build and its ordering list for ``copies`` copies (``(build, rows)``)."""
+    from .write.parts import order_rows
+
+    b = build(path, target_name, effort=effort, **read_options)
+    return b, order_rows(b, copies)
+
+
+def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -> dict:
+    """Build one target for :func:`compare` (runs in a worker process); never raises."""
+    from .errors import InputError, NetfitError
+
+    try:
+        design = read_design(path, **read_options)
+        b = fit(design, load_target(target_name), effort=effort)
+        return b.summary()
+    except InputError as exc:
+        return {"target": target_name, "error": "; ".join(d.message for d in exc.diagnostics),
+                "error_kind": "input"}
+    except NetfitError as exc:
+        return {"target": target_name, "error": str(exc),
+                "error_kind": "internal" if exc.exit_code == 3 else "usage"}
+    except Exception as exc:  # a bug of ours: reported in its column, the other targets go on
+        log.debug("target %s failed", target_name, exc_info=True)
+        return {"target": target_name, "error": f"internal error: {type(exc).__name__}: {exc}",
+                "error_kind": "internal"}
+
+
+def compare(path, target_names=None, effort: int = 1, jobs: int | None = None, **read_options) -> dict:
+    """``netfit compare``: build the design on every target, in parallel processes.
+
+    Returns ``{"design": name, "file": path, "targets": [summary, ...]}`` in
+    the order of ``target_names`` (default: every built-in target).  Each
+    entry is the target's build summary (:meth:`~mapper.build.Build.summary`)
+    or, for a target the design cannot be built on, ``{"target", "error",
+    "error_kind"}``.  A bad design or an unknown target name raises before
+    anything is built.
+    """
+    import multiprocessing
+    import os
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+
+    from . import progress
+    from .fit.target import builtin_targets
+
+    design = read_design(path, **read_options)
+    names = list(target_names) if target_names else [n for n, _ in builtin_targets()]
+    for n in names:
+        load_target(n)
+    workers = max(1, min(len(names), jobs or os.cpu_count() or 1))
+    results: dict = {}
+    with progress.stage(f"building {design.name} on {len(names)} targets", total=len(names)) as st:
+        if workers == 1:
+            for n in names:
+                results[n] = _compare_one(str(path), n, effort, read_options)
+                st.advance()
+        else:
+            # spawned workers: a fresh interpreter each, no state forked from a busy parent
+            ctx = multiprocessing.get_context("spawn")
+            with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as ex:
+                futs = {ex.submit(_compare_one, str(path), n, effort, read_options): n for n in names}
+                for f in as_completed(futs):
+                    results[futs[f]] = f.result()
+                    st.advance()
+    return {"design": design.name, "file": str(path), "targets": [results[n] for n in names]}
+
+
+def fit_hazard_free(design, target, effort: int = 1):
+    """Fit ``design`` with every two-level cover made free of static hazards (``--hazard-free``).
+
+    Small cones that glitch are collapsed into two-level covers and
+    consensus terms are added (:func:`mapper.analyze.hazard.add_consensus`),
+    the rewritten design is proved equal to the design, and the mapper keeps
+    the added terms.  Of the builds at each effort level up to ``effort``,
+    the one with the fewest glitches found, then the fewest parts, is
+    returned.  The plain build is made too, so
+    ``build.timing["hazard_free"]`` can say what the terms cost: the added
+    terms, ``parts_plain``/``parts``/``extra_parts``, ``cells_plain``/``cells``
+    and the glitch finder's hazard counts of both builds.
+    """
+    from .analyze.hazard import COLLAPSE_INPUTS, add_consensus
+    from .errors import InternalError
+    from .verify import check_equivalence
+
+    hf, kept, report = add_consensus(design, collapse_inputs=COLLAPSE_INPUTS)
+    same = check_equivalence(design, hf)
+    if not same.equivalent:
+        raise InternalError(f"adding consensus terms changed the logic of {design.name} — this is a bug in netfit")
+    plain = fit(design, target, effort=effort)
+    # The mapper may still rebuild a kept node from a minimum circuit with reconvergent paths
+    # (x + x'y for x + y), which glitches again; the part search makes that likelier.  So each
+    # effort level is tried and the glitch finder picks: fewest glitches, then fewest parts.
+    tries = [fit(hf, target, effort=e, keep=kept) for e in sorted({0, effort})]
+    b = min(tries, key=lambda x: (x.timing.get("hazards_total", 0), len(x.parts), len(x.cells)))
+    report.update({
+        "parts_plain": len(plain.parts), "parts": len(b.parts), "extra_parts": len(b.parts) - len(plain.parts),
+        "cells_plain": len(plain.cells), "cells": len(b.cells),
+        "hazards_plain": plain.timing.get("hazards_total", 0), "hazards": b.timing.get("hazards_total", 0),
+    })
+    if getattr(target, "kind", "gates") == "relay":
+        report["note"] = "contact networks are not built as AND-OR covers: the consensus terms may not survive"
+    b.timing["hazard_free"] = report
+    b.notes.append(f"hazard-free covers: {report['terms_added']} consensus term(s) added in "
+                   f"{report['nodes_split']} node(s); {report['extra_parts']:+d} part(s) against the plain build")
+    return b
+
+
+def timing(path, target_name, hazard_free: bool = False, multi: bool = False, effort: int = 1,
+           max_transitions: int | None = None, **read_options) -> dict:
+    """``netfit timing``: static timing, glitches and cover hazards of a design's build.
+
+    Returns a dict with ``delay_s`` (worst path, maximum figures), ``delay_typ_s``,
+    ``levels``, ``outputs``, ``paths`` (per output: worst and best path with parts
+    and pins), ``critical_path``, ``clock_max_hz`` and the other clock figures
+    for sequential builds, ``hazards`` (the glitch finder's, each with at least
+    ``output``, ``kind``, ``inputs_changed`` and ``width_s``), ``glitch_errors``
+    (hazards reaching a clock, enable, preset or clear), ``glitch_search``,
+    ``cover_hazards`` (the algebraic check of the design's two-level covers),
+    ``floating`` for relay builds and ``hazard_free`` when asked for.
+    """
+    from .analyze.glitch import MAX_TRANSITIONS, glitch_report
+    from .analyze.hazard import design_hazards
+
+    design = read_design(path, **read_options)
+    target = load_target(target_name)
+    b = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
+    if b.cells:
+        b.timing.update(glitch_report(b, multi=multi, max_transitions=max_transitions or MAX_TRANSITIONS,
+                                      max_work=None))
+    t = b.timing
+    paths = t.get("paths") or [{"output": o, "best_s": v[0], "worst_s": v[1]}
+                               for o, v in t.get("outputs", {}).items()]
+    out = {"design": b.design, "target": target.name, "parts": len(b.parts),
+           "delay_s": t.get("delay_s"), "delay_typ_s": t.get("delay_typ_s"), "levels": t.get("levels"),
+           "outputs": t.get("outputs", {}), "paths": paths, "critical_path": t.get("critical_path", []),
+           "critical_start": t.get("critical_start"), "critical_end": t.get("critical_end")}
+    for key in ("clock_max_hz", "clock_period_min_s", "clock_path", "hold_slack_s", "input_setup_s",
+                "clock_to_output_s", "clock_notes", "overloaded", "per_level_s", "operate_s", "release_s",
+                "bounce_s", "floating"):
+        if key in t:
+            out[key] = t[key]
+    out.update({"hazards": t.get("hazards", []), "hazards_total": t.get("hazards_total", 0),
+                "glitch_errors": t.get("glitch_errors", 0), "glitch_search": t.get("glitch_search", {}),
+                "cover_hazards": design_hazards(design)})
+    if "hazard_free" in t:
+        out["hazard_free"] = t["hazard_free"]
+    out["notes"] = list(b.notes)
+    return out
