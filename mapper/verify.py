@@ -49,6 +49,7 @@ don't care (2) and unknown (3) match anything; different known values
 """
 from __future__ import annotations
 
+import heapq
 import logging
 import random
 import time
@@ -59,6 +60,7 @@ from pysat.solvers import Solver
 from .errors import InternalError, NetfitError
 from .logic.aig import AIG, from_netlist
 from .logic.cnf import AigCnf
+from .logic.function import var_mask
 from .netlist import Netlist
 from .simulate import simulate
 
@@ -80,6 +82,10 @@ DEFAULT_CONFLICT_BUDGET = 1000
 DEFAULT_PATTERNS = 2048
 #: at most this many tries to merge one node (each failed try refines the classes)
 _MAX_TRIES = 4
+#: leaves and inner nodes of the cut tried before a SAT call (see _Prover.cut_equal)
+_CUT_LEAVES = 8
+_CUT_NODES = 100
+_CONE_TOP = 40
 
 _SWEEP_REFS = ("SAT sweeping (Kuehlmann et al., IEEE TCAD 2002; "
                "Mishchenko et al., ICCAD 2006)")
@@ -282,7 +288,7 @@ class _Prover:
         self.budget = budget
         self.rng = rng
         self.sweep = sweep
-        self.stats = {"sat_calls": 0, "merged_by_sat": 0, "merged_by_structure": 0,
+        self.stats = {"sat_calls": 0, "merged_by_sat": 0, "merged_by_cut": 0, "merged_by_structure": 0,
                       "disproved": 0, "undecided": 0, "refinements": 0}
         if sweep:
             self.n = AIG()
@@ -319,6 +325,91 @@ class _Prover:
             else:
                 out[name] = self.rng.getrandbits(1)
         return out
+
+    def _cone_top(self, root: int) -> set:
+        """The :data:`_CONE_TOP` largest variables of ``root``'s cone."""
+        f0, f1 = self.n.f0, self.n.f1
+        seen = set()
+        heap = [-root]
+        while heap and len(seen) < _CONE_TOP:
+            v = -heapq.heappop(heap)
+            if v in seen:
+                continue
+            seen.add(v)
+            if f0[v] >= 0:
+                heapq.heappush(heap, -(f0[v] >> 1))
+                heapq.heappush(heap, -(f1[v] >> 1))
+        return seen
+
+    def cut_equal(self, x: int, y: int) -> bool:
+        """True when swept literals ``x`` and ``y`` compute the same function
+        of a small shared cut (so they are equal); False means "not shown".
+
+        The cones of both are expanded from the top (largest variable
+        first; a node whose expansion would make the cut too wide stays a
+        leaf) into a cut of at most :data:`_CUT_LEAVES` nodes, then
+        simulated exhaustively over the cut.  Agreement for every value of
+        the cut's leaves implies agreement for every input, because any
+        input assignment gives the leaves some values.  (Equivalence over
+        cuts: Kuehlmann and Krohm, "Equivalence checking using cuts and
+        heaps", DAC 1997.)
+        """
+        if self._cut_equal(x, y, ()):
+            return True
+        # nodes in both (bounded) cones are where the two structures meet:
+        # keep them as leaves rather than expanding past them
+        vx, vy = x >> 1, y >> 1
+        shared = self._cone_top(vx) & self._cone_top(vy)
+        shared.discard(vx)
+        shared.discard(vy)
+        return bool(shared) and self._cut_equal(x, y, shared)
+
+    def _cut_equal(self, x: int, y: int, shared) -> bool:
+        f0, f1 = self.n.f0, self.n.f1
+        vx, vy = x >> 1, y >> 1
+        frontier = {vx, vy}
+        heap = [-vx, -vy] if vx != vy else [-vx]
+        heapq.heapify(heap)
+        inner = []
+        while heap and len(inner) < _CUT_NODES:
+            v = -heapq.heappop(heap)
+            a = f0[v]
+            if a < 0:
+                break  # the largest open node is an input: so are all others
+            if v in shared:
+                continue
+            a >>= 1
+            b = f1[v] >> 1
+            grow = (a not in frontier) + (b not in frontier and b != a)
+            if len(frontier) - 1 + grow > _CUT_LEAVES:
+                continue  # stays a leaf; smaller nodes may still reconverge
+            frontier.discard(v)
+            inner.append(v)
+            for c in (a, b):
+                if c not in frontier:
+                    frontier.add(c)
+                    heapq.heappush(heap, -c)
+        if not inner:
+            return False
+        leaves = sorted(u for u in frontier if u not in inner)
+        k = sum(1 for u in leaves if u)
+        full = (1 << (1 << k)) - 1
+        val = {}
+        j = 0
+        for u in leaves:
+            if u == 0:
+                val[0] = 0
+            else:
+                val[u] = var_mask(k, j)
+                j += 1
+        for v in sorted(inner):
+            a, b = f0[v], f1[v]
+            wa = val[a >> 1] ^ (full if a & 1 else 0)
+            wb = val[b >> 1] ^ (full if b & 1 else 0)
+            val[v] = wa & wb
+        wx = val[vx] ^ (full if x & 1 else 0)
+        wy = val[vy] ^ (full if y & 1 else 0)
+        return wx == wy
 
     def prove_equal(self, x: int, y: int, budget):
         """``True`` if swept literals ``x`` and ``y`` are equal, a model
@@ -422,6 +513,10 @@ class _Prover:
                     self.stats["merged_by_structure"] += 1
                     break
                 tries += 1
+                if self.cut_equal(nl, target):
+                    self.stats["merged_by_cut"] += 1
+                    result_lit = target
+                    break
                 res = self.prove_equal(nl, target, budget)
                 if res is True:
                     self.stats["merged_by_sat"] += 1
