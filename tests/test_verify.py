@@ -400,4 +400,3 @@ def test_prover_agrees_with_exhaustive_simulation(seed):
     truly_equal = all(va[o] == vb[o] for o in a.outputs)
     res = check_equivalence(a, b, seed=seed, patterns=256)
     assert res.equivalent == truly_equal, (seed, res.method, res.stats)
-    return res
