@@ -46,7 +46,15 @@ the ranges, so none is invented; a hazard needing a race among three or
 more paths in a particular order may be missed -- the count of changes that
 the three-valued test could not rule out but no corner showed is reported
 (``not_shown``; most are changes that can glitch only under delays outside
-the catalog ranges).
+the catalog ranges).  At most :data:`PATHS_PER_CHANGE` paths per change get
+corners of their own, shared out among the nets in question.
+
+Hazards are reported per net, kind and changing inputs: ``when`` lists the
+states of the other inputs where it shows (merged into cubes),
+``directions`` which way the inputs went, ``width_s`` the union of the
+pulse-width ranges of all races seen, ``racing_paths`` the race with the
+widest pulse (hop by hop with parts and pins) and ``races`` how many
+different pairs of paths raced.
 
 A glitch on a net that reaches a clock, enable, preset or clear input of a
 storage cell can store a wrong value: it is flagged as an error.
@@ -71,6 +79,7 @@ __all__ = [
     "glitch_report",
     "relay_transfers",
     "PATHS_PER_NET",
+    "PATHS_PER_CHANGE",
     "MAX_TRANSITIONS",
     "BUILD_MAX_TRANSITIONS",
     "BUILD_MAX_WORK",
@@ -81,6 +90,8 @@ log = logging.getLogger(__name__)
 
 #: paths enumerated per net in question, per input change
 PATHS_PER_NET = 8
+#: paths (each tried early and late) per input change, over all nets in question
+PATHS_PER_CHANGE = 12
 #: input changes examined by ``netfit timing`` before it samples instead
 MAX_TRANSITIONS = 20000
 #: input changes examined for the figures in every build report
@@ -410,29 +421,39 @@ class _Engine:
         heapq.heapify(heap)
         waves = {n: [] for n in look}
         work = 0
+        fanout = self.fanout
+        gin, gout, gtab = self.gin, self.gout, self.gtab
+        pop, push = heapq.heappop, heapq.heappush
         while heap:
             t0 = heap[0][0]
-            eps = max(abs(t0), 1e-15) * 1e-9
+            limit = t0 + max(abs(t0), 1e-15) * 1e-9
             touched: dict = {}
-            while heap and heap[0][0] <= t0 + eps:
-                t, _, n, v, form, src = heapq.heappop(heap)
+            while heap and heap[0][0] <= limit:
+                t, _, n, v, form, src = pop(heap)
                 if cur[n] == v:
                     continue
                 old = cur[n]
                 cur[n] = v
                 if n in waves:
                     waves[n].append((t, v, form, src))
-                for k in self.fanout.get(n, ()):
-                    touched.setdefault(k, []).append((n, old, form, src))
+                for k in fanout.get(n, ()):
+                    if k in touched:
+                        touched[k].append((n, old, form, src))
+                    else:
+                        touched[k] = [(n, old, form, src)]
             work += len(touched)
-            for k in sorted(touched):
-                ch = touched[k]
-                o = self.gout[k]
-                nv = self._eval(k, cur)
+            for k, ch in touched.items():
+                o = gout[k]
+                ins = gin[k]
+                idx = 0
+                for j, x in enumerate(ins):
+                    idx |= cur[x] << j
+                nv = (gtab[k] >> idx) & 1
                 if nv == last.get(o, cur[o]):
                     continue
                 cause = ch[0]
                 if len(ch) > 1:
+                    # the input whose change this output change needs (reverting it alone undoes it)
                     for c in ch:
                         keep = cur[c[0]]
                         cur[c[0]] = c[1]
@@ -442,9 +463,9 @@ class _Engine:
                             cause = c
                             break
                 last[o] = nv
-                heapq.heappush(heap, (t0 + delay[k], seq, o, nv, cause[2] | (1 << k), cause[3]))
+                push(heap, (t0 + delay[k], seq, o, nv, cause[2] | (1 << k), cause[3]))
                 seq += 1
-        self.work += work
+        self.work += work + len(self.gin) // 4 + 1  # and the copies made per run
         return waves
 
     def width(self, early: int, late: int) -> tuple[float, float]:
@@ -522,7 +543,8 @@ def _hop_list(eng: _Engine, mask: int, src: int) -> list:
 
 
 def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int = MAX_TRANSITIONS,
-                  seed: int = 0, paths_per_net: int = PATHS_PER_NET, max_work: int | None = None) -> dict:
+                  seed: int = 0, paths_per_net: int = PATHS_PER_NET, max_work: int | None = None,
+                  max_paths: int = PATHS_PER_CHANGE) -> dict:
     """Search ``circ`` for glitches (see the module docstring).
 
     Returns a dict with ``hazards`` (list, see :func:`glitch_report`),
@@ -557,10 +579,14 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         if not cands:
             continue
         changed_ids = {eng.input_ids[i] for i in changed}
-        masks = set()
-        for m in cands:
-            masks.update(eng.paths(m, tern, changed_ids, paths_per_net))
-        corners = [("min", 0), ("max", 0)] + [(kind, p) for p in sorted(masks) for kind in ("early", "late")]
+        # paths of every net in question, taken in turn so each net gets its share of the corners
+        per_net = [eng.paths(m, tern, changed_ids, paths_per_net) for m in cands]
+        masks: dict = {}
+        for rank in range(paths_per_net):
+            for ps in per_net:
+                if rank < len(ps) and len(masks) < max_paths:
+                    masks.setdefault(ps[rank], None)
+        corners = [("min", 0), ("max", 0)] + [(kind, p) for p in masks for kind in ("early", "late")]
         changes = [(eng.input_ids[i], v1[eng.input_ids[i]]) for i in changed]
         look = set(cands)
         found: dict = {}
@@ -595,19 +621,22 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         for b, i in enumerate(cond_bits):
             cond |= ((state >> i) & 1) << b
         dirs = tuple(f"{circ.inputs[i]} {'rises' if (after >> i) & 1 else 'falls'}" for i in changed)
-        for (m, hk, _pair), ((f1, s1), (f2, s2), ex) in found.items():
-            gkey = (m, hk, changed, _pair)
+        for (m, hk, pair), ((f1, s1), (f2, s2), ex) in found.items():
+            gkey = (m, hk, changed)
             g = groups.get(gkey)
             lo, hi = eng.width(f1, f2)
             lo = max(lo, 0.0)
             if g is None:
                 g = groups[gkey] = {
                     "net": m, "kind": hk, "changed": changed, "conds": set(), "dirs": set(),
-                    "width": (lo, hi), "example": ex,
-                    "paths": [(f1, s1), (f2, s2)], "cond_bits": cond_bits,
+                    "width": (lo, hi), "example": ex, "widest": hi,
+                    "paths": [(f1, s1), (f2, s2)], "cond_bits": cond_bits, "races": set(),
                 }
             else:
                 g["width"] = (min(g["width"][0], lo), max(g["width"][1], hi))
+                if hi > g["widest"]:
+                    g["widest"], g["paths"], g["example"] = hi, [(f1, s1), (f2, s2)], ex
+            g["races"].add(pair)
             g["conds"].add(cond)
             g["dirs"].add(dirs)
     hazards = []
@@ -634,6 +663,7 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
                 "width_s": [_sec(g["width"][0]), _sec(g["width"][1])],
                 "width_example_s": _sec(g["example"]),
                 "racing_paths": paths,
+                "races": len(g["races"]),
                 "reaches": reaches,
                 "error": bool(reaches),
             })

@@ -26,10 +26,10 @@ for covers; the tests hold the consensus method to it.
 
 :func:`add_consensus` rewrites a design so every two-level cover in it is
 free of these hazards: each cover that needs it gets its consensus terms and
-is split into one node per product term and one OR (or NOR) node, and the
-names of those nets are returned so the mapper keeps them as signals of
-their own (``flow.fit(..., keep=...)``) -- otherwise it would find the added
-terms redundant and drop them.
+is rebuilt as trees of 2-input AND nodes (one per product term) under a tree
+of 2-input OR nodes, and the names of all those nets are returned so the
+mapper keeps them as signals of their own (``flow.fit(..., keep=...)``) --
+otherwise it would find the added terms redundant and drop them.
 
 Examples
 --------
@@ -51,7 +51,8 @@ import logging
 from dataclasses import dataclass
 
 from ..logic.function import MAX_TABLE_INPUTS, Function, isop, table_of_cover
-from ..netlist import Logic, Netlist
+from ..logic.function import var_mask
+from ..netlist import Logic, Netlist, Storage
 
 __all__ = [
     "CoverHazard",
@@ -63,13 +64,17 @@ __all__ = [
     "hazard_transitions",
     "design_hazards",
     "add_consensus",
+    "collapse_hazardous_cones",
     "MAX_CONSENSUS_CUBES",
+    "COLLAPSE_INPUTS",
 ]
 
 log = logging.getLogger(__name__)
 
 #: a cover is not grown past this many cubes by :func:`hazard_free_cover`
 MAX_CONSENSUS_CUBES = 256
+#: ``--hazard-free`` collapses glitching cones of at most this many inputs into two-level covers
+COLLAPSE_INPUTS = 8
 
 
 @dataclass(frozen=True)
@@ -363,20 +368,43 @@ def _fresh(base: str, taken) -> str:
     return f"{base}{k}"
 
 
-def add_consensus(netlist: Netlist) -> tuple:
+def add_consensus(netlist: Netlist, collapse_inputs: int = 0, collapse_cubes: int = 32) -> tuple:
     """``(netlist', kept_nets, report)``: the design with hazard-free two-level covers.
 
     Every logic node whose cover has two cubes opposed in one input gets the
-    consensus terms :func:`hazard_free_cover` finds and is split into one
-    logic node per product term (an AND of its literals; a single plain
-    literal is its fan-in net itself) and one OR node (NOR for a cover of
-    the OFF-set) under the node's own name.  ``kept_nets`` lists the product
-    nets and the OR nets: the mapper must keep them as signals of their own.
+    consensus terms :func:`hazard_free_cover` finds and is rebuilt as a tree
+    of 2-input nodes: an AND tree per product term over its literals (one
+    inverter node per complemented input; a single plain literal is its
+    fan-in net itself) and an OR tree over the terms whose top node (NOR for
+    a cover of the OFF-set) carries the node's own name.  ``kept_nets`` lists
+    every node of those trees: the mapper must keep them as signals of their
+    own.  Associative and De Morgan rewriting keeps a hazard-free sum of
+    products hazard-free (S. H. Unger, *Asynchronous Sequential Switching
+    Circuits*, Wiley 1969 -- from memory), so any tree-shaped mapping of
+    these nodes is safe.  Keeping the nodes narrows the mapper's choices but
+    cannot forbid every reconvergent one: a 2-input node whose leaf is
+    available only in the other phase can be built as ``x' + x·y`` for
+    ``x' + y``; :func:`mapper.flow.fit_hazard_free` therefore checks its
+    candidates with the glitch finder.
+
+    With ``collapse_inputs`` > 0, first every output and storage input whose
+    logic cone has at most that many inputs and glitches under some delays
+    (Eichelberger's three-valued test over the cone, for every single-input
+    change) is collapsed into one two-level cover (an irredundant sum of
+    products of its truth table), when its hazard-free cover has at most
+    ``collapse_cubes`` cubes: hazards made by the design's own multi-level
+    structure are removed too.
+
     The new netlist does the same logic as the old one (consensus terms are
     implied by the cover).  ``report`` has ``nodes`` (one dict per rewritten
     node: ``node``, ``added`` terms as dicts, ``hazards_before``),
-    ``terms_added``, ``nodes_split`` and ``skipped`` (nodes too big to fix).
+    ``terms_added``, ``nodes_split``, ``collapsed`` (one dict per collapsed
+    cone: ``node``, ``inputs``, ``cubes``, ``added`` consensus terms) and
+    ``skipped`` (nodes too big to fix).
     """
+    collapsed = []
+    if collapse_inputs > 0:
+        netlist, collapsed = collapse_hazardous_cones(netlist, collapse_inputs, collapse_cubes)
     new = Netlist(netlist.name)
     taken = set(netlist.nodes)
     kept: list = []
@@ -411,30 +439,54 @@ def add_consensus(netlist: Netlist) -> tuple:
             if where is not None:
                 new.origin[name] = where
             continue
+        def fresh(tag):
+            t = _fresh(f"{name}~{tag}", taken)
+            taken.add(t)
+            return t
+
+        def tree(leaves, table, top=None, top_table=None):
+            """Balanced tree of 2-input nodes over ``leaves``; every node kept.  Iterative."""
+            level = list(leaves)
+            while len(level) > (2 if top is not None else 1):
+                nxt = []
+                for i in range(0, len(level) - 1, 2):
+                    t = fresh("g")
+                    new.add_logic(t, level[i:i + 2], Function.from_table(2, table), where)
+                    kept.append(t)
+                    nxt.append(t)
+                if len(level) % 2:
+                    nxt.append(level[-1])
+                level = nxt
+            if top is None:
+                return level[0]
+            if len(level) == 2:
+                func = Function.from_table(2, top_table)
+            else:  # a single term: the OR is a buffer, the NOR an inverter
+                func = Function.from_table(1, 0b10 if top_table == 0b1110 else 0b01)
+            new.add_logic(top, level, func, where)
+            kept.append(top)
+            return top
+
+        inverted: dict = {}
         terms = []
         for cube in cover:
-            lits = [(j, ch) for j, ch in enumerate(cube) if ch != "-"]
-            if len(lits) == 1 and lits[0][1] == "1":
-                terms.append(node.fanins[lits[0][0]])
-                continue
-            if not lits:  # a cube of all don't-cares: the node is constant (cover() kept it as given)
-                t = _fresh(f"{name}~t", taken)
-                taken.add(t)
+            lits = []
+            for j, ch in enumerate(cube):
+                if ch == "1":
+                    lits.append(node.fanins[j])
+                elif ch == "0":
+                    if j not in inverted:
+                        inverted[j] = fresh("n")
+                        new.add_logic(inverted[j], [node.fanins[j]], Function.from_table(1, 0b01), where)
+                    lits.append(inverted[j])
+            if not lits:  # a cube of all don't-cares: a constant 1 term
+                t = fresh("t")
                 new.add_constant(t, 1)
                 terms.append(t)
                 continue
-            t = _fresh(f"{name}~t", taken)
-            taken.add(t)
-            fan = [node.fanins[j] for j, _ in lits]
-            sub = "".join(ch for _, ch in lits)
-            new.add_logic(t, fan, Function.from_cover(len(fan), [sub], 1), where)
-            terms.append(t)
-            kept.append(t)
-        # OR (or NOR) of the terms, under the node's own name
-        k = len(terms)
-        or_cubes = ["-" * i + "1" + "-" * (k - i - 1) for i in range(k)]
-        new.add_logic(name, terms, Function.from_cover(k, or_cubes, phase), where)
-        kept.append(name)
+            terms.append(tree(lits, 0b1000))   # AND2 tree of the literals (one literal: the literal)
+        # OR (NOR for a cover of the OFF-set) of the terms, under the node's own name
+        tree(terms, 0b1110, name, 0b1110 if phase else 0b0001)
         rows.append({"node": name, "added": [_cube_dict(c, node.fanins) for c in added],
                      "hazards_before": before, "terms": len(cover)})
     new.outputs = list(netlist.outputs)
@@ -447,8 +499,134 @@ def add_consensus(netlist: Netlist) -> tuple:
     report = {
         "nodes": rows,
         "nodes_split": len(rows),
-        "terms_added": sum(len(r["added"]) for r in rows),
+        "terms_added": sum(len(r["added"]) for r in rows) + sum(c["added"] for c in collapsed),
         "hazards_before": sum(r["hazards_before"] for r in rows),
+        "collapsed": collapsed,
         "skipped": skipped,
     }
     return new, list(dict.fromkeys(kept)), report
+
+
+def _eval3(func: Function, vals) -> int | None:
+    """Three-valued value of a node's function (``None`` = unknown) by trying the unknown inputs."""
+    t = func.table()
+    xs = [j for j, v in enumerate(vals) if v is None]
+    base = sum(v << j for j, v in enumerate(vals) if v is not None)
+    seen = set()
+    for m in range(1 << len(xs)):
+        i = base
+        for b, j in enumerate(xs):
+            if (m >> b) & 1:
+                i |= 1 << j
+        seen.add((t >> i) & 1)
+        if len(seen) == 2:
+            return None
+    return seen.pop()
+
+
+def _cone(netlist: Netlist, root: str, limit: int):
+    """(support, logic nodes in topological order) of ``root``; ``None`` when wider than ``limit``."""
+    support, nodes, seen = [], [], set()
+    stack = [(root, False)]
+    while stack:
+        n, done = stack.pop()
+        if done:
+            nodes.append(n)
+            continue
+        if n in seen:
+            continue
+        seen.add(n)
+        node = netlist.nodes.get(n)
+        if not isinstance(node, Logic) or not node.fanins:
+            if isinstance(node, Logic):   # a constant
+                nodes.append(n)
+                continue
+            support.append(n)
+            if len(support) > limit:
+                return None
+            continue
+        if node.func.n > 16:
+            return None
+        stack.append((n, True))
+        for f in node.fanins:
+            if f not in seen:
+                stack.append((f, False))
+    return support, nodes
+
+
+def collapse_hazardous_cones(netlist: Netlist, max_inputs: int = 8, max_cubes: int = 32) -> tuple:
+    """``(netlist', rows)``: outputs and storage inputs whose small cones can glitch, made two-level.
+
+    See :func:`add_consensus` (``collapse_inputs``).  Nodes left driving
+    nothing are dropped.  ``rows`` has one dict per collapsed root.
+    """
+    roots = list(dict.fromkeys(
+        list(netlist.outputs)
+        + [x for st in netlist.nodes.values() if isinstance(st, Storage) for x in (st.d, st.control) if x]))
+    replace: dict = {}
+    rows = []
+    for root in roots:
+        node = netlist.nodes.get(root)
+        if not isinstance(node, Logic) or not node.fanins:
+            continue
+        cone = _cone(netlist, root, max_inputs)
+        if cone is None:
+            continue
+        support, nodes = cone
+        if len([n for n in nodes if netlist.nodes[n].fanins]) < 2:
+            continue  # one node: its own cover is handled by the consensus step
+        k = len(support)
+        full = (1 << (1 << k)) - 1
+        words = {x: var_mask(k, j) for j, x in enumerate(support)}
+        for n in nodes:
+            nd = netlist.nodes[n]
+            words[n] = nd.func.eval_words([words[f] for f in nd.fanins], full)
+        table = words[root]
+        # Eichelberger's test over the cone for every single-input change
+        hazard = False
+        for s in range(1 << k):
+            for j in range(k):
+                if (s >> j) & 1 or ((table >> s) & 1) != ((table >> (s | 1 << j)) & 1):
+                    continue
+                vals = {x: (s >> i) & 1 for i, x in enumerate(support)}
+                vals[support[j]] = None
+                for n in nodes:
+                    nd = netlist.nodes[n]
+                    vals[n] = _eval3(nd.func, [vals[f] for f in nd.fanins])
+                if vals[root] is None:
+                    hazard = True
+                    break
+            if hazard:
+                break
+        if not hazard:
+            continue
+        cubes, _ = isop(table, table, k)
+        try:
+            cover, added = hazard_free_cover(cubes, k, limit=max_cubes)
+        except ValueError:
+            continue
+        replace[root] = Logic(tuple(support), Function.from_cover(k, cover, 1))
+        rows.append({"node": root, "inputs": k, "cubes": len(cover), "added": len(added)})
+    if not replace:
+        return netlist, rows
+    new = netlist.copy()
+    new.nodes = {n: replace.get(n, node) for n, node in netlist.nodes.items()}
+    # drop logic that no longer reaches an output or storage element
+    live = set(new.outputs)
+    stack = list(new.outputs)
+    for n, node in new.nodes.items():
+        if isinstance(node, Storage):
+            live.add(n)
+            stack.append(n)
+    while stack:
+        n = stack.pop()
+        node = new.nodes.get(n)
+        if node is None:
+            continue
+        for f in node.fanins:
+            if f not in live:
+                live.add(f)
+                stack.append(f)
+    new.nodes = {n: node for n, node in new.nodes.items()
+                 if n in live or not isinstance(node, Logic) or n in netlist.inputs}
+    return new, rows

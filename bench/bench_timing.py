@@ -1,0 +1,107 @@
+"""Timing and glitch analysis of builds: seconds per stage, what was found, what hazard-freedom costs.
+
+Designs: adders, multipliers and comparators from the independent generator
+library ariths-gen, ISCAS-85 c17 (Brglez and Fujiwara, 1985), and the
+textbook circuits in tests/data/textbook.  For each design and target the
+table prints: cells, worst path (maximum figures), clock rate for sequential
+designs, seconds of the static timing pass, the glitch search (input changes
+examined, exhaustive or sampled, timed simulations run, seconds, peak
+memory), hazards found, and -- with ``--hazard-free`` -- the consensus terms
+added, the parts of the plain and the hazard-free build and the hazards left.
+
+The fit itself is not timed here (bench_fit.py does that).
+
+Run: ``.venv/bin/python bench/bench_timing.py [--quick] [--targets T,...] [--changes N] [--hazard-free]``
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+import tempfile
+import time
+import tracemalloc
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT / "tests"))
+
+import generated  # noqa: E402
+
+from mapper import flow  # noqa: E402
+from mapper.analyze.glitch import TimedCircuit, find_glitches  # noqa: E402
+from mapper.analyze.timing import static_timing  # noqa: E402
+from mapper.read import read_design  # noqa: E402
+
+GENERATED = [("rca", 4), ("rca", 8), ("cla", 8), ("ks", 8), ("arr", 4), ("lt", 8), ("rca", 16),
+             ("dadda", 8), ("arr", 6)]
+TEXTBOOK = ["full_adder", "half_adder", "mux4", "seg7", "cmp2", "counter4"]
+
+
+def designs(folder, quick=False):
+    yield "c17", ROOT / "tests" / "data" / "c17.blif"
+    for name in TEXTBOOK:
+        yield name, ROOT / "tests" / "data" / "textbook" / f"{name}.blif"
+    for kind, width in (GENERATED[:5] if quick else GENERATED):
+        yield f"{kind}{width}", generated.make(kind, width, folder)
+
+
+def _si(x):
+    if x is None:
+        return "-"
+    for scale, p in ((1e-3, "m"), (1e-6, "u"), (1e-9, "n")):
+        if abs(x) >= scale:
+            return f"{x / scale:.3g}{p}"
+    return f"{x:.3g}"
+
+
+def _hz(x):
+    return f"{x / 1e6:.3g}M" if x else "-"
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--quick", action="store_true")
+    ap.add_argument("--targets", default="gates-74,nand-only")
+    ap.add_argument("--changes", type=int, default=4000, help="input changes examined per build")
+    ap.add_argument("--hazard-free", action="store_true", help="also build with consensus terms")
+    args = ap.parse_args(argv)
+    head = (f"{'design':<12}{'target':<10}{'cells':>6}{'delay_s':>9}{'clk_Hz':>9}{'sta_s':>8}"
+            f"{'changes':>9}{'all':>5}{'runs':>7}{'glitch_s':>9}{'MiB':>6}{'hazards':>8}{'errors':>7}")
+    if args.hazard_free:
+        head += f"{'terms':>6}{'parts':>6}{'hf_parts':>9}{'hf_hazards':>11}"
+    print(head)
+    with tempfile.TemporaryDirectory() as tmp:
+        for name, path in designs(tmp, args.quick):
+            d = read_design(path)
+            for tname in args.targets.split(","):
+                t = flow.load_target(tname)
+                try:
+                    b = flow.fit(d, t)
+                except Exception as exc:  # a target the design cannot go on (or a missing table)
+                    print(f"{name:<12}{tname:<10}  not built: {type(exc).__name__}: {exc}")
+                    continue
+                t0 = time.perf_counter()
+                sta = static_timing(b)
+                t_sta = time.perf_counter() - t0
+                circ = TimedCircuit.from_build(b)
+                tracemalloc.start()
+                t0 = time.perf_counter()
+                res = find_glitches(circ, max_transitions=args.changes)
+                t_gl = time.perf_counter() - t0
+                peak = tracemalloc.get_traced_memory()[1] / 2 ** 20
+                tracemalloc.stop()
+                tr = res["transitions"]
+                row = (f"{name:<12}{tname:<10}{len(b.cells):>6}{_si(sta['delay_s']):>9}"
+                       f"{_hz(sta.get('clock_max_hz')):>9}{t_sta:>8.3f}"
+                       f"{tr['checked']:>9}{'yes' if tr['exhaustive'] else 'no':>5}{tr['timed_runs']:>7}"
+                       f"{t_gl:>9.2f}{peak:>6.1f}{res['hazards_total']:>8}{res['errors']:>7}")
+                if args.hazard_free:
+                    hb = flow.fit_hazard_free(d, t)
+                    hres = find_glitches(TimedCircuit.from_build(hb), max_transitions=args.changes)
+                    h = hb.timing["hazard_free"]
+                    row += f"{h['terms_added']:>6}{h['parts_plain']:>6}{h['parts']:>9}{hres['hazards_total']:>11}"
+                print(row, flush=True)
+
+
+if __name__ == "__main__":
+    main()
