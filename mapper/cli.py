@@ -145,11 +145,31 @@ def _build_args(p):
     p.add_argument("design")
     p.add_argument("--target", "-t", required=True, metavar="T",
                    help="target name (see `netfit targets`) or a target .xml file")
-    p.add_argument("-o", "--out", metavar="DIR", help="write the build's files into DIR")
+    p.add_argument("-o", "--out", metavar="DIR", help=(
+        "write the build's files into DIR: DESIGN.v and cells.v, DESIGN.blif, DESIGN.json, parts.csv, "
+        "wiring.txt, schematic.svg, report.html"))
+    p.add_argument("--qty", type=_positive, default=1, metavar="N",
+                   help="parts.csv for N copies of the build (default 1)")
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),
                    help="0: one mapping pass; 1 (default): also search for fewer parts")
     _add_read_args(p)
     p.add_argument("--json", action="store_true", help="print the build summary as JSON")
+
+
+def _positive(text):
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number")
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"must be 1 or more, not {n}")
+    return n
+
+
+def _progress(args) -> None:
+    """Progress on stderr unless --quiet or --json (and only on a terminal; see mapper.progress)."""
+    from . import progress
+    progress.configure(not getattr(args, "quiet", False) and not getattr(args, "json", False))
 
 
 def _si(value, unit):
@@ -167,7 +187,9 @@ def _si(value, unit):
          _build_args)
 def cmd_build(args):
     from . import flow
-    b = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, **_read_options(args))
+    _progress(args)
+    b = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
+                   **_read_options(args))
     s = b.summary()
     if args.json:
         _print_json(s)
@@ -187,6 +209,71 @@ def cmd_build(args):
     if args.out:
         print(f"wrote   {args.out}")
     return 0
+
+
+# -- parts ----------------------------------------------------------------
+def _parts_args(p):
+    p.add_argument("design")
+    p.add_argument("--target", "-t", required=True, metavar="T",
+                   help="target name (see `netfit targets`) or a target .xml file")
+    p.add_argument("--qty", type=_positive, default=1, metavar="N", help="for N copies of the build (default 1)")
+    p.add_argument("--effort", type=int, default=1, choices=(0, 1),
+                   help="0: one mapping pass; 1 (default): also search for fewer parts")
+    _add_read_args(p)
+    fmt = p.add_mutually_exclusive_group()
+    fmt.add_argument("--json", action="store_true", help="print JSON")
+    fmt.add_argument("--csv", action="store_true", help="print the ordering list as CSV (as parts.csv)")
+
+
+@command("parts", "the ordering list of a build: parts, quantities and prices, support parts included",
+         _parts_args)
+def cmd_parts(args):
+    from . import flow
+    from .write import parts as wparts
+    _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
+    b = flow.build(args.design, args.target, effort=args.effort, **_read_options(args))
+    if args.json:
+        _print_json(wparts.parts_json(b, args.qty))
+    elif args.csv:
+        sys.stdout.write(wparts.parts_csv(b, args.qty))
+    else:
+        print(f"{b.design} on {b.target.name} (proof: {b.verified})")
+        sys.stdout.write(wparts.parts_table(b, args.qty))
+    return 0
+
+
+# -- compare --------------------------------------------------------------
+def _compare_args(p):
+    p.add_argument("design")
+    p.add_argument("--targets", metavar="A,B,...", help="targets to compare (default: every built-in target)")
+    p.add_argument("--effort", type=int, default=1, choices=(0, 1),
+                   help="0: one mapping pass; 1 (default): also search for fewer parts")
+    p.add_argument("--jobs", "-j", type=_positive, metavar="N",
+                   help="build in at most N processes at once (default: one per processor)")
+    p.add_argument("--svg", metavar="FILE", help="also draw the comparison as a bar chart into FILE")
+    _add_read_args(p)
+    p.add_argument("--json", action="store_true", help="print JSON")
+
+
+@command("compare", "build a design on several targets side by side: parts, cost, delay, supply current",
+         _compare_args)
+def cmd_compare(args):
+    from . import flow
+    from .write import atomic_write
+    from .write.compare import compare_svg, compare_table
+    _progress(args)
+    names = [t.strip() for t in args.targets.split(",") if t.strip()] if args.targets else None
+    data = flow.compare(args.design, names, effort=args.effort, jobs=args.jobs, **_read_options(args))
+    if args.svg:
+        atomic_write(args.svg, compare_svg(data), protect=(args.design,))
+    if args.json:
+        _print_json(data)
+    else:
+        sys.stdout.write(compare_table(data))
+        if args.svg:
+            print(f"wrote {args.svg}")
+    built = [t for t in data["targets"] if "error" not in t]
+    return 0 if built else 1
 
 
 # -- targets --------------------------------------------------------------

@@ -36,6 +36,12 @@ def writer_for(path):
         raise UsageError(f"{path}: writing '{suffix}' files is not available yet") from exc
 
 
+def _umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
 def atomic_write(path, text: str, protect=()) -> None:
     """Write ``text`` to ``path`` through a temporary file and a rename.
 
@@ -51,6 +57,8 @@ def atomic_write(path, text: str, protect=()) -> None:
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
+        # mkstemp makes the file private (0600); a written file gets the usual mode under the umask
+        os.chmod(tmp, 0o666 & ~_umask())
         with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
         os.replace(tmp, path)

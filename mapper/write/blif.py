@@ -41,7 +41,7 @@ import re
 from ..netlist import Input, Logic, Netlist, Storage
 from . import atomic_write
 
-__all__ = ["netlist_text", "write_netlist", "blif_names"]
+__all__ = ["netlist_text", "write_netlist", "blif_names", "write_build"]
 
 log = logging.getLogger(__name__)
 
@@ -150,3 +150,13 @@ def netlist_text(netlist: Netlist) -> str:
 def write_netlist(netlist: Netlist, path, protect=()) -> None:
     """Write ``netlist`` as BLIF to ``path`` (atomically; never over a file in ``protect``)."""
     atomic_write(path, netlist_text(netlist), protect=protect)
+
+
+def write_build(build, path, protect=()) -> None:
+    """Write a :class:`~mapper.build.Build` as BLIF: its logic view (:meth:`~mapper.build.Build.to_netlist`).
+
+    Every used slot becomes one ``.names`` cover of its cell's function (or a
+    ``.latch`` for a storage cell; relay poles become the multiplexer each
+    pole is), so reading the file back gives a netlist equal to the design.
+    """
+    atomic_write(path, netlist_text(build.to_netlist()), protect=protect)

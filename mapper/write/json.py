@@ -26,8 +26,33 @@ hexadecimal string (bit ``m`` is the value where fan-in ``j`` has bit ``j``
 of ``m``), given only for nodes of at most 16 fan-ins.  ``exdc`` is the
 external don't-care network in the same layout, or null.
 
-Only ``write_netlist`` lives here for now; a writer of mapped builds will
-join it as ``write_build``.
+Builds
+------
+:func:`write_build` writes the whole build (``"format": "netfit-build"``,
+``"version": 1``; keys only ever added)::
+
+    {
+      "format": "netfit-build", "version": 1,
+      "summary": {...},                  # Build.summary(), as `netfit build --json`
+      "design": "c17", "target": "nand-only",
+      "inputs": [...], "outputs": [...], "output_nets": {"N22": "N22", ...},
+      "parts": [{"ref": "U1", "part": "74HC00", "description": ..., "package": "DIP-14",
+                 "kind": "chip", "slots": [{"slot": 1, "cell": "nand2", "instance": "U1_1",
+                 "pins": {"A": {"pin": 1, "net": "N1"}, ...}}, ...],
+                 "pins": [{"pin": 1, "name": "A1", "net": "N1", "use": "input"}, ...]}, ...],
+      "cells": [{"instance": "U1_1", "cell": "nand2", "part": "U1", "slot": 1,
+                 "pins": {"A": {"pin": 1, "net": "N1"}, ...}, "origin": "N10", "init": 3}, ...],
+      "contacts": [{"part": "K1", "pole": 1, "coil": "N2", "com": "x1", "no": "VCC", "nc": "N1"}, ...],
+      "coils": {"K1": "N2", ...},
+      "nets": [{"net": "N1", "pins": ["U1-1", ...], "drivers": [...], "loads": [...], ...}, ...],
+      "support": [{"ref": "C1", "part": "C-100N", "nets": ["VCC", "GND"], "purpose": ...}, ...],
+      "ties": [{"part": "U2", "pin": 12, "rail": "GND", "reason": ...}, ...],
+      "timing": {...}, "cautions": [...], "notes": [...]
+    }
+
+Pins are package pin numbers, or terminal names (``COIL+``, ``NO1``) for
+relays; ``use`` is one of ``input output supply tie open nc coil contact
+support`` (see :mod:`mapper.write.wiring`).
 """
 from __future__ import annotations
 
@@ -37,10 +62,12 @@ from ..logic.function import MAX_TABLE_INPUTS
 from ..netlist import Logic, Netlist, Storage
 from . import atomic_write
 
-__all__ = ["FORMAT", "VERSION", "netlist_dict", "write_netlist", "dumps"]
+__all__ = ["FORMAT", "VERSION", "BUILD_FORMAT", "netlist_dict", "write_netlist", "dumps", "build_dict",
+           "write_build"]
 
 FORMAT = "netfit-netlist"
 VERSION = 1
+BUILD_FORMAT = "netfit-build"
 
 
 def netlist_dict(netlist: Netlist) -> dict:
@@ -82,9 +109,88 @@ def dumps(data: dict) -> str:
     parts = []
     for key, value in data.items():
         k = json.dumps(key)
-        if key in ("nodes", "storage") and value:
+        if key in ("nodes", "storage", "cells", "contacts", "nets", "support", "ties", "parts") and value \
+                and isinstance(value, list):
             body = ",\n  ".join(json.dumps(e, ensure_ascii=False) for e in value)
             parts.append(f" {k}: [\n  {body}\n ]")
         else:
             parts.append(f" {k}: {json.dumps(value, ensure_ascii=False)}")
     return "{\n" + ",\n".join(parts) + "\n}\n"
+
+
+def _plain(value):
+    """JSON-ready copy of timing data (tuples to lists, unknown objects to text)."""
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_plain(v) for v in value]
+    if value is None or isinstance(value, (bool, int, float, str)):
+        return value
+    return str(value)
+
+
+def build_dict(build) -> dict:
+    """The whole build as plain data (see the module docstring); JSON-serialisable."""
+    from .verilog import verilog_names
+    from .wiring import wiring
+
+    w = wiring(build)
+    inst = verilog_names(build).instances
+    cells = build.target.cells
+    by_slot = {(c.part_ref, c.slot): c for c in build.cells}
+    parts = []
+    for part in w["parts"]:
+        entry = {"ref": part["ref"], "part": part["part"], "description": part["description"],
+                 "package": part["package"], "kind": part["kind"]}
+        if part["kind"] == "support":
+            entry["purpose"] = part.get("purpose", "")
+        else:
+            pd = build.part_def(part["ref"])
+            slots = []
+            for s in pd.slots:
+                c = by_slot.get((part["ref"], s.index))
+                if c is not None:
+                    slots.append({"slot": s.index, "cell": c.cell, "instance": inst[("cell", c.part_ref, c.slot)],
+                                  "pins": {p: {"pin": build.pin_of(c, p), "net": c.pins.get(p)}
+                                           for p in cells[c.cell].pins}})
+                else:
+                    used = any(k.part_ref == part["ref"] and k.pole == s.index for k in build.contacts)
+                    slots.append({"slot": s.index, "cell": s.cell,
+                                  "instance": inst.get(("pole", part["ref"], s.index)) if used else None,
+                                  "pins": {p: {"pin": num} for p, num in s.pins.items()}})
+            entry["slots"] = slots
+        entry["pins"] = [{"pin": pu.number, "name": pu.name, "label": pu.label, "net": pu.net, "use": pu.use,
+                          "note": pu.note} for pu in part["pins"]]
+        parts.append(entry)
+    return {
+        "format": BUILD_FORMAT,
+        "version": VERSION,
+        "summary": _plain(build.summary()),
+        "design": build.design,
+        "target": build.target.name,
+        "inputs": list(build.inputs),
+        "outputs": list(build.outputs),
+        "output_nets": {o: build.output_nets.get(o, o) for o in build.outputs},
+        "parts": parts,
+        "cells": [{"instance": inst[("cell", c.part_ref, c.slot)], "cell": c.cell, "part": c.part_ref,
+                   "slot": c.slot, "pins": {p: {"pin": build.pin_of(c, p), "net": c.pins.get(p)}
+                                            for p in cells[c.cell].pins},
+                   "origin": c.origin, "init": c.init} for c in build.cells],
+        "contacts": [{"instance": inst[("pole", k.part_ref, k.pole)], "part": k.part_ref, "pole": k.pole,
+                      "coil": build.coils.get(k.part_ref), "com": k.com, "no": k.no, "nc": k.nc}
+                     for k in build.contacts],
+        "coils": dict(build.coils),
+        "nets": [{"net": n["net"], "rail": n["rail"], "ports": n["ports"], "pins": n["pins"],
+                  "drivers": n["drivers"], "loads": n["loads"], "others": n["others"]} for n in w["nets"]],
+        "support": [{"ref": s.ref, "part": s.part_id, "nets": list(s.nets), "purpose": s.purpose}
+                    for s in build.support],
+        "ties": [{"part": t.part_ref, "pin": t.pin, "rail": t.rail, "reason": t.reason} for t in build.ties],
+        "timing": _plain(build.timing),
+        "cautions": list(build.cautions),
+        "notes": list(build.notes),
+    }
+
+
+def write_build(build, path, protect=()) -> None:
+    """Write the whole build as JSON to ``path`` (atomically; never over a file in ``protect``)."""
+    atomic_write(path, dumps(build_dict(build)), protect=protect)

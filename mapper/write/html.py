@@ -1,0 +1,61 @@
+"""The build report (``report.html``): one self-contained page.
+
+Summary, parts list (the ordering list), the drawing inline, delays (worst
+path and arrival per output), the wiring by net and pin by pin, cautions
+and notes.  No scripts, no fonts or images from elsewhere: the page opens
+offline and prints as it shows.  Layout: ``mapper/templates/report.html.j2``.
+"""
+from __future__ import annotations
+
+import logging
+
+from markupsafe import Markup
+
+from .. import __version__
+from ..build import Build
+from . import atomic_write
+from .layout import render
+from .parts import order_rows
+from .svg import svg_text
+from .wiring import wiring
+
+__all__ = ["report_text", "write_build"]
+
+log = logging.getLogger(__name__)
+
+
+def report_text(b: Build) -> str:
+    """The report page of ``b`` as HTML text."""
+    s = b.summary()
+    timing = b.timing or {}
+    outputs = []
+    for o, v in (timing.get("outputs") or {}).items():
+        best, worst = (v + [None, None])[:2] if isinstance(v, list) else (None, v)
+        outputs.append({"output": o, "best_s": best, "worst_s": worst})
+    path = []
+    for step in timing.get("critical_path") or []:
+        where = step.get("part", "")
+        if "slot" in step:
+            where += f".{step['slot']}"
+        elif "pole" in step:
+            where += f".{step['pole']}"
+        path.append({"where": where, "what": step.get("cell") or (f"coil {step['coil']}" if "coil" in step else ""),
+                     "net": step.get("net", ""), "arrival_s": step.get("arrival_s")})
+    figures = []
+    for key, label in (("delay_s", "worst path, maximum delays"), ("delay_typ_s", "worst path, typical delays"),
+                       ("levels", "logic levels on the worst path"),
+                       ("supply_current_a", "supply current, worst case"),
+                       ("supply_current_typ_a", "supply current, typical"),
+                       ("coil_current_a", "coil current, every coil energized"),
+                       ("operate_s", "relay operate time"), ("release_s", "relay release time"),
+                       ("bounce_s", "contact bounce")):
+        if timing.get(key) is not None:
+            unit = {"_s": "s", "_a": "A"}.get(key[-2:], "")
+            figures.append({"label": label, "value": timing[key], "unit": unit})
+    return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b), w=wiring(b),
+                  svg=Markup(svg_text(b, declaration=False)), outputs=outputs, path=path, figures=figures)
+
+
+def write_build(b: Build, path, protect=()) -> None:
+    """Write ``report.html`` of ``b`` to ``path`` (atomically)."""
+    atomic_write(path, report_text(b), protect=protect)

@@ -1,0 +1,456 @@
+"""Structural Verilog-2001 of a build, and behavioural models of its cells.
+
+:func:`write_build` writes ``<design>.v``: one module named after the design,
+with one instance per used slot, named ``<part ref>_<slot>`` (``U3_2`` is
+slot 2 of part U3; ``K2_1`` is pole 1 of relay K2), each preceded by a
+comment giving the part and the package pin of every cell pin.  Beside it
+:func:`write_cells` writes ``cells.v``, one behavioural module per cell the
+build uses, so that the pair simulates in any standard Verilog simulator.
+
+Names
+-----
+* A net keeps its name when it is a plain Verilog identifier (letters,
+  digits, ``_``, ``$``, not a keyword of Verilog-2001 or SystemVerilog).
+* **Buses.**  BLIF and our netlists name bus bits ``a[0]``, ``a[1]`` ...
+  as scalar nets whose names contain brackets.  Ports ``base[i]`` are
+  regrouped into one vector port ``base`` (``input [3:0] a``) when all of
+  these hold: every bit from 0 to the highest index is a port, all of the
+  same direction; ``base`` is a plain identifier; and no other net of the
+  build is called ``base`` or ``base[j]``.  Inside the module the bit is
+  then written ``a[3]``, the same text as the net name.  Any other name with
+  brackets (an internal net ``t[2]``, a port bus with a hole) becomes an
+  escaped identifier (``\\t[2] `` -- backslash, the name, a space).
+* Names with characters an escaped identifier cannot carry (spaces,
+  non-ASCII) have those characters replaced by ``_`` (made unique with a
+  numeric suffix); the header comment lists every such renaming.
+* The supply rails are ``supply1 VCC`` and ``supply0 GND``.
+
+Relays
+------
+Each used pole is an instance of the changeover cell: ``COIL`` on the coil
+net of its relay, ``NO`` and ``NC`` on the nets of its terminals, ``COM``
+on its common net.  A terminal left unused reads 0 (``1'b0``): in the build
+a relay-driven net that no closed contact feeds is held at 0 by its load.
+The model's armature moves only on a definite 1 at the coil and starts
+released, so seal-in latches power up released, as the build assumes.
+
+Storage cells carry a parameter ``INIT`` (the power-up value the design
+declares; ``1'bx`` when it declares none).
+"""
+from __future__ import annotations
+
+import logging
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from .. import __version__
+from ..build import Build
+from ..errors import InternalError
+from . import atomic_write
+from .layout import render
+
+__all__ = ["KEYWORDS", "VerilogNames", "verilog_names", "build_text", "cells_text", "write_build",
+           "write_cells", "CELLS_FILE"]
+
+log = logging.getLogger(__name__)
+
+CELLS_FILE = "cells.v"
+
+#: reserved words of Verilog-2001 (IEEE 1364-2001 Annex B) and SystemVerilog (IEEE 1800-2017 Annex B):
+#: a net of that name is written as an escaped identifier so either language reads the file
+KEYWORDS = frozenset("""
+always and assign automatic begin buf bufif0 bufif1 case casex casez cell cmos config deassign default
+defparam design disable edge else end endcase endconfig endfunction endgenerate endmodule endprimitive
+endspecify endtable endtask event for force forever fork function generate genvar highz0 highz1 if
+ifnone incdir include initial inout input instance integer join large liblist library localparam
+macromodule medium module nand negedge nmos nor noshowcancelled not notif0 notif1 or output parameter
+pmos posedge primitive pull0 pull1 pulldown pullup pulsestyle_onevent pulsestyle_ondetect rcmos real
+realtime reg release repeat rnmos rpmos rtran rtranif0 rtranif1 scalared showcancelled signed small
+specify specparam strong0 strong1 supply0 supply1 table task time tran tranif0 tranif1 tri tri0 tri1
+triand trior trireg unsigned use uwire vectored wait wand weak0 weak1 while wire wor xnor xor
+accept_on alias always_comb always_ff always_latch assert assume before bind bins binsof bit break byte
+chandle checker class clocking const constraint context continue cover covergroup coverpoint cross
+dist do endchecker endclass endclocking endgroup endinterface endpackage endprogram endproperty
+endsequence enum eventually expect export extends extern final first_match foreach forkjoin global iff
+ignore_bins illegal_bins implements implies import inside int interconnect interface intersect
+join_any join_none let local logic longint matches modport nettype new nexttime null package packed
+priority program property protected pure rand randc randcase randsequence ref reject_on restrict
+return s_always s_eventually s_nexttime s_until s_until_with sequence shortint shortreal soft solve
+static string strong struct super sync_accept_on sync_reject_on tagged this throughout timeprecision
+timeunit type typedef union unique unique0 until until_with untyped var virtual void wait_order weak
+wildcard with within
+""".split())
+
+_SIMPLE = re.compile(r"^[A-Za-z_][A-Za-z0-9_$]*$")
+_BIT = re.compile(r"^([A-Za-z_][A-Za-z0-9_$]*)\[(\d+)\]$")
+_ESCAPABLE = re.compile(r"^[\x21-\x7e]+$")
+RAILS = {"VCC": "supply1", "GND": "supply0"}
+
+
+def _is_simple(name: str) -> bool:
+    return bool(_SIMPLE.match(name)) and name not in KEYWORDS
+
+
+def identifier(name: str) -> str:
+    """``name`` as a Verilog identifier: itself when simple, else escaped (``\\name ``).
+
+    ``name`` must consist of printable ASCII (see :class:`VerilogNames` for the others).
+
+    >>> identifier("n10"), identifier("a.b"), identifier("wire")
+    ('n10', '\\\\a.b ', '\\\\wire ')
+    """
+    if _is_simple(name):
+        return name
+    if not _ESCAPABLE.match(name):
+        raise ValueError(f"{name!r} cannot be an escaped identifier")
+    return "\\" + name + " "
+
+
+@dataclass
+class Port:
+    """One port of the module: direction, Verilog name, and ``(msb, lsb)`` for a vector."""
+
+    direction: str
+    name: str
+    range: tuple | None = None
+    #: for a vector: bit index -> net name; for a scalar: {None: net}
+    bits: dict = field(default_factory=dict)
+
+    @property
+    def decl(self) -> str:
+        rng = f"[{self.range[0]}:{self.range[1]}] " if self.range else ""
+        return f"{self.direction} {rng}{self.name}"
+
+
+@dataclass
+class VerilogNames:
+    """How each net of a build is written in Verilog.
+
+    ``ref`` maps a net to the text that refers to it inside the module
+    (``n10``, ``a[3]`` for a bit of a regrouped vector port, ``\\t[2] ``);
+    ``ports`` are the module's ports in order (inputs, then outputs);
+    ``wires`` the internal nets to declare; ``renamed`` the nets whose names
+    had to change (net -> Verilog name); ``instances`` cell or pole key ->
+    instance name.
+    """
+
+    module: str
+    ref: dict
+    ports: list
+    wires: list
+    renamed: dict
+    instances: dict
+    #: output port -> the net driving it, where they differ (written as ``assign``)
+    assigns: list
+
+
+def _all_nets(b: Build) -> list:
+    nets = list(b.inputs) + list(b.outputs)
+    for c in b.cells:
+        nets.extend(n for n in c.pins.values() if n is not None)
+    for k in b.contacts:
+        nets.extend(n for n in (k.com, k.no, k.nc) if n is not None)
+    nets.extend(b.coils.values())
+    nets.extend(b.output_nets.values())
+    return list(dict.fromkeys(nets))
+
+
+def _vector_groups(ports_in: list, ports_out: list, all_nets: list) -> dict:
+    """base -> (direction, {index: net}) for the port buses that become vectors."""
+    by_base: dict = {}
+    for direction, names in (("input", ports_in), ("output", ports_out)):
+        for n in names:
+            m = _BIT.match(n)
+            if m:
+                by_base.setdefault(m.group(1), []).append((direction, int(m.group(2)), n))
+    claimed: dict = {}
+    for n in all_nets:
+        m = _BIT.match(n)
+        base = m.group(1) if m else n
+        claimed.setdefault(base, set()).add(n)
+    groups = {}
+    for base, bits in by_base.items():
+        dirs = {d for d, _, _ in bits}
+        idx = sorted(i for _, i, _ in bits)
+        if len(dirs) != 1 or base in KEYWORDS or base in RAILS:
+            continue
+        if idx != list(range(0, idx[-1] + 1)):
+            continue  # a bus is regrouped only when it is whole: bits 0 .. n, each once
+        members = {n for _, _, n in bits}
+        if claimed.get(base, set()) - members:
+            continue  # an internal net `base[j]` or a net `base` would clash with the vector
+        groups[base] = (dirs.pop(), {i: n for _, i, n in bits})
+    return groups
+
+
+def verilog_names(b: Build) -> VerilogNames:
+    """Decide the Verilog name of every net, port and instance of ``b`` (see the module docstring)."""
+    all_nets = _all_nets(b)
+    outputs_as_ports = []
+    for o in b.outputs:
+        outputs_as_ports.append(o)
+    inputs_set = set(b.inputs)
+    groups = _vector_groups([i for i in b.inputs], [o for o in b.outputs if o not in inputs_set], all_nets)
+    ref: dict = {}
+    taken: set = set()  # names as Verilog sees them (an escaped identifier equals its plain text)
+    renamed: dict = {}
+
+    def fresh(base: str) -> str:
+        cand, k = base, 1
+        while cand in taken:
+            cand = f"{base}_{k}"
+            k += 1
+        taken.add(cand)
+        return cand
+
+    for rail in RAILS:
+        taken.add(rail)
+        ref[rail] = rail
+    for base, (_, bits) in groups.items():
+        taken.add(base)
+        for i, n in bits.items():
+            ref[n] = f"{base}[{i}]"
+    # nets whose names are usable as they are come first, so they never lose their name to a renaming
+    order = [n for n in all_nets if n not in ref]
+    for n in order:
+        if _ESCAPABLE.match(n) and n not in taken:
+            taken.add(n)
+            ref[n] = identifier(n)
+    for n in order:
+        if n in ref:
+            continue
+        base = re.sub(r"[^\x21-\x7e]", "_", n) or "_"
+        v = fresh(base)
+        ref[n] = identifier(v)
+        renamed[n] = v
+        log.info("net %r written in Verilog as %r", n, v)
+
+    ports = []
+    seen_groups: set = set()
+    for direction, names in (("input", b.inputs), ("output", b.outputs)):
+        for n in names:
+            m = _BIT.match(n)
+            if m and m.group(1) in groups and groups[m.group(1)][0] == direction:
+                base = m.group(1)
+                if base in seen_groups:
+                    continue
+                seen_groups.add(base)
+                bits = groups[base][1]
+                ports.append(Port(direction, base, (max(bits), min(bits)), dict(bits)))
+                continue
+            if direction == "output" and n in inputs_set:
+                # a net that is both input and output: the output port needs a name of its own
+                v = fresh(f"{n}_out" if _ESCAPABLE.match(n) else "out")
+                renamed[f"{n} (output)"] = v
+                ports.append(Port(direction, identifier(v), None, {None: n}))
+                continue
+            ports.append(Port(direction, ref[n], None, {None: n}))
+
+    port_nets = set(b.inputs) | set(b.outputs)
+    wires = [n for n in all_nets if n not in port_nets and n not in RAILS]
+    assigns = []
+    for p in ports:
+        if p.direction != "output":
+            continue
+        for i, o in p.bits.items():
+            net = b.output_nets.get(o, o)
+            target = (p.name if i is None else f"{p.name}[{i}]")
+            if net != o or o in inputs_set:
+                if net not in ref:
+                    raise InternalError(f"output {o} is carried by net {net}, which nothing in the build drives")
+                assigns.append((target, ref[net], o, net))
+
+    instances: dict = {}
+    for c in sorted(b.cells, key=lambda c: (_refkey(c.part_ref), c.slot)):
+        instances[("cell", c.part_ref, c.slot)] = fresh(f"{c.part_ref}_{c.slot}")
+    for k in sorted(b.contacts, key=lambda k: (_refkey(k.part_ref), k.pole)):
+        instances[("pole", k.part_ref, k.pole)] = fresh(f"{k.part_ref}_{k.pole}")
+    module = b.design if _is_simple(b.design) else re.sub(r"[^A-Za-z0-9_$]", "_", b.design) or "design"
+    if module[0].isdigit() or module[0] == "$" or module in KEYWORDS:
+        module = "d_" + module
+    if module in b.target.cells:
+        module = module + "_build"
+    return VerilogNames(module, ref, ports, wires, renamed, instances, assigns)
+
+
+def _refkey(ref: str):
+    head = ref.rstrip("0123456789")
+    tail = ref[len(head):]
+    return (head, int(tail) if tail else 0)
+
+
+def cell_module(name: str) -> str:
+    """The Verilog module name of cell ``name``."""
+    return identifier(name) if _ESCAPABLE.match(name) else re.sub(r"[^\x21-\x7e]", "_", name)
+
+
+def _init_literal(init: int) -> str:
+    return {0: "1'b0", 1: "1'b1"}.get(init, "1'bx")
+
+
+def _instances(b: Build, nm: VerilogNames) -> list:
+    """Plain data for each instance line of the module, ordered by part and slot."""
+    out = []
+    cells = b.target.cells
+
+    def conn(net):
+        return "1'b0" if net is None else nm.ref[net]
+
+    by_part: dict = {}
+    for c in b.cells:
+        by_part.setdefault(c.part_ref, []).append(("cell", c))
+    for k in b.contacts:
+        by_part.setdefault(k.part_ref, []).append(("pole", k))
+    for p in sorted(b.parts, key=lambda p: _refkey(p.ref)):
+        pd = b.part_def(p.ref)
+        items = sorted(by_part.get(p.ref, []), key=lambda it: it[1].slot if it[0] == "cell" else it[1].pole)
+        header = f"{p.ref}: {pd.id}, {pd.description} ({pd.package})"
+        if not items:
+            coil = b.coils.get(p.ref)
+            note = f"coil on {coil}, no pole used" if coil else "no slot used"
+            out.append({"header": header + f" -- {note}", "lines": []})
+            continue
+        lines = []
+        for kind, it in items:
+            if kind == "cell":
+                cd = cells[it.cell]
+                pins = []
+                for pin in cd.pins:
+                    net = it.pins.get(pin)
+                    num = b.pin_of(it, pin)
+                    pins.append((pin, nm.ref[net] if net is not None else "", num))
+                params = f" #(.INIT({_init_literal(it.init)}))" if cd.storage is not None else ""
+                open_ = [pin for pin, c_, _ in pins if not c_]
+                lines.append({"module": cell_module(it.cell), "params": params,
+                              "name": nm.instances[("cell", it.part_ref, it.slot)],
+                              "what": f"slot {it.slot}, {it.cell}" + (f" ({', '.join(open_)} open)" if open_ else ""),
+                              "pins": [(pin, conn_) for pin, conn_, _ in pins],
+                              "numbers": " ".join(f"{pin}={num}" for pin, _, num in pins)})
+            else:
+                slot = next((s for s in pd.slots if s.index == it.pole), None)
+                if slot is None:
+                    raise InternalError(f"{p.ref} has no pole {it.pole}")
+                cd = cells[slot.cell]
+                coil = b.coils.get(p.ref)
+                if coil is None:
+                    raise InternalError(f"relay {p.ref} has a pole in use but no coil net")
+                role_net = {}
+                for pin in cd.inputs:
+                    role = cd.roles.get(pin)
+                    if role == "coil":
+                        role_net[pin] = coil
+                net_of = {"COM": it.com, "NO": it.no, "NC": it.nc}
+                pins, numbers = [], []
+                for pin in cd.pins:
+                    net = role_net.get(pin, net_of.get(pin))
+                    if pin == cd.output:
+                        pins.append((pin, nm.ref[net] if net is not None else ""))
+                    else:
+                        pins.append((pin, conn(net)))
+                    num = slot.pins.get(pin)
+                    label = f"{pin}{it.pole}" if pin in net_of else ("COIL+" if pin in role_net else pin)
+                    numbers.append(f"{label}={num}")
+                lines.append({"module": cell_module(slot.cell), "params": "",
+                              "name": nm.instances[("pole", it.part_ref, it.pole)],
+                              "what": f"pole {it.pole}, {slot.cell}" + ("" if it.com else f" ({cd.output} open)"),
+                              "pins": pins, "numbers": " ".join(numbers)})
+        out.append({"header": header, "lines": lines})
+    return out
+
+
+def build_text(b: Build, cells_file: str = CELLS_FILE) -> str:
+    """The structural Verilog-2001 text of ``b`` (one module; cell models in ``cells_file``)."""
+    nm = verilog_names(b)
+    used_rails = sorted({n for c in b.cells for n in c.pins.values() if n in RAILS}
+                        | {n for k in b.contacts for n in (k.com, k.no, k.nc) if n in RAILS}
+                        | {n for n in b.coils.values() if n in RAILS}
+                        | {n for _, _, _, n in nm.assigns if n in RAILS})
+    return render("build.v.j2", b=b, nm=nm, version=__version__, cells_file=cells_file,
+                  rails=[(RAILS[r], r) for r in used_rails],
+                  wires=[nm.ref[w] for w in nm.wires], parts=_instances(b, nm),
+                  renamed=sorted(nm.renamed.items()))
+
+
+# -- cell models ------------------------------------------------------------------------------
+def _rhs(expr: str) -> str:
+    left, sep, right = expr.partition("=")
+    if not sep:
+        raise InternalError(f"cell function {expr!r} has no '='")
+    return right.strip()
+
+
+def _model(cd) -> dict:
+    """Plain data for the behavioural model of one cell (see ``cells.v.j2``)."""
+    name = cell_module(cd.name)
+    ins = list(cd.inputs)
+    outs = [cd.output] + list(cd.extra_outputs)
+    m = {"name": name, "description": cd.description or cd.name, "inputs": ins, "outputs": outs,
+         "kind": "logic", "expr": cd.expr}
+    coil = [p for p in ins if cd.roles.get(p) == "coil"]
+    if cd.storage is None and coil:
+        rhs = _rhs(cd.expr)
+        for p in coil:
+            rhs = re.sub(rf"(?<![A-Za-z0-9_$']){re.escape(p)}(?![A-Za-z0-9_$])", "armature", rhs)
+        m.update(kind="relay", coil=coil[0], rhs=rhs)
+        return m
+    if cd.storage is None:
+        m.update(rhs=_rhs(cd.expr))
+        return m
+    roles = cd.roles
+    data = next((p for p in ins if roles.get(p) == "data"), ins[0])
+    ctrl = next((p for p in ins if roles.get(p) in ("clock", "enable")), ins[1] if len(ins) > 1 else None)
+    low = set(cd.active_low)
+
+    def active(p):
+        return f"!{p}" if p in low else p
+
+    def edge(p):
+        return f"negedge {p}" if p in low else f"posedge {p}"
+
+    asyncs = []  # (condition, value), clear before preset
+    for role, value in (("clear", "1'b0"), ("preset", "1'b1")):
+        for p in ins:
+            if roles.get(p) == role:
+                asyncs.append((active(p), value, p))
+    m.update(kind="storage", storage=cd.storage, data=data, control=ctrl, q=cd.output,
+             inverted=list(cd.extra_outputs), asyncs=[(c, v) for c, v, _ in asyncs])
+    if cd.storage in ("re", "fe"):
+        clock_edge = ("posedge " if cd.storage == "re" else "negedge ") + ctrl
+        m["sensitivity"] = " or ".join([clock_edge] + [edge(p) for _, _, p in asyncs])
+    elif cd.storage in ("ah", "al"):
+        m["enable"] = ctrl if cd.storage == "ah" else f"!{ctrl}"
+    else:  # "as": follows its data
+        m["enable"] = "1'b1"
+    return m
+
+
+def cells_text(cells) -> str:
+    """``cells.v``: a behavioural module for each :class:`~mapper.fit.target.CellDef` in ``cells``."""
+    return render("cells.v.j2", models=[_model(cd) for cd in cells], version=__version__)
+
+
+def used_cells(b: Build) -> list:
+    """The cell definitions a build instantiates (cells of used slots and of used poles), by name."""
+    names = {c.cell for c in b.cells}
+    for k in b.contacts:
+        pd = b.part_def(k.part_ref)
+        for s in pd.slots:
+            if s.index == k.pole:
+                names.add(s.cell)
+    return [b.target.cells[n] for n in sorted(names)]
+
+
+def write_cells(b: Build, path, protect=()) -> None:
+    """Write the cell models of ``b`` (``cells.v``) to ``path`` (atomically)."""
+    atomic_write(path, cells_text(used_cells(b)), protect=protect)
+
+
+def write_build(b: Build, path, protect=()) -> None:
+    """Write ``b`` as structural Verilog to ``path`` and its cell models to ``cells.v`` beside it."""
+    path = Path(path)
+    cells_path = path.with_name(CELLS_FILE)
+    if cells_path == path:
+        raise InternalError("the build's Verilog cannot be written to cells.v itself")
+    atomic_write(path, build_text(b, CELLS_FILE), protect=protect)
+    write_cells(b, cells_path, protect=protect)
