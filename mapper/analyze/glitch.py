@@ -78,6 +78,7 @@ __all__ = [
     "find_glitches",
     "glitch_report",
     "relay_transfers",
+    "relay_glitches",
     "PATHS_PER_NET",
     "PATHS_PER_CHANGE",
     "MAX_TRANSITIONS",
@@ -701,15 +702,17 @@ def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_T
 
     Gate builds: :func:`find_glitches` on the build's cells, giving
     ``hazards``, ``hazards_total``, ``glitch_errors`` and ``glitch_search``.
-    Relay builds: ``floating`` (:func:`relay_transfers`) and an empty
-    ``hazards`` list -- contact networks are timed by their relays' transfer
-    times instead.
+    Relay builds: ``floating`` (:func:`relay_transfers`) and the
+    break-before-make glitches of :func:`relay_glitches`.
     """
     if not build.cells:
         out = {"hazards": [], "hazards_total": 0, "glitch_errors": 0}
         if build.contacts:
             out["floating"] = relay_transfers(build)
-            out["glitch_search"] = {"method": "relay transfer intervals"}
+            rg = relay_glitches(build)
+            out["hazards"] = rg["hazards"]
+            out["hazards_total"] = len(rg["hazards"])
+            out["glitch_search"] = rg["search"]
         return out
     circ = TimedCircuit.from_build(build, min_fraction)
     res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed, max_work=max_work)
@@ -717,6 +720,53 @@ def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_T
     search["min_delay"] = "typical figure" if min_fraction is None else f"{min_fraction:g} of the maximum"
     return {"hazards": res["hazards"], "hazards_total": res["hazards_total"],
             "glitch_errors": res["errors"], "glitch_search": search}
+
+
+def _relay_setup(build):
+    """(loaded nets, part ref -> (typical, transfer, bounce) seconds, drivers, pole order)."""
+    from .relay_timing import DIODE_RELEASE_FACTOR
+
+    target = build.target
+    loaded, diodes = set(), set()
+    for s in build.support:
+        pd = target.parts.get(s.part_id)
+        if pd is not None and pd.ratings.get("resistance") is not None and "GND" in s.nets:
+            loaded.update(x for x in s.nets if x != "GND")
+        if "diode" in f"{s.part_id} {pd.description if pd else ''}".lower():
+            diodes.update(s.nets)
+    sw = {}
+    for p in build.parts:
+        pd = target.parts[p.part_id]
+        r = pd.relay
+        if r is None:
+            continue
+        typ_fig = pd.delay_typ.get("changeover") if pd.delay_typ else None
+        typ = typ_fig.value if typ_fig is not None else r.operate_time.value
+        release = r.release_time.value * (DIODE_RELEASE_FACTOR if build.coils.get(p.ref) in diodes else 1.0)
+        sw[p.ref] = (typ, max(r.operate_time.value, release), r.bounce_time.value)
+    # relay-driven nets in topological order (fan-ins first); nets on loops (seal-in storage) last
+    drivers: dict = {}
+    for k in build.contacts:
+        drivers.setdefault(k.com, []).append(k)
+    deps = {net: {x for k in ks for x in (k.no, k.nc, build.coils.get(k.part_ref)) if x in drivers}
+            for net, ks in drivers.items()}
+    indeg = {n: len(d - {n}) for n, d in deps.items()}
+    users: dict = {}
+    for n, d in deps.items():
+        for x in d - {n}:
+            users.setdefault(x, []).append(n)
+    ready = sorted((n for n, c in indeg.items() if c == 0), reverse=True)
+    order = []
+    while ready:
+        n = ready.pop()
+        order.append(n)
+        for u in users.get(n, ()):
+            indeg[u] -= 1
+            if indeg[u] == 0:
+                ready.append(u)
+    done = set(order)
+    left = [n for n in drivers if n not in done]
+    return loaded, sw, drivers, order, left
 
 
 def relay_transfers(build) -> list:
@@ -738,54 +788,10 @@ def relay_transfers(build) -> list:
     resistor to ``GND`` holds the net while it floats (common practice: a
     relay-driven net feeding logic or a coil needs a defined load).
     """
-    target = build.target
-    loaded = set()
-    for s in build.support:
-        pd = target.parts.get(s.part_id)
-        if pd is not None and pd.ratings.get("resistance") is not None and "GND" in s.nets:
-            loaded.update(x for x in s.nets if x != "GND")
-    from .relay_timing import DIODE_RELEASE_FACTOR
-
-    diodes = set()
-    for s in build.support:
-        pd = target.parts.get(s.part_id)
-        if "diode" in f"{s.part_id} {pd.description if pd else ''}".lower():
-            diodes.update(s.nets)
-    sw = {}
-    for p in build.parts:
-        pd = target.parts[p.part_id]
-        r = pd.relay
-        if r is None:
-            continue
-        typ_fig = pd.delay_typ.get("changeover") if pd.delay_typ else None
-        typ = typ_fig.value if typ_fig is not None else r.operate_time.value
-        release = r.release_time.value * (DIODE_RELEASE_FACTOR if build.coils.get(p.ref) in diodes else 1.0)
-        transfer = max(r.operate_time.value, release)
-        sw[p.ref] = (typ, transfer, r.bounce_time.value)
-    # earliest / latest arrival of every relay-driven net, iterative over a topological order
-    drivers: dict = {}
-    for k in build.contacts:
-        drivers.setdefault(k.com, []).append(k)
-    deps = {net: {x for k in ks for x in (k.no, k.nc, build.coils.get(k.part_ref)) if x in drivers}
-            for net, ks in drivers.items()}
-    indeg = {n: len(d - {n}) for n, d in deps.items()}
-    users: dict = {}
-    for n, d in deps.items():
-        for x in d - {n}:
-            users.setdefault(x, []).append(n)
-    ready = sorted((n for n, c in indeg.items() if c == 0), reverse=True)
-    order = []
-    while ready:
-        n = ready.pop()
-        order.append(n)
-        for u in users.get(n, ()):
-            indeg[u] -= 1
-            if indeg[u] == 0:
-                ready.append(u)
-    left = [n for n in drivers if n not in set(order)]  # loops (seal-in storage): timed from 0
+    loaded, sw, drivers, order, left = _relay_setup(build)
     early: dict = {}
     late: dict = {}
-    for net in order + left:
+    for net in order + left:  # nets on loops (seal-in storage) are timed from 0
         e = []
         la = []
         for k in drivers[net]:
@@ -810,3 +816,116 @@ def relay_transfers(build) -> list:
                     "settled_s": round(end + bounce, 9),
                     "loaded": k.com in loaded})
     return out
+
+
+#: relay builds with more free variables (inputs and storage) than this are not searched
+RELAY_MAX_INPUTS = 16
+
+
+def relay_glitches(build, max_inputs: int = RELAY_MAX_INPUTS) -> dict:
+    """Static-1 glitches of a relay build's outputs from break-before-make transfers.
+
+    While a changeover contact transfers, its common terminal touches neither
+    side: the net is cut off from the supply for that gap, and a net held by
+    a load resistor reads 0.  So when a coil changes while both the
+    normally-open and the normally-closed side carry 1 -- before and after
+    the change -- the common net drops and comes back: a static-1 hazard of
+    the contact network (hazards in contact networks: M. Yoeli and S. Rinon,
+    JACM 11(1), 1964; the transfer gap: common practice).  A cut-off net
+    passes the cut on through contacts of relays that do not move (contacts
+    pass signals at once), down to the loaded nets that read it as 0; it is not followed
+    through coils (a dropout shorter than the release time does not release a
+    held relay -- common practice).  Every single-input change from every
+    state of the inputs and storage outputs is examined (bit-parallel, up to
+    ``max_inputs`` free variables).
+
+    Returns ``hazards`` (as :func:`find_glitches`: ``output``, ``net``,
+    ``kind``, ``inputs_changed``, ``directions``, ``when``, ``width_s`` =
+    ``[0, transfer time of the relay that moves]``, ``racing_paths`` naming
+    that relay's pole) and ``search``.
+    """
+    from ..logic.function import var_mask
+    from ..netlist import Storage
+    from ..simulate import simulate
+
+    n = build.to_netlist()
+    storage = [name for name, node in n.nodes.items() if isinstance(node, Storage)]
+    free = list(n.inputs) + storage
+    k = len(free)
+    search = {"method": "break-before-make transfers, every single-input change", "free_variables": k}
+    if k > max_inputs:
+        search["checked"] = 0
+        search["note"] = f"more than {max_inputs} inputs and storage outputs: not searched"
+        return {"hazards": [], "search": search}
+    npat = 1 << k
+    mask = (1 << npat) - 1
+    words = {x: var_mask(k, j) for j, x in enumerate(free)}
+    vals = simulate(n, {x: words[x] for x in n.inputs}, mask, {x: words[x] for x in storage})
+    vals["VCC"], vals["GND"] = mask, 0
+
+    def val(net):
+        return vals.get(net, 0) if net is not None else 0
+
+    loaded, sw, drivers, order, _left = _relay_setup(build)
+    out_ports: dict = {}
+    for o in build.outputs:
+        out_ports.setdefault(build.output_nets.get(o, o), []).append(o)
+    hazards = []
+    for j, x in enumerate(free):
+        sh = 1 << j
+        mj = var_mask(k, j)
+
+        def nb(w):
+            return ((w & mj) >> sh) | ((w & ~mj & mask) << sh)
+
+        glitch: dict = {}
+        cause: dict = {}
+        for net in order:
+            if net not in n.nodes or isinstance(n.nodes[net], Storage):
+                continue
+            pole = drivers[net][0]
+            c = val(build.coils.get(pole.part_ref))
+            no, nc, z = val(pole.no), val(pole.nc), val(net)
+            ch = c ^ nb(c)
+            # the net is cut off (floats, or is held low by its load) for the gap
+            g = ch & no & nc & nb(no) & nb(nc)
+            if g:
+                cause[net] = pole
+            through = ~ch & mask & z & nb(z) & ((c & glitch.get(pole.no, 0)) | (~c & glitch.get(pole.nc, 0)))
+            if through & ~g:
+                src = pole.no if glitch.get(pole.no, 0) & c & through else pole.nc
+                cause.setdefault(net, cause.get(src))
+            g |= through
+            if g:
+                glitch[net] = g
+        for net, ports in out_ports.items():
+            g = glitch.get(net, 0)
+            if not g:
+                continue
+            conds = sorted({_drop_bit(p, j) for p in _bits(g)})
+            dirs = []
+            if g & ~mj:
+                dirs.append(f"{x} rises")
+            if g & mj:
+                dirs.append(f"{x} falls")
+            pole = cause.get(net)
+            transfer = sw.get(pole.part_ref, (0, 0, 0))[1] if pole is not None else 0.0
+            names = [free[i] for i in range(k) if i != j]
+            for port in ports:
+                hazards.append({
+                    "output": port, "net": net, "kind": "static-1", "inputs_changed": [x],
+                    "directions": sorted(dirs), "when": _conditions(conds, names, True),
+                    "width_s": [0.0, _sec(transfer)], "width_example_s": _sec(transfer),
+                    "racing_paths": [{"from": x, "break_before_make": {
+                        "part": pole.part_ref, "pole": pole.pole, "coil": build.coils.get(pole.part_ref),
+                        "net": pole.com, "loaded": pole.com in loaded} if pole is not None else None}],
+                    "races": 1, "reaches": [], "error": False,
+                })
+    search["checked"] = k * npat
+    search["exhaustive"] = True
+    return {"hazards": hazards, "search": search}
+
+
+def _drop_bit(p: int, j: int) -> int:
+    """State ``p`` without bit ``j`` (higher bits move down)."""
+    return (p & ((1 << j) - 1)) | ((p >> (j + 1)) << j)

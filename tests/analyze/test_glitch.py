@@ -433,7 +433,41 @@ def test_relay_floating_interval(tmp_path):
         assert start <= end
         assert end >= max(r.operate_time.value, r.release_time.value) - 1e-12
         assert f["settled_s"] == pytest.approx(end + r.bounce_time.value)
-    assert b.timing["hazards"] == []
+
+
+def test_relay_break_before_make_glitch(tmp_path):
+    # the same textbook function on one changeover relay: f = b ? c : a.  With a = c = 1 both sides of
+    # the contact carry 1, and while b moves the armature the common terminal touches neither: f drops
+    # for the transfer gap (hazards of contact networks: Yoeli and Rinon, JACM 1964; break-before-make:
+    # common practice).  The states are the ones the algebra names for the sum-of-products cover.
+    p = tmp_path / "hazard.blif"
+    p.write_text(TEXTBOOK)
+    b = flow.fit(read_design(p), load_target("relay-spdt"))
+    (h,) = b.timing["hazards"]
+    assert (h["output"], h["kind"], h["inputs_changed"], h["when"]) == ("f", "static-1", ["b"], [{"a": 1, "c": 1}])
+    assert h["directions"] == ["b falls", "b rises"]
+    fl = {f["net"]: f for f in b.timing["floating"]}
+    assert h["width_s"][0] == 0.0
+    assert h["width_s"][1] == pytest.approx(fl["f"]["floating_s"][1] - fl["f"]["floating_s"][0])
+    assert h["racing_paths"][0]["break_before_make"]["coil"] == "b"
+    assert b.timing["glitch_search"]["exhaustive"]
+
+
+def test_relay_glitch_passes_through_contacts(data):
+    # ripple through a contact that does not move: every reported glitch is at a state where the output
+    # is 1 before and after the change (a static-1 hazard), checked with the project's simulator
+    from mapper.simulate import simulate
+    b = flow.fit(read_design(data / "textbook" / "full_adder.blif"), load_target("relay-dpdt"))
+    n = b.to_netlist()
+    names = list(n.inputs)
+    assert b.timing["hazards"]
+    for h in b.timing["hazards"]:
+        (x,) = h["inputs_changed"]
+        for cube in h["when"]:
+            s = {k: cube.get(k, 0) for k in names}
+            for v in (0, 1):
+                s[x] = v
+                assert simulate(n, s, 1)[h["net"]] & 1 == 1
 
 
 def test_timing_json_keys(tmp_path, netfit, data):
