@@ -3,8 +3,9 @@ PY      ?= python3
 VENV    := .venv
 BIN     := $(VENV)/bin
 STAMP   := $(VENV)/.installed
-# Debian packages the tests use as outside checks (an independent Verilog simulator).
-DEBS    := iverilog
+# Debian packages the tests use as outside checks (an independent Verilog simulator; a browser
+# engine that renders report.html headless).
+DEBS    := iverilog chromium
 
 .PHONY: demo test bench venv debs clean
 

@@ -250,6 +250,11 @@ def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -
                 "error_kind": "internal"}
 
 
+def _compare_worker(level: int) -> None:
+    """Logging in a compare worker as in the parent (the CLI's level; nothing more under --quiet)."""
+    logging.basicConfig(level=level, format="%(levelname)s: %(message)s")
+
+
 def compare(path, target_names=None, effort: int = 1, jobs: int | None = None, **read_options) -> dict:
     """``netfit compare``: build the design on every target, in parallel processes.
 
@@ -281,7 +286,9 @@ def compare(path, target_names=None, effort: int = 1, jobs: int | None = None, *
         else:
             # spawned workers: a fresh interpreter each, no state forked from a busy parent
             ctx = multiprocessing.get_context("spawn")
-            with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as ex:
+            level = logging.getLogger().getEffectiveLevel()
+            with ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_compare_worker,
+                                     initargs=(level,)) as ex:
                 futs = {ex.submit(_compare_one, str(path), n, effort, read_options): n for n in names}
                 for f in as_completed(futs):
                     results[futs[f]] = f.result()

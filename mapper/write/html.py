@@ -39,8 +39,11 @@ def report_text(b: Build) -> str:
             where += f".{step['slot']}"
         elif "pole" in step:
             where += f".{step['pole']}"
+        pins = ""
+        if "from_pin_number" in step:
+            pins = f"{step['from_pin_number']} → {step.get('to_pin_number', '')}"
         path.append({"where": where, "what": step.get("cell") or (f"coil {step['coil']}" if "coil" in step else ""),
-                     "net": step.get("net", ""), "arrival_s": step.get("arrival_s")})
+                     "pins": pins, "net": step.get("net", ""), "arrival_s": step.get("arrival_s")})
     figures = []
     for key, label in (("delay_s", "worst path, maximum delays"), ("delay_typ_s", "worst path, typical delays"),
                        ("levels", "logic levels on the worst path"),
@@ -52,8 +55,17 @@ def report_text(b: Build) -> str:
         if timing.get(key) is not None:
             unit = {"_s": "s", "_a": "A"}.get(key[-2:], "")
             figures.append({"label": label, "value": timing[key], "unit": unit})
+    glitches = []
+    for h in (timing.get("hazards") or [])[:50]:
+        when = h.get("when") or []
+        widths = h.get("width_s") or []
+        glitches.append({"output": h.get("output", ""), "kind": h.get("kind", ""),
+                         "inputs": ", ".join(h.get("directions") or h.get("inputs_changed") or []),
+                         "when": " ".join(f"{k}={v}" for k, v in (when[0] if when else {}).items()) or "any",
+                         "width": widths})
     return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b), w=wiring(b),
-                  svg=Markup(svg_text(b, declaration=False)), outputs=outputs, path=path, figures=figures)
+                  svg=Markup(svg_text(b, declaration=False)), outputs=outputs, path=path, figures=figures,
+                  glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)))
 
 
 def write_build(b: Build, path, protect=()) -> None:

@@ -175,7 +175,11 @@ def build_dict(build) -> dict:
         "cells": [{"instance": inst[("cell", c.part_ref, c.slot)], "cell": c.cell, "part": c.part_ref,
                    "slot": c.slot, "pins": {p: {"pin": build.pin_of(c, p), "net": c.pins.get(p)}
                                             for p in cells[c.cell].pins},
-                   "origin": c.origin, "init": c.init} for c in build.cells],
+                   "origin": c.origin, "init": c.init, "group": getattr(c, "group", None)}
+                  for c in build.cells],
+        "storage_groups": [{"net": g.q, "kind": g.kind, "d": g.d, "control": g.control, "init": g.init,
+                            "built_as": g.template}
+                           for g in (getattr(build, "storage_groups", None) or {}).values()],
         "contacts": [{"instance": inst[("pole", k.part_ref, k.pole)], "part": k.part_ref, "pole": k.pole,
                       "coil": build.coils.get(k.part_ref), "com": k.com, "no": k.no, "nc": k.nc}
                      for k in build.contacts],

@@ -16,6 +16,7 @@ per part with its slots in use, and a note pointing to the wiring list.
 from __future__ import annotations
 
 import logging
+import math
 from dataclasses import dataclass, field
 
 from lxml import etree
@@ -358,16 +359,27 @@ def bar_chart(title: str, groups: list) -> str:
     _el(root, "text", title, x=_MARGIN, y=24, font_size=15, font_weight="bold")
     y = 50
     for gi, (label, unit, bars) in enumerate(groups):
-        _el(root, "text", label + (f" ({unit})" if unit else ""), x=_MARGIN, y=y + 12, font_weight="bold")
+        values = [v for _, v, _ in bars if v is not None and v > 0]
+        vmax = max(values, default=0)
+        vmin = min(values, default=0)
+        log = vmin > 0 and vmax / vmin > 1000  # ns beside ms: a linear bar would hide the small ones
+        scale_note = ", log scale" if log else ""
+        _el(root, "text", label + (f" ({unit}{scale_note})" if unit else (f" ({scale_note[2:]})" if log else "")),
+            x=_MARGIN, y=y + 12, font_weight="bold")
         y += 22
-        vmax = max([v for _, v, _ in bars if v is not None] + [0])
         for name, value, text in bars:
             colour = _PALETTE[names.index(name) % len(_PALETTE)]
             _el(root, "text", name, x=_MARGIN + label_w - 8, y=y + 13, text_anchor="end")
             if value is None:
                 _el(root, "text", text or "-", x=_MARGIN + label_w, y=y + 13, fill="#888888")
             else:
-                w = 0 if vmax <= 0 else max(1.0, plot_w * value / vmax)
+                if value <= 0 or vmax <= 0:
+                    w = 0.0
+                elif log:
+                    span = math.log10(vmax) - math.log10(vmin) + 1
+                    w = plot_w * (math.log10(value) - math.log10(vmin) + 1) / span
+                else:
+                    w = max(1.0, plot_w * value / vmax)
                 r = _el(root, "rect", x=_MARGIN + label_w, y=y, width=round(w, 2), height=bar_h, fill=colour)
                 _el(r, "title", f"{name}: {text}")
                 _el(root, "text", text, x=_MARGIN + label_w + w + 6, y=y + 13)

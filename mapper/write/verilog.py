@@ -35,7 +35,12 @@ The model's armature moves only on a definite 1 at the coil and starts
 released, so seal-in latches power up released, as the build assumes.
 
 Storage cells carry a parameter ``INIT`` (the power-up value the design
-declares; ``1'bx`` when it declares none).
+declares; ``1'bx`` when it declares none).  Storage built from gates (a
+loop of NAND gates, :attr:`~mapper.build.Build.storage_groups`) has no
+such parameter: like the hardware it powers up unknown, and simulates as
+``x`` until written.  The header comment lists each such net with the value
+the design declares, for a test bench to force at time 0 -- the power-on
+reset the build's cautions ask for.
 """
 from __future__ import annotations
 
@@ -366,8 +371,11 @@ def build_text(b: Build, cells_file: str = CELLS_FILE) -> str:
                         | {n for k in b.contacts for n in (k.com, k.no, k.nc) if n in RAILS}
                         | {n for n in b.coils.values() if n in RAILS}
                         | {n for _, _, _, n in nm.assigns if n in RAILS})
+    groups = getattr(b, "storage_groups", {}) or {}
+    power_up = [(nm.ref.get(g.q, g.q), g.init, g.template or g.kind) for g in groups.values()
+                if g.init in (0, 1)]
     return render("build.v.j2", b=b, nm=nm, version=__version__, cells_file=cells_file,
-                  rails=[(RAILS[r], r) for r in used_rails],
+                  rails=[(RAILS[r], r) for r in used_rails], power_up=power_up,
                   wires=[nm.ref[w] for w in nm.wires], parts=_instances(b, nm),
                   renamed=sorted(nm.renamed.items()))
 
