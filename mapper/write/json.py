@@ -50,6 +50,10 @@ Builds
       "timing": {...}, "cautions": [...], "notes": [...]
     }
 
+``timing`` holds the figures of the build's timing analysis except the
+list of glitches (``hazards``; their number is kept), which ``netfit timing
+--json`` gives in full.
+
 Pins are package pin numbers, or terminal names (``COIL+``, ``NO1``) for
 relays; ``use`` is one of ``input output supply tie open nc coil contact
 support`` (see :mod:`mapper.write.wiring`).
@@ -120,21 +124,20 @@ def dumps(data: dict) -> str:
 
 def _plain(value):
     """JSON-ready copy of timing data (tuples to lists, unknown objects to text)."""
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if value is None or isinstance(value, (bool, int, float, str)):
-        return value
-    return str(value)
+    return json.loads(json.dumps(value, default=str))
+
+
+#: timing entries left out of the build file: the glitch list can be large; `netfit timing --json` has it
+_TIMING_LEFT_OUT = ("hazards",)
 
 
 def build_dict(build) -> dict:
     """The whole build as plain data (see the module docstring); JSON-serialisable."""
     from .verilog import verilog_names
-    from .wiring import wiring
+    from .wiring import PinLookup, wiring
 
     w = wiring(build)
+    pin_of = PinLookup(build)
     inst = verilog_names(build).instances
     cells = build.target.cells
     by_slot = {(c.part_ref, c.slot): c for c in build.cells}
@@ -151,7 +154,7 @@ def build_dict(build) -> dict:
                 c = by_slot.get((part["ref"], s.index))
                 if c is not None:
                     slots.append({"slot": s.index, "cell": c.cell, "instance": inst[("cell", c.part_ref, c.slot)],
-                                  "pins": {p: {"pin": build.pin_of(c, p), "net": c.pins.get(p)}
+                                  "pins": {p: {"pin": pin_of(c, p), "net": c.pins.get(p)}
                                            for p in cells[c.cell].pins}})
                 else:
                     used = any(k.part_ref == part["ref"] and k.pole == s.index for k in build.contacts)
@@ -173,7 +176,7 @@ def build_dict(build) -> dict:
         "output_nets": {o: build.output_nets.get(o, o) for o in build.outputs},
         "parts": parts,
         "cells": [{"instance": inst[("cell", c.part_ref, c.slot)], "cell": c.cell, "part": c.part_ref,
-                   "slot": c.slot, "pins": {p: {"pin": build.pin_of(c, p), "net": c.pins.get(p)}
+                   "slot": c.slot, "pins": {p: {"pin": pin_of(c, p), "net": c.pins.get(p)}
                                             for p in cells[c.cell].pins},
                    "origin": c.origin, "init": c.init, "group": getattr(c, "group", None)}
                   for c in build.cells],
@@ -189,7 +192,7 @@ def build_dict(build) -> dict:
         "support": [{"ref": s.ref, "part": s.part_id, "nets": list(s.nets), "purpose": s.purpose}
                     for s in build.support],
         "ties": [{"part": t.part_ref, "pin": t.pin, "rail": t.rail, "reason": t.reason} for t in build.ties],
-        "timing": _plain(build.timing),
+        "timing": _plain({k: v for k, v in build.timing.items() if k not in _TIMING_LEFT_OUT}),
         "cautions": list(build.cautions),
         "notes": list(build.notes),
     }

@@ -296,8 +296,11 @@ def _init_literal(init: int) -> str:
 
 def _instances(b: Build, nm: VerilogNames) -> list:
     """Plain data for each instance line of the module, ordered by part and slot."""
+    from .wiring import PinLookup
+
     out = []
     cells = b.target.cells
+    pin_of = PinLookup(b)
 
     def conn(net):
         return "1'b0" if net is None else nm.ref[net]
@@ -323,7 +326,7 @@ def _instances(b: Build, nm: VerilogNames) -> list:
                 pins = []
                 for pin in cd.pins:
                     net = it.pins.get(pin)
-                    num = b.pin_of(it, pin)
+                    num = pin_of(it, pin)
                     pins.append((pin, nm.ref[net] if net is not None else "", num))
                 params = f" #(.INIT({_init_literal(it.init)}))" if cd.storage is not None else ""
                 open_ = [pin for pin, c_, _ in pins if not c_]

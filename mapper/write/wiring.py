@@ -29,7 +29,7 @@ from ..errors import InternalError
 from . import atomic_write
 from .layout import render
 
-__all__ = ["PinUse", "wiring", "wiring_text", "write_build", "pin_label"]
+__all__ = ["PinUse", "wiring", "wiring_text", "write_build", "pin_label", "PinLookup"]
 
 log = logging.getLogger(__name__)
 
@@ -75,6 +75,28 @@ def pin_label(ref: str, number, name: str, relay: bool) -> str:
     return f"{ref}-{name}" if relay else f"{ref}-{number}"
 
 
+class PinLookup:
+    """Package pin of a cell pin, like :meth:`Build.pin_of` but with the parts indexed once
+    (the writers ask for every pin of every cell)."""
+
+    def __init__(self, b: Build):
+        self.b = b
+        self.part_of = {p.ref: b.target.parts[p.part_id] for p in b.parts}
+        self.slots: dict = {}
+
+    def __call__(self, cell, pin: str):
+        pd = self.part_of[cell.part_ref]
+        key = (pd.id, cell.slot)
+        slot = self.slots.get(key)
+        if slot is None:
+            slot = self.slots[key] = next((s for s in pd.slots if s.index == cell.slot), None)
+        if slot is not None and pin in slot.pins:
+            return slot.pins[pin]
+        if pin in pd.shared_pins:
+            return pd.shared_pins[pin]
+        return self.b.pin_of(cell, pin)  # raises the build's own error
+
+
 class _Pins:
     """The pins of one part while they are being filled in; refuses two nets on one pin."""
 
@@ -110,6 +132,13 @@ def wiring(b: Build) -> dict:
     cells = b.target.cells
     by_ref: dict = {}
     parts_out = []
+    pin_of = PinLookup(b)
+    cells_of: dict = {}
+    for c in b.cells:
+        cells_of.setdefault(c.part_ref, []).append(c)
+    ties_of: dict = {}
+    for t in b.ties:
+        ties_of.setdefault(t.part_ref, {})[t.pin] = t
     for p in sorted(b.parts, key=lambda p: _refkey(p.ref)):
         pd = b.target.parts[p.part_id]
         relay = pd.relay is not None
@@ -122,7 +151,7 @@ def wiring(b: Build) -> dict:
         if relay:
             _relay_pins(b, p.ref, pd, pins)
         else:
-            _chip_pins(b, p.ref, pd, pins, cells)
+            _chip_pins(b, p.ref, pd, pins, cells, cells_of.get(p.ref, []), ties_of.get(p.ref, {}), pin_of)
         parts_out.append({"ref": p.ref, "part": pd.id, "description": pd.description,
                           "package": pd.package, "kind": "relay" if relay else "chip",
                           "pinout_source": pd.pinout_source, "pins": pins})
@@ -156,19 +185,15 @@ def wiring(b: Build) -> dict:
             "rail": b.rail if (b.contacts or b.coils) else None}
 
 
-def _chip_pins(b: Build, ref: str, pd, pins: _Pins, cells: dict) -> None:
-    used = {}
-    for c in b.cells:
-        if c.part_ref == ref:
-            used[c.slot] = c
-    ties = {t.pin: t for t in b.ties if t.part_ref == ref}
+def _chip_pins(b: Build, ref: str, pd, pins: _Pins, cells: dict, placed: list, ties: dict, pin_of) -> None:
+    used = {c.slot: c for c in placed}
     # used slots first: a pin shared between slots (a common enable) belongs to the used one
     for s in sorted(pd.slots, key=lambda s: (s.index not in used, s.index)):
         c = used.get(s.index)
         if c is not None:
             cd = cells[c.cell]
             for pin in cd.pins:
-                num = b.pin_of(c, pin)
+                num = pin_of(c, pin)
                 net = c.pins.get(pin)
                 if pin in cd.inputs:
                     if net in SUPPLY_NETS:
