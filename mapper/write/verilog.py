@@ -24,6 +24,12 @@ Names
   non-ASCII) have those characters replaced by ``_`` (made unique with a
   numeric suffix); the header comment lists every such renaming.
 * The supply rails are ``supply1 VCC`` and ``supply0 GND``.
+* An output that is also an input of the design (a net passed straight
+  through) cannot be two ports of one name: the output port is renamed
+  ``<name>_out``, listed in the header comment.
+* The module is named after the design; a name that is not a plain
+  identifier has its other characters replaced by ``_``, and a keyword or a
+  leading digit gets the prefix ``d_`` (``edge`` becomes ``d_edge``).
 
 Relays
 ------

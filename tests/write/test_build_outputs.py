@@ -103,7 +103,8 @@ def _connections(names, ports, direction, prefix):
     conns = []
     for port, bits in by_port.items():
         if None in bits:
-            conns.append(f".{_esc(port)}({bits[None]})")
+            name = ports[port][4] if len(ports[port]) > 4 else port  # an output renamed in the file
+            conns.append(f".{_esc(name)}({bits[None]})")
         else:
             _, msb, lsb, _ = ports[port]
             step = -1 if msb >= lsb else 1
@@ -131,12 +132,17 @@ def run_iverilog(folder: Path, design, b: Build, vectors: list, clock: str | Non
     stem = flow._file_stem(b.design)
     vfile, cfile = folder / f"{stem}.v", folder / "cells.v"
     top, ports = _slang_ports([vfile, cfile])
+    # outputs renamed because they are also inputs, as the file's header lists them
+    renamed_out = dict(re.findall(r"^//   (\S+) \(output\) -> (\S+)$", vfile.read_text(), re.M))
+    for old, new in renamed_out.items():
+        ports[f"{old} (output)"] = ports.pop(new) + (new,)
     ins = [i for i in design.inputs if i != clock]
     outs = list(design.outputs)
     lines = ["`timescale 1ns/1ns", "module bench;"]
     lines += [f"  reg i{k};" for k in range(len(ins))]
     lines += [f"  wire o{k};" for k in range(len(outs))]
-    conns = _connections(ins, ports, "in", "i") + _connections(outs, ports, "out", "o")
+    conns = _connections(ins, ports, "in", "i") + _connections(
+        [f"{o} (output)" if o in renamed_out else o for o in outs], ports, "out", "o")
     if clock is not None:
         lines.append("  reg clk = 1'b0;")
         port, bit = _port_of(clock, ports, "in")
@@ -580,3 +586,38 @@ def test_relay_wiring_names_coil_and_contact_terminals(target):
         assert sorted(on_net[net]) == sorted(f"{r}-{p}" for r, p in joins), net
     text = wiring_text(b)
     assert "-COIL+" in text and "-COM1" in text
+
+
+PASS_THROUGH = """\
+# outputs that are an input, a copy of another output, and a constant (our own test input)
+.model edge
+.inputs a b
+.outputs y a z w k
+.names a b y
+11 1
+.names a b z
+11 1
+.names w
+1
+.names a k
+1 1
+.end
+"""
+
+
+@needs_iverilog
+@pytest.mark.parametrize("target", [
+    "nand-only", "relay-spdt",
+    pytest.param("gates-74", marks=pytest.mark.xfail(
+        reason="known mapper bug: a constant output on gates-74 leaves the prover with an undriven VCC",
+        strict=False))])
+def test_outputs_passed_through_copied_and_constant(tmp_path, target):
+    # a module named after a Verilog keyword, an output that is also an input (renamed, listed in the
+    # header), outputs carried by other nets and by VCC; simulated by Icarus Verilog against the design
+    src = tmp_path / "edge.blif"
+    src.write_text(PASS_THROUGH)
+    design = read_design(src)
+    b = flow.fit(design, flow.load_target(target), effort=0)
+    _check_exported(tmp_path / "out", src, target, design, b)
+    text = (tmp_path / "out" / "wiring.txt").read_text()
+    assert "output w" in text
