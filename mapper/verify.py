@@ -23,11 +23,14 @@ How :func:`check_equivalence` decides
    ICCAD 2006 / ERL technical report 2005): nodes whose simulation
    signatures agree, possibly up to complement, are candidate equivalences.
    The miter is rebuilt node by node in topological order; each node with a
-   candidate is proved equal to it by a SAT call with a conflict budget and,
-   when proved, merged into it, so later proofs only see the logic between
-   merged points.  A disproof yields a pattern that is simulated (with its
-   distance-1 neighbours) to split the candidate classes.  Caller's
-   ``hints`` (net of A -> net of B believed equal) are tried first.
+   candidate is proved equal to it and, when proved, merged into it, so
+   later proofs only see the logic between merged points.  A proof is first
+   tried over a small cut shared by both nodes (exhaustive simulation of the
+   cut; equivalence over cuts as in Kuehlmann and Krohm, DAC 1997), then by
+   a SAT call with a conflict budget.  A disproof yields a pattern that is
+   simulated (with its distance-1 neighbours, in batches) to split the
+   candidate classes.  Caller's ``hints`` (net of A -> net of B believed
+   equal) are tried first.
 5. **Output proofs** on the swept graph: each compared pair is proved equal
    or a counterexample is read off the SAT model (method ``"sat-sweeping"``;
    ``"sat-miter"`` when sweeping is switched off).  The CNF is our own
@@ -86,6 +89,8 @@ _MAX_TRIES = 4
 _CUT_LEAVES = 8
 _CUT_NODES = 100
 _CONE_TOP = 40
+#: refuted candidates collected before their patterns are simulated
+_REFINE_BATCH = 16
 
 _SWEEP_REFS = ("SAT sweeping (Kuehlmann et al., IEEE TCAD 2002; "
                "Mishchenko et al., ICCAD 2006)")
@@ -278,15 +283,13 @@ def _counterexample(a, b, pairs, assignment: dict) -> dict:
 class _Prover:
     """The swept copy of a miter, its CNF and its solver."""
 
-    def __init__(self, g: AIG, free: list, sig: list, mask: int, nbits: int,
+    def __init__(self, g: AIG, free: list, sig: list, mask: int,
                  solver: str, budget: int, rng: random.Random, sweep: bool):
         self.g = g
         self.free = free
-        self.sig = sig
-        self.mask = mask
-        self.nbits = nbits
-        self.budget = budget
         self.rng = rng
+        self._classes(sig, mask)
+        self.budget = budget
         self.sweep = sweep
         self.stats = {"sat_calls": 0, "merged_by_sat": 0, "merged_by_cut": 0, "merged_by_structure": 0,
                       "disproved": 0, "undecided": 0, "refinements": 0}
@@ -438,46 +441,63 @@ class _Prover:
                 return self._model_assignment()
         return True
 
-    # -- simulation refinement ------------------------------------------------
-    def refine(self, assignment: dict) -> None:
-        """Add ``assignment`` and its distance-1 neighbours to the signatures."""
+    # -- candidate classes ------------------------------------------------------
+    def _classes(self, sig: list, mask: int) -> None:
+        """Class ids from simulation signatures, complements folded together:
+        ``phase[v]`` is the value of ``v`` in pattern 0 and the class key is
+        the signature complemented when that value is 1."""
+        self.phase = bytearray(s & 1 for s in sig)
+        table: dict = {}
+        self.cid = [table.setdefault(s ^ mask if s & 1 else s, len(table)) for s in sig]
+
+    def refine(self, assignments: list) -> None:
+        """Split the classes by ``assignments`` (free-variable values) and
+        their distance-1 neighbours, all simulated in one pass."""
         names = [n for n, _ in self.free]
-        flips = names if len(names) <= 63 else self.rng.sample(names, 63)
-        k = len(flips) + 1
-        words = {}
-        for n in names:
-            w = (1 << k) - 1 if assignment.get(n, 0) else 0
-            words[n] = w
-        for i, n in enumerate(flips, start=1):
-            words[n] ^= 1 << i
-        vals = _simulate_free(self.g, self.free, words, (1 << k) - 1)
-        shift = self.nbits
-        sig = self.sig
-        for v in range(len(sig)):
-            sig[v] |= vals[v] << shift
-        self.nbits += k
-        self.mask = (1 << self.nbits) - 1
+        words = dict.fromkeys(names, 0)
+        width = 0
+        for assignment in assignments:
+            flips = names if len(names) <= 63 else self.rng.sample(names, 63)
+            k = len(flips) + 1
+            block = ((1 << k) - 1) << width
+            for n in names:
+                if assignment.get(n, 0):
+                    words[n] |= block
+            for i, n in enumerate(flips, start=1):
+                words[n] ^= 1 << (width + i)
+            width += k
+        mask = (1 << width) - 1
+        vals = _simulate_free(self.g, self.free, words, mask)
+        table: dict = {}
+        cid, phase = self.cid, self.phase
+        for v, w in enumerate(vals):
+            if phase[v]:
+                w ^= mask
+            cid[v] = table.setdefault((cid[v], w), len(table))
         self.stats["refinements"] += 1
 
     # -- the sweep ------------------------------------------------------------------
-    def _key(self, v: int) -> tuple[int, int]:
-        s = self.sig[v]
-        return (s ^ self.mask, 1) if s & 1 else (s, 0)
-
     def run_sweep(self, roots, hints: dict) -> None:
         """Rebuild the cone of ``roots`` in the swept graph, merging proved
-        equivalences (see the module docstring)."""
+        equivalences (see the module docstring).
+
+        Refuted candidates are collected and simulated in batches of
+        :data:`_REFINE_BATCH` (one simulation pass costs as much as the
+        whole graph); a node whose candidate was refuted keeps its own node
+        unless the classes were refined right then.
+        """
         g, n, newlit = self.g, self.n, self.newlit
         f0, f1 = g.f0, g.f1
+        cid, phase = self.cid, self.phase
         cone = g.cone(roots)
         processed = [0] + [v for _, v in self.free]
-        members: dict = {}
-        stale = False
+        rep_of: dict = {}
+        pending: list = []
 
         def rebuild():
-            members.clear()
+            rep_of.clear()
             for u in processed:
-                members.setdefault(self._key(u)[0], []).append(u)
+                rep_of.setdefault(cid[u], u)
 
         rebuild()
         budget = self.budget
@@ -488,22 +508,17 @@ class _Prover:
             tries = 0
             tried = set()
             while tries < _MAX_TRIES:
-                if stale:
-                    rebuild()
-                    stale = False
-                key, ph = self._key(v)
                 cand = None
                 hint = hints.get(v)
                 if hint is not None and hint[0] not in tried and newlit[hint[0]] >= 0:
                     r, compl = hint
-                    if self.sig[v] == (self.sig[r] ^ (self.mask if compl else 0)):
-                        cand = (r, compl)
+                    if cid[v] == cid[r] and compl == phase[v] ^ phase[r]:
+                        cand = hint
                         self.stats["hints_tried"] = self.stats.get("hints_tried", 0) + 1
                 if cand is None:
-                    for r in members.get(key, ()):
-                        if r not in tried:
-                            cand = (r, ph ^ self._key(r)[1])
-                            break
+                    r = rep_of.get(cid[v])
+                    if r is not None and r not in tried:
+                        cand = (r, phase[v] ^ phase[r])
                 if cand is None:
                     break
                 r, compl = cand
@@ -526,12 +541,15 @@ class _Prover:
                     self.stats["undecided"] += 1
                     break
                 self.stats["disproved"] += 1
-                self.refine(res)
-                stale = True
+                pending.append(res)
+                if len(pending) < _REFINE_BATCH:
+                    break
+                self.refine(pending)
+                pending.clear()
+                rebuild()
             newlit[v] = result_lit
             processed.append(v)
-            if not stale:
-                members.setdefault(self._key(v)[0], []).append(v)
+            rep_of.setdefault(cid[v], v)
 
 
 def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
@@ -617,7 +635,8 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
             assignment = {name: (w >> k) & 1 for name, w in words.items()}
             return finish(False, "simulation", _counterexample(a, b, todo, assignment))
 
-    prover = _Prover(g, free, vals, mask, nbits, solver, conflict_budget, rng, sweep)
+    prover = _Prover(g, free, vals, mask, solver, conflict_budget, rng, sweep)
+    del vals  # the classes keep what is needed
     try:
         if sweep:
             hint_vars = _resolve_hints(hints, lit_a, lit_b, notes) if hints else {}
