@@ -638,12 +638,16 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     prover = _Prover(g, free, vals, mask, solver, conflict_budget, rng, sweep)
     del vals  # the classes keep what is needed
     try:
+        log.info("miter of %d AND nodes, %d pairs to prove", g.num_ands, len(todo))
+        if hints and not sweep:
+            notes.append("hints are used only while sweeping; ignored")
         if sweep:
             hint_vars = _resolve_hints(hints, lit_a, lit_b, notes) if hints else {}
             roots = []
             for p in todo:
                 roots += [p.la, p.lb] + ([p.dc] if p.dc else [])
             prover.run_sweep(roots, hint_vars)
+            log.info("sweeping: %s", prover.stats)
         nl = prover.newlit
         for p in todo:
             x = nl[p.la >> 1] ^ (p.la & 1)
@@ -662,8 +666,8 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
         stats.update(prover.stats)
         if sweep:
             stats["swept_ands"] = prover.n.num_ands
-            notes.append(f"{_SWEEP_REFS}: {prover.stats['merged_by_sat']} internal equivalences "
-                         f"proved and merged")
+            merged = prover.stats["merged_by_sat"] + prover.stats["merged_by_cut"]
+            notes.append(f"{_SWEEP_REFS}: {merged} internal equivalences proved and merged")
         return finish(True, "sat-sweeping" if sweep else "sat-miter")
     finally:
         prover.close()
