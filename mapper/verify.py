@@ -78,7 +78,7 @@ __all__ = [
 log = logging.getLogger(__name__)
 
 #: the pysat back end; chosen by measurement (bench/bench_verify.py --solvers)
-DEFAULT_SOLVER = "minisat22"
+DEFAULT_SOLVER = "cadical195"
 #: conflicts allowed for each candidate proof while sweeping
 DEFAULT_CONFLICT_BUDGET = 1000
 #: random patterns simulated before any SAT call
