@@ -405,3 +405,12 @@ def test_prover_agrees_with_exhaustive_simulation(seed, monkeypatch):
     assert res.equivalent == truly_equal, (seed, res.method, res.stats)
     if seed in (9, 27):  # (found by running them: these refute candidates and refine)
         assert res.stats["refinements"] > 0
+
+
+def test_output_budget_can_run_out(tmp_path):
+    # array vs Dadda (ariths-gen) 7 bits needs many conflicts per middle output
+    # bit; with one conflict allowed the prover must say it could not decide,
+    # never guess
+    from mapper.verify import ProofLimitError
+    with pytest.raises(ProofLimitError):
+        check_equivalence(arith("arr", 7, tmp_path), arith("dadda", 7, tmp_path), output_budget=1)
