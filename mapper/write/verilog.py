@@ -31,6 +31,21 @@ Names
   identifier has its other characters replaced by ``_``, and a keyword or a
   leading digit gets the prefix ``d_`` (``edge`` becomes ``d_edge``).
 
+Netlists
+--------
+:func:`write_netlist` (``netfit convert design.blif design.v``) writes a
+design rather than a build, inside the structural subset netfit reads: one
+``assign`` per logic node (its cover as a sum of products, or the
+complement of one when the cover lists the OFF-set), ``always
+@(posedge c)`` / ``@(negedge c)`` with a non-blocking assignment per
+edge-triggered element and ``always @*`` with ``if (en)`` / ``if (!en)`` per
+latch, each storage net a ``reg`` with its initial value where the design
+gives 0 or 1.  A storage net that is also an output port is held in a
+``reg`` named ``<net>_q`` and assigned to the port.  Storage without a
+control net (BLIF kind ``as``, or an edge element with no clock) has no
+Verilog form and is refused; a don't-care network (``.exdc``) is not
+written (a warning says so).
+
 Relays
 ------
 Each used pole is an instance of the changeover cell: ``COIL`` on the coil
@@ -57,12 +72,13 @@ from pathlib import Path
 
 from .. import __version__
 from ..build import Build
-from ..errors import InternalError
+from ..errors import InternalError, UsageError
+from ..netlist import Logic, Netlist, Storage
 from . import atomic_write
 from .layout import render
 
 __all__ = ["KEYWORDS", "VerilogNames", "verilog_names", "build_text", "cells_text", "write_build",
-           "write_cells", "CELLS_FILE"]
+           "write_cells", "CELLS_FILE", "netlist_text", "write_netlist"]
 
 log = logging.getLogger(__name__)
 
@@ -195,94 +211,97 @@ def _vector_groups(ports_in: list, ports_out: list, all_nets: list) -> dict:
     return groups
 
 
-def verilog_names(b: Build) -> VerilogNames:
-    """Decide the Verilog name of every net, port and instance of ``b`` (see the module docstring)."""
-    all_nets = _all_nets(b)
-    outputs_as_ports = []
-    for o in b.outputs:
-        outputs_as_ports.append(o)
-    inputs_set = set(b.inputs)
-    groups = _vector_groups([i for i in b.inputs], [o for o in b.outputs if o not in inputs_set], all_nets)
-    ref: dict = {}
-    taken: set = set()  # names as Verilog sees them (an escaped identifier equals its plain text)
-    renamed: dict = {}
+class _Namer:
+    """Verilog names of nets and ports (the rules of the module docstring), for a build or a netlist."""
 
-    def fresh(base: str) -> str:
+    def __init__(self, inputs, outputs, all_nets, output_nets: dict, rails=RAILS):
+        self.taken: set = set()  # names as Verilog sees them (an escaped identifier equals its plain text)
+        self.ref: dict = {}
+        self.renamed: dict = {}
+        inputs_set = set(inputs)
+        groups = _vector_groups(list(inputs), [o for o in outputs if o not in inputs_set], all_nets)
+        for rail in rails:
+            self.taken.add(rail)
+            self.ref[rail] = rail
+        for base, (_, bits) in groups.items():
+            self.taken.add(base)
+            for i, n in bits.items():
+                self.ref[n] = f"{base}[{i}]"
+        # nets whose names are usable as they are come first, so they never lose their name to a renaming
+        order = [n for n in all_nets if n not in self.ref]
+        for n in order:
+            if _ESCAPABLE.match(n) and n not in self.taken:
+                self.taken.add(n)
+                self.ref[n] = identifier(n)
+        for n in order:
+            if n in self.ref:
+                continue
+            v = self.fresh(re.sub(r"[^\x21-\x7e]", "_", n) or "_")
+            self.ref[n] = identifier(v)
+            self.renamed[n] = v
+            log.info("net %r written in Verilog as %r", n, v)
+        self.ports = []
+        seen_groups: set = set()
+        for direction, names in (("input", inputs), ("output", outputs)):
+            for n in names:
+                m = _BIT.match(n)
+                if m and m.group(1) in groups and groups[m.group(1)][0] == direction:
+                    base = m.group(1)
+                    if base in seen_groups:
+                        continue
+                    seen_groups.add(base)
+                    bits = groups[base][1]
+                    self.ports.append(Port(direction, base, (max(bits), min(bits)), dict(bits)))
+                    continue
+                if direction == "output" and n in inputs_set:
+                    # a net that is both input and output: the output port needs a name of its own
+                    v = self.fresh(f"{n}_out" if _ESCAPABLE.match(n) else "out")
+                    self.renamed[f"{n} (output)"] = v
+                    self.ports.append(Port(direction, identifier(v), None, {None: n}))
+                    continue
+                self.ports.append(Port(direction, self.ref[n], None, {None: n}))
+        port_nets = set(inputs) | set(outputs)
+        self.wires = [n for n in all_nets if n not in port_nets and n not in rails]
+        self.assigns = []
+        for p in self.ports:
+            if p.direction != "output":
+                continue
+            for i, o in p.bits.items():
+                net = output_nets.get(o, o)
+                target = (p.name if i is None else f"{p.name}[{i}]")
+                if net != o or o in inputs_set:
+                    if net not in self.ref:
+                        raise InternalError(f"output {o} is carried by net {net}, which nothing drives")
+                    self.assigns.append((target, self.ref[net], o, net))
+
+    def fresh(self, base: str) -> str:
         cand, k = base, 1
-        while cand in taken:
+        while cand in self.taken:
             cand = f"{base}_{k}"
             k += 1
-        taken.add(cand)
+        self.taken.add(cand)
         return cand
 
-    for rail in RAILS:
-        taken.add(rail)
-        ref[rail] = rail
-    for base, (_, bits) in groups.items():
-        taken.add(base)
-        for i, n in bits.items():
-            ref[n] = f"{base}[{i}]"
-    # nets whose names are usable as they are come first, so they never lose their name to a renaming
-    order = [n for n in all_nets if n not in ref]
-    for n in order:
-        if _ESCAPABLE.match(n) and n not in taken:
-            taken.add(n)
-            ref[n] = identifier(n)
-    for n in order:
-        if n in ref:
-            continue
-        base = re.sub(r"[^\x21-\x7e]", "_", n) or "_"
-        v = fresh(base)
-        ref[n] = identifier(v)
-        renamed[n] = v
-        log.info("net %r written in Verilog as %r", n, v)
 
-    ports = []
-    seen_groups: set = set()
-    for direction, names in (("input", b.inputs), ("output", b.outputs)):
-        for n in names:
-            m = _BIT.match(n)
-            if m and m.group(1) in groups and groups[m.group(1)][0] == direction:
-                base = m.group(1)
-                if base in seen_groups:
-                    continue
-                seen_groups.add(base)
-                bits = groups[base][1]
-                ports.append(Port(direction, base, (max(bits), min(bits)), dict(bits)))
-                continue
-            if direction == "output" and n in inputs_set:
-                # a net that is both input and output: the output port needs a name of its own
-                v = fresh(f"{n}_out" if _ESCAPABLE.match(n) else "out")
-                renamed[f"{n} (output)"] = v
-                ports.append(Port(direction, identifier(v), None, {None: n}))
-                continue
-            ports.append(Port(direction, ref[n], None, {None: n}))
-
-    port_nets = set(b.inputs) | set(b.outputs)
-    wires = [n for n in all_nets if n not in port_nets and n not in RAILS]
-    assigns = []
-    for p in ports:
-        if p.direction != "output":
-            continue
-        for i, o in p.bits.items():
-            net = b.output_nets.get(o, o)
-            target = (p.name if i is None else f"{p.name}[{i}]")
-            if net != o or o in inputs_set:
-                if net not in ref:
-                    raise InternalError(f"output {o} is carried by net {net}, which nothing in the build drives")
-                assigns.append((target, ref[net], o, net))
-
-    instances: dict = {}
-    for c in sorted(b.cells, key=lambda c: (_refkey(c.part_ref), c.slot)):
-        instances[("cell", c.part_ref, c.slot)] = fresh(f"{c.part_ref}_{c.slot}")
-    for k in sorted(b.contacts, key=lambda k: (_refkey(k.part_ref), k.pole)):
-        instances[("pole", k.part_ref, k.pole)] = fresh(f"{k.part_ref}_{k.pole}")
-    module = b.design if _is_simple(b.design) else re.sub(r"[^A-Za-z0-9_$]", "_", b.design) or "design"
+def _module_name(name: str, avoid=()) -> str:
+    module = name if _is_simple(name) else re.sub(r"[^A-Za-z0-9_$]", "_", name) or "design"
     if module[0].isdigit() or module[0] == "$" or module in KEYWORDS:
         module = "d_" + module
-    if module in b.target.cells:
+    if module in avoid:
         module = module + "_build"
-    return VerilogNames(module, ref, ports, wires, renamed, instances, assigns)
+    return module
+
+
+def verilog_names(b: Build) -> VerilogNames:
+    """Decide the Verilog name of every net, port and instance of ``b`` (see the module docstring)."""
+    nm = _Namer(b.inputs, b.outputs, _all_nets(b), b.output_nets)
+    instances: dict = {}
+    for c in sorted(b.cells, key=lambda c: (_refkey(c.part_ref), c.slot)):
+        instances[("cell", c.part_ref, c.slot)] = nm.fresh(f"{c.part_ref}_{c.slot}")
+    for k in sorted(b.contacts, key=lambda k: (_refkey(k.part_ref), k.pole)):
+        instances[("pole", k.part_ref, k.pole)] = nm.fresh(f"{k.part_ref}_{k.pole}")
+    return VerilogNames(_module_name(b.design, b.target.cells), nm.ref, nm.ports, nm.wires, nm.renamed,
+                        instances, nm.assigns)
 
 
 def _refkey(ref: str):
@@ -471,3 +490,67 @@ def write_build(b: Build, path, protect=()) -> None:
         raise InternalError("the build's Verilog cannot be written to cells.v itself")
     atomic_write(path, build_text(b, CELLS_FILE), protect=protect)
     write_cells(b, cells_path, protect=protect)
+
+
+# -- netlists ---------------------------------------------------------------------------------
+def _sop(func, fanins: list) -> str:
+    """A Verilog expression of ``func`` over the fan-in references (sum of products of its cover)."""
+    const = func.constant_value()
+    if const is not None:
+        return f"1'b{const}"
+    cubes, phase = func.cover()
+    terms = []
+    for cube in cubes:
+        lits = [(f if ch == "1" else f"~{f}") for f, ch in zip(fanins, cube) if ch != "-"]
+        terms.append(" & ".join(lits) if lits else "1'b1")
+    if len(terms) == 1:
+        body = terms[0]
+    else:
+        body = " | ".join(f"({t})" if " & " in t else t for t in terms)
+    return body if phase else f"~({body})"
+
+
+def netlist_text(netlist: Netlist) -> str:
+    """``netlist`` as Verilog-2001 in the structural subset netfit reads (see "Netlists" above)."""
+    if netlist.exdc is not None:
+        log.warning("%s: the don't-care network (.exdc) has no Verilog form and is not written", netlist.name)
+    all_nets = list(dict.fromkeys(list(netlist.inputs) + list(netlist.outputs) + [
+        x for name, node in netlist.nodes.items() for x in (name, *node.fanins)]))
+    nm = _Namer(netlist.inputs, netlist.outputs, all_nets, {}, rails=())
+    ref = nm.ref
+    port_nets = set(netlist.inputs) | set(netlist.outputs)
+    regs, seq, comb, holders = [], [], [], {}
+    for name, node in netlist.nodes.items():
+        if not isinstance(node, Storage):
+            continue
+        if node.control is None or node.kind == "as":
+            raise UsageError(f"storage element {name} has no clock or enable (kind {node.kind}): "
+                             f"Verilog has no form for it")
+        target = ref[name]
+        if name in port_nets:
+            holder = nm.fresh(f"{name}_q" if _ESCAPABLE.match(name) else "q")
+            holders[name] = identifier(holder)
+            target = identifier(holder)
+        init = f" = 1'b{node.init}" if node.init in (0, 1) else ""
+        regs.append(f"{target}{init}")
+        d, c = ref[node.d], ref[node.control]
+        if node.kind in ("re", "fe"):
+            seq.append((f"{'posedge' if node.kind == 're' else 'negedge'} {c}", f"{target} <= {d};"))
+        else:
+            cond = c if node.kind == "ah" else f"!{c}"
+            seq.append(("*", f"if ({cond}) {target} = {d};"))
+    for name, node in netlist.nodes.items():
+        if isinstance(node, Logic):
+            comb.append((ref[name], _sop(node.func, [ref[f] for f in node.fanins])))
+    for name, holder in holders.items():
+        comb.append((ref[name], holder))
+    storage_nets = {n for n in netlist.nodes if isinstance(netlist.nodes[n], Storage)}
+    wires = [ref[w] for w in nm.wires if w not in storage_nets]
+    return render("netlist.v.j2", n=netlist, module=_module_name(netlist.name or "design"), ports=nm.ports,
+                  wires=wires, regs=regs, seq=seq, comb=comb, assigns=nm.assigns,
+                  renamed=sorted(nm.renamed.items()), version=__version__)
+
+
+def write_netlist(netlist: Netlist, path, protect=()) -> None:
+    """Write ``netlist`` as Verilog to ``path`` (atomically; never over a file in ``protect``)."""
+    atomic_write(path, netlist_text(netlist), protect=protect)
