@@ -88,6 +88,9 @@ def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
         roots.append(latch.next)
         if latch.control is not None:
             roots.append(latch.control)
+    if aig.num_ands > 5000:  # big designs: fewer cuts and passes keep the run short
+        cuts_per_node = min(cuts_per_node, 6)
+        area_passes = min(area_passes, 1)
     mapper = _Mapper(aig, lib, k, cuts_per_node, boundary)
     mapper.run(roots, area_passes)
     names = {}
@@ -123,9 +126,8 @@ class _Mapper:
         """Leaf phases to try: all positive, and each leaf in its cheaper phase
         (a NAND-built signal is cheapest complemented)."""
         best = self.best
-        cheap = tuple(1 if (best[l][1] is not None and best[l][0] is not None
-                            and best[l][1].af < best[l][0].af) else 0 for l in leaves)
-        if any(cheap):
+        cheap = tuple(1 if best[l][1].af < best[l][0].af else 0 for l in leaves)
+        if 1 in cheap:
             return ((0,) * len(leaves), cheap)
         return ((0,) * len(leaves),)
 
@@ -133,19 +135,25 @@ class _Mapper:
         n = len(leaves)
         full = (1 << (1 << n)) - 1
         best = INF
+        lookup = self.lib.lookup
         for pv in self._phase_vectors(leaves):
-            t0 = flip_inputs(table, n, pv)
+            t0 = flip_inputs(table, n, pv) if 1 in pv else table
             lf = sum(self.best[l][p].af / self.refs[l] for l, p in zip(leaves, pv))
             for tt in (t0, t0 ^ full):
-                impl = self.lib.lookup(n, tt)
-                if impl is not None:
-                    best = min(best, impl.cost + lf)
+                impl = lookup(n, tt)
+                if impl is not None and impl.cost + lf < best:
+                    best = impl.cost + lf
         return best
 
     def _match(self, v):
-        cands = [None, None]
+        # candidates as (sort key, impl, leaf phases, af, arr); _Choice made once
+        best_ = self.best
+        refs = self.refs
+        lookup = self.lib.lookup
+        delay = self.mode == "delay"
+        cand = [None, None]
         for leaves, table in self.cuts[v]:
-            if leaves == (v,):
+            if leaves[0] == v and len(leaves) == 1:
                 continue
             n = len(leaves)
             full = (1 << (1 << n)) - 1
@@ -153,19 +161,23 @@ class _Mapper:
                 lf = 0.0
                 la = 0
                 for l, p in zip(leaves, pv):
-                    c = self.best[l][p]
-                    lf += c.af / self.refs[l]
+                    c = best_[l][p]
+                    lf += c.af / refs[l]
                     if c.arr > la:
                         la = c.arr
-                t0 = flip_inputs(table, n, pv)
-                lp = tuple(zip(leaves, pv))
+                t0 = flip_inputs(table, n, pv) if 1 in pv else table
                 for p, tt in ((0, t0), (1, t0 ^ full)):
-                    impl = self.lib.lookup(n, tt)
+                    impl = lookup(n, tt)
                     if impl is None:
                         continue
-                    ch = _Choice(impl, lp, False, impl.cost + lf, la + impl.depth)
-                    if self._better(ch, cands[p]):
-                        cands[p] = ch
+                    af = impl.cost + lf
+                    arr = la + impl.depth
+                    key = (arr, af) if delay else (af, arr)
+                    old = cand[p]
+                    if old is None or key < old[0]:
+                        cand[p] = (key, impl, pv, leaves, af, arr)
+        cands = [None if c is None else _Choice(c[1], tuple(zip(c[3], c[2])), False, c[4], c[5])
+                 for c in cand]
         # a phase may come from the other (as matched by a cut) through an inverter
         direct = list(cands)
         for p in (0, 1):
