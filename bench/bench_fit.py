@@ -64,6 +64,7 @@ def main(argv=None):
                 row += [len(b.parts), 100.0 * (base - len(b.parts)) / base if base else 0.0, secs, peak,
                         b.verified]
             rows.append(row)
+            print(" ".join(str(x) if not isinstance(x, float) else f"{x:.1f}" for x in row), file=sys.stderr, flush=True)
     head = f"{'design':<12}{'nodes':>6}{'tb-nand':>8}{'tb-parts':>9}"
     for t in targets:
         head += f" | {t.name[:10]:>10}{'saved':>7}{'s':>6}{'MB':>6}"
