@@ -76,6 +76,15 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     lib = _library(target)
     m = map_logic(design, lib, keep=keep)
     consider(m, "all cells", target)
+    # a single NAND2 or NOR2 cell: also map the dual design with the dual
+    # cell and rename -- a network of NORs computes the dual of the same
+    # network of NANDs, so NOR(dual) mapped as NAND gives the design back.
+    # The AIG is built of ANDs, so one of the two often maps better.
+    if len(lib.cells) == 1 and _complete_cells(lib) and not design.storage():
+        dual_design = dual_netlist(design)
+        if dual_design is not None:
+            dual_lib = _library(_dual_target(target), frozenset())
+            consider(map_logic(dual_design, dual_lib, keep=keep), "dual", target)
     # further candidates cost a whole mapping each: fewer of them on big designs
     size = max(1, len(design.nodes) - len(design.inputs))
     budget = [int(min(40, 12_000 / size))] if effort > 0 else [0]
@@ -150,6 +159,40 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     log.info("tried: %s", ", ".join(f"{l}: {n} parts" for l, n in tried))
     best.notes.append("part search: " + "; ".join(f"{l} {n}" for l, n in tried))
     return best
+
+
+def dual_netlist(design: Netlist):
+    """The dual design (every function f replaced by f*(x) = ~f(~x)), or
+    ``None`` when a node is too wide for a table.  Ports and net names stay."""
+    n = Netlist(design.name)
+    for i in design.inputs:
+        n.add_input(i)
+    from ..netlist import Logic
+    for name, node in design.nodes.items():
+        if not isinstance(node, Logic):
+            continue
+        f = node.func
+        if f.n > 16:
+            return None
+        full = (1 << (1 << f.n)) - 1
+        t = f.table()
+        # f*(x) = ~f(~x): reverse the minterm order, then complement
+        rev = int(format(t, f"0{1 << f.n}b")[::-1], 2)
+        n.add_logic(name, node.fanins, Function.from_table(f.n, ~rev & full))
+    for o in design.outputs:
+        n.add_output(o)
+    return n
+
+
+def _dual_target(target):
+    """The target with its one NAND2/NOR2 cell computing the dual function
+    (same name, parts and pins): used only to map a dual design."""
+    cells = {}
+    for name, cd in target.cells.items():
+        if cd.function is not None and cd.function.n == 2 and cd.function.table() in (0b0111, 0b0001):
+            cd = replace(cd, function=Function.from_table(2, 0b0111 ^ 0b0001 ^ cd.function.table()))
+        cells[name] = cd
+    return replace(target, name=target.name + "~dual", cells=cells)
 
 
 def _complete_cells(lib) -> list:
