@@ -19,6 +19,7 @@ Sources of the checks:
 """
 from __future__ import annotations
 
+import contextlib
 import csv
 import functools
 import io
@@ -27,7 +28,9 @@ import os
 import random
 import re
 import shutil
+import signal
 import subprocess
+import threading
 from decimal import Decimal
 from pathlib import Path
 
@@ -52,10 +55,33 @@ needs_iverilog = pytest.mark.skipif(shutil.which("iverilog") is None or shutil.w
                                     reason="iverilog/vvp (the outside simulator) not installed; `make debs`")
 
 
+#: a build that takes longer than this is a fault of the mapper, reported as a failure rather than a hang
+FIT_DEADLINE_S = 60
+
+
+@contextlib.contextmanager
+def _deadline(seconds: int, what: str):
+    if not hasattr(signal, "SIGALRM") or threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def expired(signum, frame):
+        raise TimeoutError(f"{what} did not finish in {seconds} s")
+
+    old = signal.signal(signal.SIGALRM, expired)
+    signal.alarm(seconds)
+    try:
+        yield
+    finally:
+        signal.alarm(0)
+        signal.signal(signal.SIGALRM, old)
+
+
 @functools.lru_cache(maxsize=None)
 def _built(path: str, target: str):
     design = read_design(path)
-    return design, flow.fit(design, flow.load_target(target), effort=0)
+    with _deadline(FIT_DEADLINE_S, f"building {Path(path).name} on {target}"):
+        return design, flow.fit(design, flow.load_target(target), effort=0)
 
 
 # -- the outside simulator --------------------------------------------------------------------
