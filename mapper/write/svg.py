@@ -185,13 +185,13 @@ def svg_element(b: Build):
         y = top
         for bx in column:
             rows = max(len(bx.inputs), len(bx.outputs), 2)
-            bx.h = rows * _PIN_STEP + 24
+            bx.h = rows * _PIN_STEP + 30
             bx.x, bx.y = col_x[col], y
             for i, (pin, net) in enumerate(bx.inputs):
-                py = y + 28 + i * _PIN_STEP
+                py = y + 38 + i * _PIN_STEP
                 bx.pin_xy[("in", pin)] = (bx.x, py)
             for i, (pin, net) in enumerate(bx.outputs):
-                py = y + 28 + i * _PIN_STEP
+                py = y + 38 + i * _PIN_STEP
                 bx.pin_xy[("out", pin)] = (bx.x + _BOX_W, py)
                 if net is not None:
                     ypos[net] = py
