@@ -153,7 +153,7 @@ class _Mapper:
         delay = self.mode == "delay"
         cand = [None, None]
         for leaves, table in self.cuts[v]:
-            if leaves[0] == v and len(leaves) == 1:
+            if len(leaves) == 1 and leaves[0] == v:
                 continue
             n = len(leaves)
             full = (1 << (1 << n)) - 1
