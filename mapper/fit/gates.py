@@ -342,7 +342,7 @@ class _Mapper:
         lib = self.lib
         sym = {name: _symmetric(cd.function) for name, cd in lib.cells.items()}
         cells: list = []
-        strash: dict = {}
+        same_gate: dict = {}
         taken = set(design.inputs) | {"VCC", "GND"}
         taken.update(design.storage())
         netof: dict = {}
@@ -365,10 +365,10 @@ class _Mapper:
 
         def gate(cell, args, pref, origin):
             key = (cell, tuple(sorted(args)) if sym[cell] else tuple(args))
-            out = strash.get(key)
+            out = same_gate.get(key)
             if out is None:
                 out = fresh(pref)
-                strash[key] = out
+                same_gate[key] = out
                 cells.append(CellUse(cell, tuple(args), out, origin))
             return out
 
