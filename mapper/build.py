@@ -253,9 +253,6 @@ class Build:
         if self.contacts or self.coils:
             from .fit.relay import contact_logic
             contact_logic(self, n)
-        for rail, value in (("VCC", 1), ("GND", 0)):
-            if rail not in n.nodes and _used(n, rail):
-                n.add_constant(rail, value)
         for o in self.outputs:
             net = self.output_nets.get(o, o)
             if net != o:
@@ -263,6 +260,9 @@ class Build:
                     raise InternalError(f"output {o} is both a port and an internal net")
                 n.add_logic(o, [net], Function.from_table(1, 0b10))
             n.add_output(o)
+        for rail, value in (("VCC", 1), ("GND", 0)):
+            if rail not in n.nodes and _used(n, rail):
+                n.add_constant(rail, value)
         return n
 
     def hints(self) -> dict:

@@ -74,7 +74,10 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
         return b
 
     lib = _library(target)
-    m = map_logic(design, lib, keep=keep)
+    try:
+        m = map_logic(design, lib, keep=keep)
+    except RuntimeError as exc:
+        raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
     consider(m, "all cells", target)
     # a single NAND2 or NOR2 cell: also map the dual design with the dual
     # cell and rename -- a network of NORs computes the dual of the same

@@ -138,8 +138,12 @@ def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
                     hosts.append((host, assign, spare))
             if sum(h[2] for h in hosts) < last:
                 continue
-            # move `last` cells of this type (the latest in order: fewest neighbours)
+            # move `last` cells of this type (the latest in order: fewest neighbours);
+            # cells already moved stay where they are, so each move empties a
+            # whole part and the loop ends
             idx = [i for i, u in enumerate(uses) if u[0] == cell and u[2] is None][::-1]
+            if len(idx) < last:
+                continue
             for host, assign, spare in hosts:
                 while spare and last and idx:
                     i = idx.pop(0)
@@ -201,6 +205,7 @@ def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
 
     # -- tie unused inputs of used parts -----------------------------------------
     used_slots = {(c.part_ref, c.slot) for c in build.cells}
+    wired = {(c.part_ref, build.pin_of(c, pin)) for c in build.cells for pin in c.pins}
     for p in build.parts:
         pd = target.parts[p.part_id]
         for s in pd.slots:
@@ -209,7 +214,9 @@ def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
             sc = target.cells.get(s.cell) if hasattr(target, "cells") else None
             ins = set(sc.inputs) if sc is not None else set()
             for pin, num in sorted(s.pins.items(), key=lambda kv: kv[1]):
-                if pin in ins:
+                # a pin shared with a used slot (a common enable) is wired already
+                if pin in ins and (p.ref, num) not in wired:
+                    wired.add((p.ref, num))
                     build.ties.append(Tie(p.ref, num, "GND", f"input of unused slot {s.index}"))
     build.output_nets = dict(mapping.outputs)
     add_support(build)
