@@ -345,9 +345,7 @@ COUNTER = """\
 @needs_iverilog
 @pytest.mark.parametrize("target,latch", [
     ("gates-74", False),
-    pytest.param("gates-74", True, marks=pytest.mark.xfail(
-        reason="known mapper bug: the 74HC75's shared enable (pin 13) of an unused slot is tied to GND "
-               "while the used slot 1 drives it; the wiring check refuses the short", strict=False)),
+    ("gates-74", True),
     ("nand-only", True),
     ("relay-spdt", True)])
 def test_exported_sequential_build_simulates_equal_to_design(tmp_path, target, latch):
@@ -635,15 +633,8 @@ PASS_THROUGH = """\
 """
 
 
-_CONSTANT_OUTPUT_BUG = pytest.mark.xfail(
-    reason="known mapper bug: a constant output of a gate build leaves the prover with an undriven VCC",
-    strict=False)
-
-
 @needs_iverilog
-@pytest.mark.parametrize("target", [
-    "relay-spdt", pytest.param("nand-only", marks=_CONSTANT_OUTPUT_BUG),
-    pytest.param("gates-74", marks=_CONSTANT_OUTPUT_BUG)])
+@pytest.mark.parametrize("target", ["relay-spdt", "nand-only", "gates-74"])
 def test_outputs_passed_through_copied_and_constant(tmp_path, target):
     # a module named after a Verilog keyword, an output that is also an input (renamed, listed in the
     # header), outputs carried by other nets and by VCC; simulated by Icarus Verilog against the design
