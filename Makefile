@@ -28,6 +28,8 @@ debs:
 demo: $(STAMP)
 	$(BIN)/netfit inspect examples/doorbell/chime.blif
 	$(BIN)/netfit verify examples/doorbell/chime.blif examples/doorbell/chime_rework.blif
+	$(BIN)/netfit build examples/doorbell/chime.blif --target nand-only -o out/chime
+	$(BIN)/netfit compare examples/doorbell/chime.blif
 
 test: $(STAMP) debs
 	$(BIN)/python -m pytest -n 2 -q
