@@ -278,130 +278,143 @@ def descend(args):
 
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    ap.add_argument("--enum-conflicts", type=float, default=12e6,
+    ap.add_argument("--enum-conflicts", type=float, default=4e7,
                     help="solver conflicts for the enumeration of each of the four parts")
-    ap.add_argument("--class-conflicts", type=float, default=3e5,
+    ap.add_argument("--class-conflicts", type=float, default=1e5,
                     help="solver conflicts for the descent of each class left over")
-    ap.add_argument("--call-conflicts", type=float, default=1.5e5,
+    ap.add_argument("--call-conflicts", type=float, default=5e4,
                     help="solver conflicts for one SAT call of the descent")
     ap.add_argument("--jobs", type=int, default=2)
     ap.add_argument("--max-level", type=int, default=16)
+    ap.add_argument("--refine", action="store_true",
+                    help="start from the table at --out: only compose and descend again "
+                         "for the classes not proved")
     ap.add_argument("--out", default=str(ROOT / "mapper" / "data" / E.TABLE_RESOURCE))
     args = ap.parse_args(argv)
-
+    out = Path(args.out)
+    ctx = mp.get_context("fork")
+    run = {"args": {k: v for k, v in vars(args).items() if k != "out"}}
     wall0 = time.time()
-    log("1-3 inputs")
-    t0 = time.process_time()
-    small = small_tables()
-    small_cpu = time.process_time() - t0
-    log(f"{len(small)} chains, {small_cpu:.1f} s CPU")
 
     reps = all_classes()
     log(f"{len(reps)} input-permutation classes of 4-input functions")
-
-    # the parts run as separate processes, sharing the `jobs` cores; budgets
-    # are solver conflicts, so the result does not depend on the machine's load
-    ctx = mp.get_context("fork")
-    t0 = time.time()
-    with ctx.Pool(min(len(PARTS), max(args.jobs, 1) * 2)) as pool:
-        results = pool.map(run_part, [(p, int(args.enum_conflicts), args.max_level) for p in PARTS])
-    enum_wall = time.time() - t0
     known = Known()
-    part_lower = {}
-    levels = {}
-    for part, found, lower, lv in results:
-        part_lower[part] = lower
-        levels[f"{part[0]}{part[1]}"] = lv
-        for f, code, r in found:
-            ch = E.Chain.decode(N, code)
-            assert ch.size == r and ch.tables() == (f,)
-            known.add(ch)
-    proved = {}
-    for rep in reps:
-        if rep in known.rep_chain or rep in (0, FULL) or rep in trivial_tables():
-            proved[rep] = True
-    log(f"enumeration: {len(known.rep_chain)} classes with proved minimum")
-
-    # 3-input chains embedded on any three of the four inputs: upper bounds
-    small_known = {}
-    for key, code in small.items():
-        n, t = key.split(":")
-        n, t = int(n), int(t, 16)
-        small_known[(n, t)] = E.Chain.decode(n, code)
-    lower_of = {}
-    rest = []
-    for rep in reps:
-        if rep in proved:
-            continue
-        part = (rep & 1, (rep >> 15) & 1)
-        lb = max(part_lower[part], _cofactor_bound(rep, small_known))
-        lower_of[rep] = lb
-        rest.append(rep)
-    log(f"{len(rest)} classes left")
-
-    # step 2b: composition upper bounds, in order of the cheapest first so
-    # later compositions can use earlier ones
-    t0 = time.process_time()
-    upper = {}
-    for rep in sorted(rest, key=lambda t: lower_of[t]):
-        ch = compose(rep, known)
-        if ch is None:
-            ch = _shannon(rep, small_known)
-        assert ch.tables() == (rep,)
-        upper[rep] = ch
-        known.add(ch)
-    # a second round uses the bounds of the first
-    for rep in rest:
-        ch = compose(rep, known)
-        if ch is not None and ch.size < upper[rep].size:
+    upper: dict[int, E.Chain] = {}
+    lower_of: dict[int, int] = {}
+    proved: set[int] = set(trivial_tables())
+    if args.refine:
+        old = json.loads(out.read_text())
+        small = old["small"]
+        runs = old["meta"].get("runs", [])
+        levels = old["meta"].get("levels", {})
+        for key, (code, ok, lb) in old["n4"].items():
+            rep, ch = int(key, 16), E.Chain.decode(N, code)
+            if ok:
+                known.add(ch)
+                proved.add(rep)
+            else:
+                upper[rep], lower_of[rep] = ch, lb
+                known.add(ch)
+        rest = sorted(upper)
+    else:
+        runs = []
+        log("1-3 inputs")
+        t0 = time.process_time()
+        small = small_tables()
+        run["small_cpu_s"] = round(time.process_time() - t0, 1)
+        log(f"{len(small)} chains, {run['small_cpu_s']} s CPU")
+        # the parts run as separate processes sharing the `jobs` cores; budgets
+        # are solver conflicts, so the result does not depend on the machine's load
+        t0 = time.time()
+        with ctx.Pool(min(len(PARTS), max(args.jobs, 1) * 2)) as pool:
+            results = pool.map(run_part, [(p, int(args.enum_conflicts), args.max_level) for p in PARTS])
+        run["enumeration_wall_s"] = round(time.time() - t0, 1)
+        part_lower = {}
+        levels = {}
+        for part, found, lower, lv in results:
+            part_lower[part] = lower
+            levels[f"{part[0]}{part[1]}"] = lv
+            for f, code, r in found:
+                ch = E.Chain.decode(N, code)
+                assert ch.size == r and ch.tables() == (f,)
+                known.add(ch)
+                proved.add(E.perm_class_rep(f, N)[0])
+        log(f"enumeration: {len(proved)} classes with proved minimum")
+        small_known = {tuple(map(lambda x: int(x, 16), k.split(":"))): E.Chain.decode(int(k[0]), c)
+                       for k, c in small.items()}
+        rest = [rep for rep in reps if rep not in proved]
+        for rep in rest:
+            part = (rep & 1, (rep >> 15) & 1)
+            lower_of[rep] = max(part_lower[part], _cofactor_bound(rep, small_known))
+        # composition, cheapest classes first so later ones can use them
+        t0 = time.process_time()
+        for rep in sorted(rest, key=lambda t: lower_of[t]):
+            ch = compose(rep, known) or _shannon(rep, small_known)
+            assert ch.tables() == (rep,)
             upper[rep] = ch
             known.add(ch)
-    compose_cpu = time.process_time() - t0
-    log(f"composition: {compose_cpu:.1f} s CPU")
+        run["compose_cpu_s"] = round(time.process_time() - t0, 1)
+    log(f"{len(rest)} classes left")
 
-    # step 2c: descent
+    # further rounds of composition use the bounds found so far
+    t0 = time.process_time()
+    for _ in range(3):
+        better = 0
+        for rep in rest:
+            ch = compose(rep, known, tries=48)
+            if ch is not None and ch.size < upper[rep].size:
+                upper[rep] = ch
+                known.add(ch)
+                better += 1
+        log(f"composition round: {better} better")
+        if not better:
+            break
+    run["recompose_cpu_s"] = round(time.process_time() - t0, 1)
+
+    # descent, largest gaps first
     t0 = time.time()
     log(f"descent: {len(rest)} classes")
+    order = sorted(rest, key=lambda t: lower_of[t] - upper[t].size)
     tasks = [(rep, upper[rep].encode(), lower_of[rep], int(args.call_conflicts),
-              int(args.class_conflicts)) for rep in rest]
+              int(args.class_conflicts)) for rep in order]
     with ctx.Pool(args.jobs) as pool:
-        for f, code, lb in pool.imap_unordered(descend, tasks, chunksize=8):
+        for i, (f, code, lb) in enumerate(pool.imap_unordered(descend, tasks, chunksize=4)):
+            if i % 250 == 249:
+                log(f"descent: {i + 1} classes done")
             ch = E.Chain.decode(N, code)
             assert ch.tables() == (f,)
             upper[f] = ch
             lower_of[f] = lb
             if lb == ch.size:
-                proved[f] = True
-    descent_wall = time.time() - t0
+                proved.add(f)
+    run["descent_wall_s"] = round(time.time() - t0, 1)
 
     n4 = {}
     dist = {}
     for rep in reps:
-        if rep in (0, FULL) or rep in trivial_tables():
+        if rep in trivial_tables():
             continue
-        if rep in known.rep_chain and rep not in upper:
-            ch, ok, lb = known.rep_chain[rep], True, known.rep_chain[rep].size
+        if rep in upper:
+            ch, ok, lb = upper[rep], rep in proved, lower_of[rep]
         else:
-            ch, ok, lb = upper[rep], proved.get(rep, False), lower_of[rep]
-        assert ch.tables() == (rep,)
+            ch = known.rep_chain[rep]
+            ok, lb = True, ch.size
+        assert ch.tables() == (rep,) and lb <= ch.size and ok == (lb == ch.size)
         n4[f"{rep:x}"] = [ch.encode(), int(ok), lb]
         key = f"{ch.size}{'' if ok else '?'}"
         dist[key] = dist.get(key, 0) + 1
+    run["wall_s"] = round(time.time() - wall0, 1)
+    runs.append(run)
     meta = {
         "what": "minimum NAND2 chains: every function of 1-3 inputs; 4 inputs by input-permutation class",
         "generator": "scripts/make_exact_table.py",
-        "args": vars(args) | {"out": None},
         "solver": E._SOLVER,
         "classes_4": len(reps),
-        "proved_4": sum(1 for v in n4.values() if v[1]) + sum(1 for r in reps if r in (0, FULL) or r in trivial_tables()),
+        "proved_4": sum(1 for r in reps if r in proved),
         "levels": levels,
-        "cpu_s": {"small": round(small_cpu, 1), "compose": round(compose_cpu, 1)},
-        "wall_s_steps": {"enumeration": round(enum_wall, 1), "descent": round(descent_wall, 1)},
-        "wall_s": round(time.time() - wall0, 1),
-        "distribution_4": dict(sorted(dist.items())),
+        "runs": runs,
+        "distribution_4": dict(sorted(dist.items(), key=lambda kv: (int(kv[0].rstrip("?")), kv[0]))),
     }
-    data = {"meta": meta, "small": small, "n4": n4}
-    out = Path(args.out)
     tmp = out.with_suffix(".tmp")
     with open(tmp, "w") as fh:
         fh.write("{\n")

@@ -23,12 +23,23 @@ The refutations are kept short by constraints that every *minimum* chain
 can be brought to satisfy (so they never lose a solution):
 
 * operand pairs of consecutive gates strictly increase in colexicographic
-  order (Knuth §7.1.2 and the "co-lexicographic" order used by later SAT
-  encodings; equal pairs would be two identical gates);
+  order (place, among the gates whose operands are placed, the one with the
+  smallest pair: gates it enables read it, so their pairs are larger; equal
+  pairs would be two identical gates), and a single output is the last gate;
 * every gate is used by a later gate or drives an output;
 * no gate is constant, equal to an input, or equal to another gate
   (any of these could be removed);
 * no inverter of an inverter (a double inversion can be removed).
+
+Many functions at once: :func:`enumerate_cost` leaves the output free and
+asks the solver for any ``r``-gate chain whose function is not yet known,
+blocks the whole input-permutation class of each answer, and repeats until
+the formula is unsatisfiable.  Run for ``r = 1, 2, ...`` this gives every
+class of minimum count ``r`` with a proof, and a lower bound ``r + 1`` for
+all the others, at a small fraction of the cost of refuting each class on
+its own.  To keep one representative per class a lex-leader constraint asks
+the output table to be no larger than its images under swaps of adjacent
+inputs.
 
 NOR2 networks come by duality: the NOR network with the same wiring as a
 NAND network computes the dual ``f*(x) = ~f(~x)`` of what the NAND network
@@ -39,9 +50,11 @@ The table
 ---------
 ``mapper/data/exact_nand2.json`` (made by ``scripts/make_exact_table.py``)
 holds a minimum NAND2 chain for every function of 1, 2 and 3 inputs and one
-chain per input-permutation class of 4-input functions, each marked proved
-minimum or only an upper bound (when a refutation ran out of its budget).
-:func:`lookup` applies the permutation and the duality.
+chain per input-permutation class of 4-input functions (3984 classes; only
+permutations are free in NAND2, so NPN classes would not do), each with a
+proved lower bound and marked proved minimum or only an upper bound (when
+the generator's budget ran out first).  :func:`lookup` applies the
+permutation and the duality; its ``meta`` block records how it was made.
 
 Examples
 --------
@@ -313,18 +326,16 @@ class _Encoder:
         self.rows = 1 << n
         self.nv = 0
         self.clauses: list[list[int]] = []
-        nsig = n + r
         self.pairs = [[(j, k) for k in range(n + i) for j in range(k + 1)] for i in range(r)]
         self.s = [{p: self._new() for p in self.pairs[i]} for i in range(r)]
         self.x = [[self._new() for _ in range(self.rows)] for _ in range(r)]
         self.inval = [[(m >> j) & 1 for m in range(self.rows)] for j in range(n)]
         cl = self.clauses
-        # each gate picks at least one operand pair (more than one would only
-        # over-constrain its value, so at-most-one is left to the solver's choice)
+        # each gate picks exactly one operand pair (at-most-one by a sequential
+        # counter; it is not needed for soundness, only for the orderings below)
         for i in range(r):
-            cl.append(list(self.s[i].values()))
             sv = list(self.s[i].values())
-            # at most one, by a sequential counter
+            cl.append(sv)
             self._amo(sv)
         # gate semantics on every row
         for i in range(r):
@@ -424,7 +435,7 @@ class _Encoder:
                 self.clauses.append([-a, -b])
             return
         prev = None
-        for idx, v in enumerate(lits[:-1]):
+        for v in lits[:-1]:
             c = self._new()
             self.clauses.append([-v, c])
             if prev is not None:
@@ -682,6 +693,7 @@ def table_info() -> dict:
     return dict(_table().get("meta", {}))
 
 
+@lru_cache(maxsize=1 << 16)
 def lookup_entry(n: int, table: int, gate: str = "nand") -> tuple[Chain, bool, int] | None:
     """The shipped chain for ``table`` with its proof status.
 
