@@ -152,6 +152,8 @@ def _build_args(p):
                    help="parts.csv for N copies of the build (default 1)")
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),
                    help="0: one mapping pass; 1 (default): also search for fewer parts")
+    p.add_argument("--hazard-free", action="store_true",
+                   help="add consensus terms so two-level covers cannot glitch, and report the parts they cost")
     _add_read_args(p)
     p.add_argument("--json", action="store_true", help="print the build summary as JSON")
 
@@ -189,11 +191,18 @@ def cmd_build(args):
     from . import flow
     _progress(args)
     b = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
-                   **_read_options(args))
+                   hazard_free=args.hazard_free, **_read_options(args))
     s = b.summary()
+    if "hazard_free" in b.timing:
+        s["hazard_free"] = b.timing["hazard_free"]
     if args.json:
         _print_json(s)
         return 0
+    if "hazard_free" in s:
+        h = s["hazard_free"]
+        print(f"hazard-free: {h['terms_added']} consensus term(s) added; {h['parts']} parts against "
+              f"{h['parts_plain']} for the plain build ({h['extra_parts']:+d}); glitches found "
+              f"{h['hazards']} against {h['hazards_plain']}")
     print(f"design  {s['design']}  on target {s['target']}   proof: {s['verified']}")
     print(f"parts   {s['parts_total']}  (" + ", ".join(f"{k} ×{v}" for k, v in s["parts"].items()) + ")")
     print(f"cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
@@ -209,6 +218,112 @@ def cmd_build(args):
     if args.out:
         print(f"wrote   {args.out}")
     return 0
+
+
+# -- timing ---------------------------------------------------------------
+def _timing_args(p):
+    p.add_argument("design")
+    p.add_argument("--target", "-t", required=True, metavar="T",
+                   help="target name (see `netfit targets`) or a target .xml file")
+    p.add_argument("--hazard-free", action="store_true",
+                   help="build with consensus terms added to the two-level covers, and show what they cost")
+    p.add_argument("--multi", action="store_true", help="also try changes of two inputs at once")
+    p.add_argument("--changes", type=_positive, metavar="N",
+                   help="examine at most N input changes, drawn at random beyond that (default 20000)")
+    p.add_argument("--effort", type=int, default=1, choices=(0, 1),
+                   help="0: one mapping pass; 1 (default): also search for fewer parts")
+    _add_read_args(p)
+    p.add_argument("--json", action="store_true", help="print JSON")
+
+
+def _hop_text(h) -> str:
+    if "part" not in h:
+        return f"{h['net']}"
+    pins = ""
+    if "from_pin_number" in h:
+        pins = f" {h['from_pin_number']}→{h.get('to_pin_number')}"
+    return f"{h['part']}{pins} ({h['cell']}) {h['net']}"
+
+
+def _cube_text(d) -> str:
+    return " ".join(f"{k}={v}" for k, v in d.items()) or "any"
+
+
+@command("timing", "worst and best paths, clock rate, and glitches of a design's build, with their causes",
+         _timing_args)
+def cmd_timing(args):
+    from . import flow
+    _progress(args)
+    r = flow.timing(args.design, args.target, hazard_free=args.hazard_free, multi=args.multi,
+                    effort=args.effort, max_transitions=args.changes, **_read_options(args))
+    code = 1 if r["glitch_errors"] else 0
+    if args.json:
+        _print_json(r)
+        return code
+    print(f"design  {r['design']}  on target {r['target']}  ({r['parts']} parts)")
+    print(f"delay   {_si(r['delay_s'], 's')} worst path (maximum figures), {_si(r['delay_typ_s'], 's')} "
+          f"typical; {r['levels']} level(s)")
+    print(f"\n{'output':<16}{'best typ':>11}{'best max':>11}{'worst typ':>11}{'worst max':>11}")
+    for p in r["paths"]:
+        print(f"{p['output']:<16}{_si(p.get('best_s'), 's'):>11}{_si(p.get('best_max_s'), 's'):>11}"
+              f"{_si(p.get('worst_typ_s'), 's'):>11}{_si(p.get('worst_s'), 's'):>11}")
+    if r["critical_path"]:
+        st = r.get("critical_start") or {}
+        start = st.get("net") or r["critical_path"][0].get("net_in", "")
+        if st.get("kind") == "storage":
+            start += f" ({st.get('part')} {st.get('cell')}" + (f" pin {st['pin_number']}" if "pin_number" in st
+                                                              else "") + ")"
+        print(f"\ncritical path from {start}:")
+        for h in r["critical_path"]:
+            if "from_pin_number" in h:
+                print(f"  {h['part']:<5} {h['cell']:<8} pin {h['from_pin_number']} ({h['from_pin']}) → pin "
+                      f"{h['to_pin_number']} ({h['to_pin']})  {h['net']:<14} +{_si(h['delay_s'], 's'):<9} "
+                      f"at {_si(h['arrival_s'], 's')}")
+            else:
+                print(f"  {h.get('part', '')} {h['net']}  at {_si(h.get('arrival_s'), 's')}")
+    if r.get("clock_max_hz"):
+        print(f"\nclock   at most {r['clock_max_hz'] / 1e6:.3g} MHz (period {_si(r['clock_period_min_s'], 's')})"
+              + (f"; hold slack {_si(r['hold_slack_s'], 's')}" if r.get("hold_slack_s") is not None else ""))
+        for n in r.get("clock_notes", []):
+            print(f"        {n}")
+    for f in r.get("floating", []):
+        print(f"floats  {f['net']} ({f['part']} pole {f['pole']}): {_si(f['floating_s'][0], 's')} to "
+              f"{_si(f['floating_s'][1], 's')}, settled by {_si(f['settled_s'], 's')}"
+              + ("" if f["loaded"] else "  (no load resistor)"))
+    g = r["glitch_search"]
+    if g.get("checked") is not None:
+        how = "all of them" if g.get("exhaustive") else f"drawn at random from {g['total']}"
+        print(f"\nglitch search: {g['checked']} input change(s), {how}"
+              + (f"; minimum delays: {g['min_delay']}" if g.get("min_delay") else f"; {g.get('method', '')}"))
+    print(f"hazards {r['hazards_total']}")
+    for h in r["hazards"]:
+        when = "; ".join(_cube_text(w) for w in h["when"])
+        print(f"  {h['output']:<12}{h['kind']:<10}{', '.join(h['inputs_changed'])} changes "
+              f"({'; '.join(h['directions'])}) when {when}: pulse {_si(h['width_s'][0], 's')} to "
+              f"{_si(h['width_s'][1], 's')}")
+        for p in h["racing_paths"]:
+            if "hops" in p:
+                print(f"      {p['from']} → " + " → ".join(_hop_text(x) for x in p["hops"]))
+            elif p.get("break_before_make"):
+                bm = p["break_before_make"]
+                held = "held low by its load" if bm.get("loaded") else "floating"
+                print(f"      {p['from']} moves {bm['part']} (coil {bm['coil']}): pole {bm['pole']} breaks "
+                      f"before it makes, {bm['net']} {held} meanwhile")
+        for w in h["reaches"]:
+            print(f"      error: reaches the {w['role']} of {w['part']} ({w['cell']}, pin {w['pin_number']})")
+    if r["cover_hazards"]:
+        print(f"\ncover hazards (the design's two-level covers): {len(r['cover_hazards'])}")
+        for c in r["cover_hazards"][:50]:
+            print(f"  {c['node']:<12}{c['kind']:<10}{c['input']} changes when "
+                  f"{'; '.join(_cube_text(w) for w in c['when'])}; cured by the term {_cube_text(c['fix'])}")
+    if "hazard_free" in r:
+        h = r["hazard_free"]
+        print(f"\nhazard-free: {h['terms_added']} consensus term(s) added; {h['parts']} parts against "
+              f"{h['parts_plain']} ({h['extra_parts']:+d}); glitches {h['hazards']} against {h['hazards_plain']}")
+    if code:
+        print(f"netfit: error: {r['glitch_errors']} glitch(es) reach a clock, enable, preset or clear input",
+              file=sys.stderr)
+    return code
 
 
 # -- parts ----------------------------------------------------------------
