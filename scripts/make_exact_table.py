@@ -400,7 +400,7 @@ def main(argv=None) -> int:
             ch = known.rep_chain[rep]
             ok, lb = True, ch.size
         assert ch.tables() == (rep,) and lb <= ch.size and ok == (lb == ch.size)
-        n4[f"{rep:x}"] = [ch.encode(), int(ok), lb]
+        n4[f"0x{rep:x}"] = [ch.encode(), int(ok), lb]
         key = f"{ch.size}{'' if ok else '?'}"
         dist[key] = dist.get(key, 0) + 1
     run["wall_s"] = round(time.time() - wall0, 1)
