@@ -98,7 +98,7 @@ MAX_TRANSITIONS = 20000
 #: input changes examined for the figures in every build report
 BUILD_MAX_TRANSITIONS = 1024
 #: cell evaluations allowed for the figures in every build report (keeps big builds quick)
-BUILD_MAX_WORK = 150_000
+BUILD_MAX_WORK = 80_000
 #: storage-cell input roles where a glitch is an error
 WATCH_ROLES = ("clock", "enable", "preset", "clear")
 #: hazards listed at most (the count of all is given)
