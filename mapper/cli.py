@@ -293,6 +293,8 @@ def cmd_timing(args):
     g = r["glitch_search"]
     if g.get("checked") is not None:
         how = "all of them" if g.get("exhaustive") else f"drawn at random from {g['total']}"
+        if g.get("stopped_early"):
+            how = f"in random order from {g['total']}, when the work budget ran out (--changes N to go on)"
         print(f"\nglitch search: {g['checked']} input change(s), {how}"
               + (f"; minimum delays: {g['min_delay']}" if g.get("min_delay") else f"; {g.get('method', '')}"))
     print(f"hazards {r['hazards_total']}")

@@ -302,12 +302,12 @@ def fit_hazard_free(design, target, effort: int = 1):
     Small cones that glitch are collapsed into two-level covers and
     consensus terms are added (:func:`mapper.analyze.hazard.add_consensus`),
     the rewritten design is proved equal to the design, and the mapper keeps
-    the added terms.  Of the builds at each effort level up to ``effort``,
-    the one with the fewest glitches found, then the fewest parts, is
-    returned.  The plain build is made too, so
-    ``build.timing["hazard_free"]`` can say what the terms cost: the added
-    terms, ``parts_plain``/``parts``/``extra_parts``, ``cells_plain``/``cells``
-    and the glitch finder's hazard counts of both builds.
+    the added terms.  Of the builds at each effort level up to ``effort``
+    and the plain build, the one with the fewest glitches found, then the
+    fewest parts, is returned.  ``build.timing["hazard_free"]`` says what the
+    terms cost: the added terms, ``chosen`` (``"consensus"`` or ``"plain"``),
+    ``parts_plain``/``parts``/``extra_parts``, ``cells_plain``/``cells`` and the
+    glitch finder's hazard counts of both builds.
     """
     from .analyze.hazard import COLLAPSE_INPUTS, add_consensus
     from .errors import InternalError
@@ -320,15 +320,21 @@ def fit_hazard_free(design, target, effort: int = 1):
     plain = fit(design, target, effort=effort)
     # The mapper may still rebuild a kept node from a minimum circuit with reconvergent paths
     # (x + x'y for x + y), which glitches again; the part search makes that likelier.  So each
-    # effort level is tried and the glitch finder picks: fewest glitches, then fewest parts.
-    tries = [fit(hf, target, effort=e, keep=kept) for e in sorted({0, effort})]
+    # effort level is tried and the glitch finder picks: fewest glitches, then fewest parts --
+    # the plain build included, so the answer is never worse than it (ties go to the plain build).
+    tries = [plain] + [fit(hf, target, effort=e, keep=kept) for e in sorted({0, effort})]
     b = min(tries, key=lambda x: (x.timing.get("hazards_total", 0), len(x.parts), len(x.cells)))
+    report["chosen"] = "plain" if b is plain else "consensus"
+    if b is plain:
+        report["note"] = ("the builds with consensus terms showed no fewer glitches than the plain build "
+                          "(the mapper rebuilt kept nodes with reconvergent paths, or the hazards are "
+                          "dynamic ones that consensus terms do not cure): the plain build is kept")
     report.update({
         "parts_plain": len(plain.parts), "parts": len(b.parts), "extra_parts": len(b.parts) - len(plain.parts),
         "cells_plain": len(plain.cells), "cells": len(b.cells),
         "hazards_plain": plain.timing.get("hazards_total", 0), "hazards": b.timing.get("hazards_total", 0),
     })
-    if getattr(target, "kind", "gates") == "relay":
+    if getattr(target, "kind", "gates") == "relay" and b is not plain:
         report["note"] = "contact networks are not built as AND-OR covers: the consensus terms may not survive"
     b.timing["hazard_free"] = report
     b.notes.append(f"hazard-free covers: {report['terms_added']} consensus term(s) added in "
@@ -349,7 +355,7 @@ def timing(path, target_name, hazard_free: bool = False, multi: bool = False, ef
     ``cover_hazards`` (the algebraic check of the design's two-level covers),
     ``floating`` for relay builds and ``hazard_free`` when asked for.
     """
-    from .analyze.glitch import MAX_TRANSITIONS, glitch_report
+    from .analyze.glitch import MAX_TRANSITIONS, TIMING_MAX_WORK, glitch_report
     from .analyze.hazard import design_hazards
 
     design = read_design(path, **read_options)
@@ -357,7 +363,7 @@ def timing(path, target_name, hazard_free: bool = False, multi: bool = False, ef
     b = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
     if b.cells:
         b.timing.update(glitch_report(b, multi=multi, max_transitions=max_transitions or MAX_TRANSITIONS,
-                                      max_work=None))
+                                      max_work=None if max_transitions else TIMING_MAX_WORK))
     t = b.timing
     paths = t.get("paths") or [{"output": o, "best_s": v[0], "worst_s": v[1]}
                                for o, v in t.get("outputs", {}).items()]

@@ -84,6 +84,7 @@ __all__ = [
     "MAX_TRANSITIONS",
     "BUILD_MAX_TRANSITIONS",
     "BUILD_MAX_WORK",
+    "TIMING_MAX_WORK",
     "WATCH_ROLES",
 ]
 
@@ -95,6 +96,9 @@ PATHS_PER_NET = 8
 PATHS_PER_CHANGE = 12
 #: input changes examined by ``netfit timing`` before it samples instead
 MAX_TRANSITIONS = 20000
+#: cell evaluations ``netfit timing`` spends by default (some tens of seconds on a big build);
+#: asking for a number of changes lifts it
+TIMING_MAX_WORK = 5_000_000
 #: input changes examined for the figures in every build report
 BUILD_MAX_TRANSITIONS = 1024
 #: cell evaluations allowed for the figures in every build report (keeps big builds quick)
@@ -560,6 +564,9 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
     sizes = (1, 2) if multi else (1,)
     sizes = tuple(s for s in sizes if s <= n)
     trans, total, exhaustive = _transitions(n, sizes, max_transitions, seed) if n else ([], 0, True)
+    if max_work is not None and exhaustive:
+        # a budget may stop the search: take the changes in random order so what is done is a fair sample
+        random.Random(seed).shuffle(trans)
     groups: dict = {}
     runs = 0
     not_shown = 0
