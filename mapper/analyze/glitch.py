@@ -496,12 +496,11 @@ def _sec(x: float) -> float:
 
 
 def _bits(mask: int):
-    k = 0
+    """Indices of the set bits of ``mask``, lowest first."""
     while mask:
-        if mask & 1:
-            yield k
-        mask >>= 1
-        k += 1
+        low = mask & -mask
+        yield low.bit_length() - 1
+        mask ^= low
 
 
 def _transitions(n: int, sizes: tuple, limit: int, seed: int):
