@@ -157,19 +157,24 @@ class TimedCircuit:
         when given.  Storage outputs become inputs; an inverted storage
         output (``QN``) is a zero-delay inverter of ``Q``.
         """
-        from .timing import cell_delay, net_loads
+        from .timing import PartIndex, cell_delay, net_loads
 
         target = build.target
-        loads = net_loads(build)
+        ix = PartIndex(build)
+        loads = net_loads(build, ix)
         gates = []
         inputs = list(build.inputs)
         watch: dict = {}
+        members: dict = {}
+        for c in build.cells:
+            if getattr(c, "group", None) is not None:
+                members.setdefault(c.group, []).append(c)
         for key, grp in getattr(build, "storage_groups", {}).items():
             # storage made of gates: its loop is one storage element here, as for the prover
             if grp.q not in inputs:
                 inputs.append(grp.q)
             if grp.control and grp.control not in ("VCC", "GND"):
-                cells = [c for c in build.cells if getattr(c, "group", None) == key]
+                cells = members.get(key, [])
                 watch.setdefault(grp.control, []).append({
                     "part": cells[0].part_ref if cells else None, "cell": grp.template, "slot": None,
                     "pin": "control", "pin_number": None,
@@ -185,8 +190,8 @@ class TimedCircuit:
                 for extra in cd.extra_outputs:
                     if c.pins.get(extra) and q:
                         gates.append(Gate(c.pins[extra], (q,), 0b01, 0.0, 0.0, c.part_ref, c.cell, c.slot,
-                                          ((cd.output, build.pin_of(c, cd.output)),),
-                                          (extra, build.pin_of(c, extra))))
+                                          ((cd.output, ix.pin_of(c, cd.output)),),
+                                          (extra, ix.pin_of(c, extra))))
                 for p in cd.inputs:
                     role = cd.roles.get(p)
                     if role is None and len(cd.inputs) > 1 and p == cd.inputs[1]:
@@ -195,15 +200,15 @@ class TimedCircuit:
                     if role in WATCH_ROLES and net and net not in ("VCC", "GND"):
                         watch.setdefault(net, []).append({
                             "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
-                            "pin_number": build.pin_of(c, p), "role": role})
+                            "pin_number": ix.pin_of(c, p), "role": role})
                 continue
-            t, m = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0))
+            t, m = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0), ix)
             lo = t if min_fraction is None else min_fraction * m
             gates.append(Gate(
                 c.pins[cd.output], tuple(c.pins[p] for p in cd.inputs), cd.function.table(),
                 min(lo, m), m, c.part_ref, c.cell, c.slot,
-                tuple((p, build.pin_of(c, p)) for p in cd.inputs),
-                (cd.output, build.pin_of(c, cd.output))))
+                tuple((p, ix.pin_of(c, p)) for p in cd.inputs),
+                (cd.output, ix.pin_of(c, cd.output))))
         outputs = {o: build.output_nets.get(o, o) for o in build.outputs}
         return cls(build.design, inputs, gates, outputs, watch, {"VCC": 1, "GND": 0})
 

@@ -52,7 +52,7 @@ from __future__ import annotations
 
 import logging
 
-__all__ = ["static_timing", "cell_delay", "net_loads", "LOAD_RATING", "SETUP_RATING", "HOLD_RATING"]
+__all__ = ["static_timing", "cell_delay", "net_loads", "PartIndex", "LOAD_RATING", "SETUP_RATING", "HOLD_RATING"]
 
 log = logging.getLogger(__name__)
 
@@ -67,14 +67,57 @@ _EDGE = {"re": "rise", "ah": "rise", "fe": "fall", "al": "fall"}
 _CLOCK_ROLES = ("clock", "enable")
 
 
-def cell_delay(build, cell, load_ul: float = 0.0) -> tuple[float, float]:
+class PartIndex:
+    """Part definitions and package pins of a build's cells, looked up by dictionary.
+
+    :meth:`mapper.build.Build.part_def` and :meth:`~mapper.build.Build.pin_of`
+    search the build's part list on every call, which is quadratic over a
+    whole build; this gives the same answers from tables made once.
+    """
+
+    def __init__(self, build):
+        self.build = build
+        self.parts = build.target.parts
+        self.ref_id: dict = {}
+        for p in build.parts:
+            self.ref_id.setdefault(p.ref, p.part_id)  # the first part of a ref, as Build.part does
+        self._pins: dict = {}
+
+    def part_id(self, ref: str) -> str:
+        """Part id of the part numbered ``ref`` (``KeyError`` when there is none)."""
+        return self.ref_id[ref]
+
+    def part_def(self, ref_or_id: str):
+        """The catalog definition of a part ref (or of a part id), as :meth:`Build.part_def`."""
+        return self.parts[self.ref_id.get(ref_or_id, ref_or_id)]
+
+    def pin_of(self, cell, pin: str):
+        """Package pin of ``pin`` of ``cell``, as :meth:`Build.pin_of` (which raises when there is none)."""
+        key = (cell.part_ref, cell.slot)
+        table = self._pins.get(key)
+        if table is None:
+            pd = self.parts[self.ref_id[cell.part_ref]]
+            table = dict(getattr(pd, "shared_pins", {}))
+            for s in pd.slots:
+                if s.index == cell.slot:
+                    table.update(s.pins)  # a slot's own pin wins over a shared pin of the same name
+                    break
+            self._pins[key] = table
+        number = table.get(pin)
+        if number is None:
+            return self.build.pin_of(cell, pin)  # raises the build's own error
+        return number
+
+
+def cell_delay(build, cell, load_ul: float = 0.0, index: PartIndex | None = None) -> tuple[float, float]:
     """(typical, maximum) delay in seconds of one placed cell.
 
     Zero when the catalog gives no figure.  ``load_ul`` (unit loads on the
     cell's output) adds ``load_ul`` times the part's ``delay-per-unit-load``
-    rating when the catalog has one.
+    rating when the catalog has one.  ``index`` (a :class:`PartIndex` of the
+    build) makes the part look-up quick.
     """
-    pd = build.part_def(cell.part_ref)
+    pd = index.part_def(cell.part_ref) if index is not None else build.part_def(cell.part_ref)
     typ = pd.delay_typ.get(cell.cell) if pd.delay_typ else None
     mx = pd.delay_max.get(cell.cell) if pd.delay_max else None
     t = typ.value if typ is not None else 0.0
@@ -87,12 +130,13 @@ def cell_delay(build, cell, load_ul: float = 0.0) -> tuple[float, float]:
     return t, m
 
 
-def net_loads(build) -> dict:
+def net_loads(build, index: PartIndex | None = None) -> dict:
     """net -> fan-out load in unit loads (sum of ``input_load`` over the cell inputs it feeds)."""
     target = build.target
+    index = index or PartIndex(build)
     loads: dict = {}
     for c in build.cells:
-        pd = build.part_def(c.part_ref)
+        pd = index.part_def(c.part_ref)
         per = pd.input_load.value if pd.input_load is not None else 0.0
         for p in target.cells[c.cell].inputs:
             net = c.pins.get(p)
@@ -119,12 +163,13 @@ class _Graph:
         logic = [c for c in build.cells if target.cells[c.cell].storage is None and c.group is None]
         for c in logic:
             self.driver[c.pins[target.cells[c.cell].output]] = c
-        loads = net_loads(build)
+        self.index = index = PartIndex(build)
+        loads = net_loads(build, index)
         self.loads = loads
         self.delay = {}
         for c in build.cells:
             cd = target.cells[c.cell]
-            self.delay[id(c)] = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0))
+            self.delay[id(c)] = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0), index)
         indeg, users = {}, {}
         for c in logic:
             cd = target.cells[c.cell]
@@ -144,6 +189,13 @@ class _Graph:
         if len(self.comb) != len(indeg):
             log.warning("the build's logic cells form a loop; %d cells left out of the timing",
                         len(indeg) - len(self.comb))
+        # the arcs of each logic cell in order, made once for every propagation:
+        # (cell, ((input pin, input net), ...) without rails, output net, (typical, maximum))
+        self.arcs = []
+        for c in self.comb:
+            cd = target.cells[c.cell]
+            ins = tuple((p, c.pins[p]) for p in cd.inputs if c.pins.get(p) is not None and c.pins[p] not in _RAILS)
+            self.arcs.append((c, ins, c.pins[cd.output], self.delay[id(c)]))
         self._storage_points()
 
     def _storage_points(self) -> None:
@@ -153,11 +205,11 @@ class _Graph:
             cd = target.cells[c.cell]
             if cd.storage is None or c.group is not None:
                 continue
-            pd = b.part_def(c.part_ref)
+            pd = self.index.part_def(c.part_ref)
             ctrl_pin = next((p for p in cd.inputs if cd.roles.get(p) in _CLOCK_ROLES), None)
             if ctrl_pin is None and len(cd.inputs) > 1:
                 ctrl_pin = cd.inputs[1]
-            outs = {c.pins[o]: (o, b.pin_of(c, o)) for o in (cd.output,) + tuple(cd.extra_outputs)
+            outs = {c.pins[o]: (o, self.index.pin_of(c, o)) for o in (cd.output,) + tuple(cd.extra_outputs)
                     if c.pins.get(o)}
             self.points.append({
                 "part": c.part_ref, "cell": c.cell, "part_id": pd.id, "kind": cd.storage,
@@ -165,8 +217,12 @@ class _Graph:
                 "outs": outs, "delay": self.delay[id(c)],
                 "setup": _rating(pd, SETUP_RATING), "hold": _rating(pd, HOLD_RATING),
             })
+        members: dict = {}
+        for c in b.cells:
+            if c.group is not None:
+                members.setdefault(c.group, []).append(c)
         for key, grp in getattr(b, "storage_groups", {}).items():
-            cells = [c for c in b.cells if c.group == key]
+            cells = members.get(key, [])
             clk2q = self._group_path(cells, grp.control, grp.q)
             setup = self._group_path(cells, grp.d, grp.q)
             self.points.append({
@@ -212,31 +268,30 @@ def _propagate(g: _Graph, starts: dict, pick_late: bool, use_max: bool):
     Returns ``(arrival, prev)`` with ``prev[net] = (input pin, input net, cell)``
     of the arc that set the arrival.  Rails never arrive.
     """
-    target = g.build.target
     arr = dict(starts)
     prev: dict = {}
     k = 1 if use_max else 0
-    for c in g.comb:
-        cd = target.cells[c.cell]
+    get = arr.get
+    for c, ins, out, delay in g.arcs:
         best = None
-        for p in cd.inputs:
-            n = c.pins.get(p)
-            if n is None or n in _RAILS or n not in arr:
+        bt = 0.0
+        for p, n in ins:
+            t = get(n)
+            if t is None:
                 continue
-            if best is None or (arr[n] > arr[best[1]] if pick_late else arr[n] < arr[best[1]]):
-                best = (p, n)
+            if best is None or (t > bt if pick_late else t < bt):
+                best, bt = (p, n), t
         if best is None:
             continue  # a cell fed from rails only: a constant
-        out = c.pins[cd.output]
-        arr[out] = arr[best[1]] + g.delay[id(c)][k]
+        arr[out] = bt + delay[k]
         prev[out] = (best[0], best[1], c)
     return arr, prev
 
 
 def _path(g: _Graph, prev: dict, end: str, arrivals: list) -> list:
     """The arcs from a start point to ``end``, first to last, with pins and arrivals."""
-    b = g.build
-    target = b.target
+    target = g.build.target
+    ix = g.index
     hops = []
     n = end
     seen = set()
@@ -246,9 +301,9 @@ def _path(g: _Graph, prev: dict, end: str, arrivals: list) -> list:
         cd = target.cells[c.cell]
         t, m = g.delay[id(c)]
         hop = {
-            "cell": c.cell, "part": c.part_ref, "part_id": b.part(c.part_ref).part_id, "slot": c.slot,
-            "from_pin": pin, "from_pin_number": b.pin_of(c, pin),
-            "to_pin": cd.output, "to_pin_number": b.pin_of(c, cd.output),
+            "cell": c.cell, "part": c.part_ref, "part_id": ix.part_id(c.part_ref), "slot": c.slot,
+            "from_pin": pin, "from_pin_number": ix.pin_of(c, pin),
+            "to_pin": cd.output, "to_pin_number": ix.pin_of(c, cd.output),
             "net_in": n_in, "net": n, "delay_s": m, "delay_typ_s": t,
         }
         for key, arr in arrivals:
@@ -496,7 +551,7 @@ def static_timing(build) -> dict:
         ref = c.part_ref if c is not None else (g.sdriver.get(net) or {}).get("part")
         if ref is None:
             continue
-        pd = build.part_def(ref)
+        pd = g.index.part_def(ref)
         if pd.output_drive is not None and ul > pd.output_drive.value + 1e-12:
             overloaded.append({"net": net, "load_ul": round(ul, 6), "drive_ul": pd.output_drive.value,
                                "part": ref})
