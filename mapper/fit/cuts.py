@@ -24,11 +24,31 @@ True
 """
 from __future__ import annotations
 
+from itertools import combinations
+
 from ..logic.function import var_mask
 
 __all__ = ["enumerate_cuts", "expand_table", "reduce_support"]
 
 _EXPAND: dict = {}
+_FULL = [(1 << (1 << n)) - 1 for n in range(17)]
+#: the subsets of n leaf positions one smaller, as index tuples (a cut with
+#: one of those among its node's cuts is dominated; smaller subsets are not
+#: checked, which only keeps a few redundant cuts)
+_SUBSETS = [list(combinations(range(n), n - 1)) if n > 1 else [] for n in range(9)]
+_SUPPORT: dict = {}
+
+
+def _support(n: int, table: int):
+    """``None`` when ``table`` depends on all ``n`` inputs, else
+    ``(kept positions, table over them)`` (memoized)."""
+    key = (n, table)
+    if key in _SUPPORT:
+        return _SUPPORT[key]
+    r = reduce_support(tuple(range(n)), table)
+    r = None if len(r[0]) == n else r
+    _SUPPORT[key] = r
+    return r
 
 
 def expand_table(table: int, positions: tuple, n: int) -> int:
@@ -75,7 +95,7 @@ def reduce_support(leaves: tuple, table: int):
 
 
 def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after=None, cuts=None,
-                   boundary=frozenset()):
+                   boundary=frozenset(), choices=None):
     """Priority cuts of every AND node.
 
     Parameters
@@ -89,9 +109,9 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
         ``cost(var, leaves, table) -> sortable`` ranking a cut (lower is
         better); called in topological order, so it may read mapping data of
         the leaves.  Default: fewer leaves first.
-    nodes : iterable or None
-        Restrict to these AND variables (must be closed under fan-in cones
-        of interest); default all.
+    nodes : sequence or None
+        The variables to visit, in a topological order (fan-ins, and every
+        choice of a node, before the node); default all, in increasing order.
     after : callable or None
         ``after(var)`` runs once the node's cuts are stored (the mapper
         matches the node there, so that ``cost`` of later nodes can read it).
@@ -101,6 +121,10 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
         Variables no cut may reach through: their parents see only their
         trivial cut, so each stays a signal of its own in any cover (used
         to keep hazard-covering terms that a functional match would drop).
+    choices : dict or None
+        var -> literals of other nodes computing the same function
+        (:mod:`mapper.fit.choices`); their cuts join the node's own, so a
+        cover may use any of the structures.
 
     Returns
     -------
@@ -112,7 +136,9 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
     if cuts is None:
         cuts = {}
     trivial = {}
-    it = range(1, aig.num_vars) if nodes is None else sorted(nodes)
+    it = range(1, aig.num_vars) if nodes is None else nodes
+    if choices is None:
+        choices = {}
     for v in it:
         triv = ((v,), 0b10)
         trivial[v] = triv
@@ -124,40 +150,44 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
         ca = [((va,), 0b10)] if va in boundary else (cuts.get(va) or [((va,), 0b10)])
         cb = [((vb,), 0b10)] if vb in boundary else (cuts.get(vb) or [((vb,), 0b10)])
         seen = {}
+        ca_, cb_ = a & 1, b & 1
         for la, ta in ca:
+            sa = set(la)
             for lb, tb in cb:
                 if la == lb:
                     leaves = la
                 else:
-                    s = set(la)
-                    s.update(lb)
-                    if len(s) > k:
+                    u = sa.union(lb)
+                    if len(u) > k:
                         continue
-                    leaves = tuple(sorted(s))
+                    leaves = tuple(sorted(u))
                 n = len(leaves)
-                full = (1 << (1 << n)) - 1
-                if leaves == la:
-                    xa = ta
-                else:
-                    xa = expand_table(ta, tuple(leaves.index(x) for x in la), n)
-                if leaves == lb:
-                    xb = tb
-                else:
-                    xb = expand_table(tb, tuple(leaves.index(x) for x in lb), n)
-                if a & 1:
+                full = _FULL[n]
+                xa = ta if leaves == la else expand_table(ta, tuple(leaves.index(x) for x in la), n)
+                xb = tb if leaves == lb else expand_table(tb, tuple(leaves.index(x) for x in lb), n)
+                if ca_:
                     xa ^= full
-                if b & 1:
+                if cb_:
                     xb ^= full
                 t = xa & xb
-                leaves, t = reduce_support(leaves, t)
+                red = _support(n, t)
+                if red is not None:
+                    keep, t = red
+                    leaves = tuple(leaves[j] for j in keep)
                 if leaves not in seen:
                     seen[leaves] = t
-        found = list(seen.items())
-        # remove dominated cuts (a proper subset of leaves exists)
-        if len(found) > 1:
-            sets = [(frozenset(l), l, t) for l, t in found]
-            found = [(l, t) for s, l, t in sets
-                     if not any(o < s for o, _, _ in sets)]
+        for alt in choices.get(v, ()):
+            # a choice's cuts, as cuts of this node (complemented when it is)
+            for leaves, t in cuts[alt >> 1]:
+                if len(leaves) == 1 and leaves[0] == alt >> 1:
+                    continue
+                if alt & 1:
+                    t ^= _FULL[len(leaves)]
+                if leaves not in seen:
+                    seen[leaves] = t
+        # remove dominated cuts (another cut's leaves are a subset one smaller)
+        found = [(l, t) for l, t in seen.items()
+                 if len(l) < 2 or not any(tuple(l[i] for i in sub) in seen for sub in _SUBSETS[len(l)])]
         if cost is not None:
             found.sort(key=lambda lt: cost(v, lt[0], lt[1]))
         else:

@@ -21,7 +21,7 @@ from ..errors import UsageError
 from ..logic.function import Function
 from ..netlist import Netlist, Storage
 from .electrical import split_fanout
-from .gates import Mapping, map_logic
+from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary
 from .pack import pack
 from .storage import gate_storage
@@ -50,6 +50,10 @@ def _restricted(target, exclude):
     return replace(target, cells=cells, carriers=carriers)
 
 
+#: (cuts per node, area-flow passes) tried besides the default (8, 3)
+_VARIANTS = [(8, 1), (4, 1), (16, 1), (8, 5), (16, 5), (12, 3), (4, 3), (6, 1)]
+
+
 def _score(build):
     return (len(build.parts), build.timing.get("levels", 0), len(build.cells))
 
@@ -64,30 +68,24 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     best = None
     tried = []
 
+    best_mapping = None
+
     def consider(mapping, label, lib_target):
-        nonlocal best
+        nonlocal best, best_mapping
         b = _assemble(design, lib_target, mapping, storage_cells)
         b.timing["levels"] = mapping.depth
         tried.append((label, len(b.parts)))
         if best is None or _score(b) < _score(best):
-            best = b
+            best, best_mapping = b, mapping
         return b
 
     lib = _library(target)
     try:
-        m = map_logic(design, lib, keep=keep)
+        subject = subject_graph(design, keep)
+        m = map_logic(design, lib, subject=subject)
     except RuntimeError as exc:
         raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
     consider(m, "all cells", target)
-    # a single NAND2 or NOR2 cell: also map the dual design with the dual
-    # cell and rename -- a network of NORs computes the dual of the same
-    # network of NANDs, so NOR(dual) mapped as NAND gives the design back.
-    # The AIG is built of ANDs, so one of the two often maps better.
-    if len(lib.cells) == 1 and _complete_cells(lib) and not design.storage():
-        dual_design = dual_netlist(design)
-        if dual_design is not None:
-            dual_lib = _library(_dual_target(target), frozenset())
-            consider(map_logic(dual_design, dual_lib, keep=keep), "dual", target)
     # further candidates cost a whole mapping each: fewer of them on big designs
     size = max(1, len(design.nodes) - len(design.inputs))
     budget = [int(min(40, 12_000 / size))] if effort > 0 else [0]
@@ -98,8 +96,31 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
         budget[0] -= 1
         return True
 
+    # a single NAND2 or NOR2 cell: also map the dual design with the dual
+    # cell and rename -- a network of NORs computes the dual of the same
+    # network of NANDs, so NOR(dual) mapped as NAND gives the design back.
+    # The AIG is built of ANDs, so one of the two often maps better.
+    subjects = [(design, subject, lib, "")]
+    if len(lib.cells) == 1 and _complete_cells(lib) and not design.storage():
+        dual_design = dual_netlist(design)
+        if dual_design is not None:
+            dual_lib = _library(_dual_target(target), frozenset())
+            dual_subject = subject_graph(dual_design, keep)
+            subjects.append((dual_design, dual_subject, dual_lib, "dual "))
+            consider(map_logic(dual_design, dual_lib, subject=dual_subject), "dual", target)
+    # other cut budgets and numbers of area-flow passes: the cover heuristics
+    # land in different local optima, and whole parts are what counts
+    variants = _VARIANTS if len(subjects) > 1 else _VARIANTS[:4]
+    for limit, passes in variants:
+        for subj_design, subj, sub_lib, label in subjects:
+            if not spend():
+                break
+            consider(map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes),
+                     f"{label}{limit} cuts, {passes} passes", target)
+
     # re-map the mapped logic: a second subject graph built from the first cover
     if effort > 0:
+        m = best_mapping
         for _ in range(2):
             if not spend():
                 break
@@ -126,7 +147,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
             trial = frozenset(c for c in lib.cells if c not in keep_cells)
             try:
                 sub = _library(target, trial)
-                m2 = map_logic(design, sub, keep=keep)
+                m2 = map_logic(design, sub, subject=subject)
             except (ValueError, RuntimeError):
                 continue
             consider(m2, "only " + "+".join(sorted(keep_cells)), target)
@@ -149,7 +170,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
                 if sub.inverter() is None:
                     continue
                 try:
-                    m2 = map_logic(design, sub, keep=keep)
+                    m2 = map_logic(design, sub, subject=subject)
                 except RuntimeError:
                     continue
                 before = _score(best)

@@ -25,10 +25,11 @@ import logging
 from dataclasses import dataclass, field
 
 from ..logic.aig import AIG, from_netlist
+from .choices import structural_choices
 from .cuts import enumerate_cuts
 from .library import GND, VCC, CellLibrary, Impl
 
-__all__ = ["CellUse", "Mapping", "map_logic"]
+__all__ = ["CellUse", "Mapping", "Subject", "map_logic", "subject_graph"]
 
 log = logging.getLogger(__name__)
 
@@ -71,16 +72,22 @@ class _Choice:
         self.arr = arr
 
 
-def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
-              area_passes: int = 3, seed_names: bool = True, keep=()) -> Mapping:
-    """Map the combinational logic of ``design`` onto the cells of ``lib``.
+@dataclass
+class Subject:
+    """The subject graph of a design, built once and mapped many times."""
 
-    Storage elements stay as they are: their outputs are free inputs of the
-    mapped logic and their data/control nets are extra roots.  Nets named
-    in ``keep`` stay signals of their own in the cover (no cut spans them),
-    so logic that is functionally redundant there -- a consensus term added
-    against a hazard -- survives mapping.
-    """
+    aig: AIG
+    litmap: dict
+    boundary: frozenset
+    roots: list
+    choices: dict = field(default_factory=dict)
+    order: list | None = None
+    groups: list = field(default_factory=list)
+
+
+def subject_graph(design, keep=(), choices: bool = True) -> Subject:
+    """The AIG of ``design``'s logic, with structural choices unless ``keep``
+    names nets to keep (see :func:`map_logic`)."""
     aig, litmap = from_netlist(design)
     boundary = frozenset(litmap[n] >> 1 for n in keep if n in litmap and litmap[n] > 1)
     roots = [lit for _, lit in aig.outputs]
@@ -88,22 +95,51 @@ def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
         roots.append(latch.next)
         if latch.control is not None:
             roots.append(latch.control)
+    if choices and not boundary:
+        alts, order, groups, inner = structural_choices(aig)
+        return Subject(aig, litmap, inner, roots, alts, order, groups)
+    return Subject(aig, litmap, boundary, roots)
+
+
+def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
+              area_passes: int = 3, seed_names: bool = True, keep=(), choices: bool = True,
+              subject: Subject | None = None) -> Mapping:
+    """Map the combinational logic of ``design`` onto the cells of ``lib``.
+
+    Storage elements stay as they are: their outputs are free inputs of the
+    mapped logic and their data/control nets are extra roots.  Nets named
+    in ``keep`` stay signals of their own in the cover (no cut spans them),
+    so logic that is functionally redundant there -- a consensus term added
+    against a hazard -- survives mapping.  ``choices`` adds other shapes of
+    adders and exclusive-ORs for the cover to pick from
+    (:mod:`mapper.fit.choices`).  ``subject`` is the design's subject graph
+    from :func:`subject_graph` when the caller maps one design many times
+    (``keep`` and ``choices`` are then the subject's).
+    """
+    if subject is None:
+        subject = subject_graph(design, keep, choices)
+    aig = subject.aig
     if aig.num_ands > 5000:  # big designs: fewer cuts and passes keep the run short
         cuts_per_node = min(cuts_per_node, 6)
         area_passes = min(area_passes, 1)
-    mapper = _Mapper(aig, lib, k, cuts_per_node, boundary)
-    mapper.run(roots, area_passes)
+    mapper = _Mapper(aig, lib, k, cuts_per_node, subject.boundary, subject.choices, subject.order,
+                     subject.groups)
+    mapper.run(subject.roots, area_passes)
     names = {}
     if seed_names:
-        for net, lit in litmap.items():
+        for net, lit in subject.litmap.items():
             if lit > 1:
                 names.setdefault((lit >> 1, lit & 1), net)
-    return mapper.instantiate(design, litmap, names)
+    return mapper.instantiate(design, subject.litmap, names)
 
 
 class _Mapper:
-    def __init__(self, aig: AIG, lib: CellLibrary, k: int, limit: int, boundary=frozenset()):
+    def __init__(self, aig: AIG, lib: CellLibrary, k: int, limit: int, boundary=frozenset(),
+                 choices=None, order=None, groups=()):
         self.aig = aig
+        self.choices = choices or {}
+        self.order = order
+        self.groups = groups
         self.boundary = boundary
         self.lib = lib
         self.k = k
@@ -120,6 +156,8 @@ class _Mapper:
                 self.best[v][1] = _Choice(None, None, True, self.inv_cost, self.inv_depth)
         self.cuts = None
         self.mode = "delay"
+        self._lk: dict = {}
+        self._memo: dict = {}
 
     # -- evaluation of one node --------------------------------------------
     def _phase_vectors(self, leaves):
@@ -131,52 +169,80 @@ class _Mapper:
             return ((0,) * len(leaves), cheap)
         return ((0,) * len(leaves),)
 
-    def _cut_cost(self, v, leaves, table):
-        n = len(leaves)
-        full = (1 << (1 << n)) - 1
-        best = INF
-        lookup = self.lib.lookup
-        for pv in self._phase_vectors(leaves):
-            t0 = flip_inputs(table, n, pv) if 1 in pv else table
-            lf = sum(self.best[l][p].af / self.refs[l] for l, p in zip(leaves, pv))
-            for tt in (t0, t0 ^ full):
-                impl = lookup(n, tt)
-                if impl is not None and impl.cost + lf < best:
-                    best = impl.cost + lf
-        return best
+    def _lookup(self, n, tt):
+        """The library's implementation of ``tt`` over ``n`` leaves (memoized)."""
+        key = (n << 17) | tt
+        lk = self._lk
+        if key in lk:
+            return lk[key]
+        impl = lk[key] = self.lib.lookup(n, tt)
+        return impl
 
-    def _match(self, v):
-        # candidates as (sort key, impl, leaf phases, af, arr); _Choice made once
+    def _eval(self, leaves, table):
+        """The best match of one cut in each output phase, as
+        ``(sort key, impl, leaf phases, af, arr)`` or ``None``."""
         best_ = self.best
         refs = self.refs
-        lookup = self.lib.lookup
+        lk = self._lk
         delay = self.mode == "delay"
+        n = len(leaves)
+        full = _FULL[n]
+        c0 = c1 = None
+        for pv in self._phase_vectors(leaves):
+            lf = 0.0
+            la = 0
+            for l, p in zip(leaves, pv):
+                c = best_[l][p]
+                lf += c.af / refs[l]
+                if c.arr > la:
+                    la = c.arr
+            t0 = flip_inputs(table, n, pv) if 1 in pv else table
+            key0 = (n << 17) | t0
+            impl = lk[key0] if key0 in lk else self._lookup(n, t0)
+            if impl is not None:
+                af = impl.cost + lf
+                arr = la + impl.depth
+                key = (arr, af) if delay else (af, arr)
+                if c0 is None or key < c0[0]:
+                    c0 = (key, impl, pv, af, arr)
+            t1 = t0 ^ full
+            key1 = (n << 17) | t1
+            impl = lk[key1] if key1 in lk else self._lookup(n, t1)
+            if impl is not None:
+                af = impl.cost + lf
+                arr = la + impl.depth
+                key = (arr, af) if delay else (af, arr)
+                if c1 is None or key < c1[0]:
+                    c1 = (key, impl, pv, af, arr)
+        return c0, c1
+
+    def _cut_cost(self, v, leaves, table):
+        """Priority of a cut while cuts are enumerated: its best area flow
+        (the evaluation is kept for :meth:`_match`)."""
+        e = self._eval(leaves, table)
+        self._memo[(leaves, table)] = e
+        c0, c1 = e
+        a = c0[3] if c0 is not None else INF
+        if c1 is not None and c1[3] < a:
+            a = c1[3]
+        return a
+
+    def _match(self, v):
+        memo = self._memo
         cand = [None, None]
         for leaves, table in self.cuts[v]:
             if len(leaves) == 1 and leaves[0] == v:
                 continue
-            n = len(leaves)
-            full = (1 << (1 << n)) - 1
-            for pv in self._phase_vectors(leaves):
-                lf = 0.0
-                la = 0
-                for l, p in zip(leaves, pv):
-                    c = best_[l][p]
-                    lf += c.af / refs[l]
-                    if c.arr > la:
-                        la = c.arr
-                t0 = flip_inputs(table, n, pv) if 1 in pv else table
-                for p, tt in ((0, t0), (1, t0 ^ full)):
-                    impl = lookup(n, tt)
-                    if impl is None:
-                        continue
-                    af = impl.cost + lf
-                    arr = la + impl.depth
-                    key = (arr, af) if delay else (af, arr)
-                    old = cand[p]
-                    if old is None or key < old[0]:
-                        cand[p] = (key, impl, pv, leaves, af, arr)
-        cands = [None if c is None else _Choice(c[1], tuple(zip(c[3], c[2])), False, c[4], c[5])
+            e = memo.get((leaves, table)) if memo else None
+            if e is None:
+                e = self._eval(leaves, table)
+            for p in (0, 1):
+                c = e[p]
+                if c is not None and (cand[p] is None or c[0] < cand[p][0][0]):
+                    cand[p] = (c, leaves)
+        if memo:
+            memo.clear()
+        cands = [None if c is None else _Choice(c[0][1], tuple(zip(c[1], c[0][2])), False, c[0][3], c[0][4])
                  for c in cand]
         # a phase may come from the other (as matched by a cut) through an inverter
         direct = list(cands)
@@ -204,11 +270,11 @@ class _Mapper:
     # -- passes ------------------------------------------------------------
     def run(self, roots, area_passes):
         aig = self.aig
-        cone = aig.cone(roots)
+        cone = self._cone(roots)
         self.mode = "delay"
         self.cuts = {}
         enumerate_cuts(aig, self.k, self.limit, cost=self._cut_cost, after=self._after, cuts=self.cuts,
-                       boundary=self.boundary)
+                       boundary=self.boundary, nodes=self.order, choices=self.choices)
         self.roots = roots
         self.mode = "area"
         for _ in range(area_passes):
@@ -220,6 +286,24 @@ class _Mapper:
             for v in cone:
                 self._match(v)
         self._exact_area(roots, cone)
+
+    def _cone(self, roots) -> list:
+        """AND variables the roots may use (through fan-ins and choices), in
+        the enumeration order."""
+        if not self.choices:
+            return self.aig.cone(roots)
+        f0, f1 = self.aig.f0, self.aig.f1
+        seen = set()
+        stack = [r >> 1 for r in roots]
+        while stack:
+            v = stack.pop()
+            if v in seen or f0[v] < 0:
+                continue
+            seen.add(v)
+            stack.append(f0[v] >> 1)
+            stack.append(f1[v] >> 1)
+            stack.extend(lit >> 1 for lit in self.choices.get(v, ()))
+        return [v for v in self.order if v in seen]
 
     def _cover_refs(self, roots):
         """Variables' references in the current cover (leaf uses + roots)."""
@@ -293,7 +377,24 @@ class _Mapper:
 
         for lit in roots:
             ref((lit >> 1, lit & 1))
-        aig = self.aig
+        for _ in range(2 if self.groups else 1):
+            self._area_sweep(cone, refc, ref, deref)
+            if self.groups:
+                self._group_moves(refc, ref, deref)
+        self._cover_refs(roots)
+
+    def _phase_vectors_exact(self, leaves, refc):
+        """Leaf phases for exact area: those of :meth:`_phase_vectors`, and
+        each leaf in a phase the cover already builds (already paid for)."""
+        pvs = list(self._phase_vectors(leaves))
+        paid = tuple(0 if refc.get((l, 0)) else (1 if refc.get((l, 1)) else pvs[-1][i])
+                     for i, l in enumerate(leaves))
+        if paid not in pvs:
+            pvs.append(paid)
+        return pvs
+
+    def _area_sweep(self, cone, refc, ref, deref):
+        """One pass of exact local area recovery over the cover."""
         for v in cone:
             for p in (0, 1):
                 vp = (v, p)
@@ -309,12 +410,12 @@ class _Mapper:
                     if leaves == (v,):
                         continue
                     n = len(leaves)
-                    for pv in self._phase_vectors(leaves):
+                    for pv in self._phase_vectors_exact(leaves, refc):
                         if any(self.best[l][q] is None for l, q in zip(leaves, pv)):
                             continue
                         t0 = flip_inputs(table, n, pv)
                         tt = t0 if p == 0 else t0 ^ ((1 << (1 << n)) - 1)
-                        impl = self.lib.lookup(n, tt)
+                        impl = self._lookup(n, tt)
                         if impl is None:
                             continue
                         ch = _Choice(impl, tuple(zip(leaves, pv)), False, 0.0, 0)
@@ -334,7 +435,63 @@ class _Mapper:
                 self.best[v][p] = best_ch
                 ref(vp)
                 refc[vp] = count
-        self._cover_refs(roots)
+
+    def _group_moves(self, refc, ref, deref):
+        """Switch whole groups of nodes (a full adder's sum and carry) to a
+        shared shape together, when that lowers the exact area.
+
+        One node at a time, a shared shape never pays: its common gates are
+        charged to whichever output moves first.  Each group option names
+        the nodes and the literal of the shape each becomes (a wire to it).
+        """
+        pos = {v: i for i, v in enumerate(self.order)}
+        wire = self.lib.lookup(1, 0b10)
+
+        def swap(members, new):
+            """Replace the choices of ``members`` (node-phases) by ``new``;
+            returns ``(area freed, area paid)``."""
+            ext = {}
+            freed = 0.0
+            # later nodes first, and an inverter-built phase before the phase
+            # it inverts: each deref then sees only references from outside
+            best = self.best
+            for vp in sorted(members, key=lambda x: (-pos[x[0]], not best[x[0]][x[1]].inv)):
+                e = refc.get(vp, 0)
+                ext[vp] = e
+                if e:
+                    refc[vp] = 1
+                    freed += deref(vp)
+            for vp, ch in new.items():
+                self.best[vp[0]][vp[1]] = ch
+            paid = 0.0
+            for vp in sorted(members, key=lambda x: (pos[x[0]], best[x[0]][x[1]].inv)):
+                if ext[vp]:
+                    before = refc.get(vp, 0)
+                    paid += ref(vp)
+                    refc[vp] = before + ext[vp]
+            return freed, paid
+
+        for options in self.groups:
+            members = [(v, p) for v, _ in options[0] for p in (0, 1) if refc.get((v, p))]
+            if not members or any(len(o) != len(options[0]) for o in options):
+                continue
+            old = {vp: self.best[vp[0]][vp[1]] for vp in members}
+            best_gain, best_new = 1e-9, None
+            for option in options:
+                lit_of = dict(option)
+                if any(v not in lit_of for v, _ in members):
+                    continue
+                new = {}
+                for v, p in members:
+                    u, q = lit_of[v] >> 1, p ^ (lit_of[v] & 1)
+                    alt = self.best[u][q]
+                    new[(v, p)] = _Choice(wire, ((u, q),), False, alt.af, alt.arr)
+                freed, paid = swap(members, new)
+                swap(members, old)
+                if freed - paid > best_gain:
+                    best_gain, best_new = freed - paid, new
+            if best_new is not None:
+                swap(members, best_new)
 
     # -- instantiation -------------------------------------------------------
     def instantiate(self, design, litmap, names) -> Mapping:
@@ -439,6 +596,7 @@ class _Mapper:
 
 
 _FLIP: dict = {}
+_FULL = [(1 << (1 << n)) - 1 for n in range(17)]
 
 
 def flip_inputs(table: int, n: int, phases) -> int:

@@ -128,6 +128,16 @@ class AIG:
     def add_xor(self, a: int, b: int) -> int:
         return self.add_or(self.add_and(a, b ^ 1), self.add_and(a ^ 1, b))
 
+    def add_xor_shared(self, a: int, b: int) -> int:
+        """XOR built around ``AND(a, b)``: ``a & ~(a & b) | b & ~(a & b)``.
+
+        The same function as :meth:`add_xor`, in the shape of the four-NAND
+        exclusive-OR (common practice): its first node is the AND a carry
+        or a comparator usually needs too, so a mapper can share it.
+        """
+        ab = self.add_and(a, b)
+        return self.add_or(self.add_and(a, ab ^ 1), self.add_and(b, ab ^ 1))
+
     def add_mux(self, s: int, t: int, e: int) -> int:
         """``s ? t : e``."""
         return self.add_or(self.add_and(s, t), self.add_and(s ^ 1, e))
