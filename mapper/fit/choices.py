@@ -76,7 +76,7 @@ def _fa9(aig, a, b, c):
     return s, aig.add_or(n1, n5)
 
 
-def structural_choices(aig, boundary=frozenset(), k_limit: int = 6):
+def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: bool = True):
     """Add alternative structures to ``aig``; returns ``(choices, order, groups, inner)``.
 
     ``choices`` maps an AND variable to literals of other nodes that compute
@@ -88,7 +88,8 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6):
     pairs that must switch together for the shape's sharing to pay.
     ``inner`` holds the new variables of those shapes: the mapper covers
     them node by node (no cut spans them), which is what keeps the shape.
-    Nodes in ``boundary`` get no choices.
+    Nodes in ``boundary`` get no choices.  ``xor_shapes=False`` leaves out
+    the exclusive-OR shapes (big designs: fewer nodes to map).
     """
     n_orig = aig.num_vars
     cuts = enumerate_cuts(aig, k=3, limit=k_limit)
@@ -115,7 +116,16 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6):
                 alts.append(lit)
 
     strash = aig._strash
-    for (a, b), nodes in xor2.items():
+    # an exclusive-OR inside a full adder gets its shapes from the adder's
+    # (offering both confuses the cover: measured on ariths-gen multipliers)
+    in_adder = set()
+    for leaves in maj:
+        if leaves in xor3:
+            a, b, c = leaves
+            in_adder.update(((a, b), (a, c), (b, c)))
+    for (a, b), nodes in (xor2.items() if xor_shapes else ()):
+        if (a, b) in in_adder:
+            continue
         for pa in (0, 1):
             for pb in (0, 1):
                 la, lb = 2 * a + pa, 2 * b + pb

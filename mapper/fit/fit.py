@@ -80,15 +80,10 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
         return b
 
     lib = _library(target)
-    try:
-        subject = subject_graph(design, keep)
-        m = map_logic(design, lib, subject=subject)
-    except RuntimeError as exc:
-        raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
-    consider(m, "all cells", target)
     # further candidates cost a whole mapping each: fewer of them on big designs
     size = max(1, len(design.nodes) - len(design.inputs))
     budget = [int(min(40, 12_000 / size))] if effort > 0 else [0]
+    big = budget[0] < 2
 
     def spend() -> bool:
         if budget[0] <= 0:
@@ -100,14 +95,25 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     # cell and rename -- a network of NORs computes the dual of the same
     # network of NANDs, so NOR(dual) mapped as NAND gives the design back.
     # The AIG is built of ANDs, so one of the two often maps better.
-    subjects = [(design, subject, lib, "")]
-    if len(lib.cells) == 1 and _complete_cells(lib) and not design.storage():
-        dual_design = dual_netlist(design)
+    # A big design gets one of the two: the dual for a NOR cell (its
+    # AND-built subject graph then maps as NANDs), else the design.
+    dual = len(lib.cells) == 1 and _complete_cells(lib) and not design.storage()
+    nor = dual and lib.cells[_complete_cells(lib)[0]].function.table() == 0b0001
+    dual_design = dual_netlist(design) if dual and (nor or not big) else None
+    subjects = []
+    try:
+        if dual_design is None or not big:
+            subject = subject_graph(design, keep)
+            subjects.append((design, subject, lib, ""))
+            consider(map_logic(design, lib, subject=subject), "all cells", target)
         if dual_design is not None:
             dual_lib = _library(_dual_target(target), frozenset())
             dual_subject = subject_graph(dual_design, keep)
             subjects.append((dual_design, dual_subject, dual_lib, "dual "))
             consider(map_logic(dual_design, dual_lib, subject=dual_subject), "dual", target)
+    except RuntimeError as exc:
+        raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
+    subject = subjects[0][1]
     # other cut budgets and numbers of area-flow passes: the cover heuristics
     # land in different local optima, and whole parts are what counts
     variants = _VARIANTS if len(subjects) > 1 else _VARIANTS[:4]

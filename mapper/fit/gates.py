@@ -34,6 +34,8 @@ __all__ = ["CellUse", "Mapping", "Subject", "map_logic", "subject_graph"]
 log = logging.getLogger(__name__)
 
 INF = float("inf")
+#: AND nodes (with choices) above which a design maps in its quick mode
+BIG = 5000
 
 
 @dataclass
@@ -119,11 +121,14 @@ def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
     if subject is None:
         subject = subject_graph(design, keep, choices)
     aig = subject.aig
-    if aig.num_ands > 5000:  # big designs: fewer cuts and passes keep the run short
-        cuts_per_node = min(cuts_per_node, 6)
+    sweeps = 2
+    if aig.num_ands > BIG:  # big designs: fewer cuts and passes keep the run short
+        cuts_per_node = min(cuts_per_node, 4)
         area_passes = min(area_passes, 1)
+        sweeps = 1
     mapper = _Mapper(aig, lib, k, cuts_per_node, subject.boundary, subject.choices, subject.order,
                      subject.groups)
+    mapper.sweeps = sweeps
     mapper.run(subject.roots, area_passes)
     names = {}
     if seed_names:
@@ -156,6 +161,7 @@ class _Mapper:
                 self.best[v][1] = _Choice(None, None, True, self.inv_cost, self.inv_depth)
         self.cuts = None
         self.mode = "delay"
+        self.sweeps = 2
         self._lk: dict = {}
         self._memo: dict = {}
 
@@ -377,7 +383,7 @@ class _Mapper:
 
         for lit in roots:
             ref((lit >> 1, lit & 1))
-        for _ in range(2 if self.groups else 1):
+        for _ in range(self.sweeps if self.groups else 1):
             self._area_sweep(cone, refc, ref, deref)
             if self.groups:
                 self._group_moves(refc, ref, deref)
