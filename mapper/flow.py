@@ -90,8 +90,11 @@ def target_info(name_or_path) -> dict:
     return describe_target(_load(name_or_path))
 
 
-def fit(design, target, effort: int = 1, keep=()):
+def fit(design, target, effort: int = 1, keep=(), trees: bool = False):
     """Map a read design onto a loaded target and prove the build; returns the Build.
+
+    ``keep`` and ``trees`` serve hazard-free builds (see
+    :func:`mapper.fit.fit.fit_gates`).
 
     A build that fails its proof is a bug of ours (:class:`InternalError`,
     exit 3), never a result.
@@ -115,7 +118,7 @@ def fit(design, target, effort: int = 1, keep=()):
         build = fit_relays(design, target, effort=effort)
     else:
         from .fit.fit import fit_gates
-        build = fit_gates(design, target, effort=effort, keep=keep)
+        build = fit_gates(design, target, effort=effort, keep=keep, trees=trees)
     lap("fit")
     if getattr(target, "kind", "gates") != "relay":
         # relay builds carry their own timing and supply figures (mapper.analyze.relay_timing)
@@ -322,7 +325,7 @@ def fit_hazard_free(design, target, effort: int = 1):
     # (x + x'y for x + y), which glitches again; the part search makes that likelier.  So each
     # effort level is tried and the glitch finder picks: fewest glitches, then fewest parts --
     # the plain build included, so the answer is never worse than it (ties go to the plain build).
-    tries = [plain] + [fit(hf, target, effort=e, keep=kept) for e in sorted({0, effort})]
+    tries = [plain] + [fit(hf, target, effort=e, keep=kept, trees=True) for e in sorted({0, effort})]
     b = min(tries, key=lambda x: (x.timing.get("hazards_total", 0), len(x.parts), len(x.cells)))
     report["chosen"] = "plain" if b is plain else "consensus"
     if b is plain:

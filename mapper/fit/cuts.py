@@ -24,18 +24,12 @@ True
 """
 from __future__ import annotations
 
-from itertools import combinations
-
 from ..logic.function import var_mask
 
 __all__ = ["enumerate_cuts", "expand_table", "reduce_support"]
 
 _EXPAND: dict = {}
 _FULL = [(1 << (1 << n)) - 1 for n in range(17)]
-#: the subsets of n leaf positions one smaller, as index tuples (a cut with
-#: one of those among its node's cuts is dominated; smaller subsets are not
-#: checked, which only keeps a few redundant cuts)
-_SUBSETS = [list(combinations(range(n), n - 1)) if n > 1 else [] for n in range(9)]
 _SUPPORT: dict = {}
 
 
@@ -185,9 +179,10 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
                     t ^= _FULL[len(leaves)]
                 if leaves not in seen:
                     seen[leaves] = t
-        # remove dominated cuts (another cut's leaves are a subset one smaller)
+        # remove dominated cuts: another cut's leaves are this one's less one
+        # leaf (smaller subsets are not checked; that keeps a few redundant cuts)
         found = [(l, t) for l, t in seen.items()
-                 if len(l) < 2 or not any(tuple(l[i] for i in sub) in seen for sub in _SUBSETS[len(l)])]
+                 if len(l) < 2 or not any(l[:i] + l[i + 1:] in seen for i in range(len(l)))]
         if cost is not None:
             found.sort(key=lambda lt: cost(v, lt[0], lt[1]))
         else:

@@ -58,11 +58,12 @@ def _score(build):
     return (len(build.parts), build.timing.get("levels", 0), len(build.cells))
 
 
-def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
+def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = False) -> "Build":
     """The build with the fewest whole parts found for ``design`` on ``target``.
 
-    ``keep`` names design nets that must stay signals of their own (see
-    :func:`mapper.fit.gates.map_logic`).
+    ``keep`` names design nets that must stay signals of their own, and
+    ``trees`` asks for tree-shaped matches only, which keep hazard-free
+    covers hazard-free (see :func:`mapper.fit.gates.map_logic`).
     """
     storage_cells = _storage_cells(target)
     best = None
@@ -103,12 +104,12 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     subjects = []
     try:
         if dual_design is None or not big:
-            subject = subject_graph(design, keep)
+            subject = subject_graph(design, keep, trees=trees)
             subjects.append((design, subject, lib, ""))
             consider(map_logic(design, lib, subject=subject), "all cells", target)
         if dual_design is not None:
             dual_lib = _library(_dual_target(target), frozenset())
-            dual_subject = subject_graph(dual_design, keep)
+            dual_subject = subject_graph(dual_design, keep, trees=trees)
             subjects.append((dual_design, dual_subject, dual_lib, "dual "))
             consider(map_logic(dual_design, dual_lib, subject=dual_subject), "dual", target)
     except RuntimeError as exc:
@@ -116,7 +117,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
     subject = subjects[0][1]
     # other cut budgets and numbers of area-flow passes: the cover heuristics
     # land in different local optima, and whole parts are what counts
-    variants = _VARIANTS if len(subjects) > 1 else _VARIANTS[:4]
+    variants = [] if big else _VARIANTS if len(subjects) > 1 else _VARIANTS[:4]
     for limit, passes in variants:
         for subj_design, subj, sub_lib, label in subjects:
             if not spend():
@@ -130,7 +131,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=()) -> "Build":
         for _ in range(2):
             if not spend():
                 break
-            again = map_logic(mapping_netlist(design, m, target), lib, keep=keep)
+            again = map_logic(mapping_netlist(design, m, target), lib, keep=keep, trees=trees)
             if again.area < m.area - 1e-9:
                 m = again
                 consider(m, "re-mapped", target)

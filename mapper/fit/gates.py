@@ -85,11 +85,13 @@ class Subject:
     choices: dict = field(default_factory=dict)
     order: list | None = None
     groups: list = field(default_factory=list)
+    trees: bool = False
 
 
-def subject_graph(design, keep=(), choices: bool = True) -> Subject:
+def subject_graph(design, keep=(), choices: bool = True, trees: bool = False) -> Subject:
     """The AIG of ``design``'s logic, with structural choices unless ``keep``
-    names nets to keep (see :func:`map_logic`)."""
+    names nets to keep or ``trees`` asks for tree-shaped matches only (see
+    :func:`map_logic`)."""
     aig, litmap = from_netlist(design)
     boundary = frozenset(litmap[n] >> 1 for n in keep if n in litmap and litmap[n] > 1)
     roots = [lit for _, lit in aig.outputs]
@@ -97,29 +99,31 @@ def subject_graph(design, keep=(), choices: bool = True) -> Subject:
         roots.append(latch.next)
         if latch.control is not None:
             roots.append(latch.control)
-    if choices and not boundary:
+    if choices and not boundary and not trees:
         alts, order, groups, inner = structural_choices(aig)
         return Subject(aig, litmap, inner, roots, alts, order, groups)
-    return Subject(aig, litmap, boundary, roots)
+    return Subject(aig, litmap, boundary, roots, trees=trees)
 
 
 def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
               area_passes: int = 3, seed_names: bool = True, keep=(), choices: bool = True,
-              subject: Subject | None = None) -> Mapping:
+              subject: Subject | None = None, trees: bool = False) -> Mapping:
     """Map the combinational logic of ``design`` onto the cells of ``lib``.
 
     Storage elements stay as they are: their outputs are free inputs of the
     mapped logic and their data/control nets are extra roots.  Nets named
     in ``keep`` stay signals of their own in the cover (no cut spans them),
     so logic that is functionally redundant there -- a consensus term added
-    against a hazard -- survives mapping.  ``choices`` adds other shapes of
+    against a hazard -- survives mapping.  ``trees`` accepts only tree-shaped
+    matches (see :func:`_is_tree`), so a hazard-free cover stays so.
+    ``choices`` adds other shapes of
     adders and exclusive-ORs for the cover to pick from
     (:mod:`mapper.fit.choices`).  ``subject`` is the design's subject graph
     from :func:`subject_graph` when the caller maps one design many times
     (``keep`` and ``choices`` are then the subject's).
     """
     if subject is None:
-        subject = subject_graph(design, keep, choices)
+        subject = subject_graph(design, keep, choices, trees)
     aig = subject.aig
     sweeps = 2
     if aig.num_ands > BIG:  # big designs: fewer cuts and passes keep the run short
@@ -129,6 +133,7 @@ def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
     mapper = _Mapper(aig, lib, k, cuts_per_node, subject.boundary, subject.choices, subject.order,
                      subject.groups)
     mapper.sweeps = sweeps
+    mapper.trees = subject.trees
     mapper.run(subject.roots, area_passes)
     names = {}
     if seed_names:
@@ -162,6 +167,7 @@ class _Mapper:
         self.cuts = None
         self.mode = "delay"
         self.sweeps = 2
+        self.trees = False
         self._lk: dict = {}
         self._memo: dict = {}
 
@@ -176,12 +182,16 @@ class _Mapper:
         return ((0,) * len(leaves),)
 
     def _lookup(self, n, tt):
-        """The library's implementation of ``tt`` over ``n`` leaves (memoized)."""
+        """The library's implementation of ``tt`` over ``n`` leaves (memoized;
+        only tree-shaped ones when :attr:`trees` is set)."""
         key = (n << 17) | tt
         lk = self._lk
         if key in lk:
             return lk[key]
-        impl = lk[key] = self.lib.lookup(n, tt)
+        impl = self.lib.lookup(n, tt)
+        if impl is not None and self.trees and not _is_tree(impl, n):
+            impl = None
+        lk[key] = impl
         return impl
 
     def _eval(self, leaves, table):
@@ -194,7 +204,9 @@ class _Mapper:
         n = len(leaves)
         full = _FULL[n]
         c0 = c1 = None
-        for pv in self._phase_vectors(leaves):
+        zero = _ZEROS[n]
+        cheap = tuple([1 if best_[l][1].af < best_[l][0].af else 0 for l in leaves])
+        for pv in ((zero, cheap) if cheap != zero else (zero,)):
             lf = 0.0
             la = 0
             for l, p in zip(leaves, pv):
@@ -603,6 +615,7 @@ class _Mapper:
 
 _FLIP: dict = {}
 _FULL = [(1 << (1 << n)) - 1 for n in range(17)]
+_ZEROS = [(0,) * n for n in range(17)]
 
 
 def flip_inputs(table: int, n: int, phases) -> int:
@@ -623,6 +636,24 @@ def flip_inputs(table: int, n: int, phases) -> int:
                 r = ((r & m) >> sh) | ((r & ~m & full) << sh)
         _FLIP[key] = r
     return r
+
+
+def _is_tree(impl: Impl, n: int) -> bool:
+    """Whether every leaf and gate of ``impl`` feeds at most one gate (a gate
+    may take the same signal on several inputs: an inverter from a NAND2).
+
+    Only such networks keep a hazard-free cover hazard-free: they are the
+    cover's own AND/OR tree rewritten by De Morgan's laws and associativity,
+    which preserve hazards (S. H. Unger, "Asynchronous Sequential Switching
+    Circuits", 1969), while a network that uses a signal twice adds a
+    reconvergent path that can glitch.
+    """
+    users = [0] * (n + len(impl.gates))
+    for cell, args in impl.gates:
+        for a in set(args):
+            if a >= 0:
+                users[a] += 1
+    return all(u <= 1 for u in users)
 
 
 def _symmetric(func) -> bool:
