@@ -142,10 +142,15 @@ class Build:
 
     # -- derived views ----------------------------------------------------
     def part(self, ref: str) -> PartInstance:
-        for p in self.parts:
-            if p.ref == ref:
-                return p
-        raise KeyError(ref)
+        # an index made on first use, made again when parts were added or renamed
+        idx = self.__dict__.get("_part_index")
+        p = idx.get(ref) if idx is not None else None
+        if p is None or p.ref != ref or len(idx) != len(self.parts):
+            idx = self.__dict__["_part_index"] = {q.ref: q for q in self.parts}
+            p = idx.get(ref)
+            if p is None:
+                raise KeyError(ref)
+        return p
 
     def part_def(self, ref_or_id: str):
         pid = ref_or_id

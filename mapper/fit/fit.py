@@ -126,7 +126,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = F
                      f"{label}{limit} cuts, {passes} passes", target)
 
     # re-map the mapped logic: a second subject graph built from the first cover
-    if effort > 0:
+    if effort > 0 and not big:
         m = best_mapping
         for _ in range(2):
             if not spend():
