@@ -900,6 +900,7 @@ class _Parser:
             if self.kind() == "*":
                 self.take()
                 sens = "*"
+                self.expect(")", "')' closing '@(*'")
             else:
                 events = []
                 while True:

@@ -234,7 +234,7 @@ def _latch_reference(seq, init=0, low=False):
     return out
 
 
-@pytest.mark.parametrize("name,kind", [("d_latch_star.v", "ah"), ("d_latch_list.v", "ah"),
+@pytest.mark.parametrize("name,kind", [("d_latch_star.v", "ah"), ("d_latch_paren_star.v", "ah"), ("d_latch_list.v", "ah"),
                                        ("d_latch_low.v", "al")])
 def test_d_latch(name, kind):
     n = read_design(VALID / name)
