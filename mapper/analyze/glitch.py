@@ -84,6 +84,8 @@ __all__ = [
     "MAX_TRANSITIONS",
     "BUILD_MAX_TRANSITIONS",
     "BUILD_MAX_WORK",
+    "BUILD_WORK_PER_CELL",
+    "path_mask",
     "TIMING_MAX_WORK",
     "WATCH_ROLES",
 ]
@@ -101,8 +103,12 @@ MAX_TRANSITIONS = 20000
 TIMING_MAX_WORK = 5_000_000
 #: input changes examined for the figures in every build report
 BUILD_MAX_TRANSITIONS = 1024
-#: cell evaluations allowed for the figures in every build report (keeps big builds quick)
+#: cell evaluations allowed for the figures in every build report (keeps big builds quick) ...
 BUILD_MAX_WORK = 80_000
+#: ... or this many per cell of the build when that is more: the search's time then grows in step
+#: with the build's setup (a timed run of one change on a 20k-cell build is some 100k-300k evaluations,
+#: so a big build gets at least one change's uniform-delay runs; the share of changes examined shrinks)
+BUILD_WORK_PER_CELL = 20
 #: storage-cell input roles where a glitch is an error
 WATCH_ROLES = ("clock", "enable", "preset", "clear")
 #: hazards listed at most (the count of all is given)
@@ -324,8 +330,34 @@ class _Engine:
             for j, n in enumerate(ins):
                 idx |= vals[n] << j
             vals[self.gout[k]] = (self.gtab[k] >> idx) & 1
-        if len(self._steady) < 4096:
+        self._keep(state, vals)
+        return vals
+
+    def _keep(self, state: int, vals: list) -> None:
+        # at most 4096 states, and at most about 4 million values in all (memory on big builds)
+        if len(self._steady) < min(4096, 1 + 4_000_000 // max(1, len(vals))):
             self._steady[state] = vals
+
+    def steady_after(self, state: int, changed: tuple) -> list:
+        """Net values after the inputs ``changed`` flip from ``state`` (only their cone is evaluated)."""
+        after = state
+        for i in changed:
+            after ^= 1 << i
+        v = self._steady.get(after)
+        if v is not None:
+            return v
+        vals = list(self.steady(state))
+        for i in changed:
+            vals[self.input_ids[i]] = (after >> i) & 1
+        cone = self.cone(changed)
+        self.work += len(cone)
+        gin, gout, gtab = self.gin, self.gout, self.gtab
+        for k in cone:
+            idx = 0
+            for j, n in enumerate(gin[k]):
+                idx |= vals[n] << j
+            vals[gout[k]] = (gtab[k] >> idx) & 1
+        self._keep(after, vals)
         return vals
 
     def cone(self, changed: tuple) -> list:
@@ -415,66 +447,120 @@ class _Engine:
         return out
 
     # -- timed simulation ---------------------------------------------------
-    def simulate(self, vals0: list, changes: list, delay: list, look: set) -> dict:
+    def live_fanout(self, tern: list, changed: tuple) -> dict:
+        """Fan-out lists cut down to the cells that can move in a timed run of this change.
+
+        Only cells whose output is unknown (X) in the three-valued values
+        ``tern`` can move at all: a known output holds for every delay, so
+        the cells left out would only be evaluated to no effect and the
+        events of a run are the same without them.  Returns net id -> cell
+        indices, as :attr:`fanout`.
+        """
+        gout = self.gout
+        live = {k for k in self.cone(changed) if tern[gout[k]] == _X}
+        fo: dict = {}
+        fanout = self.fanout
+        for n in [self.input_ids[i] for i in changed] + [gout[k] for k in live]:
+            ks = [k for k in fanout.get(n, ()) if k in live]
+            if ks:
+                fo[n] = ks
+        return fo
+
+    def simulate(self, vals0: list, changes: list, delay: list, look: set, fanout: dict | None = None,
+                 max_work: int | None = None) -> dict | None:
         """Transport-delay event simulation of input ``changes`` [(net id, value)] at time 0.
 
-        Returns net id -> list of ``(time, value, path mask, source net id)``
-        for the nets in ``look`` (changes of value only).
+        Returns net id -> list of ``(time, value, path, source net id)``
+        for the nets in ``look`` (changes of value only).  ``path`` is the
+        chain of cells the change went through, last first, as nested pairs
+        ``(cell index, rest)`` ending in ``None`` (:func:`path_mask` turns
+        it into a bit mask); building masks on the way would cost a big-integer
+        operation per event.  ``fanout`` (see :meth:`live_fanout`) limits the
+        cells simulated.  A run that would evaluate more than ``max_work``
+        cells is given up: it returns ``None`` (its work still counts).
         """
         cur = list(vals0)
-        last: dict = {}
-        heap = []
-        seq = 0
-        for n, v in changes:
-            heap.append((0.0, seq, n, v, 0, n))
-            seq += 1
-        heapq.heapify(heap)
+        last = list(vals0)  # the value each net was last scheduled to take
+        # events wait in buckets per time; the heap holds the distinct times only
+        buckets: dict = {}
+        times: list = []
+        if changes:
+            buckets[0.0] = [(n, v, None, n) for n, v in changes]
+            times.append(0.0)
         waves = {n: [] for n in look}
+        wget = waves.get
         work = 0
-        fanout = self.fanout
+        if fanout is None:
+            fanout = self.fanout
+        fget = fanout.get
         gin, gout, gtab = self.gin, self.gout, self.gtab
         pop, push = heapq.heappop, heapq.heappush
-        while heap:
-            t0 = heap[0][0]
+        while times:
+            t0 = pop(times)
             limit = t0 + max(abs(t0), 1e-15) * 1e-9
+            batch = [(t0, buckets.pop(t0))]
+            while times and times[0] <= limit:
+                t = pop(times)
+                batch.append((t, buckets.pop(t)))
             touched: dict = {}
-            while heap and heap[0][0] <= limit:
-                t, _, n, v, form, src = pop(heap)
-                if cur[n] == v:
-                    continue
-                old = cur[n]
-                cur[n] = v
-                if n in waves:
-                    waves[n].append((t, v, form, src))
-                for k in fanout.get(n, ()):
-                    if k in touched:
-                        touched[k].append((n, old, form, src))
-                    else:
-                        touched[k] = [(n, old, form, src)]
+            for t, events in batch:
+                for ev in events:
+                    n, v, form, src = ev
+                    old = cur[n]
+                    if old == v:
+                        continue
+                    cur[n] = v
+                    w = wget(n)
+                    if w is not None:
+                        w.append((t, v, form, src))
+                    ks = fget(n)
+                    if ks is None:
+                        continue
+                    cause = (n, old, form, src)
+                    for k in ks:
+                        ch = touched.get(k)
+                        if ch is None:
+                            touched[k] = [cause]
+                        else:
+                            ch.append(cause)
             work += len(touched)
+            if max_work is not None and work > max_work:
+                self.work += work
+                return None
             for k, ch in touched.items():
                 o = gout[k]
                 ins = gin[k]
+                tab = gtab[k]
                 idx = 0
-                for j, x in enumerate(ins):
+                j = 0
+                for x in ins:
                     idx |= cur[x] << j
-                nv = (gtab[k] >> idx) & 1
-                if nv == last.get(o, cur[o]):
+                    j += 1
+                nv = (tab >> idx) & 1
+                if nv == last[o]:
                     continue
                 cause = ch[0]
                 if len(ch) > 1:
                     # the input whose change this output change needs (reverting it alone undoes it)
                     for c in ch:
-                        keep = cur[c[0]]
-                        cur[c[0]] = c[1]
-                        alt = self._eval(k, cur)
-                        cur[c[0]] = keep
-                        if alt != nv:
+                        n0, old0 = c[0], c[1]
+                        a = 0
+                        j = 0
+                        for x in ins:
+                            a |= (old0 if x == n0 else cur[x]) << j
+                            j += 1
+                        if (tab >> a) & 1 != nv:
                             cause = c
                             break
                 last[o] = nv
-                push(heap, (t0 + delay[k], seq, o, nv, cause[2] | (1 << k), cause[3]))
-                seq += 1
+                t = t0 + delay[k]
+                ev = (o, nv, (k, cause[2]), cause[3])
+                b = buckets.get(t)
+                if b is None:
+                    buckets[t] = [ev]
+                    push(times, t)
+                else:
+                    b.append(ev)
         self.work += work + len(self.gin) // 4 + 1  # and the copies made per run
         return waves
 
@@ -506,6 +592,20 @@ def _bits(mask: int):
         low = mask & -mask
         yield low.bit_length() - 1
         mask ^= low
+
+
+def path_mask(path) -> int:
+    """Bit mask of the cells on a path as :meth:`_Engine.simulate` records it."""
+    ks = []
+    while path is not None:
+        k, path = path
+        ks.append(k)
+    if not ks:
+        return 0
+    bits = bytearray((ks[0] >> 3) + 1)  # the last cell has the highest (topological) index
+    for k in ks:
+        bits[k >> 3] |= 1 << (k & 7)
+    return int.from_bytes(bits, "little")
 
 
 def _transitions(n: int, sizes: tuple, limit: int, seed: int):
@@ -576,6 +676,7 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
     not_shown = 0
     checked = 0
     stopped = False
+    partial = None
     for state, changed in trans:
         if max_work is not None and eng.work > max_work:
             stopped = True
@@ -586,10 +687,10 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         for i in changed:
             after ^= 1 << i
         v0 = eng.steady(state)
-        v1 = eng.steady(after)
         cands = [m for m in eng.look if tern[m] == _X and cnt.get(m, 0) >= 2]
         if not cands:
             continue
+        v1 = eng.steady_after(state, changed)
         changed_ids = {eng.input_ids[i] for i in changed}
         # paths of every net in question, taken in turn so each net gets its share of the corners
         per_net = [eng.paths(m, tern, changed_ids, paths_per_net) for m in cands]
@@ -601,8 +702,13 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         corners = [("min", 0), ("max", 0)] + [(kind, p) for p in masks for kind in ("early", "late")]
         changes = [(eng.input_ids[i], v1[eng.input_ids[i]]) for i in changed]
         look = set(cands)
+        fanout = eng.live_fanout(tern, changed)
         found: dict = {}
+        done = 0
         for kind, p in corners:
+            if max_work is not None and eng.work > max_work:
+                stopped = True
+                break
             delay = eng.dmax[:] if kind in ("max", "early") else eng.dmin[:]
             if kind == "early":
                 for k in _bits(p):
@@ -610,7 +716,12 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
             elif kind == "late":
                 for k in _bits(p):
                     delay[k] = eng.dmax[k]
-            waves = eng.simulate(v0, changes, delay, look)
+            waves = eng.simulate(v0, changes, delay, look, fanout,
+                                 None if max_work is None else max(0, max_work - eng.work))
+            if waves is None:
+                stopped = True
+                break
+            done += 1
             runs += 1
             for m in cands:
                 ev = waves[m]
@@ -622,12 +733,16 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
                 else:
                     continue
                 (t1, _, f1, s1), (t2, _, f2, s2) = ev[0], ev[1]
+                f1, f2 = path_mask(f1), path_mask(f2)
                 key = (m, hk, frozenset({(f1, s1), (f2, s2)}))
                 if key not in found:
                     found[key] = ((f1, s1), (f2, s2), t2 - t1)
-        static_cands = {m for m in cands if v0[m] == v1[m]}
-        shown = {k[0] for k in found}
-        not_shown += len(static_cands - shown)
+        if done < len(corners):
+            partial = {"delay_corners_run": done, "delay_corners": len(corners)}
+        else:
+            static_cands = {m for m in cands if v0[m] == v1[m]}
+            shown = {k[0] for k in found}
+            not_shown += len(static_cands - shown)
         cond_bits = [i for i in range(n) if i not in changed]
         cond = 0
         for b, i in enumerate(cond_bits):
@@ -686,10 +801,30 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         "hazards_total": len(hazards),
         "errors": errors,
         "transitions": {"checked": checked, "total": total, "exhaustive": exhaustive and not stopped,
-                        "stopped_early": stopped, "cell_evaluations": eng.work,
+                        "stopped_early": stopped, "cell_evaluations": eng.work, "work_budget": max_work,
+                        "last_change_partial": partial,
                         "sizes": list(sizes), "timed_runs": runs, "not_shown": not_shown,
                         "seed": None if exhaustive else seed},
     }
+
+
+def _sample_text(tr: dict) -> str:
+    """What a glitch search covered, in one sentence with its counts."""
+    total = tr["total"]
+    total_s = f"{total:,}" if total < 10 ** 12 else f"{total:.3g}"
+    if tr["exhaustive"]:
+        text = f"all {total_s} input changes"
+    else:
+        how = "in random order" if tr.get("seed") is None else "drawn at random"
+        text = f"{tr['checked']:,} of {total_s} input changes {how}"
+        if tr["stopped_early"]:
+            text += f", until the work budget of {tr['work_budget']:,} cell evaluations ran out"
+    text += f"; {tr['timed_runs']:,} timed simulations"
+    part = tr.get("last_change_partial")
+    if part:
+        text += (f"; the last change only at {part['delay_corners_run']} of its "
+                 f"{part['delay_corners']} delay corners")
+    return text
 
 
 def _conditions(conds: list, names: list, exhaustive: bool) -> list:
@@ -708,11 +843,14 @@ def _conditions(conds: list, names: list, exhaustive: bool) -> list:
 
 def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
                   seed: int = 0, min_fraction: float | None = None,
-                  max_work: int | None = BUILD_MAX_WORK) -> dict:
+                  max_work: int | None = BUILD_MAX_WORK, work_per_cell: float = BUILD_WORK_PER_CELL) -> dict:
     """Glitch figures of a build for ``build.timing``.
 
     Gate builds: :func:`find_glitches` on the build's cells, giving
     ``hazards``, ``hazards_total``, ``glitch_errors`` and ``glitch_search``.
+    The work budget is ``max_work`` cell evaluations or ``work_per_cell``
+    times the number of cells, whichever is more (``None``: no budget);
+    ``glitch_search["sample"]`` says in words what the search covered.
     Relay builds: ``floating`` (:func:`relay_transfers`) and the
     break-before-make glitches of :func:`relay_glitches`.
     """
@@ -726,9 +864,12 @@ def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_T
             out["glitch_search"] = rg["search"]
         return out
     circ = TimedCircuit.from_build(build, min_fraction)
+    if max_work is not None:
+        max_work = max(max_work, int(work_per_cell * len(circ.gates)))
     res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed, max_work=max_work)
     search = dict(res["transitions"])
     search["min_delay"] = "typical figure" if min_fraction is None else f"{min_fraction:g} of the maximum"
+    search["sample"] = _sample_text(search)
     return {"hazards": res["hazards"], "hazards_total": res["hazards_total"],
             "glitch_errors": res["errors"], "glitch_search": search}
 
