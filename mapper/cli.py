@@ -205,8 +205,12 @@ def cmd_build(args):
               f"{h['hazards']} against {h['hazards_plain']}")
     print(f"design  {s['design']}  on target {s['target']}   proof: {s['verified']}")
     print(f"parts   {s['parts_total']}  (" + ", ".join(f"{k} ×{v}" for k, v in s["parts"].items()) + ")")
-    print(f"cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
-    print(f"slots   {s['slots_used']} used of {s['slots_available']}  ({s['spare_slots']} spare)")
+    if s["cells"]:
+        print(f"cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
+    if "poles_used" in s and not s["cells"]:
+        print(f"poles   {s['poles_used']} used of {s['poles_available']}  ({s['spare_slots']} spare)")
+    else:
+        print(f"slots   {s['slots_used']} used of {s['slots_available']}  ({s['spare_slots']} spare)")
     if s["support_parts"]:
         print("support " + ", ".join(f"{k} ×{v}" for k, v in s["support_parts"].items()))
     print(f"delay   {_si(s['delay_s'], 's')} worst path (maximum figures)")
