@@ -12,7 +12,14 @@ of the plain and the chosen hazard-free build and the hazards left.
 
 The fit itself is not timed here (bench_fit.py does that).
 
+``--scale`` instead times the two analyses every build runs
+(:func:`static_timing` and :func:`glitch_report` with its default work
+budget) on ariths-gen array multipliers of about 1k, 10k and (with
+``--max-gates 120000``) 100k gates built on nand-only, and prints what the
+budgeted glitch search covered.
+
 Run: ``.venv/bin/python bench/bench_timing.py [--quick] [--targets T,...] [--changes N] [--hazard-free] [--memory]``
+     ``.venv/bin/python bench/bench_timing.py --scale [--max-gates N]``
 """
 from __future__ import annotations
 
@@ -29,7 +36,7 @@ sys.path.insert(0, str(ROOT / "tests"))
 import generated  # noqa: E402
 
 from mapper import flow  # noqa: E402
-from mapper.analyze.glitch import TimedCircuit, find_glitches  # noqa: E402
+from mapper.analyze.glitch import TimedCircuit, find_glitches, glitch_report  # noqa: E402
 from mapper.analyze.timing import static_timing  # noqa: E402
 from mapper.read import read_design  # noqa: E402
 
@@ -59,6 +66,36 @@ def _hz(x):
     return f"{x / 1e6:.3g}M" if x else "-"
 
 
+SCALE = [("arr", 13), ("arr", 41), ("arr", 129)]  # about 1k, 10k and 100k gates
+
+
+def scale(max_gates: int, target_name: str = "nand-only") -> None:
+    """Seconds of the analyses in every build on big builds (the fit is not timed)."""
+    import resource
+
+    from mapper.fit.fit import fit_gates
+
+    target = flow.load_target(target_name)
+    print(f"{'design':<10}{'gates':>8}{'cells':>8}{'timing_s':>10}{'glitch_s':>10}{'hazards':>9}"
+          f"{'peak_MB':>9}  glitch search")
+    with tempfile.TemporaryDirectory() as tmp:
+        for kind, width in SCALE:
+            d = read_design(generated.make(kind, width, tmp))
+            gates = len(d.nodes) - len(d.inputs)
+            if gates > max_gates:
+                break
+            b = fit_gates(d, target)
+            t0 = time.perf_counter()
+            sta = static_timing(b)
+            t1 = time.perf_counter()
+            gl = glitch_report(b)
+            t2 = time.perf_counter()
+            assert sta["delay_s"] > 0
+            peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+            print(f"{kind}{width:<7}{gates:>8}{len(b.cells):>8}{t1 - t0:>10.2f}{t2 - t1:>10.2f}"
+                  f"{gl['hazards_total']:>9}{peak:>9.0f}  {gl['glitch_search']['sample']}", flush=True)
+
+
 def main(argv=None):
     ap = argparse.ArgumentParser()
     ap.add_argument("--quick", action="store_true")
@@ -66,7 +103,12 @@ def main(argv=None):
     ap.add_argument("--changes", type=int, default=4000, help="input changes examined per build")
     ap.add_argument("--hazard-free", action="store_true", help="also build with consensus terms")
     ap.add_argument("--memory", action="store_true", help="also measure peak memory of the glitch search")
+    ap.add_argument("--scale", action="store_true", help="time the analyses of every build on big builds")
+    ap.add_argument("--max-gates", type=int, default=20_000, help="with --scale: largest design")
     args = ap.parse_args(argv)
+    if args.scale:
+        scale(args.max_gates)
+        return
     head = (f"{'design':<12}{'target':<10}{'cells':>6}{'delay_s':>9}{'clk_Hz':>9}{'sta_s':>8}"
             f"{'changes':>9}{'all':>5}{'runs':>7}{'glitch_s':>9}{'MiB':>6}{'hazards':>8}{'errors':>7}")
     if args.hazard_free:

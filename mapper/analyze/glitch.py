@@ -430,9 +430,13 @@ class _Engine:
         return vals, cnt
 
     def paths(self, net: int, tern: list, changed_ids: set, limit: int) -> list:
-        """Up to ``limit`` paths (gate bit masks) from changed inputs to ``net`` through unknown nets."""
+        """Up to ``limit`` paths from changed inputs to ``net`` through unknown nets.
+
+        Each path is a chain of cell indices as :meth:`simulate` records it
+        (here first cell outermost); :func:`path_mask` gives its bit mask.
+        """
         out = []
-        stack = [(net, 0)]
+        stack = [(net, None)]
         while stack and len(out) < limit:
             n, mask = stack.pop()
             if n in changed_ids:
@@ -443,7 +447,7 @@ class _Engine:
                 continue
             for m in dict.fromkeys(self.gin[k]):
                 if tern[m] == _X:
-                    stack.append((m, mask | (1 << k)))
+                    stack.append((m, (k, mask)))
         return out
 
     # -- timed simulation ---------------------------------------------------
@@ -586,12 +590,24 @@ def _sec(x: float) -> float:
     return round(x, 15)
 
 
+_BYTE_BITS = [tuple(j for j in range(8) if (v >> j) & 1) for v in range(256)]
+
+
 def _bits(mask: int):
     """Indices of the set bits of ``mask``, lowest first."""
-    while mask:
-        low = mask & -mask
-        yield low.bit_length() - 1
-        mask ^= low
+    if mask.bit_length() <= 1024:
+        while mask:
+            low = mask & -mask
+            yield low.bit_length() - 1
+            mask ^= low
+        return
+    # a wide mask (a path deep in a big build): byte by byte, not a big-integer operation per bit
+    data = mask.to_bytes((mask.bit_length() + 7) // 8, "little")
+    for i, v in enumerate(data):
+        if v:
+            base = i << 3
+            for j in _BYTE_BITS[v]:
+                yield base + j
 
 
 def path_mask(path) -> int:
@@ -602,7 +618,7 @@ def path_mask(path) -> int:
         ks.append(k)
     if not ks:
         return 0
-    bits = bytearray((ks[0] >> 3) + 1)  # the last cell has the highest (topological) index
+    bits = bytearray((max(ks) >> 3) + 1)
     for k in ks:
         bits[k >> 3] |= 1 << (k & 7)
     return int.from_bytes(bits, "little")
@@ -698,7 +714,7 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
         for rank in range(paths_per_net):
             for ps in per_net:
                 if rank < len(ps) and len(masks) < max_paths:
-                    masks.setdefault(ps[rank], None)
+                    masks.setdefault(path_mask(ps[rank]), None)
         corners = [("min", 0), ("max", 0)] + [(kind, p) for p in masks for kind in ("early", "late")]
         changes = [(eng.input_ids[i], v1[eng.input_ids[i]]) for i in changed]
         look = set(cands)
