@@ -14,7 +14,12 @@ The published methods this follows:
   Brayton, "Improvements to technology mapping for LUT-based FPGAs", IEEE
   TCAD 26(2), 2007), where every node is matched in both phases and the
   phase each signal is built in is chosen by the cover itself (an inverter
-  is one more candidate for a phase), not one gate at a time.
+  is one more candidate for a phase), not one gate at a time;
+* structural choices (Chatterjee, Mishchenko, Brayton, Wang, Kam, "Reducing
+  structural bias in technology mapping", ICCAD 2005) --
+  :mod:`mapper.fit.choices`: other shapes of exclusive-ORs and full adders
+  whose cuts join the original node's, and whole full adders switched to a
+  shared shape together during exact area recovery.
 
 The result is a list of cell uses over named nets (:class:`CellUse`);
 :mod:`mapper.fit.pack` places them in slots of parts.
@@ -503,7 +508,11 @@ class _Mapper:
                 for v, p in members:
                     u, q = lit_of[v] >> 1, p ^ (lit_of[v] & 1)
                     alt = self.best[u][q]
+                    if alt is None:
+                        break
                     new[(v, p)] = _Choice(wire, ((u, q),), False, alt.af, alt.arr)
+                if len(new) != len(members):
+                    continue
                 freed, paid = swap(members, new)
                 swap(members, old)
                 if freed - paid > best_gain:
