@@ -507,3 +507,80 @@ def test_hazard_free_build_is_never_worse_than_plain(name, target, data):
     assert h["chosen"] in ("plain", "consensus")
     if h["chosen"] == "plain":
         assert h["extra_parts"] == 0 and h["hazards"] == h["hazards_plain"] and "note" in h
+
+
+def test_nets_known_in_three_valued_simulation_never_move(tmp_path):
+    # Eichelberger (IBM J. R&D 1965): a net with a known value when the changing inputs are set unknown
+    # holds that value for every delay.  The search leaves those cells out of its timed runs, so this is
+    # checked against the reference simulation above (whole waveforms, random delays in the ranges), and
+    # the cut-down runs must give the same events as full ones.  Circuit: ariths-gen 3x3 array multiplier.
+    from generated import make
+    from mapper.analyze.glitch import _Engine, _X, path_mask
+    d = read_design(make("arr", 3, tmp_path))
+    circ = TimedCircuit.from_netlist(d, 7 * NS, 23 * NS)
+    eng = _Engine(circ)
+    rng = random.Random(5)
+    n = len(circ.inputs)
+    known_seen = 0
+    for _ in range(12):
+        s0, j = rng.getrandbits(n), rng.randrange(n)
+        tern, _ = eng.ternary(s0, (j,))
+        dv = [rng.uniform(g.dmin, g.dmax) for g in circ.gates]
+        waves = reference_waves(circ, s0, s0 ^ (1 << j), dv)
+        for g in circ.gates:
+            if tern[eng.ids[g.out]] != _X:
+                known_seen += 1
+                assert len(waves[g.out]) == 1, (g.out, s0, j)
+        v0, v1 = eng.steady(s0), eng.steady_after(s0, (j,))
+        assert v1 == eng.steady(s0 ^ (1 << j))
+        changes = [(eng.input_ids[j], v1[eng.input_ids[j]])]
+        look = set(eng.look)
+        live = eng.live_fanout(tern, (j,))
+        for delay in (eng.dmin, eng.dmax, [x * (1 + 0.5 * rng.random()) for x in eng.dmin]):
+            full = eng.simulate(v0, changes, delay, look)
+            cut = eng.simulate(v0, changes, delay, look, live)
+            for m in look:
+                assert [(t, v, path_mask(p), src) for t, v, p, src in full[m]] == \
+                       [(t, v, path_mask(p), src) for t, v, p, src in cut[m]]
+    assert known_seen > 0
+
+
+def test_budget_inside_a_change_reports_real_hazards_and_says_what_it_did(tmp_path):
+    # ariths-gen 3x3 array multiplier (independent generator): the full search against a budget that runs
+    # out in the middle of a change's delay corners.  What the budgeted search reports must be among what
+    # the full search reports (every hazard was seen at a concrete delay vector), the work may pass the
+    # budget by at most the three-valued pass of one change, and the counts are stated.
+    from generated import make
+    d = read_design(make("arr", 3, tmp_path))
+    circ = TimedCircuit.from_netlist(d, 7 * NS, 23 * NS)
+    full = find_glitches(circ, max_work=None)
+    assert full["transitions"]["exhaustive"] and full["transitions"]["last_change_partial"] is None
+    ref = reported(full, circ)
+    partial_seen = False
+    for budget in (300, 1000, 3000, 10000):
+        res = find_glitches(circ, max_work=budget)
+        tr = res["transitions"]
+        assert tr["stopped_early"] and tr["work_budget"] == budget
+        assert tr["cell_evaluations"] <= budget + 2 * len(circ.gates)
+        got = reported(res, circ)
+        assert set(got) <= set(ref)
+        if tr["last_change_partial"]:
+            partial_seen = True
+            part = tr["last_change_partial"]
+            assert 0 <= part["delay_corners_run"] < part["delay_corners"]
+    assert partial_seen
+
+
+def test_build_report_budget_grows_with_the_build(tmp_path):
+    # the glitch figures of every build: budget = max(max_work, work_per_cell x cells), stated in words
+    # with the counts.  Circuit: ariths-gen 4-bit ripple-carry adder (independent generator) on gates-74.
+    from generated import make
+    b = flow.fit(read_design(make("rca", 4, tmp_path)), load_target("gates-74"))
+    r = glitch_report(b, max_work=10, work_per_cell=50)
+    g = r["glitch_search"]
+    assert g["work_budget"] == 50 * len(TimedCircuit.from_build(b).gates)
+    assert g["stopped_early"] and not g["exhaustive"]
+    assert f"{g['checked']:,} of {g['total']:,} input changes" in g["sample"]
+    assert f"{g['timed_runs']:,} timed simulations" in g["sample"]
+    r = glitch_report(b, max_work=None, max_transitions=4096)
+    assert r["glitch_search"]["sample"].startswith(f"all {r['glitch_search']['total']:,} input changes")

@@ -200,3 +200,32 @@ def test_relay_build_keeps_relay_timing(tmp_path):
     assert static_timing(b) == {}
     r = b.target.parts[b.parts[0].part_id].relay
     assert b.timing["delay_s"] >= r.operate_time.value
+
+
+@pytest.mark.parametrize("target", ["gates-74", pytest.param("nand-only", marks=pytest.mark.skipif(
+    exact_table_missing(), reason="mapper/data/exact_nand2.json (NAND2 exact table) not generated yet"))])
+def test_part_index_gives_the_builds_own_pins(target, tmp_path):
+    # The timing pass looks parts and pins up in tables made once (PartIndex); they must give exactly
+    # what the build's own (list-searching) methods give for every pin of every cell, and the pins of
+    # the 74HC00 slots must be the generic datasheet's.  Circuit: ariths-gen 4-bit ripple-carry adder
+    # (independent generator).
+    from generated import make
+    from mapper.analyze.timing import PartIndex
+    b = flow.fit(read_design(make("rca", 4, tmp_path)), load_target(target))
+    ix = PartIndex(b)
+    for c in b.cells:
+        assert ix.part_def(c.part_ref) is b.part_def(c.part_ref)
+        assert ix.part_id(c.part_ref) == b.part(c.part_ref).part_id
+        for pin in c.pins:
+            assert ix.pin_of(c, pin) == b.pin_of(c, pin)
+            if ix.part_id(c.part_ref) == "74HC00" and pin in HC00_PINS:
+                assert ix.pin_of(c, pin) in HC00_PINS[pin]
+    for p in b.parts:
+        assert ix.part_def(p.part_id) is b.part_def(p.part_id)
+    # every hop of every reported path carries the same pins as the build says
+    by_out = {c.pins[b.target.cells[c.cell].output]: c for c in b.cells}
+    for path in b.timing["paths"]:
+        for h in path["worst_path"] + path["best_path"]:
+            c = by_out[h["net"]]
+            assert h["from_pin_number"] == b.pin_of(c, h["from_pin"])
+            assert h["to_pin_number"] == b.pin_of(c, h["to_pin"])
