@@ -108,7 +108,7 @@ BUILD_MAX_WORK = 80_000
 #: ... or this many per cell of the build when that is more: the search's time then grows in step
 #: with the build's setup (a timed run of one change on a 20k-cell build is some 100k-300k evaluations,
 #: so a big build gets at least one change's uniform-delay runs; the share of changes examined shrinks)
-BUILD_WORK_PER_CELL = 20
+BUILD_WORK_PER_CELL = 16
 #: storage-cell input roles where a glitch is an error
 WATCH_ROLES = ("clock", "enable", "preset", "clear")
 #: hazards listed at most (the count of all is given)
@@ -679,6 +679,14 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
     clear).  ``max_work`` bounds the cell evaluations; the search stops after
     the change that passes it and says how many changes it examined.
     """
+    from .timing import paused_gc
+
+    with paused_gc():
+        return _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths)
+
+
+def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths) -> dict:
+    """The work of :func:`find_glitches`."""
     eng = _Engine(circ)
     n = len(circ.inputs)
     sizes = (1, 2) if multi else (1,)
@@ -879,7 +887,10 @@ def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_T
             out["hazards_total"] = len(rg["hazards"])
             out["glitch_search"] = rg["search"]
         return out
-    circ = TimedCircuit.from_build(build, min_fraction)
+    from .timing import paused_gc
+
+    with paused_gc():
+        circ = TimedCircuit.from_build(build, min_fraction)
     if max_work is not None:
         max_work = max(max_work, int(work_per_cell * len(circ.gates)))
     res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed, max_work=max_work)

@@ -50,9 +50,12 @@ Everything is iterative over a topological order of the cells.
 """
 from __future__ import annotations
 
+import contextlib
+import gc
 import logging
 
-__all__ = ["static_timing", "cell_delay", "net_loads", "PartIndex", "LOAD_RATING", "SETUP_RATING", "HOLD_RATING"]
+__all__ = ["static_timing", "cell_delay", "net_loads", "PartIndex", "paused_gc", "LOAD_RATING", "SETUP_RATING",
+           "HOLD_RATING"]
 
 log = logging.getLogger(__name__)
 
@@ -65,6 +68,24 @@ HOLD_RATING = "hold-time"
 _RAILS = ("VCC", "GND")
 _EDGE = {"re": "rise", "ah": "rise", "fe": "fall", "al": "fall"}
 _CLOCK_ROLES = ("clock", "enable")
+
+
+@contextlib.contextmanager
+def paused_gc():
+    """Python's cycle collector off for the block (and back on after, if it was on).
+
+    The analyses make millions of small tuples and dicts and no reference
+    cycles; each automatic collection walks every object alive, so on a big
+    build they took more than half the time.  Reference counting still frees
+    everything as usual.
+    """
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
 
 
 class PartIndex:
@@ -492,6 +513,12 @@ def static_timing(build) -> dict:
     A build without logic cells (a relay build) gives an empty dict, so the
     relay timing already in ``build.timing`` stands.
     """
+    with paused_gc():
+        return _static_timing(build)
+
+
+def _static_timing(build) -> dict:
+    """The work of :func:`static_timing`."""
     if not build.cells:
         if build.contacts or build.coils:
             return {}
