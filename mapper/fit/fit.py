@@ -111,7 +111,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = F
             dual_lib = _library(_dual_target(target), frozenset())
             dual_subject = subject_graph(dual_design, keep, trees=trees)
             subjects.append((dual_design, dual_subject, dual_lib, "dual "))
-            consider(map_logic(dual_design, dual_lib, subject=dual_subject), "dual", target)
+            consider(_undual(map_logic(dual_design, dual_lib, subject=dual_subject)), "dual", target)
     except RuntimeError as exc:
         raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
     subject = subjects[0][1]
@@ -122,8 +122,8 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = F
         for subj_design, subj, sub_lib, label in subjects:
             if not spend():
                 break
-            consider(map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes),
-                     f"{label}{limit} cuts, {passes} passes", target)
+            m = map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes)
+            consider(_undual(m) if label else m, f"{label}{limit} cuts, {passes} passes", target)
 
     # re-map the mapped logic: a second subject graph built from the first cover
     if effort > 0 and not big:
@@ -213,6 +213,20 @@ def dual_netlist(design: Netlist):
     for o in design.outputs:
         n.add_output(o)
     return n
+
+
+def _undual(mapping: Mapping) -> Mapping:
+    """A mapping of the dual design, read as a build of the design: the same
+    gates, with the supply rails swapped (the dual of constant 1 is 0)."""
+    swap = {"VCC": "GND", "GND": "VCC"}
+
+    def net(x):
+        return swap.get(x, x) if x is not None else None
+
+    cells = [replace(c, args=tuple(net(a) for a in c.args)) for c in mapping.cells]
+    outputs = {o: net(n) for o, n in mapping.outputs.items()}
+    storage = {k: (net(d), net(c)) for k, (d, c) in mapping.storage_nets.items()}
+    return Mapping(cells, outputs, storage, mapping.area, mapping.depth)
 
 
 def _dual_target(target):
