@@ -30,6 +30,7 @@ import logging
 from dataclasses import dataclass, field
 
 from ..logic.aig import AIG, from_netlist
+from ..logic.minimize import min_cover
 from .choices import structural_choices
 from .cuts import enumerate_cuts
 from .library import GND, VCC, CellLibrary, Impl
@@ -94,10 +95,12 @@ class Subject:
 
 
 def subject_graph(design, keep=(), choices: bool = True, trees: bool = False) -> Subject:
-    """The AIG of ``design``'s logic, with structural choices unless ``keep``
-    names nets to keep or ``trees`` asks for tree-shaped matches only (see
-    :func:`map_logic`)."""
-    aig, litmap = from_netlist(design)
+    """The AIG of ``design``'s logic: every node of a few inputs built from
+    its smallest two-level cover (:mod:`mapper.logic.minimize`), with
+    structural choices -- unless ``keep`` names nets to keep or ``trees``
+    asks for tree-shaped matches only (see :func:`map_logic`)."""
+    # kept nets come from hazard-free covers: those nodes keep their own cover
+    aig, litmap = from_netlist(design, cover=None if keep else min_cover)
     boundary = frozenset(litmap[n] >> 1 for n in keep if n in litmap and litmap[n] > 1)
     roots = [lit for _, lit in aig.outputs]
     for latch in aig.latches:

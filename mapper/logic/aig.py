@@ -245,7 +245,7 @@ class AIG:
 
 
 def from_netlist(netlist, aig: AIG | None = None, inputs: dict | None = None,
-                 storage: dict | None = None):
+                 storage: dict | None = None, cover=None):
     """Build (or extend) an AIG from a :class:`~mapper.netlist.Netlist`.
 
     Returns ``(aig, litmap)`` where ``litmap`` maps every net to its literal.
@@ -254,7 +254,8 @@ def from_netlist(netlist, aig: AIG | None = None, inputs: dict | None = None,
     Storage elements become latches whose ``next``/``control`` literals are
     filled in after all logic exists.  ``storage`` (name -> literal) likewise
     gives storage outputs that already exist (shared with another netlist);
-    no latch is created for those.
+    no latch is created for those.  ``cover(func) -> (cubes, phase)`` picks
+    the cover each node is built from (default: :meth:`Function.cover`).
     """
     from ..netlist import Input, Logic, Storage
 
@@ -283,7 +284,7 @@ def from_netlist(netlist, aig: AIG | None = None, inputs: dict | None = None,
             if const is not None:
                 litmap[name] = int(const)
                 continue
-            cubes, phase = node.func.cover()
+            cubes, phase = node.func.cover() if cover is None else cover(node.func)
             litmap[name] = aig.add_cover(cubes, phase, leaves)
         elif isinstance(node, Input) and name not in litmap:
             litmap[name] = aig.add_input(name)
