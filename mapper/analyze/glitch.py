@@ -163,13 +163,15 @@ class TimedCircuit:
         when given.  Storage outputs become inputs; an inverted storage
         output (``QN``) is a zero-delay inverter of ``Q``.
         """
-        from .timing import PartIndex, cell_delay, net_loads
+        from .timing import PartIndex, net_loads
 
         target = build.target
         ix = PartIndex(build)
         loads = net_loads(build, ix)
         gates = []
         inputs = list(build.inputs)
+        taken = set(inputs)
+        shapes: dict = {}
         watch: dict = {}
         members: dict = {}
         for c in build.cells:
@@ -177,8 +179,9 @@ class TimedCircuit:
                 members.setdefault(c.group, []).append(c)
         for key, grp in getattr(build, "storage_groups", {}).items():
             # storage made of gates: its loop is one storage element here, as for the prover
-            if grp.q not in inputs:
+            if grp.q not in taken:
                 inputs.append(grp.q)
+                taken.add(grp.q)
             if grp.control and grp.control not in ("VCC", "GND"):
                 cells = members.get(key, [])
                 watch.setdefault(grp.control, []).append({
@@ -191,8 +194,9 @@ class TimedCircuit:
                 continue
             if cd.storage is not None:
                 q = c.pins.get(cd.output)
-                if q and q not in inputs:
+                if q and q not in taken:
                     inputs.append(q)
+                    taken.add(q)
                 for extra in cd.extra_outputs:
                     if c.pins.get(extra) and q:
                         gates.append(Gate(c.pins[extra], (q,), 0b01, 0.0, 0.0, c.part_ref, c.cell, c.slot,
@@ -208,13 +212,18 @@ class TimedCircuit:
                             "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
                             "pin_number": ix.pin_of(c, p), "role": role})
                 continue
-            t, m = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0), ix)
+            pins = c.pins
+            t, m = ix.cell_delay(c, loads.get(pins.get(cd.output), 0.0))
             lo = t if min_fraction is None else min_fraction * m
+            # pin numbers and truth table are the same for every cell in the same slot of the same part type
+            key = (ix.part_id(c.part_ref), c.slot, c.cell)
+            shape = shapes.get(key)
+            if shape is None:
+                shape = shapes[key] = (tuple((p, ix.pin_of(c, p)) for p in cd.inputs),
+                                       (cd.output, ix.pin_of(c, cd.output)), cd.function.table())
             gates.append(Gate(
-                c.pins[cd.output], tuple(c.pins[p] for p in cd.inputs), cd.function.table(),
-                min(lo, m), m, c.part_ref, c.cell, c.slot,
-                tuple((p, ix.pin_of(c, p)) for p in cd.inputs),
-                (cd.output, ix.pin_of(c, cd.output))))
+                pins[cd.output], tuple([pins[p] for p in cd.inputs]), shape[2],
+                min(lo, m), m, c.part_ref, c.cell, c.slot, shape[0], shape[1]))
         outputs = {o: build.output_nets.get(o, o) for o in build.outputs}
         return cls(build.design, inputs, gates, outputs, watch, {"VCC": 1, "GND": 0})
 
@@ -252,33 +261,27 @@ class _Engine:
     def __init__(self, circ: TimedCircuit):
         self.circ = circ
         ids: dict = {}
-
-        def nid(n):
-            if n not in ids:
-                ids[n] = len(ids)
-            return ids[n]
-
+        nid = ids.setdefault
         for i in circ.inputs:
-            nid(i)
+            nid(i, len(ids))
         for n in circ.constants:
-            nid(n)
+            nid(n, len(ids))
+        raw_in = []
+        raw_out = []
         for g in circ.gates:
-            for n in g.ins:
-                nid(n)
-            nid(g.out)
+            raw_in.append(tuple([nid(n, len(ids)) for n in g.ins]))
+            raw_out.append(nid(g.out, len(ids)))
         for n in list(circ.outputs.values()) + list(circ.watch):
-            nid(n)
+            nid(n, len(ids))
         self.ids = ids
         self.names = list(ids)
         self.input_ids = [ids[i] for i in circ.inputs]
         # topological order of the gates
-        drv = {}
-        for k, g in enumerate(circ.gates):
-            drv[ids[g.out]] = k
+        drv = {o: k for k, o in enumerate(raw_out)}
         indeg = [0] * len(circ.gates)
         users: dict = {}
-        for k, g in enumerate(circ.gates):
-            deps = {ids[n] for n in g.ins if ids[n] in drv}
+        for k, ins in enumerate(raw_in):
+            deps = {n for n in ins if n in drv}
             indeg[k] = len(deps)
             for d in deps:
                 users.setdefault(d, []).append(k)
@@ -287,15 +290,15 @@ class _Engine:
         while ready:
             k = ready.pop()
             order.append(k)
-            for u in users.get(ids[circ.gates[k].out], ()):
+            for u in users.get(raw_out[k], ()):
                 indeg[u] -= 1
                 if indeg[u] == 0:
                     ready.append(u)
         if len(order) != len(circ.gates):
             raise ValueError("the circuit's cells form a loop; the glitch finder needs loop-free logic")
         self.gates = [circ.gates[k] for k in order]
-        self.gin = [tuple(ids[n] for n in g.ins) for g in self.gates]
-        self.gout = [ids[g.out] for g in self.gates]
+        self.gin = [raw_in[k] for k in order]
+        self.gout = [raw_out[k] for k in order]
         self.gtab = [g.table for g in self.gates]
         self.dmin = [g.dmin for g in self.gates]
         self.dmax = [g.dmax for g in self.gates]

@@ -103,6 +103,7 @@ class PartIndex:
         for p in build.parts:
             self.ref_id.setdefault(p.ref, p.part_id)  # the first part of a ref, as Build.part does
         self._pins: dict = {}
+        self._delays: dict = {}
 
     def part_id(self, ref: str) -> str:
         """Part id of the part numbered ``ref`` (``KeyError`` when there is none)."""
@@ -114,10 +115,11 @@ class PartIndex:
 
     def pin_of(self, cell, pin: str):
         """Package pin of ``pin`` of ``cell``, as :meth:`Build.pin_of` (which raises when there is none)."""
-        key = (cell.part_ref, cell.slot)
+        pid = self.ref_id[cell.part_ref]
+        key = (pid, cell.slot)
         table = self._pins.get(key)
         if table is None:
-            pd = self.parts[self.ref_id[cell.part_ref]]
+            pd = self.parts[pid]
             table = dict(getattr(pd, "shared_pins", {}))
             for s in pd.slots:
                 if s.index == cell.slot:
@@ -128,6 +130,19 @@ class PartIndex:
         if number is None:
             return self.build.pin_of(cell, pin)  # raises the build's own error
         return number
+
+    def cell_delay(self, cell, load_ul: float = 0.0) -> tuple[float, float]:
+        """:func:`cell_delay` of ``cell``, worked out once per part type, cell and load."""
+        key = (self.ref_id.get(cell.part_ref, cell.part_ref), cell.cell, load_ul)
+        d = self._delays.get(key)
+        if d is None:
+            d = self._delays[key] = cell_delay(self.build, cell, load_ul, self)
+        return d
+
+    def input_load(self, ref: str) -> float:
+        """Unit loads of one input of the part numbered ``ref`` (0 when the catalog gives none)."""
+        pd = self.part_def(ref)
+        return pd.input_load.value if pd.input_load is not None else 0.0
 
 
 def cell_delay(build, cell, load_ul: float = 0.0, index: PartIndex | None = None) -> tuple[float, float]:
@@ -156,13 +171,18 @@ def net_loads(build, index: PartIndex | None = None) -> dict:
     target = build.target
     index = index or PartIndex(build)
     loads: dict = {}
+    per_ref: dict = {}
+    cdefs = target.cells
+    get = loads.get
     for c in build.cells:
-        pd = index.part_def(c.part_ref)
-        per = pd.input_load.value if pd.input_load is not None else 0.0
-        for p in target.cells[c.cell].inputs:
-            net = c.pins.get(p)
+        per = per_ref.get(c.part_ref)
+        if per is None:
+            per = per_ref[c.part_ref] = index.input_load(c.part_ref)
+        pins = c.pins
+        for p in cdefs[c.cell].inputs:
+            net = pins.get(p)
             if net is not None and net not in _RAILS:
-                loads[net] = loads.get(net, 0.0) + per
+                loads[net] = get(net, 0.0) + per
     return loads
 
 
@@ -181,42 +201,54 @@ class _Graph:
         self.points = []     # storage points (dicts, see _storage_points)
         self.driver = {}     # net -> logic cell driving it
         self.sdriver = {}    # net -> storage point whose output it is
-        logic = [c for c in build.cells if target.cells[c.cell].storage is None and c.group is None]
-        for c in logic:
-            self.driver[c.pins[target.cells[c.cell].output]] = c
+        cdefs = target.cells
+        logic = []
+        for c in build.cells:
+            cd = cdefs[c.cell]
+            if cd.storage is None and c.group is None:
+                logic.append((c, cd))
+        driver = self.driver
+        for c, cd in logic:
+            driver[c.pins[cd.output]] = c
         self.index = index = PartIndex(build)
         loads = net_loads(build, index)
         self.loads = loads
-        self.delay = {}
+        self.delay = delay = {}
         for c in build.cells:
-            cd = target.cells[c.cell]
-            self.delay[id(c)] = cell_delay(build, c, loads.get(c.pins.get(cd.output), 0.0), index)
-        indeg, users = {}, {}
-        for c in logic:
-            cd = target.cells[c.cell]
-            deps = {c.pins[p] for p in cd.inputs if c.pins.get(p) in self.driver}
-            indeg[id(c)] = len(deps)
-            for d in deps:
-                users.setdefault(d, []).append(c)
-        ready = [c for c in logic if indeg[id(c)] == 0]
-        ready.reverse()
-        while ready:
-            c = ready.pop()
-            self.comb.append(c)
-            for u in users.get(c.pins[target.cells[c.cell].output], ()):
-                indeg[id(u)] -= 1
-                if indeg[id(u)] == 0:
-                    ready.append(u)
-        if len(self.comb) != len(indeg):
-            log.warning("the build's logic cells form a loop; %d cells left out of the timing",
-                        len(indeg) - len(self.comb))
-        # the arcs of each logic cell in order, made once for every propagation:
+            cd = cdefs[c.cell]
+            delay[id(c)] = index.cell_delay(c, loads.get(c.pins.get(cd.output), 0.0))
+        # the arcs of each logic cell, made once for every propagation:
         # (cell, ((input pin, input net), ...) without rails, output net, (typical, maximum))
-        self.arcs = []
-        for c in self.comb:
-            cd = target.cells[c.cell]
-            ins = tuple((p, c.pins[p]) for p in cd.inputs if c.pins.get(p) is not None and c.pins[p] not in _RAILS)
-            self.arcs.append((c, ins, c.pins[cd.output], self.delay[id(c)]))
+        recs = []
+        pos: dict = {}  # output net -> position in recs
+        for c, cd in logic:
+            pins = c.pins
+            ins = tuple((p, pins[p]) for p in cd.inputs if pins.get(p) is not None and pins[p] not in _RAILS)
+            out = pins[cd.output]
+            pos[out] = len(recs)
+            recs.append((c, ins, out, delay[id(c)]))
+        indeg = [0] * len(recs)
+        users: dict = {}
+        for i, (_, ins, _, _) in enumerate(recs):
+            deps = {pos[n] for _, n in ins if n in pos}
+            indeg[i] = len(deps)
+            for d in deps:
+                users.setdefault(d, []).append(i)
+        ready = [i for i in range(len(recs)) if indeg[i] == 0]
+        ready.reverse()
+        order = []
+        while ready:
+            i = ready.pop()
+            order.append(i)
+            for u in users.get(i, ()):
+                indeg[u] -= 1
+                if indeg[u] == 0:
+                    ready.append(u)
+        if len(order) != len(recs):
+            log.warning("the build's logic cells form a loop; %d cells left out of the timing",
+                        len(recs) - len(order))
+        self.arcs = [recs[i] for i in order]
+        self.comb = [a[0] for a in self.arcs]
         self._storage_points()
 
     def _storage_points(self) -> None:
@@ -309,8 +341,68 @@ def _propagate(g: _Graph, starts: dict, pick_late: bool, use_max: bool):
     return arr, prev
 
 
-def _path(g: _Graph, prev: dict, end: str, arrivals: list) -> list:
-    """The arcs from a start point to ``end``, first to last, with pins and arrivals."""
+def _propagate_all(g: _Graph, base_late: dict, base_typ: dict):
+    """The four propagations of :func:`static_timing` and the levels, in one pass over the cells.
+
+    Returns ``(late, late_typ, early, early_max, late_prev, early_prev,
+    levels)``: the same as :func:`_propagate` with (``base_late``, latest,
+    maximum), (``base_typ``, latest, typical), (``base_typ``, earliest,
+    typical) and (``base_late``, earliest, maximum), and net -> most cells
+    on a path to it.  ``base_late`` and ``base_typ`` have the same nets, so
+    all four arrive at the same nets.
+    """
+    late = dict(base_late)
+    late_t = dict(base_typ)
+    early = dict(base_typ)
+    early_m = dict(base_late)
+    lprev: dict = {}
+    eprev: dict = {}
+    lev: dict = {}
+    lget = late.get
+    vget = lev.get
+    for c, ins, out, (dt, dm) in g.arcs:
+        if not ins:
+            continue  # a cell fed from rails only: a constant
+        lv = 0
+        bl = None
+        for p, n in ins:
+            v = vget(n, 0)
+            if v > lv:
+                lv = v
+            x = lget(n)
+            if x is None:
+                continue
+            y, z, w = late_t[n], early[n], early_m[n]
+            if bl is None:
+                bl, pl, by, bz, pe, bw = x, (p, n), y, z, (p, n), w
+                continue
+            if x > bl:
+                bl, pl = x, (p, n)
+            if y > by:
+                by = y
+            if z < bz:
+                bz, pe = z, (p, n)
+            if w < bw:
+                bw = w
+        lev[out] = lv + 1
+        if bl is None:
+            continue
+        late[out] = bl + dm
+        late_t[out] = by + dt
+        early[out] = bz + dt
+        early_m[out] = bw + dm
+        lprev[out] = (pl[0], pl[1], c)
+        eprev[out] = (pe[0], pe[1], c)
+    return late, late_t, early, early_m, lprev, eprev, lev
+
+
+def _path(g: _Graph, prev: dict, end: str, arrivals: list, memo: dict | None = None) -> list:
+    """The arcs from a start point to ``end``, first to last, with pins and arrivals.
+
+    ``memo`` (one dict per ``prev`` and ``arrivals``) keeps each hop made, so
+    the paths of many outputs share the hops they have in common (on a big
+    build they run thousands of cells deep and share most of them).
+    """
     target = g.build.target
     ix = g.index
     hops = []
@@ -318,6 +410,12 @@ def _path(g: _Graph, prev: dict, end: str, arrivals: list) -> list:
     seen = set()
     while n in prev and n not in seen:
         seen.add(n)
+        if memo is not None:
+            hop = memo.get(n)
+            if hop is not None:
+                hops.append(hop)
+                n = hop["net_in"]
+                continue
         pin, n_in, c = prev[n]
         cd = target.cells[c.cell]
         t, m = g.delay[id(c)]
@@ -329,6 +427,8 @@ def _path(g: _Graph, prev: dict, end: str, arrivals: list) -> list:
         }
         for key, arr in arrivals:
             hop[key] = arr.get(n)
+        if memo is not None:
+            memo[n] = hop
         hops.append(hop)
         n = n_in
     hops.reverse()
@@ -528,7 +628,6 @@ def _static_timing(build) -> dict:
              "worst_path": [], "best_path": []} for o in build.outputs],
             "critical_path": [], "overloaded": []}
     g = _Graph(build)
-    target = build.target
     # storage outputs start at their clock-to-output delay after the clock edge
     base_late = {i: 0.0 for i in build.inputs}
     base_typ = dict(base_late)
@@ -537,22 +636,15 @@ def _static_timing(build) -> dict:
         for net in pt["outs"]:
             base_late[net] = m
             base_typ[net] = t
-    late, lprev = _propagate(g, base_late, True, True)
-    late_t, _ = _propagate(g, base_typ, True, False)
-    early, eprev = _propagate(g, base_typ, False, False)
-    early_m, _ = _propagate(g, base_late, False, True)
-    lev = {}
-    for c in g.comb:
-        cd = target.cells[c.cell]
-        ins = [c.pins[p] for p in cd.inputs if c.pins.get(p) not in _RAILS]
-        if ins:
-            lev[c.pins[cd.output]] = 1 + max((lev.get(n, 0) for n in ins), default=0)
+    late, late_t, early, early_m, lprev, eprev, lev = _propagate_all(g, base_late, base_typ)
     ends = [(o, build.output_nets.get(o, o)) for o in build.outputs]
     for pt in g.points:
         for label, n in (("data", pt["d"]), ("clock", pt["clock"])):
             if n and n not in _RAILS:
                 ends.append((f"{pt['part']} {pt['cell']} {label}", n))
     arrivals = [("arrival_s", late), ("arrival_typ_s", late_t)]
+    late_hops: dict = {}
+    early_hops: dict = {}
     paths = []
     outputs = {}
     for o, net in ends[:len(build.outputs)]:
@@ -565,9 +657,9 @@ def _static_timing(build) -> dict:
             "best_max_s": early_m.get(net, 0.0),
             "levels": lev.get(net, 0),
             "worst_start": _start_of(g, _first_net(lprev, net)),
-            "worst_path": _path(g, lprev, net, arrivals),
+            "worst_path": _path(g, lprev, net, arrivals, late_hops),
             "best_start": _start_of(g, _first_net(eprev, net)),
-            "best_path": _path(g, eprev, net, [("arrival_s", early)]),
+            "best_path": _path(g, eprev, net, [("arrival_s", early)], early_hops),
         })
         outputs[o] = [early.get(net, 0.0), w]
     live = [(label, n) for label, n in ends if n in late]
@@ -588,7 +680,7 @@ def _static_timing(build) -> dict:
         "levels": max((lev.get(n, 0) for _, n in ends), default=0),
         "outputs": outputs,
         "paths": paths,
-        "critical_path": _path(g, lprev, end, arrivals) if end is not None else [],
+        "critical_path": _path(g, lprev, end, arrivals, late_hops) if end is not None else [],
         "critical_start": _start_of(g, _first_net(lprev, end)) if end is not None else None,
         "critical_end": {"net": end, "endpoint": end_label} if end is not None else None,
         "overloaded": overloaded,
