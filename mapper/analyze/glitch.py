@@ -49,6 +49,19 @@ the three-valued test could not rule out but no corner showed is reported
 the catalog ranges).  At most :data:`PATHS_PER_CHANGE` paths per change get
 corners of their own, shared out among the nets in question.
 
+Work budget.  The search counts cell evaluations.  ``netfit timing``
+allows :data:`TIMING_MAX_WORK`; the figures in every build report allow
+:data:`BUILD_MAX_WORK` or :data:`BUILD_WORK_PER_CELL` per cell, whichever is
+more, so their time grows in step with the rest of the build while the share
+of input changes examined shrinks.  The budget is checked before every
+change and every timed run and within a run (a run that would pass it is
+given up), and ``glitch_search`` says what was covered: ``checked`` of
+``total`` changes, ``timed_runs``, ``cell_evaluations`` of ``work_budget``,
+``last_change_partial`` (how many of the last change's delay corners ran)
+and all of that in words in ``sample``.  Timed runs leave out the cells
+whose output the three-valued simulation found known (they cannot move),
+which gives the same events for less work.
+
 Hazards are reported per net, kind and changing inputs: ``when`` lists the
 states of the other inputs where it shows (merged into cubes),
 ``directions`` which way the inputs went, ``width_s`` the union of the
