@@ -142,6 +142,7 @@ class Build:
 
     # -- derived views ----------------------------------------------------
     def part(self, ref: str) -> PartInstance:
+        """The part numbered ``ref`` (``KeyError`` if none)."""
         # an index made on first use, made again when parts were added or renamed
         idx = self.__dict__.get("_part_index")
         p = idx.get(ref) if idx is not None else None

@@ -89,7 +89,8 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
     ``inner`` holds the new variables of those shapes: the mapper covers
     them node by node (no cut spans them), which is what keeps the shape.
     Nodes in ``boundary`` get no choices.  ``xor_shapes=False`` leaves out
-    the exclusive-OR shapes (big designs: fewer nodes to map).
+    the exclusive-OR shapes.  ``k_limit`` is the number of 3-input cuts per
+    node searched for exclusive-ORs and majorities.
     """
     n_orig = aig.num_vars
     cuts = enumerate_cuts(aig, k=3, limit=k_limit)
@@ -109,8 +110,13 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
     del cuts
     choices: dict = {}
 
+    def usable(v, lit):
+        # only new nodes stand in for a node: two original nodes offered as
+        # each other's choice would make a loop (found by a second reader)
+        return lit >> 1 >= n_orig and aig.is_and(lit >> 1)
+
     def offer(v, lit):
-        if lit >> 1 != v and aig.is_and(lit >> 1):
+        if usable(v, lit):
             alts = choices.setdefault(v, [])
             if lit not in alts:
                 alts.append(lit)
@@ -155,7 +161,7 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
                 option = [(cv, c_ ^ po ^ pol)] + [(sv, s_ ^ par ^ ps ^ pol) for sv, ps in sums]
                 for v, lit in option:
                     offer(v, lit)
-                options.append([(v, lit) for v, lit in option if lit >> 1 != v and aig.is_and(lit >> 1)])
+                options.append([(v, lit) for v, lit in option if usable(v, lit)])
             groups.append(options)
     order = _order(aig, choices)
     log.debug("structural choices: %d nodes with choices, %d full adders, %d new nodes",
@@ -164,31 +170,45 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
 
 
 def _order(aig, choices) -> list:
-    """AND variables in a topological order where each choice precedes its node."""
+    """AND variables in a topological order where each choice precedes its node.
+
+    A choice that would close a loop (its node lies in the choice's own
+    fan-in) is dropped from ``choices``; fan-in edges alone never loop.
+    """
     f0, f1 = aig.f0, aig.f1
     nv = aig.num_vars
-    extra: dict = {}
-    for v, alts in choices.items():
-        extra[v] = [lit >> 1 for lit in alts]
     order = []
-    done = bytearray(nv)
+    state = bytearray(nv)  # 0 new, 1 on the current path, 2 placed
     for root in range(1, nv):
-        if done[root] or f0[root] < 0:
+        if state[root] or f0[root] < 0:
             continue
         stack = [(root, False)]
         while stack:
             v, ready = stack.pop()
-            if done[v]:
+            if state[v] == 2:
                 continue
             if f0[v] < 0:
-                done[v] = 1
+                state[v] = 2
                 continue
             if ready:
-                done[v] = 1
+                state[v] = 2
                 order.append(v)
                 continue
+            if state[v] == 1:
+                continue  # pushed twice; its own visit is under way
+            state[v] = 1
             stack.append((v, True))
-            for u in (f0[v] >> 1, f1[v] >> 1, *extra.get(v, ())):
-                if not done[u]:
+            alts = choices.get(v)
+            if alts:
+                keep = [lit for lit in alts if state[lit >> 1] != 1]
+                if len(keep) != len(alts):
+                    log.debug("choice loop at node %d: dropped", v)
+                    if keep:
+                        choices[v] = keep
+                    else:
+                        del choices[v]
+                    alts = keep
+            for u in (f0[v] >> 1, f1[v] >> 1, *(lit >> 1 for lit in alts or ())):
+                if state[u] != 2:
                     stack.append((u, False))
     return order

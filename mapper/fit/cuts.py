@@ -124,7 +124,8 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
     -------
     dict
         var -> list of ``(leaves, table)``; the trivial cut ``((var,), 0b10)``
-        comes last.  Inputs and latch outputs have only their trivial cut.
+        comes last.  Inputs and latch outputs have only their trivial cut
+        (when ``nodes`` is given, only the variables in it get an entry).
     """
     f0, f1 = aig.f0, aig.f1
     if cuts is None:

@@ -4,11 +4,16 @@ The search keeps a change only when the whole-part count falls (ties broken
 by delay, then by wires); every candidate is a complete build, and the one
 returned is proved equal to the design by the caller (:mod:`mapper.flow`).
 
-Candidates tried:
+Candidates tried, as long as the budget lasts (it shrinks with the design;
+a design of over 6,000 nodes gets one mapping):
 
 * the mapping with every cell of the target;
-* re-mapping the mapped logic itself (its NAND/NOR structure often exposes
-  sharing the first subject graph hid);
+* for a target of one NAND2 or NOR2 cell, the mapping of the dual design with
+  the dual cell (read back with the rails swapped);
+* the same mappings with other cut budgets and numbers of area-flow passes;
+* re-mapping the best mapped logic itself (its NAND/NOR structure often
+  exposes sharing the first subject graph hid);
+* seeds of a single NAND2 or NOR2 cell type, alone and with one other type;
 * for each part type in the build, the mapping without that cell type,
   when its cells might move into spare slots of the others.
 """
@@ -84,7 +89,7 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = F
     # further candidates cost a whole mapping each: fewer of them on big designs
     size = max(1, len(design.nodes) - len(design.inputs))
     budget = [int(min(40, 12_000 / size))] if effort > 0 else [0]
-    big = budget[0] < 2
+    big = size > 6_000  # room for at most one candidate beyond the first
 
     def spend() -> bool:
         if budget[0] <= 0:

@@ -95,10 +95,13 @@ class Subject:
 
 
 def subject_graph(design, keep=(), choices: bool = True, trees: bool = False) -> Subject:
-    """The AIG of ``design``'s logic: every node of a few inputs built from
-    its smallest two-level cover (:mod:`mapper.logic.minimize`), with
-    structural choices -- unless ``keep`` names nets to keep or ``trees``
-    asks for tree-shaped matches only (see :func:`map_logic`)."""
+    """The AIG of ``design``'s logic.
+
+    Every node of a few inputs is built from its smallest two-level cover
+    (:mod:`mapper.logic.minimize`) unless ``keep`` names nets to keep (their
+    hazard-free covers stay as written); structural choices are added unless
+    ``keep`` is given or ``trees`` asks for tree-shaped matches only (see
+    :func:`map_logic`)."""
     # kept nets come from hazard-free covers: those nodes keep their own cover
     aig, litmap = from_netlist(design, cover=None if keep else min_cover)
     boundary = frozenset(litmap[n] >> 1 for n in keep if n in litmap and litmap[n] > 1)
@@ -190,8 +193,13 @@ class _Mapper:
         return ((0,) * len(leaves),)
 
     def _lookup(self, n, tt):
-        """The library's implementation of ``tt`` over ``n`` leaves (memoized;
-        only tree-shaped ones when :attr:`trees` is set)."""
+        """The library's implementation of ``tt`` over ``n`` leaves (memoized).
+
+        With :attr:`trees` set, a function whose cheapest implementation is
+        not tree-shaped gets ``None``: the cut is skipped rather than built
+        from a costlier tree (the fan-in cut of a node always matches), so
+        hazard-free builds may use more gates than the fewest trees need.
+        """
         key = (n << 17) | tt
         lk = self._lk
         if key in lk:

@@ -96,3 +96,45 @@ def test_full_adder_of_products_shares_its_gates(tmp_path):
     assert len(map_logic(d, _library(target), choices=False).cells) > 14
     # the build keeps 4 parts (ties are broken by fewer levels, not cells)
     assert len(fit_gates(d, target).parts) == 4
+
+
+_NAND_XOR = """.model xorxnor
+.inputs a b
+.outputs x y
+.names a b n1
+11 0
+.names a n1 n2
+11 0
+.names b n1 n3
+11 0
+.names n2 n3 x
+11 0
+.names a na
+0 1
+.names {second} b m1
+11 0
+.names {second} m1 m2
+11 0
+.names b m1 m3
+11 0
+.names m2 m3 y
+11 0
+.end
+"""
+
+
+@pytest.mark.parametrize("target", ["nand-only", "nor-only", "gates-74"])
+def test_two_drawn_exclusive_ors_do_not_loop(tmp_path, target):
+    # x = a XOR b and y = a XNOR b, each drawn as the four-NAND exclusive-OR
+    # (common practice); each original node is the other's shape, which once
+    # made the choices loop.  Only new nodes may stand in for a node.
+    path = tmp_path / "xx.blif"
+    path.write_text(_NAND_XOR.format(second="na"))
+    d = read_design(path)
+    aig, _ = from_netlist(d)
+    n_orig = aig.num_vars
+    choices, order, _, _ = structural_choices(aig)
+    assert all(lit >> 1 >= n_orig for alts in choices.values() for lit in alts)
+    assert len(order) == len(set(order))
+    b = flow.fit(d, flow.load_target(target))
+    assert b.verified == "proved"

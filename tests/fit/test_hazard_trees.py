@@ -42,6 +42,8 @@ def test_tree_test_on_known_networks():
 
 @pytest.mark.parametrize("target", ["nand-only", "gates-74"])
 def test_hazard_free_builds_keep_no_static_hazard(target):
+    # nand-only is the case tree-shaped matches decide (minimum NAND2 chains
+    # reuse signals); gates-74 has AND/OR cells and holds either way
     rng = random.Random(3)
     t = flow.load_target(target)
     for _ in range(12):

@@ -36,6 +36,8 @@ def test_min_cover_keeps_the_function_and_never_grows(n):
         if f.constant_value() is not None:
             continue
         cubes, phase = min_cover(f)
+        # the cover is evaluated minterm by minterm here, independently of the
+        # code under test (the definition of a sum of products)
         assert _table_of(n, cubes, phase) == t
         given, _ = f.cover()
         assert _literals(cubes) <= _literals(given)
