@@ -301,6 +301,8 @@ def cmd_timing(args):
             how = f"in random order from {g['total']}, when the work budget ran out (--changes N to go on)"
         print(f"\nglitch search: {g['checked']} input change(s), {how}"
               + (f"; minimum delays: {g['min_delay']}" if g.get("min_delay") else f"; {g.get('method', '')}"))
+        if g.get("sample") and not g.get("exhaustive"):
+            print(f"               {g['sample']}")
     print(f"hazards {r['hazards_total']}")
     for h in r["hazards"]:
         when = "; ".join(_cube_text(w) for w in h["when"])
