@@ -88,7 +88,10 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = F
     lib = _library(target)
     # further candidates cost a whole mapping each: fewer of them on big designs
     size = max(1, len(design.nodes) - len(design.inputs))
-    budget = [int(min(40, 12_000 / size))] if effort > 0 else [0]
+    # (a mapping's time grows with the size, so the count falls faster above
+    # a few hundred nodes: a thousand-node design should not wait longer
+    # than a ten-thousand-node one)
+    budget = [int(min(40, 12_000 / size, 6_000_000 / size ** 2))] if effort > 0 else [0]
     big = size > 6_000  # room for at most one candidate beyond the first
 
     def spend() -> bool:
