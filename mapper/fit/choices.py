@@ -121,7 +121,6 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
             if lit not in alts:
                 alts.append(lit)
 
-    strash = aig._strash
     # an exclusive-OR inside a full adder gets its shapes from the adder's
     # (offering both confuses the cover: measured on ariths-gen multipliers)
     in_adder = set()
@@ -135,8 +134,7 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
         for pa in (0, 1):
             for pb in (0, 1):
                 la, lb = 2 * a + pa, 2 * b + pb
-                key = (la, lb) if la < lb else (lb, la)
-                if key not in strash:
+                if not aig.has_and(la, lb):
                     continue
                 x = aig.add_xor_shared(la, lb)  # = XOR(a, b) ^ pa ^ pb
                 for v, pv in nodes:

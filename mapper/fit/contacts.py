@@ -132,7 +132,7 @@ class ContactSynth:
         self.poles: list = []
         self.pole_of: dict = {}  # com net -> index in poles
         self.count: Counter = Counter()  # decision net -> poles
-        self._strash: dict = {}
+        self._by_fanins: dict = {}
         self._memo: dict = {}
         cands = candidates or {}
         self.cands = []
@@ -291,14 +291,14 @@ class ContactSynth:
         if hi == lo:
             return hi
         sk = (var, hi, lo)
-        nid = self._strash.get(sk)
+        nid = self._by_fanins.get(sk)
         if nid is not None:
             return nid
         tv = self.tables[var]
         table = ((tv & self.table(hi)) | (~tv & self.table(lo))) & self.full
         nid = self.exact.get(table)
         if nid is not None:
-            self._strash[sk] = nid
+            self._by_fanins[sk] = nid
             return nid
         if self.pole_limit is not None and len(self.poles) >= self.pole_limit:
             raise _TooBig()
@@ -309,7 +309,7 @@ class ContactSynth:
         self.levels.append(max(self.levels[var] + 1, self.levels[hi] if hi != OPEN else 0,
                                self.levels[lo] if lo != OPEN else 0))
         self.exact[table] = nid
-        self._strash[sk] = nid
+        self._by_fanins[sk] = nid
         self.pole_of[nid] = len(self.poles)
         self.poles.append((nid, var, None if hi == OPEN else hi, None if lo == OPEN else lo))
         self.count[var] += 1

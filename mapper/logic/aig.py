@@ -64,7 +64,7 @@ class AIG:
         self.inputs: list[int] = []  # primary input vars, in order
         self.latches: list[AigLatch] = []
         self.outputs: list[tuple[str, int]] = []
-        self._strash: dict[tuple[int, int], int] = {}
+        self._by_fanins: dict[tuple[int, int], int] = {}
 
     # -- construction -----------------------------------------------------
     @property
@@ -113,14 +113,18 @@ class AIG:
         if a == b ^ 1:
             return 0
         key = (a, b)
-        lit = self._strash.get(key)
+        lit = self._by_fanins.get(key)
         if lit is None:
             var = len(self.f0)
             self.f0.append(a)
             self.f1.append(b)
             lit = 2 * var
-            self._strash[key] = lit
+            self._by_fanins[key] = lit
         return lit
+
+    def has_and(self, a: int, b: int) -> bool:
+        """Whether an AND node of exactly these two fan-in literals exists."""
+        return ((a, b) if a < b else (b, a)) in self._by_fanins
 
     def add_or(self, a: int, b: int) -> int:
         return self.add_and(a ^ 1, b ^ 1) ^ 1

@@ -21,7 +21,7 @@ from mapper.netlist import Netlist
 from mapper.read.blif import read
 
 
-def test_trivial_ands_fold_and_strash_merges():
+def test_trivial_ands_fold_and_hashing_merges():
     # Boolean identities (common practice): x&0 = 0, x&1 = x, x&x = x, x&~x = 0, x&y = y&x
     g = AIG()
     a, b = g.add_input("a"), g.add_input("b")
