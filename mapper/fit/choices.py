@@ -76,7 +76,7 @@ def _fa9(aig, a, b, c):
     return s, aig.add_or(n1, n5)
 
 
-def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: bool = True):
+def structural_choices(aig, boundary=frozenset(), k_limit: int = 6):
     """Add alternative structures to ``aig``; returns ``(choices, order, groups, inner)``.
 
     ``choices`` maps an AND variable to literals of other nodes that compute
@@ -88,8 +88,7 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
     pairs that must switch together for the shape's sharing to pay.
     ``inner`` holds the new variables of those shapes: the mapper covers
     them node by node (no cut spans them), which is what keeps the shape.
-    Nodes in ``boundary`` get no choices.  ``xor_shapes=False`` leaves out
-    the exclusive-OR shapes.  ``k_limit`` is the number of 3-input cuts per
+    Nodes in ``boundary`` get no choices.  ``k_limit`` is the number of 3-input cuts per
     node searched for exclusive-ORs and majorities.
     """
     n_orig = aig.num_vars
@@ -128,7 +127,7 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6, xor_shapes: 
         if leaves in xor3:
             a, b, c = leaves
             in_adder.update(((a, b), (a, c), (b, c)))
-    for (a, b), nodes in (xor2.items() if xor_shapes else ()):
+    for (a, b), nodes in xor2.items():
         if (a, b) in in_adder:
             continue
         for pa in (0, 1):
