@@ -62,12 +62,12 @@ def main(argv=None):
             for t in targets:
                 tracemalloc.start()
                 t0 = time.perf_counter()
-                b = flow.fit(d, t)
+                b, a = flow.fit(d, t)
                 secs = time.perf_counter() - t0
                 peak = tracemalloc.get_traced_memory()[1] / 2**20
                 tracemalloc.stop()
                 row += [len(b.parts), 100.0 * (base - len(b.parts)) / base if base else 0.0, secs, peak,
-                        b.verified]
+                        a.verified]
             rows.append(row)
             print(" ".join(str(x) if not isinstance(x, float) else f"{x:.1f}" for x in row), file=sys.stderr, flush=True)
     head = f"{'design':<12}{'nodes':>6}{'tb-nand':>8}{'tb-parts':>9}"

@@ -106,9 +106,9 @@ def main(argv=None):
             base = template_relays(design)
             for t in targets:
                 t0 = time.perf_counter()
-                b = flow.fit(design, t)
+                b, a = flow.fit(design, t)
                 secs = time.perf_counter() - t0
-                s = b.summary()
+                s = a.summary(b)
                 rows.append({
                     "design": name, "target": t.name, "inputs": len(design.inputs),
                     "storage": len(design.storage()), "template_relays": base,
@@ -116,7 +116,7 @@ def main(argv=None):
                     "saving": round(1 - s["parts_total"] / base, 3) if base else 0.0,
                     "poles_used": s.get("poles_used", 0), "poles_available": s.get("poles_available", 0),
                     "coil_current_a": s.get("coil_current_a", 0.0), "delay_s": s["delay_s"],
-                    "levels": b.timing.get("levels"), "verified": s["verified"],
+                    "levels": a.timing.levels, "verified": s["verified"],
                     "seconds": round(secs, 2),
                 })
                 if not args.json:

@@ -43,12 +43,12 @@ def main(argv=None):
             gates = len(d.nodes) - len(d.inputs)
             if gates > args.max_gates:
                 break
-            b = flow.fit(d, target)
+            b, a = flow.fit(d, target)
             t2 = time.perf_counter()
             peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
             print(f"{kind}{width:<7}{gates:>8}{t1 - t0:>8.1f}{t2 - t1:>8.1f}{t2 - t0:>9.1f}{peak:>9.0f}"
-                  f"{len(b.parts):>8}  {b.verified}", flush=True)
-            stages = b.timing.get("stage_s")
+                  f"{len(b.parts):>8}  {a.verified}", flush=True)
+            stages = a.stage_s
             if stages:
                 print("          " + ", ".join(f"{k} {v:.1f}s" for k, v in stages.items()), flush=True)
 

@@ -36,7 +36,8 @@ sys.path.insert(0, str(ROOT / "tests"))
 import generated  # noqa: E402
 
 from mapper import flow  # noqa: E402
-from mapper.analyze.glitch import TimedCircuit, find_glitches, glitch_report  # noqa: E402
+from mapper.analyze.glitch import find_glitches, glitch_report  # noqa: E402
+from mapper.analyze.timed import TimedCircuit  # noqa: E402
 from mapper.analyze.timing import static_timing  # noqa: E402
 from mapper.read import read_design  # noqa: E402
 
@@ -90,10 +91,10 @@ def scale(max_gates: int, target_name: str = "nand-only") -> None:
             t1 = time.perf_counter()
             gl = glitch_report(b)
             t2 = time.perf_counter()
-            assert sta["delay_s"] > 0
+            assert sta.delay_s > 0
             peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
             print(f"{kind}{width:<7}{gates:>8}{len(b.cells):>8}{t1 - t0:>10.2f}{t2 - t1:>10.2f}"
-                  f"{gl['hazards_total']:>9}{peak:>9.0f}  {gl['glitch_search']['sample']}", flush=True)
+                  f"{gl.total:>9}{peak:>9.0f}  {gl.search['sample']}", flush=True)
 
 
 def main(argv=None):
@@ -120,12 +121,12 @@ def main(argv=None):
             for tname in args.targets.split(","):
                 t = flow.load_target(tname)
                 try:
-                    b = flow.fit(d, t)
+                    b, a = flow.fit(d, t)
                 except Exception as exc:  # a target the design cannot go on (or a missing table)
                     print(f"{name:<12}{tname:<10}  not built: {type(exc).__name__}: {exc}")
                     continue
                 t0 = time.process_time()
-                sta = static_timing(b)
+                sta = static_timing(b).as_dict()
                 t_sta = time.process_time() - t0
                 circ = TimedCircuit.from_build(b)
                 t0 = time.process_time()
@@ -143,9 +144,9 @@ def main(argv=None):
                        f"{tr['checked']:>9}{'yes' if tr['exhaustive'] else 'no':>5}{tr['timed_runs']:>7}"
                        f"{t_gl:>9.2f}{peak:>6.1f}{res['hazards_total']:>8}{res['errors']:>7}")
                 if args.hazard_free:
-                    hb = flow.fit_hazard_free(d, t)
+                    hb, hb_a = flow.fit_hazard_free(d, t)
                     hres = find_glitches(TimedCircuit.from_build(hb), max_transitions=args.changes)
-                    h = hb.timing["hazard_free"]
+                    h = hb_a.hazard_free
                     row += f"{h['terms_added']:>6}{h['parts_plain']:>6}{h['parts']:>9}{hres['hazards_total']:>11}"
                 print(row, flush=True)
 

@@ -43,7 +43,7 @@ def main(argv) -> int:
             design = read_design(path)
             for target in ("gates-74", "nand-only"):
                 try:
-                    b = flow.fit(design, flow.load_target(target), effort=0)
+                    b, a = flow.fit(design, flow.load_target(target), effort=0)
                 except Exception as exc:  # a mapper fault is reported, the table goes on
                     print(f"{design.name:<10}{target:<11}  build failed: {type(exc).__name__}: {exc}")
                     continue
@@ -55,7 +55,7 @@ def main(argv) -> int:
                             "json": f"{design.name}.json", "csv": "parts.csv", "wiring": "wiring.txt",
                             "svg": "schematic.svg", "html": "report.html"}[key]
                     t0 = time.perf_counter()
-                    fn(b, out / name)
+                    fn(b, a, out / name)
                     dt = time.perf_counter() - t0
                     row += f"{dt:>10.3f}{(out / name).stat().st_size / 1024:>7.0f}"
                 peak = tracemalloc.get_traced_memory()[1] / 1e6

@@ -1,8 +1,10 @@
 """The build: cells placed in slots of numbered parts, support parts and wiring.
 
 A :class:`Build` is what fit/ makes and what analyze/ and write/ read; they
-know nothing of how it was made.  Everything a writer needs is here or
-derived from here:
+know nothing of how it was made.  It is data only: the analyses of a build
+(timing, glitches, supply current, cautions, the proof) are separate results
+(:mod:`mapper.analyze.results`).  Everything a writer needs is here, in the
+analysis results, or derived from them:
 
 * ``parts`` -- numbered logic parts (``U1``… chips, ``K1``… relays);
 * ``cells`` -- one :class:`CellInstance` per used slot: the cell it performs
@@ -10,24 +12,27 @@ derived from here:
 * ``contacts`` -- for relay builds, one :class:`ContactInstance` per used
   pole: the coil net that moves it and the nets on its common, normally-open
   and normally-closed terminals;
-* ``support`` -- decoupling capacitors, coil diodes, pull-down resistors;
+* ``support`` -- decoupling capacitors, coil diodes, pull-down resistors,
+  each with its role;
 * ``ties`` -- unused inputs of used slots, tied to a supply rail.
 
 Nets are derived (:meth:`Build.nets`), never stored twice.  The build turns
 back into logic with :meth:`Build.to_netlist`, which is what the prover checks
-against the design.
+against the design (relay contacts through :mod:`mapper.relay_logic`).
 """
 from __future__ import annotations
 
 from collections import Counter
 from dataclasses import dataclass, field
 
+from .catalog.model import CellDef, PartDef, Target
 from .errors import InternalError
 from .logic.function import Function
 from .netlist import Netlist
+from .relay_logic import RelayLatch, contact_logic
 
 __all__ = ["PartInstance", "CellInstance", "ContactInstance", "SupportInstance", "Tie", "Build", "GateStorage",
-           "SUPPLY_NETS"]
+           "SUPPLY_NETS", "ref_key"]
 
 #: names of the supply rails in every build
 SUPPLY_NETS = ("VCC", "GND")
@@ -79,12 +84,18 @@ class ContactInstance:
 
 @dataclass
 class SupportInstance:
-    """A support part (``C1`` decoupling capacitor, ``D1`` coil diode, ``R1`` load)."""
+    """A support part (``C1`` decoupling capacitor, ``D1`` coil diode, ``R1`` load).
+
+    ``role`` is its part's role (:data:`mapper.catalog.SUPPORT_ROLES`);
+    ``nets`` are the nets on its pins in pin order (a coil diode: anode,
+    cathode).
+    """
 
     ref: str
     part_id: str
     nets: tuple
     purpose: str
+    role: str = ""
 
 
 @dataclass
@@ -114,7 +125,7 @@ class Build:
     """The mapped result (see module docstring)."""
 
     design: str
-    target: object  # mapper.fit.target.Target
+    target: Target
     inputs: list
     outputs: list
     parts: list = field(default_factory=list)
@@ -128,17 +139,20 @@ class Build:
     output_nets: dict = field(default_factory=dict)
     #: nets driven by the supply through contacts: relay builds' source rail
     rail: str = "VCC"
-    cautions: list = field(default_factory=list)
+    #: how fit made the build, in words (methods, choices, what the part search tried)
     notes: list = field(default_factory=list)
-    verified: str = "not checked"
-    #: filled by analyze/: a dict of timing figures
-    timing: dict = field(default_factory=dict)
-    #: relay builds: seal-in storage (:class:`mapper.fit.relay.RelayLatch`), read by
-    #: :func:`mapper.fit.relay.contact_logic` to turn each into a storage element
-    latches: list = field(default_factory=list)
+    #: what fit counted while it worked (relay builds: windows, evaluations, seconds, re-amplification points)
+    fit_stats: dict = field(default_factory=dict)
+    #: relay builds: seal-in storage, turned into storage elements by :func:`mapper.relay_logic.contact_logic`
+    latches: list[RelayLatch] = field(default_factory=list)
     #: gate builds: storage made of gates (a feedback loop of cells), group key ->
     #: :class:`GateStorage`; the prover sees each group as one storage element
     storage_groups: dict = field(default_factory=dict)
+
+    @property
+    def is_relay(self) -> bool:
+        """Whether this is a relay build (contacts and coils rather than gate cells)."""
+        return self.target.is_relay
 
     # -- derived views ----------------------------------------------------
     def part(self, ref: str) -> PartInstance:
@@ -146,20 +160,23 @@ class Build:
         # an index made on first use, made again when parts were added or renamed
         idx = self.__dict__.get("_part_index")
         p = idx.get(ref) if idx is not None else None
-        if p is None or p.ref != ref or len(idx) != len(self.parts):
+        if idx is None or p is None or p.ref != ref or len(idx) != len(self.parts):
             idx = self.__dict__["_part_index"] = {q.ref: q for q in self.parts}
             p = idx.get(ref)
             if p is None:
                 raise KeyError(ref)
         return p
 
-    def part_def(self, ref_or_id: str):
-        pid = ref_or_id
-        for p in self.parts:
-            if p.ref == ref_or_id:
-                pid = p.part_id
-                break
-        return self.target.parts[pid]
+    def part_def(self, ref_or_id: str) -> PartDef:
+        """The catalog definition of a placed part (by ref) or of a part id."""
+        try:
+            return self.target.parts[self.part(ref_or_id).part_id]
+        except KeyError:
+            return self.target.parts[ref_or_id]
+
+    def cell_def(self, cell: CellInstance) -> CellDef:
+        """The catalog definition of the cell a placed cell performs."""
+        return self.target.cells[cell.cell]
 
     def part_counts(self) -> Counter:
         return Counter(p.part_id for p in self.parts)
@@ -171,11 +188,7 @@ class Build:
         return Counter(s.part_id for s in self.support)
 
     def slots_available(self) -> int:
-        total = 0
-        for p in self.parts:
-            pd = self.target.parts[p.part_id]
-            total += pd.relay.poles if pd.relay is not None else len(pd.slots)
-        return total
+        return sum(self.target.parts[p.part_id].units() for p in self.parts)
 
     def slots_used(self) -> int:
         return len(self.cells) + len(self.contacts)
@@ -191,9 +204,13 @@ class Build:
                 if pin in s.pins:
                     return s.pins[pin]
                 break
-        if pin in getattr(pd, "shared_pins", {}):
+        if pin in pd.shared_pins:
             return pd.shared_pins[pin]
         raise InternalError(f"{cell.part_ref} slot {cell.slot} has no pin {pin}")
+
+    def support_nets(self, role: str) -> set:
+        """Nets (rails left out) that a support part of ``role`` is on (``"pull-down"``: the loaded nets)."""
+        return {n for s in self.support if s.role == role for n in s.nets if n not in SUPPLY_NETS}
 
     def nets(self) -> dict:
         """net -> sorted list of ``(ref, pin)`` it joins (supply pins included)."""
@@ -222,7 +239,7 @@ class Build:
         for s in self.support:
             for i, net in enumerate(s.nets, 1):
                 add(net, s.ref, i)
-        return {n: sorted(v, key=lambda rp: (_refkey(rp[0]), str(rp[1]))) for n, v in sorted(out.items())}
+        return {n: sorted(v, key=lambda rp: (ref_key(rp[0]), str(rp[1]))) for n, v in sorted(out.items())}
 
     # -- logic view -------------------------------------------------------
     def to_netlist(self) -> Netlist:
@@ -230,7 +247,7 @@ class Build:
 
         Gate cells become logic nodes with their catalog functions; storage
         cells become storage elements.  Relay builds turn their contact
-        networks back into logic with :func:`mapper.fit.relay.contact_logic`.
+        networks back into logic with :func:`mapper.relay_logic.contact_logic`.
         """
         n = Netlist(f"{self.design}@{self.target.name}")
         for i in self.inputs:
@@ -239,7 +256,7 @@ class Build:
         # storage built from gates: one storage element per group.  The loop of
         # gates inside is a fixed textbook template, checked on its own by
         # tests/fit/test_storage.py with a settling simulation.
-        for q, g in self.storage_groups.items():
+        for g in self.storage_groups.values():
             n.add_storage(g.q, g.d, g.kind, g.control, g.init)
         for c in self.cells:
             if c.group is not None:
@@ -249,15 +266,14 @@ class Build:
                 d = c.pins[cd.inputs[0]]
                 ctrl = c.pins.get(cd.inputs[1]) if len(cd.inputs) > 1 else None
                 q = c.pins[cd.output]
-                n.add_storage(q, _net(d), cd.storage, _net(ctrl) if ctrl else None, c.init)
+                n.add_storage(q, d, cd.storage, ctrl or None, c.init)
                 for extra in cd.extra_outputs:
                     if c.pins.get(extra):
                         n.add_logic(c.pins[extra], [q], Function.from_table(1, 0b01))
                 continue
             fanins = [c.pins[p] for p in cd.inputs]
-            n.add_logic(c.pins[cd.output], [_net(f) for f in fanins], cd.function)
-        if self.contacts or self.coils:
-            from .fit.relay import contact_logic
+            n.add_logic(c.pins[cd.output], fanins, cd.logic_function())
+        if self.is_relay:
             contact_logic(self, n)
         for o in self.outputs:
             net = self.output_nets.get(o, o)
@@ -266,8 +282,9 @@ class Build:
                     raise InternalError(f"output {o} is both a port and an internal net")
                 n.add_logic(o, [net], Function.from_table(1, 0b10))
             n.add_output(o)
+        used = {f for node in n.nodes.values() for f in node.fanins}
         for rail, value in (("VCC", 1), ("GND", 0)):
-            if rail not in n.nodes and _used(n, rail):
+            if rail not in n.nodes and rail in used:
                 n.add_constant(rail, value)
         return n
 
@@ -280,8 +297,8 @@ class Build:
                 h[c.origin] = c.pins[cd.output]
         return h
 
-    # -- summary ----------------------------------------------------------
     def cost(self) -> tuple[float, str]:
+        """Price of every part and support part: ``(total, currency)``."""
         total = 0.0
         currency = ""
         for pid, count in list(self.part_counts().items()) + list(self.support_counts().items()):
@@ -291,48 +308,9 @@ class Build:
                 currency = currency or pd.currency
         return round(total, 4), currency
 
-    def summary(self) -> dict:
-        """The ``--json`` summary of ``netfit build`` (stable, append-only keys)."""
-        cost, currency = self.cost()
-        s = {
-            "design": self.design,
-            "target": self.target.name,
-            "parts_total": len(self.parts),
-            "parts": dict(sorted(self.part_counts().items())),
-            "cells": dict(sorted(self.cell_counts().items())),
-            "slots_used": self.slots_used(),
-            "slots_available": self.slots_available(),
-            "spare_slots": self.spare_slots(),
-            "support_parts": dict(sorted(self.support_counts().items())),
-            "delay_s": self.timing.get("delay_s"),
-            "cost": cost,
-            "currency": currency,
-            "verified": self.verified,
-        }
-        for key in ("delay_typ_s", "supply_current_a", "supply_current_typ_a"):
-            if key in self.timing:
-                s[key] = self.timing[key]
-        if self.contacts or self.coils:
-            s["poles_used"] = len(self.contacts)
-            s["poles_available"] = self.slots_available()
-            for key in ("coil_current_a", "coil_voltage_v"):
-                if key in self.timing:
-                    s[key] = self.timing[key]
-        s["ties"] = len(self.ties)
-        s["cautions"] = list(self.cautions)
-        s["notes"] = list(self.notes)
-        return s
 
-
-def _net(name):
-    return name
-
-
-def _used(n: Netlist, net: str) -> bool:
-    return any(net in node.fanins for node in n.nodes.values())
-
-
-def _refkey(ref: str):
+def ref_key(ref: str):
+    """Sort key of a reference: ``U2`` before ``U10``, letters first."""
     head = ref.rstrip("0123456789")
     tail = ref[len(head):]
     return (head, int(tail) if tail else 0)

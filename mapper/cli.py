@@ -14,6 +14,7 @@ import traceback
 
 from . import __version__
 from .errors import InputError, NetfitError
+from .units import si
 
 __all__ = ["main", "COMMANDS"]
 
@@ -174,27 +175,14 @@ def _progress(args) -> None:
     progress.configure(not getattr(args, "quiet", False) and not getattr(args, "json", False))
 
 
-def _si(value, unit):
-    if value is None:
-        return "-"
-    for scale, prefix in ((1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p")):
-        if abs(value) >= scale or scale == 1e-12:
-            if value == 0:
-                return f"0 {unit}"
-            return f"{value / scale:.3g} {prefix}{unit}"
-    return f"{value} {unit}"
-
-
 @command("build", "fit a design onto a target with the fewest whole parts, proven equal to the design",
          _build_args)
 def cmd_build(args):
     from . import flow
     _progress(args)
-    b = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
+    r = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
                    hazard_free=args.hazard_free, **_read_options(args))
-    s = b.summary()
-    if "hazard_free" in b.timing:
-        s["hazard_free"] = b.timing["hazard_free"]
+    s = r.analysis.summary(r.build)
     if args.json:
         _print_json(s)
         return 0
@@ -213,9 +201,9 @@ def cmd_build(args):
         print(f"slots   {s['slots_used']} used of {s['slots_available']}  ({s['spare_slots']} spare)")
     if s["support_parts"]:
         print("support " + ", ".join(f"{k} ×{v}" for k, v in s["support_parts"].items()))
-    print(f"delay   {_si(s['delay_s'], 's')} worst path (maximum figures)")
+    print(f"delay   {si(s['delay_s'], 's')} worst path (maximum figures)")
     if "supply_current_a" in s:
-        print(f"supply  {_si(s['supply_current_a'], 'A')} worst case")
+        print(f"supply  {si(s['supply_current_a'], 'A')} worst case")
     print(f"cost    {s['cost']:.2f} {s['currency']}")
     for c in s["cautions"]:
         print(f"caution: {c}")
@@ -265,12 +253,12 @@ def cmd_timing(args):
         _print_json(r)
         return code
     print(f"design  {r['design']}  on target {r['target']}  ({r['parts']} parts)")
-    print(f"delay   {_si(r['delay_s'], 's')} worst path (maximum figures), {_si(r['delay_typ_s'], 's')} "
+    print(f"delay   {si(r['delay_s'], 's')} worst path (maximum figures), {si(r['delay_typ_s'], 's')} "
           f"typical; {r['levels']} level(s)")
     print(f"\n{'output':<16}{'best typ':>11}{'best max':>11}{'worst typ':>11}{'worst max':>11}")
     for p in r["paths"]:
-        print(f"{p['output']:<16}{_si(p.get('best_s'), 's'):>11}{_si(p.get('best_max_s'), 's'):>11}"
-              f"{_si(p.get('worst_typ_s'), 's'):>11}{_si(p.get('worst_s'), 's'):>11}")
+        print(f"{p['output']:<16}{si(p.get('best_s'), 's'):>11}{si(p.get('best_max_s'), 's'):>11}"
+              f"{si(p.get('worst_typ_s'), 's'):>11}{si(p.get('worst_s'), 's'):>11}")
     if r["critical_path"]:
         st = r.get("critical_start") or {}
         start = st.get("net") or r["critical_path"][0].get("net_in", "")
@@ -281,18 +269,18 @@ def cmd_timing(args):
         for h in r["critical_path"]:
             if "from_pin_number" in h:
                 print(f"  {h['part']:<5} {h['cell']:<8} pin {h['from_pin_number']} ({h['from_pin']}) → pin "
-                      f"{h['to_pin_number']} ({h['to_pin']})  {h['net']:<14} +{_si(h['delay_s'], 's'):<9} "
-                      f"at {_si(h['arrival_s'], 's')}")
+                      f"{h['to_pin_number']} ({h['to_pin']})  {h['net']:<14} +{si(h['delay_s'], 's'):<9} "
+                      f"at {si(h['arrival_s'], 's')}")
             else:
-                print(f"  {h.get('part', '')} {h['net']}  at {_si(h.get('arrival_s'), 's')}")
+                print(f"  {h.get('part', '')} {h['net']}  at {si(h.get('arrival_s'), 's')}")
     if r.get("clock_max_hz"):
-        print(f"\nclock   at most {r['clock_max_hz'] / 1e6:.3g} MHz (period {_si(r['clock_period_min_s'], 's')})"
-              + (f"; hold slack {_si(r['hold_slack_s'], 's')}" if r.get("hold_slack_s") is not None else ""))
+        print(f"\nclock   at most {r['clock_max_hz'] / 1e6:.3g} MHz (period {si(r['clock_period_min_s'], 's')})"
+              + (f"; hold slack {si(r['hold_slack_s'], 's')}" if r.get("hold_slack_s") is not None else ""))
         for n in r.get("clock_notes", []):
             print(f"        {n}")
     for f in r.get("floating", []):
-        print(f"floats  {f['net']} ({f['part']} pole {f['pole']}): {_si(f['floating_s'][0], 's')} to "
-              f"{_si(f['floating_s'][1], 's')}, settled by {_si(f['settled_s'], 's')}"
+        print(f"floats  {f['net']} ({f['part']} pole {f['pole']}): {si(f['floating_s'][0], 's')} to "
+              f"{si(f['floating_s'][1], 's')}, settled by {si(f['settled_s'], 's')}"
               + ("" if f["loaded"] else "  (no load resistor)"))
     g = r["glitch_search"]
     if g.get("checked") is not None:
@@ -307,8 +295,8 @@ def cmd_timing(args):
     for h in r["hazards"]:
         when = "; ".join(_cube_text(w) for w in h["when"])
         print(f"  {h['output']:<12}{h['kind']:<10}{', '.join(h['inputs_changed'])} changes "
-              f"({'; '.join(h['directions'])}) when {when}: pulse {_si(h['width_s'][0], 's')} to "
-              f"{_si(h['width_s'][1], 's')}")
+              f"({'; '.join(h['directions'])}) when {when}: pulse {si(h['width_s'][0], 's')} to "
+              f"{si(h['width_s'][1], 's')}")
         for p in h["racing_paths"]:
             if "hops" in p:
                 print(f"      {p['from']} → " + " → ".join(_hop_text(x) for x in p["hops"]))
@@ -352,16 +340,16 @@ def _parts_args(p):
          _parts_args)
 def cmd_parts(args):
     from . import flow
-    from .write import parts as wparts
     _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
-    b = flow.build(args.design, args.target, effort=args.effort, **_read_options(args))
+    p = flow.parts(args.design, args.target, effort=args.effort, copies=args.qty, **_read_options(args))
     if args.json:
-        _print_json(wparts.parts_json(b, args.qty))
+        _print_json(p["json"])
     elif args.csv:
-        sys.stdout.write(wparts.parts_csv(b, args.qty))
+        sys.stdout.write(p["csv"])
     else:
-        print(f"{b.design} on {b.target.name} (proof: {b.verified})")
-        sys.stdout.write(wparts.parts_table(b, args.qty))
+        b, a = p["result"]
+        print(f"{b.design} on {b.target.name} (proof: {a.verified})")
+        sys.stdout.write(p["table"])
     return 0
 
 
@@ -382,17 +370,15 @@ def _compare_args(p):
          _compare_args)
 def cmd_compare(args):
     from . import flow
-    from .write import atomic_write
-    from .write.compare import compare_svg, compare_table
     _progress(args)
     names = [t.strip() for t in args.targets.split(",") if t.strip()] if args.targets else None
-    data = flow.compare(args.design, names, effort=args.effort, jobs=args.jobs, **_read_options(args))
-    if args.svg:
-        atomic_write(args.svg, compare_svg(data), protect=(args.design,))
+    data = flow.compare(args.design, names, effort=args.effort, jobs=args.jobs, svg=args.svg,
+                        **_read_options(args))
+    table = data.pop("table")
     if args.json:
         _print_json(data)
     else:
-        sys.stdout.write(compare_table(data))
+        sys.stdout.write(table)
         if args.svg:
             print(f"wrote {args.svg}")
     built = [t for t in data["targets"] if "error" not in t]
@@ -428,16 +414,6 @@ def cmd_targets(args):
     return 0
 
 
-def _si_text(value, unit) -> str:
-    """``7e-09, "s"`` -> ``"7 ns"`` (three significant digits)."""
-    if value == 0:
-        return f"0 {unit}"
-    for scale, prefix in ((1e3, "k"), (1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p")):
-        if abs(value) >= scale:
-            return f"{value / scale:.3g} {prefix}{unit}"
-    return f"{value:.3g} {unit}"
-
-
 def _print_target(t) -> None:
     print(f"target    {t['name']}  ({t['kind']})")
     print(f"          {t['description']}")
@@ -457,14 +433,14 @@ def _print_target(t) -> None:
         print(f"  {'':<14}{p['package']}, {p['pin_count']} pins, {len(p['slots'])} slots; price {price}")
         for cell, d in p["delay_max_s"].items():
             typ = p["delay_typ_s"][cell]
-            print(f"  {'':<14}delay {cell}: {_si_text(typ['value'], 's')} typical ({typ['conditions']}), "
-                  f"{_si_text(d['value'], 's')} maximum ({d['conditions']})")
+            print(f"  {'':<14}delay {cell}: {si(typ['value'], 's')} typical ({typ['conditions']}), "
+                  f"{si(d['value'], 's')} maximum ({d['conditions']})")
         if p["relay"]:
             r = p["relay"]
-            print(f"  {'':<14}{r['poles']} pole(s), form {r['form']}; coil {_si_text(r['coil_voltage_v']['value'], 'V')}, "
-                  f"{r['coil_resistance_ohm']['value']:g} ohm, {_si_text(r['coil_current_a']['value'], 'A')}; "
-                  f"operate {_si_text(r['operate_time_s']['value'], 's')}, release {_si_text(r['release_time_s']['value'], 's')}, "
-                  f"bounce {_si_text(r['bounce_time_s']['value'], 's')}; contacts {r['contact_rating']}")
+            print(f"  {'':<14}{r['poles']} pole(s), form {r['form']}; coil {si(r['coil_voltage_v']['value'], 'V')}, "
+                  f"{r['coil_resistance_ohm']['value']:g} ohm, {si(r['coil_current_a']['value'], 'A')}; "
+                  f"operate {si(r['operate_time_s']['value'], 's')}, release {si(r['release_time_s']['value'], 's')}, "
+                  f"bounce {si(r['bounce_time_s']['value'], 's')}; contacts {r['contact_rating']}")
         for s in p["slots"]:
             pins = " ".join(f"{k}={v}" for k, v in s["pins"].items())
             print(f"  {'':<14}slot {s['index']}  {s['cell']:<11}{pins}")
@@ -478,7 +454,7 @@ def _print_target(t) -> None:
         print(f"  support     {r['part']} x{r['count']} per {r['per']}" + (f"  ({r['source']})" if r["source"] else ""))
     if t["supply_voltage_v"]:
         s = t["supply_voltage_v"]
-        print(f"  supply      {_si_text(s['value'], 'V')}  ({s['source']})")
+        print(f"  supply      {si(s['value'], 'V')}  ({s['source']})")
     if t["other_parts"]:
         print(f"  also in the catalogs: {', '.join(t['other_parts'])}")
     print("\ndata sources (figures and pinouts citing each)")

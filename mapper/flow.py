@@ -1,17 +1,35 @@
-"""The one place that knows the whole line: read -> check -> map -> analyze -> verify -> write.
+"""The one place that knows the whole line: read -> check -> map -> prove -> analyze -> write.
 
 Each public function here is one command's job, returning plain data (dicts
-with stable keys) that the CLI prints as a table or as JSON.
+with stable keys, or text laid out by a writer) that the CLI prints as a
+table or as JSON.  :func:`fit` is the heart: it maps a design onto a target,
+proves the build equal to the design, and runs every analysis of it,
+returning a :class:`Result` (the build and its analysis).
 """
 from __future__ import annotations
 
 import logging
+import time
 from pathlib import Path
+from typing import NamedTuple
 
+from . import progress
+from .analyze import analyze_build, build_glitches
+from .analyze.glitch import MAX_TRANSITIONS, TIMING_MAX_WORK
+from .analyze.results import Analysis, Proof
+from .build import Build
+from .catalog import Target, builtin_targets, describe_target
+from .catalog import load_target as _load_target
+from .errors import InputError, InternalError, NetfitError
+from .logic.hazard import COLLAPSE_INPUTS, add_consensus, design_hazards
+from .netlist import Netlist
 from .read import read_design
-from .write import writer_for
+from .verify import check_equivalence
+from .write import BUILD_WRITERS, atomic_write, writer_for
+from .write.compare import compare_svg, compare_table
+from .write.parts import order_rows, parts_csv, parts_json, parts_table
 
-__all__ = ["inspect", "verify", "convert", "load_target", "targets", "target_info", "fit", "build",
+__all__ = ["Result", "inspect", "verify", "convert", "load_target", "targets", "target_info", "fit", "build",
            "write_build", "parts", "compare", "BUILD_FILES", "fit_hazard_free", "timing"]
 
 log = logging.getLogger(__name__)
@@ -51,8 +69,6 @@ def _count(items) -> dict:
 
 def verify(path_a, path_b, **read_options) -> dict:
     """Prove two designs equal, or find an input that tells them apart."""
-    from .verify import check_equivalence
-
     a = read_design(path_a, **read_options)
     b = read_design(path_b, **read_options)
     result = check_equivalence(a, b)
@@ -70,15 +86,20 @@ def convert(src, dst, **read_options) -> dict:
             "storage": len(n.storage()), "nodes": len(n.nodes) - len(n.inputs)}
 
 
-def load_target(name_or_path):
+class Result(NamedTuple):
+    """A proved build and everything found out about it."""
+
+    build: Build
+    analysis: Analysis
+
+
+def load_target(name_or_path) -> Target:
     """A built-in target by name, or a user's target file."""
-    from .fit.target import load_target as _load
-    return _load(name_or_path)
+    return _load_target(name_or_path)
 
 
 def targets() -> list:
     """The built-in targets: a list of ``{"name", "description", "path"}``."""
-    from .fit.target import builtin_targets
     import importlib.resources
     root = importlib.resources.files("mapper.targets")
     return [{"name": n, "description": d, "path": str(root.joinpath(n + ".xml"))} for n, d in builtin_targets()]
@@ -86,101 +107,68 @@ def targets() -> list:
 
 def target_info(name_or_path) -> dict:
     """Everything about one target (built-in name or path): cells, parts, defaults, data sources."""
-    from .fit.target import describe_target, load_target as _load
-    return describe_target(_load(name_or_path))
+    return describe_target(_load_target(name_or_path))
 
 
-def fit(design, target, effort: int = 1, keep=(), trees: bool = False):
-    """Map a read design onto a loaded target and prove the build; returns the Build.
+def _map(design: Netlist, target: Target, effort: int, keep, trees: bool) -> Build:
+    if target.is_relay:
+        from .fit.relay import fit_relays
+        return fit_relays(design, target, effort=effort)
+    from .fit.fit import fit_gates
+    return fit_gates(design, target, effort=effort, keep=keep, trees=trees)
+
+
+def prove(design: Netlist, build: Build) -> Proof:
+    """Prove ``build`` does the logic of ``design``; a build that differs is a bug of ours (exit 3)."""
+    result = check_equivalence(design, build.to_netlist(), hints=build.hints())
+    if not result.equivalent:
+        raise InternalError(
+            f"the build of {design.name} on {build.target.name} does not do the same logic as the design "
+            f"({result.method}; counterexample {result.counterexample}) — this is a bug in netfit")
+    return Proof("proved", result.method, list(result.notes))
+
+
+def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False) -> Result:
+    """Map a read design onto a loaded target, prove the build, and analyze it.
 
     ``keep`` and ``trees`` serve hazard-free builds (see
-    :func:`mapper.fit.fit.fit_gates`).
-
-    A build that fails its proof is a bug of ours (:class:`InternalError`,
-    exit 3), never a result.
+    :func:`mapper.fit.fit.fit_gates`).  A build that fails its proof is a bug
+    of ours (:class:`InternalError`, exit 3), never a result.
     """
-    from .analyze.timing import static_timing
-    from .errors import InternalError
-    from .verify import check_equivalence
-
-    import time
-
     clock = [time.perf_counter()]
-    stages = {}
+    stages: dict = {}
 
     def lap(name):
         now = time.perf_counter()
         stages[name] = round(now - clock[0], 3)
         clock[0] = now
 
-    if getattr(target, "kind", "gates") == "relay":
-        from .fit.relay import fit_relays
-        build = fit_relays(design, target, effort=effort)
-    else:
-        from .fit.fit import fit_gates
-        build = fit_gates(design, target, effort=effort, keep=keep, trees=trees)
+    build = _map(design, target, effort, keep, trees)
     lap("fit")
-    if getattr(target, "kind", "gates") != "relay":
-        # relay builds carry their own timing and supply figures (mapper.analyze.relay_timing)
-        build.timing.update(static_timing(build))
-        _supply(build)
-    lap("timing")
-    result = check_equivalence(design, build.to_netlist(), hints=build.hints())
+    proof = prove(design, build)
     lap("proof")
-    if not result.equivalent:
-        raise InternalError(
-            f"the build of {design.name} on {target.name} does not do the same logic as the design "
-            f"({result.method}; counterexample {result.counterexample}) — this is a bug in netfit")
-    build.verified = "proved"
-    build.notes.extend(result.notes)
-    from .analyze.glitch import glitch_report
-    build.timing.update(glitch_report(build))  # hazards in every build report (budgeted)
-    lap("glitches")
-    build.timing["stage_s"] = stages
-    return build
-
-
-def _supply(build) -> None:
-    """Supply current: quiescent per part plus per active unit (worst case: every unit active)."""
-    from collections import Counter
-
-    worst = typ = 0.0
-    per_part = Counter(c.part_ref for c in build.cells)
-    per_part.update(k.part_ref for k in build.contacts)
-    for p in build.parts:
-        pd = build.target.parts[p.part_id]
-        q = pd.current_quiescent.value if pd.current_quiescent is not None else 0.0
-        u = pd.current_per_unit.value if pd.current_per_unit is not None else 0.0
-        used = per_part[p.ref]
-        if pd.relay is not None:
-            coil = pd.relay.coil_current.value
-            worst += coil
-            typ += coil / 2
-        else:
-            worst += q + u * used
-            typ += q + u * used / 2
-    build.timing["supply_current_a"] = round(worst, 9)
-    build.timing["supply_current_typ_a"] = round(typ, 9)
+    analysis = analyze_build(build, proof)
+    lap("analysis")
+    analysis.stage_s = stages
+    return Result(build, analysis)
 
 
 def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, hazard_free: bool = False,
-          **read_options):
-    """``netfit build``: read, fit, prove, and write the build's files when ``out_dir`` is given."""
-    from . import progress
-
+          **read_options) -> Result:
+    """``netfit build``: read, fit, prove, analyze, and write the build's files when ``out_dir`` is given."""
     with progress.stage("reading the design"):
         design = read_design(path, **read_options)
     target = load_target(target_name)
     with progress.stage(f"fitting {design.name} onto {target.name} and proving it"):
-        b = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
+        r = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
     if out_dir is not None:
         with progress.stage("writing the build's files"):
-            write_build(b, out_dir, protect=(path,), copies=copies)
-    return b
+            write_build(r, out_dir, protect=(path,), copies=copies)
+    return r
 
 
 #: file names of ``netfit build -o DIR`` besides ``<design>.v/.blif/.json``
-BUILD_FILES = ("cells.v", "parts.csv", "wiring.txt", "schematic.svg", "report.html")
+BUILD_FILES = tuple(name for name, _ in BUILD_WRITERS if not name.startswith("."))
 
 
 def _file_stem(design: str) -> str:
@@ -189,58 +177,45 @@ def _file_stem(design: str) -> str:
     return stem + "_build" if stem == "cells" else stem
 
 
-def write_build(b, out_dir, protect=(), copies: int = 1) -> list:
+def write_build(r: Result, out_dir, protect=(), copies: int = 1) -> list:
     """Write the build's files into ``out_dir``; returns their paths.
 
     ``<design>.v`` and ``cells.v`` (structural Verilog and cell models),
     ``<design>.blif``, ``<design>.json`` (the whole build), ``parts.csv``
     (the ordering list for ``copies`` copies), ``wiring.txt``,
-    ``schematic.svg`` and ``report.html``.  Each file is written through a
-    temporary file and a rename; the wiring is checked (every pin on at most
-    one net) before any file is written.
+    ``schematic.svg`` and ``report.html`` (:data:`mapper.write.BUILD_WRITERS`).
+    Each file is written through a temporary file and a rename; the wiring is
+    checked (every pin on at most one net) before any file is written.
     """
-    from .write import blif, html, parts, svg, verilog, wiring
-    from .write import json as wjson
+    from .write import wiring
 
-    wiring.wiring(b)  # raises before anything is written if a pin would join two nets
+    wiring.wiring(r.build, r.analysis)  # raises before anything is written if a pin would join two nets
     out = Path(out_dir)
-    stem = _file_stem(b.design)
-    jobs = [
-        (f"{stem}.v", verilog.write_build),  # also writes cells.v beside it
-        (f"{stem}.blif", blif.write_build),
-        (f"{stem}.json", wjson.write_build),
-        ("parts.csv", lambda b_, p, protect: parts.write_build(b_, p, protect=protect, copies=copies)),
-        ("wiring.txt", wiring.write_build),
-        ("schematic.svg", svg.write_build),
-        ("report.html", html.write_build),
-    ]
+    stem = _file_stem(r.build.design)
     written = []
-    for name, fn in jobs:
-        p = out / name
-        fn(b, p, protect=protect)
-        written.append(p)
-        if name.endswith(".v"):
-            written.append(out / verilog.CELLS_FILE)
+    for name, module in BUILD_WRITERS:
+        p = out / (stem + name if name.startswith(".") else name)
+        written += module.write_build(r.build, r.analysis, p, protect=protect, copies=copies)
         log.info("wrote %s", p)
     return written
 
 
-def parts(path, target_name, effort: int = 1, copies: int = 1, **read_options) -> tuple:
-    """``netfit parts``: the build and its ordering list for ``copies`` copies (``(build, rows)``)."""
-    from .write.parts import order_rows
+def parts(path, target_name, effort: int = 1, copies: int = 1, **read_options) -> dict:
+    """``netfit parts``: the ordering list for ``copies`` copies of the build.
 
-    b = build(path, target_name, effort=effort, **read_options)
-    return b, order_rows(b, copies)
+    Returns ``{"result": Result, "json": data, "csv": text, "table": text}``.
+    """
+    r = build(path, target_name, effort=effort, **read_options)
+    return {"result": r, "json": parts_json(r.build, copies), "csv": parts_csv(r.build, copies),
+            "table": parts_table(r.build, copies), "rows": order_rows(r.build, copies)}
 
 
 def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -> dict:
     """Build one target for :func:`compare` (runs in a worker process); never raises."""
-    from .errors import InputError, NetfitError
-
     try:
         design = read_design(path, **read_options)
-        b = fit(design, load_target(target_name), effort=effort)
-        return b.summary()
+        r = fit(design, load_target(target_name), effort=effort)
+        return r.analysis.summary(r.build)
     except InputError as exc:
         return {"target": target_name, "error": "; ".join(d.message for d in exc.diagnostics),
                 "error_kind": "input"}
@@ -258,22 +233,21 @@ def _compare_worker(level: int) -> None:
     logging.basicConfig(level=level, format="%(levelname)s: %(message)s")
 
 
-def compare(path, target_names=None, effort: int = 1, jobs: int | None = None, **read_options) -> dict:
+def compare(path, target_names=None, effort: int = 1, jobs: int | None = None, svg=None,
+            **read_options) -> dict:
     """``netfit compare``: build the design on every target, in parallel processes.
 
     Returns ``{"design": name, "file": path, "targets": [summary, ...]}`` in
-    the order of ``target_names`` (default: every built-in target).  Each
-    entry is the target's build summary (:meth:`~mapper.build.Build.summary`)
-    or, for a target the design cannot be built on, ``{"target", "error",
-    "error_kind"}``.  A bad design or an unknown target name raises before
-    anything is built.
+    the order of ``target_names`` (default: every built-in target), and under
+    ``"table"`` the side-by-side table as text.  Each entry is the target's
+    build summary (:meth:`~mapper.analyze.results.Analysis.summary`) or, for a
+    target the design cannot be built on, ``{"target", "error",
+    "error_kind"}``.  ``svg`` names a file for the bar chart.  A bad design or
+    an unknown target name raises before anything is built.
     """
     import multiprocessing
     import os
     from concurrent.futures import ProcessPoolExecutor, as_completed
-
-    from . import progress
-    from .fit.target import builtin_targets
 
     design = read_design(path, **read_options)
     names = list(target_names) if target_names else [n for n, _ in builtin_targets()]
@@ -296,26 +270,25 @@ def compare(path, target_names=None, effort: int = 1, jobs: int | None = None, *
                 for f in as_completed(futs):
                     results[futs[f]] = f.result()
                     st.advance()
-    return {"design": design.name, "file": str(path), "targets": [results[n] for n in names]}
+    data = {"design": design.name, "file": str(path), "targets": [results[n] for n in names]}
+    if svg:
+        atomic_write(svg, compare_svg(data), protect=(path,))
+    return {**data, "table": compare_table(data)}
 
 
-def fit_hazard_free(design, target, effort: int = 1):
+def fit_hazard_free(design: Netlist, target: Target, effort: int = 1) -> Result:
     """Fit ``design`` with every two-level cover made free of static hazards (``--hazard-free``).
 
     Small cones that glitch are collapsed into two-level covers and
-    consensus terms are added (:func:`mapper.analyze.hazard.add_consensus`),
+    consensus terms are added (:func:`mapper.logic.hazard.add_consensus`),
     the rewritten design is proved equal to the design, and the mapper keeps
     the added terms.  Of the builds at each effort level up to ``effort``
     and the plain build, the one with the fewest glitches found, then the
-    fewest parts, is returned.  ``build.timing["hazard_free"]`` says what the
+    fewest parts, is returned.  ``analysis.hazard_free`` says what the
     terms cost: the added terms, ``chosen`` (``"consensus"`` or ``"plain"``),
     ``parts_plain``/``parts``/``extra_parts``, ``cells_plain``/``cells`` and the
     glitch finder's hazard counts of both builds.
     """
-    from .analyze.hazard import COLLAPSE_INPUTS, add_consensus
-    from .errors import InternalError
-    from .verify import check_equivalence
-
     hf, kept, report = add_consensus(design, collapse_inputs=COLLAPSE_INPUTS)
     same = check_equivalence(design, hf)
     if not same.equivalent:
@@ -326,23 +299,25 @@ def fit_hazard_free(design, target, effort: int = 1):
     # effort level is tried and the glitch finder picks: fewest glitches, then fewest parts --
     # the plain build included, so the answer is never worse than it (ties go to the plain build).
     tries = [plain] + [fit(hf, target, effort=e, keep=kept, trees=True) for e in sorted({0, effort})]
-    b = min(tries, key=lambda x: (x.timing.get("hazards_total", 0), len(x.parts), len(x.cells)))
-    report["chosen"] = "plain" if b is plain else "consensus"
-    if b is plain:
+    best = min(tries, key=lambda x: (x.analysis.glitches.total, len(x.build.parts), len(x.build.cells)))
+    report["chosen"] = "plain" if best is plain else "consensus"
+    if best is plain:
         report["note"] = ("the builds with consensus terms showed no fewer glitches than the plain build "
                           "(the mapper rebuilt kept nodes with reconvergent paths, or the hazards are "
                           "dynamic ones that consensus terms do not cure): the plain build is kept")
+    b, pb = best.build, plain.build
     report.update({
-        "parts_plain": len(plain.parts), "parts": len(b.parts), "extra_parts": len(b.parts) - len(plain.parts),
-        "cells_plain": len(plain.cells), "cells": len(b.cells),
-        "hazards_plain": plain.timing.get("hazards_total", 0), "hazards": b.timing.get("hazards_total", 0),
+        "parts_plain": len(pb.parts), "parts": len(b.parts), "extra_parts": len(b.parts) - len(pb.parts),
+        "cells_plain": len(pb.cells), "cells": len(b.cells),
+        "hazards_plain": plain.analysis.glitches.total, "hazards": best.analysis.glitches.total,
     })
-    if getattr(target, "kind", "gates") == "relay" and b is not plain:
+    if target.is_relay and best is not plain:
         report["note"] = "contact networks are not built as AND-OR covers: the consensus terms may not survive"
-    b.timing["hazard_free"] = report
-    b.notes.append(f"hazard-free covers: {report['terms_added']} consensus term(s) added in "
-                   f"{report['nodes_split']} node(s); {report['extra_parts']:+d} part(s) against the plain build")
-    return b
+    best.analysis.hazard_free = report
+    best.analysis.notes.append(
+        f"hazard-free covers: {report['terms_added']} consensus term(s) added in "
+        f"{report['nodes_split']} node(s); {report['extra_parts']:+d} part(s) against the plain build")
+    return best
 
 
 def timing(path, target_name, hazard_free: bool = False, multi: bool = False, effort: int = 1,
@@ -358,31 +333,30 @@ def timing(path, target_name, hazard_free: bool = False, multi: bool = False, ef
     ``cover_hazards`` (the algebraic check of the design's two-level covers),
     ``floating`` for relay builds and ``hazard_free`` when asked for.
     """
-    from .analyze.glitch import MAX_TRANSITIONS, TIMING_MAX_WORK, glitch_report
-    from .analyze.hazard import design_hazards
-
     design = read_design(path, **read_options)
     target = load_target(target_name)
-    b = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
+    r = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
+    b, a = r.build, r.analysis
     if b.cells:
-        b.timing.update(glitch_report(b, multi=multi, max_transitions=max_transitions or MAX_TRANSITIONS,
-                                      max_work=None if max_transitions else TIMING_MAX_WORK))
-    t = b.timing
-    paths = t.get("paths") or [{"output": o, "best_s": v[0], "worst_s": v[1]}
-                               for o, v in t.get("outputs", {}).items()]
+        a.glitches = build_glitches(b, multi=multi, max_transitions=max_transitions or MAX_TRANSITIONS,
+                                    max_work=None if max_transitions else TIMING_MAX_WORK)
+    t = a.timing.as_dict()
+    paths = t.get("paths") or [{"output": o, "best_s": v[0], "worst_s": v[1]} for o, v in t["outputs"].items()]
     out = {"design": b.design, "target": target.name, "parts": len(b.parts),
-           "delay_s": t.get("delay_s"), "delay_typ_s": t.get("delay_typ_s"), "levels": t.get("levels"),
-           "outputs": t.get("outputs", {}), "paths": paths, "critical_path": t.get("critical_path", []),
+           "delay_s": t["delay_s"], "delay_typ_s": t["delay_typ_s"], "levels": t["levels"],
+           "outputs": t["outputs"], "paths": paths, "critical_path": t["critical_path"],
            "critical_start": t.get("critical_start"), "critical_end": t.get("critical_end")}
     for key in ("clock_max_hz", "clock_period_min_s", "clock_path", "hold_slack_s", "input_setup_s",
                 "clock_to_output_s", "clock_notes", "overloaded", "per_level_s", "operate_s", "release_s",
-                "bounce_s", "floating"):
+                "bounce_s"):
         if key in t:
             out[key] = t[key]
-    out.update({"hazards": t.get("hazards", []), "hazards_total": t.get("hazards_total", 0),
-                "glitch_errors": t.get("glitch_errors", 0), "glitch_search": t.get("glitch_search", {}),
-                "cover_hazards": design_hazards(design)})
-    if "hazard_free" in t:
-        out["hazard_free"] = t["hazard_free"]
-    out["notes"] = list(b.notes)
+    g = a.glitches
+    if g.floating is not None:
+        out["floating"] = g.floating
+    out.update({"hazards": g.hazards, "hazards_total": g.total, "glitch_errors": g.errors,
+                "glitch_search": g.search or {}, "cover_hazards": design_hazards(design)})
+    if a.hazard_free is not None:
+        out["hazard_free"] = a.hazard_free
+    out["notes"] = a.all_notes(b)
     return out

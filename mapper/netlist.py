@@ -13,9 +13,10 @@ while low, ``as`` asynchronous (no control).  Initial values: 0, 1,
 2 (don't care), 3 (unknown).
 
 Bus bits are named ``name[i]``; flattened hierarchy uses ``/``-joined instance
-paths.  ``Netlist.graph()`` gives the ``networkx.DiGraph`` view (edges from
-fan-in to node); every check and analysis is iterative, never recursive over
-depth, because netlists can be thousands of levels deep.
+paths.  ``Netlist.combinational_graph()`` gives the ``networkx.DiGraph`` view
+(edges from fan-in to node, none into storage); every check and analysis is
+iterative, never recursive over depth, because netlists can be thousands of
+levels deep.
 
 Examples
 --------
@@ -40,6 +41,7 @@ import networkx as nx
 
 from .errors import Diagnostic, NetlistError
 from .logic.function import Function
+from .order import topological_order
 
 __all__ = [
     "Input",
@@ -165,16 +167,6 @@ class Netlist:
                 out.setdefault(f, []).append(name)
         return out
 
-    def graph(self) -> nx.DiGraph:
-        """The gate graph: one node per net (attribute ``node``), edges fan-in -> node."""
-        g = nx.DiGraph()
-        for name, node in self.nodes.items():
-            g.add_node(name, node=node)
-        for name, node in self.nodes.items():
-            for f in node.fanins:
-                g.add_edge(f, name)
-        return g
-
     def combinational_graph(self) -> nx.DiGraph:
         """The gate graph without edges into storage elements (they break loops)."""
         g = nx.DiGraph()
@@ -188,26 +180,12 @@ class Netlist:
     def topological_order(self) -> list:
         """Every net, fan-ins before the logic that reads them; storage and
         inputs count as sources.  Raises :class:`NetlistError` on a loop."""
-        indeg = {}
-        users: dict = {}
-        for name, node in self.nodes.items():
-            if isinstance(node, Logic):
-                indeg[name] = len(node.fanins)
-                for f in node.fanins:
-                    users.setdefault(f, []).append(name)
-            else:
-                indeg[name] = 0
-        ready = [n for n, d in indeg.items() if d == 0]
-        order = []
-        while ready:
-            n = ready.pop()
-            order.append(n)
-            for u in users.get(n, ()):
-                indeg[u] -= 1
-                if indeg[u] == 0:
-                    ready.append(u)
-        if len(order) != len(self.nodes):
-            missing = [f for node in self.nodes.values() for f in node.fanins if f not in self.nodes]
+        nodes = self.nodes
+        order, left = topological_order(nodes, lambda n: nodes[n].fanins if isinstance(nodes[n], Logic) else None)
+        undriven = not left and any(f not in nodes for node in nodes.values() if isinstance(node, Logic)
+                                    for f in node.fanins)
+        if left or undriven:
+            missing = [f for node in nodes.values() for f in node.fanins if f not in nodes]
             if missing:
                 raise NetlistError(Diagnostic(f"net '{missing[0]}' is used but never driven"))
             raise NetlistError(self._loop_diagnostics())

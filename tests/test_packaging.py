@@ -22,7 +22,7 @@ pytestmark = pytest.mark.slow
 
 _PROBE = r"""
 import importlib.resources, json, mapper
-from mapper.fit.target import builtin_targets, load_target
+from mapper.catalog import builtin_targets, load_target
 out = {"mapper": mapper.__file__, "targets": {}, "catalogs": sorted(
     p.name for p in importlib.resources.files("mapper.libraries").iterdir() if p.name.endswith((".xml", ".rng"))),
     "target_files": sorted(p.name for p in importlib.resources.files("mapper.targets").iterdir()

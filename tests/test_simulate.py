@@ -266,10 +266,10 @@ def _random_sequential(rng, n_in=4, n_ff=5, n_gates=30):
     return net, gates
 
 
-@pytest.mark.skipif(shutil.which("iverilog") is None, reason="iverilog (outside simulator) not installed")
 def test_sequential_against_iverilog(tmp_path):
     # Icarus Verilog as an independent simulator: a random netlist of gates and
     # flip-flops, written as structural Verilog here, 30 clock cycles
+    assert shutil.which("iverilog"), "iverilog (the outside simulator) is not installed: `make debs`"
     rng = random.Random(11)
     net, gates = _random_sequential(rng)
     ops = {AND2.table(): "{a} & {b}", XOR2.table(): "{a} ^ {b}", NAND2.table(): "~({a} & {b})",

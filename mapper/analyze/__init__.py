@@ -1,0 +1,59 @@
+"""Analyses of a build: timing, glitches, supply current, relay checks and cautions.
+
+Each analysis reads a :class:`~mapper.build.Build` (and nothing of how it was
+made) and returns a typed result (:mod:`mapper.analyze.results`).
+:func:`analyze_build` runs every analysis that fits the kind of build;
+:mod:`mapper.flow` calls it after the proof.
+
+Modules: :mod:`~mapper.analyze.timing` (static timing of gate builds),
+:mod:`~mapper.analyze.relay` (relay timing, feedback loops),
+:mod:`~mapper.analyze.supply` (supply current),
+:mod:`~mapper.analyze.timed`, :mod:`~mapper.analyze.glitch_engine` and
+:mod:`~mapper.analyze.glitch` (the glitch finder for gate builds),
+:mod:`~mapper.analyze.relay_glitch` (transfers of changeover contacts),
+:mod:`~mapper.analyze.cautions`.
+"""
+from __future__ import annotations
+
+from ..build import Build
+from .cautions import cautions
+from .glitch import BUILD_MAX_TRANSITIONS, BUILD_MAX_WORK, glitch_report
+from .relay import feedback_loops, relay_timing
+from .relay_glitch import relay_glitches, relay_transfers
+from .results import Analysis, Glitches, Proof, Timing
+from .supply import supply_current
+from .timing import static_timing
+
+__all__ = ["analyze_build", "build_timing", "build_glitches"]
+
+
+def build_timing(build: Build) -> Timing:
+    """Worst and best paths of any build (coil levels for relays, catalog delays for gates)."""
+    return relay_timing(build) if build.is_relay else static_timing(build)
+
+
+def build_glitches(build: Build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
+                   max_work: int | None = BUILD_MAX_WORK) -> Glitches:
+    """Glitches of any build: timed simulation of gate builds, contact transfers of relay builds.
+
+    ``multi``, ``max_transitions`` and ``max_work`` steer the search of gate
+    builds (:func:`mapper.analyze.glitch.glitch_report`); a relay build is
+    searched in full up to a size limit (:func:`mapper.analyze.relay_glitch.relay_glitches`).
+    """
+    if not build.is_relay:
+        return glitch_report(build, multi=multi, max_transitions=max_transitions, max_work=max_work)
+    if not build.contacts:
+        return Glitches([], 0, 0, None, [])
+    rg = relay_glitches(build)
+    return Glitches(rg["hazards"], len(rg["hazards"]), 0, rg["search"], relay_transfers(build))
+
+
+def analyze_build(build: Build, proof: Proof, glitches: Glitches | None = None) -> Analysis:
+    """Every analysis of ``build``: timing, supply, glitches (unless given), relay loops, cautions."""
+    timing = build_timing(build)
+    supply = supply_current(build)
+    loops = feedback_loops(build) if build.is_relay else []
+    if glitches is None:
+        glitches = build_glitches(build)
+    return Analysis(timing=timing, supply=supply, glitches=glitches, proof=proof,
+                    cautions=cautions(build, timing, supply, loops), loops=loops)

@@ -72,35 +72,35 @@ different pairs of paths raced.
 A glitch on a net that reaches a clock, enable, preset or clear input of a
 storage cell can store a wrong value: it is flagged as an error.
 
-Relay builds have no cells; :func:`relay_transfers` gives the interval
-during which each relay-driven net floats (the changeover contact breaks
-before it makes) and when it has settled (bounce added).
+The circuit comes from :mod:`mapper.analyze.timed` and is simulated by
+:mod:`mapper.analyze.glitch_engine`.  Relay builds have no cells: their
+glitches are the transfers of changeover contacts
+(:mod:`mapper.analyze.relay_glitch`).
 """
 from __future__ import annotations
 
-import heapq
 import logging
 import random
-from dataclasses import dataclass, field
+from itertools import combinations
 
+from ..build import Build
 from ..logic.function import isop
+from .glitch_engine import X, Engine, bits, path_mask, sec
+from .results import Glitches
+from .timed import TimedCircuit
+from .timing import paused_gc
 
 __all__ = [
-    "Gate",
-    "TimedCircuit",
     "find_glitches",
     "glitch_report",
-    "relay_transfers",
-    "relay_glitches",
+    "conditions",
     "PATHS_PER_NET",
     "PATHS_PER_CHANGE",
     "MAX_TRANSITIONS",
     "BUILD_MAX_TRANSITIONS",
     "BUILD_MAX_WORK",
     "BUILD_WORK_PER_CELL",
-    "path_mask",
     "TIMING_MAX_WORK",
-    "WATCH_ROLES",
 ]
 
 log = logging.getLogger(__name__)
@@ -122,527 +122,12 @@ BUILD_MAX_WORK = 80_000
 #: with the build's setup (a timed run of one change on a 20k-cell build is some 100k-300k evaluations,
 #: so a big build gets at least one change's uniform-delay runs; the share of changes examined shrinks)
 BUILD_WORK_PER_CELL = 16
-#: storage-cell input roles where a glitch is an error
-WATCH_ROLES = ("clock", "enable", "preset", "clear")
 #: hazards listed at most (the count of all is given)
 MAX_LISTED = 500
-
-_X = 2
-
-
-@dataclass
-class Gate:
-    """One timed cell: ``out = table(ins)`` after a delay in ``[dmin, dmax]`` seconds.
-
-    ``table`` is a truth table over ``ins`` (input 0 least significant).
-    ``part``, ``cell``, ``slot``, ``in_pins`` (``(name, number)`` per input)
-    and ``out_pin`` describe the cell for reports.
-    """
-
-    out: str
-    ins: tuple
-    table: int
-    dmin: float
-    dmax: float
-    part: str | None = None
-    cell: str | None = None
-    slot: int | None = None
-    in_pins: tuple = ()
-    out_pin: tuple | None = None
-
-
-@dataclass
-class TimedCircuit:
-    """A combinational circuit of timed gates (see :class:`Gate`).
-
-    ``inputs`` are the free variables (primary inputs and storage outputs),
-    ``outputs`` maps output names to nets, ``watch`` maps nets that reach a
-    storage cell's clock/enable/preset/clear to descriptions of those pins,
-    ``constants`` maps rail nets to 0/1.
-    """
-
-    name: str
-    inputs: list
-    gates: list
-    outputs: dict
-    watch: dict = field(default_factory=dict)
-    constants: dict = field(default_factory=dict)
-
-    @classmethod
-    def from_build(cls, build, min_fraction: float | None = None) -> "TimedCircuit":
-        """The logic cells of a gate build with their catalog delay ranges.
-
-        ``min`` is the typical figure, or ``min_fraction`` times the maximum
-        when given.  Storage outputs become inputs; an inverted storage
-        output (``QN``) is a zero-delay inverter of ``Q``.
-        """
-        from .timing import PartIndex, net_loads
-
-        target = build.target
-        ix = PartIndex(build)
-        loads = net_loads(build, ix)
-        gates = []
-        inputs = list(build.inputs)
-        taken = set(inputs)
-        shapes: dict = {}
-        watch: dict = {}
-        members: dict = {}
-        for c in build.cells:
-            if getattr(c, "group", None) is not None:
-                members.setdefault(c.group, []).append(c)
-        for key, grp in getattr(build, "storage_groups", {}).items():
-            # storage made of gates: its loop is one storage element here, as for the prover
-            if grp.q not in taken:
-                inputs.append(grp.q)
-                taken.add(grp.q)
-            if grp.control and grp.control not in ("VCC", "GND"):
-                cells = members.get(key, [])
-                watch.setdefault(grp.control, []).append({
-                    "part": cells[0].part_ref if cells else None, "cell": grp.template, "slot": None,
-                    "pin": "control", "pin_number": None,
-                    "role": "clock" if grp.kind in ("re", "fe") else "enable"})
-        for c in build.cells:
-            cd = target.cells[c.cell]
-            if getattr(c, "group", None) is not None:
-                continue
-            if cd.storage is not None:
-                q = c.pins.get(cd.output)
-                if q and q not in taken:
-                    inputs.append(q)
-                    taken.add(q)
-                for extra in cd.extra_outputs:
-                    if c.pins.get(extra) and q:
-                        gates.append(Gate(c.pins[extra], (q,), 0b01, 0.0, 0.0, c.part_ref, c.cell, c.slot,
-                                          ((cd.output, ix.pin_of(c, cd.output)),),
-                                          (extra, ix.pin_of(c, extra))))
-                for p in cd.inputs:
-                    role = cd.roles.get(p)
-                    if role is None and len(cd.inputs) > 1 and p == cd.inputs[1]:
-                        role = "clock"  # a storage cell's control input
-                    net = c.pins.get(p)
-                    if role in WATCH_ROLES and net and net not in ("VCC", "GND"):
-                        watch.setdefault(net, []).append({
-                            "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
-                            "pin_number": ix.pin_of(c, p), "role": role})
-                continue
-            pins = c.pins
-            t, m = ix.cell_delay(c, loads.get(pins.get(cd.output), 0.0))
-            lo = t if min_fraction is None else min_fraction * m
-            # pin numbers and truth table are the same for every cell in the same slot of the same part type
-            key = (ix.part_id(c.part_ref), c.slot, c.cell)
-            shape = shapes.get(key)
-            if shape is None:
-                shape = shapes[key] = (tuple((p, ix.pin_of(c, p)) for p in cd.inputs),
-                                       (cd.output, ix.pin_of(c, cd.output)), cd.function.table())
-            gates.append(Gate(
-                pins[cd.output], tuple([pins[p] for p in cd.inputs]), shape[2],
-                min(lo, m), m, c.part_ref, c.cell, c.slot, shape[0], shape[1]))
-        outputs = {o: build.output_nets.get(o, o) for o in build.outputs}
-        return cls(build.design, inputs, gates, outputs, watch, {"VCC": 1, "GND": 0})
-
-    @classmethod
-    def from_netlist(cls, netlist, dmin: float, dmax: float) -> "TimedCircuit":
-        """A design's logic nodes as gates, each with the delay range ``[dmin, dmax]``.
-
-        Storage outputs become inputs and their controls are watched, as for
-        builds.  Nodes wider than a truth table are refused (``ValueError``).
-        """
-        from ..netlist import Logic, Storage
-
-        inputs = list(netlist.inputs)
-        gates = []
-        watch: dict = {}
-        consts = {}
-        for name, node in netlist.nodes.items():
-            if isinstance(node, Storage):
-                inputs.append(name)
-                if node.control is not None:
-                    watch.setdefault(node.control, []).append({
-                        "part": None, "cell": f"storage {name}", "slot": None, "pin": "control",
-                        "pin_number": None, "role": "clock" if node.kind in ("re", "fe") else "enable"})
-            elif isinstance(node, Logic):
-                if not node.fanins:
-                    consts[name] = node.func.constant_value()
-                    continue
-                gates.append(Gate(name, tuple(node.fanins), node.func.table(), dmin, dmax))
-        return cls(netlist.name, inputs, gates, {o: o for o in netlist.outputs}, watch, consts)
-
-
-class _Engine:
-    """Integer-indexed form of a :class:`TimedCircuit` with the simulations."""
-
-    def __init__(self, circ: TimedCircuit):
-        self.circ = circ
-        ids: dict = {}
-        nid = ids.setdefault
-        for i in circ.inputs:
-            nid(i, len(ids))
-        for n in circ.constants:
-            nid(n, len(ids))
-        raw_in = []
-        raw_out = []
-        for g in circ.gates:
-            raw_in.append(tuple([nid(n, len(ids)) for n in g.ins]))
-            raw_out.append(nid(g.out, len(ids)))
-        for n in list(circ.outputs.values()) + list(circ.watch):
-            nid(n, len(ids))
-        self.ids = ids
-        self.names = list(ids)
-        self.input_ids = [ids[i] for i in circ.inputs]
-        # topological order of the gates
-        drv = {o: k for k, o in enumerate(raw_out)}
-        indeg = [0] * len(circ.gates)
-        users: dict = {}
-        for k, ins in enumerate(raw_in):
-            deps = {n for n in ins if n in drv}
-            indeg[k] = len(deps)
-            for d in deps:
-                users.setdefault(d, []).append(k)
-        ready = [k for k in range(len(circ.gates)) if indeg[k] == 0][::-1]
-        order = []
-        while ready:
-            k = ready.pop()
-            order.append(k)
-            for u in users.get(raw_out[k], ()):
-                indeg[u] -= 1
-                if indeg[u] == 0:
-                    ready.append(u)
-        if len(order) != len(circ.gates):
-            raise ValueError("the circuit's cells form a loop; the glitch finder needs loop-free logic")
-        self.gates = [circ.gates[k] for k in order]
-        self.gin = [raw_in[k] for k in order]
-        self.gout = [raw_out[k] for k in order]
-        self.gtab = [g.table for g in self.gates]
-        self.dmin = [g.dmin for g in self.gates]
-        self.dmax = [g.dmax for g in self.gates]
-        self.driver = {o: k for k, o in enumerate(self.gout)}
-        self.fanout: dict = {}
-        for k, ins in enumerate(self.gin):
-            for n in set(ins):
-                self.fanout.setdefault(n, []).append(k)
-        self.const = {ids[n]: v for n, v in circ.constants.items()}
-        self.watch_ids = {ids[n] for n in circ.watch}
-        self.out_ids = {ids[n] for n in circ.outputs.values()}
-        self.look = sorted(self.watch_ids | self.out_ids)
-        self._cone: dict = {}
-        self._steady: dict = {}
-        #: cell evaluations so far (the search's budget counts these)
-        self.work = 0
-
-    # -- plain and three-valued evaluation --------------------------------
-    def steady(self, state: int) -> list:
-        """Net values (list by net id) with the inputs at ``state`` (bit i = input i)."""
-        v = self._steady.get(state)
-        if v is not None:
-            return v
-        vals = [0] * len(self.names)
-        for n, c in self.const.items():
-            vals[n] = c
-        for i, n in enumerate(self.input_ids):
-            vals[n] = (state >> i) & 1
-        self.work += len(self.gin)
-        for k, ins in enumerate(self.gin):
-            idx = 0
-            for j, n in enumerate(ins):
-                idx |= vals[n] << j
-            vals[self.gout[k]] = (self.gtab[k] >> idx) & 1
-        self._keep(state, vals)
-        return vals
-
-    def _keep(self, state: int, vals: list) -> None:
-        # at most 4096 states, and at most about 4 million values in all (memory on big builds)
-        if len(self._steady) < min(4096, 1 + 4_000_000 // max(1, len(vals))):
-            self._steady[state] = vals
-
-    def steady_after(self, state: int, changed: tuple) -> list:
-        """Net values after the inputs ``changed`` flip from ``state`` (only their cone is evaluated)."""
-        after = state
-        for i in changed:
-            after ^= 1 << i
-        v = self._steady.get(after)
-        if v is not None:
-            return v
-        vals = list(self.steady(state))
-        for i in changed:
-            vals[self.input_ids[i]] = (after >> i) & 1
-        cone = self.cone(changed)
-        self.work += len(cone)
-        gin, gout, gtab = self.gin, self.gout, self.gtab
-        for k in cone:
-            idx = 0
-            for j, n in enumerate(gin[k]):
-                idx |= vals[n] << j
-            vals[gout[k]] = (gtab[k] >> idx) & 1
-        self._keep(after, vals)
-        return vals
-
-    def cone(self, changed: tuple) -> list:
-        """Gate indices (topological) reachable from the input indices ``changed``."""
-        key = changed
-        c = self._cone.get(key)
-        if c is not None:
-            return c
-        seen = set()
-        stack = [self.input_ids[i] for i in changed]
-        nets = set(stack)
-        while stack:
-            n = stack.pop()
-            for k in self.fanout.get(n, ()):
-                if k not in seen:
-                    seen.add(k)
-                    o = self.gout[k]
-                    if o not in nets:
-                        nets.add(o)
-                        stack.append(o)
-        c = sorted(seen)
-        self._cone[key] = c
-        return c
-
-    def _eval(self, k, vals) -> int:
-        idx = 0
-        for j, n in enumerate(self.gin[k]):
-            idx |= vals[n] << j
-        return (self.gtab[k] >> idx) & 1
-
-    def _eval3(self, k, vals) -> int:
-        idx = 0
-        xs = []
-        for j, n in enumerate(self.gin[k]):
-            v = vals[n]
-            if v == _X:
-                xs.append(j)
-            else:
-                idx |= v << j
-        t = self.gtab[k]
-        if not xs:
-            return (t >> idx) & 1
-        seen = set()
-        for m in range(1 << len(xs)):
-            i = idx
-            for b, j in enumerate(xs):
-                if (m >> b) & 1:
-                    i |= 1 << j
-            seen.add((t >> i) & 1)
-            if len(seen) == 2:
-                return _X
-        return seen.pop()
-
-    def ternary(self, state: int, changed: tuple):
-        """Three-valued values with the changed inputs unknown, and X-path counts per net."""
-        vals = list(self.steady(state))
-        cnt: dict = {}
-        for i in changed:
-            n = self.input_ids[i]
-            vals[n] = _X
-            cnt[n] = 1
-        cone = self.cone(changed)
-        self.work += len(cone)
-        for k in cone:
-            v = self._eval3(k, vals)
-            o = self.gout[k]
-            vals[o] = v
-            if v == _X:
-                cnt[o] = min(sum(cnt.get(n, 0) for n in set(self.gin[k]) if vals[n] == _X), 1 << 30)
-        return vals, cnt
-
-    def paths(self, net: int, tern: list, changed_ids: set, limit: int) -> list:
-        """Up to ``limit`` paths from changed inputs to ``net`` through unknown nets.
-
-        Each path is a chain of cell indices as :meth:`simulate` records it
-        (here first cell outermost); :func:`path_mask` gives its bit mask.
-        """
-        out = []
-        stack = [(net, None)]
-        while stack and len(out) < limit:
-            n, mask = stack.pop()
-            if n in changed_ids:
-                out.append(mask)
-                continue
-            k = self.driver.get(n)
-            if k is None:
-                continue
-            for m in dict.fromkeys(self.gin[k]):
-                if tern[m] == _X:
-                    stack.append((m, (k, mask)))
-        return out
-
-    # -- timed simulation ---------------------------------------------------
-    def live_fanout(self, tern: list, changed: tuple) -> dict:
-        """Fan-out lists cut down to the cells that can move in a timed run of this change.
-
-        Only cells whose output is unknown (X) in the three-valued values
-        ``tern`` can move at all: a known output holds for every delay, so
-        the cells left out would only be evaluated to no effect and the
-        events of a run are the same without them.  Returns net id -> cell
-        indices, as :attr:`fanout`.
-        """
-        gout = self.gout
-        live = {k for k in self.cone(changed) if tern[gout[k]] == _X}
-        fo: dict = {}
-        fanout = self.fanout
-        for n in [self.input_ids[i] for i in changed] + [gout[k] for k in live]:
-            ks = [k for k in fanout.get(n, ()) if k in live]
-            if ks:
-                fo[n] = ks
-        return fo
-
-    def simulate(self, vals0: list, changes: list, delay: list, look: set, fanout: dict | None = None,
-                 max_work: int | None = None) -> dict | None:
-        """Transport-delay event simulation of input ``changes`` [(net id, value)] at time 0.
-
-        Returns net id -> list of ``(time, value, path, source net id)``
-        for the nets in ``look`` (changes of value only).  ``path`` is the
-        chain of cells the change went through, last first, as nested pairs
-        ``(cell index, rest)`` ending in ``None`` (:func:`path_mask` turns
-        it into a bit mask); building masks on the way would cost a big-integer
-        operation per event.  ``fanout`` (see :meth:`live_fanout`) limits the
-        cells simulated.  A run that would evaluate more than ``max_work``
-        cells is given up: it returns ``None`` (its work still counts).
-        """
-        cur = list(vals0)
-        last = list(vals0)  # the value each net was last scheduled to take
-        # events wait in buckets per time; the heap holds the distinct times only
-        buckets: dict = {}
-        times: list = []
-        if changes:
-            buckets[0.0] = [(n, v, None, n) for n, v in changes]
-            times.append(0.0)
-        waves = {n: [] for n in look}
-        wget = waves.get
-        work = 0
-        if fanout is None:
-            fanout = self.fanout
-        fget = fanout.get
-        gin, gout, gtab = self.gin, self.gout, self.gtab
-        pop, push = heapq.heappop, heapq.heappush
-        while times:
-            t0 = pop(times)
-            limit = t0 + max(abs(t0), 1e-15) * 1e-9
-            batch = [(t0, buckets.pop(t0))]
-            while times and times[0] <= limit:
-                t = pop(times)
-                batch.append((t, buckets.pop(t)))
-            touched: dict = {}
-            for t, events in batch:
-                for ev in events:
-                    n, v, form, src = ev
-                    old = cur[n]
-                    if old == v:
-                        continue
-                    cur[n] = v
-                    w = wget(n)
-                    if w is not None:
-                        w.append((t, v, form, src))
-                    ks = fget(n)
-                    if ks is None:
-                        continue
-                    cause = (n, old, form, src)
-                    for k in ks:
-                        ch = touched.get(k)
-                        if ch is None:
-                            touched[k] = [cause]
-                        else:
-                            ch.append(cause)
-            work += len(touched)
-            if max_work is not None and work > max_work:
-                self.work += work
-                return None
-            for k, ch in touched.items():
-                o = gout[k]
-                ins = gin[k]
-                tab = gtab[k]
-                idx = 0
-                j = 0
-                for x in ins:
-                    idx |= cur[x] << j
-                    j += 1
-                nv = (tab >> idx) & 1
-                if nv == last[o]:
-                    continue
-                cause = ch[0]
-                if len(ch) > 1:
-                    # the input whose change this output change needs (reverting it alone undoes it)
-                    for c in ch:
-                        n0, old0 = c[0], c[1]
-                        a = 0
-                        j = 0
-                        for x in ins:
-                            a |= (old0 if x == n0 else cur[x]) << j
-                            j += 1
-                        if (tab >> a) & 1 != nv:
-                            cause = c
-                            break
-                last[o] = nv
-                t = t0 + delay[k]
-                ev = (o, nv, (k, cause[2]), cause[3])
-                b = buckets.get(t)
-                if b is None:
-                    buckets[t] = [ev]
-                    push(times, t)
-                else:
-                    b.append(ev)
-        self.work += work + len(self.gin) // 4 + 1  # and the copies made per run
-        return waves
-
-    def width(self, early: int, late: int) -> tuple[float, float]:
-        """Exact range of (time of path ``late``) - (time of path ``early``) over the delay box."""
-        lo = hi = 0.0
-        for k in _bits(late & ~early):
-            lo += self.dmin[k]
-            hi += self.dmax[k]
-        for k in _bits(early & ~late):
-            lo -= self.dmax[k]
-            hi -= self.dmin[k]
-        return lo, hi
-
-    def span(self, mask: int) -> tuple[float, float]:
-        lo = sum(self.dmin[k] for k in _bits(mask))
-        hi = sum(self.dmax[k] for k in _bits(mask))
-        return lo, hi
-
-
-def _sec(x: float) -> float:
-    """Seconds rounded to the femtosecond (sums of catalog figures carry float noise)."""
-    return round(x, 15)
-
-
-_BYTE_BITS = [tuple(j for j in range(8) if (v >> j) & 1) for v in range(256)]
-
-
-def _bits(mask: int):
-    """Indices of the set bits of ``mask``, lowest first."""
-    if mask.bit_length() <= 1024:
-        while mask:
-            low = mask & -mask
-            yield low.bit_length() - 1
-            mask ^= low
-        return
-    # a wide mask (a path deep in a big build): byte by byte, not a big-integer operation per bit
-    data = mask.to_bytes((mask.bit_length() + 7) // 8, "little")
-    for i, v in enumerate(data):
-        if v:
-            base = i << 3
-            for j in _BYTE_BITS[v]:
-                yield base + j
-
-
-def path_mask(path) -> int:
-    """Bit mask of the cells on a path as :meth:`_Engine.simulate` records it."""
-    ks = []
-    while path is not None:
-        k, path = path
-        ks.append(k)
-    if not ks:
-        return 0
-    bits = bytearray((max(ks) >> 3) + 1)
-    for k in ks:
-        bits[k >> 3] |= 1 << (k & 7)
-    return int.from_bytes(bits, "little")
 
 
 def _transitions(n: int, sizes: tuple, limit: int, seed: int):
     """(list of (state, changed tuple), total, exhaustive)."""
-    from itertools import combinations
     groups = [c for s in sizes for c in combinations(range(n), s)]
     total = (1 << n) * len(groups)
     if total <= limit:
@@ -660,18 +145,18 @@ def _transitions(n: int, sizes: tuple, limit: int, seed: int):
     return out, total, False
 
 
-def _hop_list(eng: _Engine, mask: int, src: int) -> list:
+def _hop_list(eng: Engine, mask: int, src: int) -> list:
     """The cells of a path (a gate mask from source net ``src``) in order, with pins."""
     hops = []
     prev = src
-    for k in _bits(mask):  # gate indices are topological
+    for k in bits(mask):  # gate indices are topological
         g = eng.gates[k]
         pin = None
         for (p, num), n in zip(g.in_pins or [(None, None)] * len(g.ins), g.ins):
             if eng.ids[n] == prev:
                 pin = (p, num)
                 break
-        hop = {"net_in": eng.names[prev], "net": g.out, "delay_s": [_sec(g.dmin), _sec(g.dmax)]}
+        hop = {"net_in": eng.names[prev], "net": g.out, "delay_s": [sec(g.dmin), sec(g.dmax)]}
         if g.part is not None:
             hop.update({"part": g.part, "cell": g.cell, "slot": g.slot})
             if pin:
@@ -695,106 +180,123 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
     clear).  ``max_work`` bounds the cell evaluations; the search stops after
     the change that passes it and says how many changes it examined.
     """
-    from .timing import paused_gc
-
     with paused_gc():
         return _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths)
 
 
-def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths) -> dict:
-    """The work of :func:`find_glitches`."""
-    eng = _Engine(circ)
-    n = len(circ.inputs)
-    sizes = (1, 2) if multi else (1,)
-    sizes = tuple(s for s in sizes if s <= n)
-    trans, total, exhaustive = _transitions(n, sizes, max_transitions, seed) if n else ([], 0, True)
-    if max_work is not None and exhaustive:
-        # a budget may stop the search: take the changes in random order so what is done is a fair sample
-        random.Random(seed).shuffle(trans)
-    groups: dict = {}
-    runs = 0
-    not_shown = 0
-    checked = 0
-    stopped = False
-    partial = None
-    for state, changed in trans:
-        if max_work is not None and eng.work > max_work:
-            stopped = True
-            break
-        checked += 1
-        tern, cnt = eng.ternary(state, changed)
-        after = state
-        for i in changed:
-            after ^= 1 << i
-        v0 = eng.steady(state)
-        cands = [m for m in eng.look if tern[m] == _X and cnt.get(m, 0) >= 2]
-        if not cands:
+def _corners(eng: Engine, cands: list, tern: list, changed: tuple, paths_per_net: int, max_paths: int) -> list:
+    """Delay corners for one change: all at min, all at max, and each path made early and late."""
+    changed_ids = {eng.input_ids[i] for i in changed}
+    # paths of every net in question, taken in turn so each net gets its share of the corners
+    per_net = [eng.paths(m, tern, changed_ids, paths_per_net) for m in cands]
+    masks: dict = {}
+    for rank in range(paths_per_net):
+        for ps in per_net:
+            if rank < len(ps) and len(masks) < max_paths:
+                masks.setdefault(path_mask(ps[rank]), None)
+    return [("min", 0), ("max", 0)] + [(kind, p) for p in masks for kind in ("early", "late")]
+
+
+def _corner_delays(eng: Engine, kind: str, p: int) -> list:
+    delay = eng.dmax[:] if kind in ("max", "early") else eng.dmin[:]
+    if kind == "early":
+        for k in bits(p):
+            delay[k] = eng.dmin[k]
+    elif kind == "late":
+        for k in bits(p):
+            delay[k] = eng.dmax[k]
+    return delay
+
+
+def _races(eng: Engine, waves, cands: list, v0: list, v1: list, found: dict) -> None:
+    """Record in ``found`` the first two events of every net in question that moved when it should not."""
+    for m in cands:
+        ev = waves[m]
+        a, b = v0[m], v1[m]
+        if a == b and len(ev) >= 2:
+            hk = f"static-{a}"
+        elif a != b and len(ev) >= 3:
+            hk = "dynamic"
+        else:
             continue
+        (t1, _, f1, s1), (t2, _, f2, s2) = ev[0], ev[1]
+        f1, f2 = path_mask(f1), path_mask(f2)
+        key = (m, hk, frozenset({(f1, s1), (f2, s2)}))
+        if key not in found:
+            found[key] = ((f1, s1), (f2, s2), t2 - t1)
+
+
+class _Search:
+    """The running state of one glitch search: counts, the budget, and the races grouped per net."""
+
+    def __init__(self, eng: Engine, max_work: int | None):
+        self.eng = eng
+        self.max_work = max_work
+        self.groups: dict = {}
+        self.runs = 0
+        self.not_shown = 0
+        self.checked = 0
+        self.stopped = False
+        self.partial: dict | None = None
+
+    def over_budget(self) -> bool:
+        if self.max_work is not None and self.eng.work > self.max_work:
+            self.stopped = True
+        return self.stopped
+
+    def change(self, state: int, changed: tuple, paths_per_net: int, max_paths: int) -> dict:
+        """Simulate one input change at its delay corners; returns the races found (may stop on the budget)."""
+        eng = self.eng
+        self.checked += 1
+        tern, cnt = eng.ternary(state, changed)
+        v0 = eng.steady(state)
+        cands = [m for m in eng.look if tern[m] == X and cnt.get(m, 0) >= 2]
+        if not cands:
+            return {}
         v1 = eng.steady_after(state, changed)
-        changed_ids = {eng.input_ids[i] for i in changed}
-        # paths of every net in question, taken in turn so each net gets its share of the corners
-        per_net = [eng.paths(m, tern, changed_ids, paths_per_net) for m in cands]
-        masks: dict = {}
-        for rank in range(paths_per_net):
-            for ps in per_net:
-                if rank < len(ps) and len(masks) < max_paths:
-                    masks.setdefault(path_mask(ps[rank]), None)
-        corners = [("min", 0), ("max", 0)] + [(kind, p) for p in masks for kind in ("early", "late")]
+        corners = _corners(eng, cands, tern, changed, paths_per_net, max_paths)
         changes = [(eng.input_ids[i], v1[eng.input_ids[i]]) for i in changed]
         look = set(cands)
         fanout = eng.live_fanout(tern, changed)
         found: dict = {}
         done = 0
         for kind, p in corners:
-            if max_work is not None and eng.work > max_work:
-                stopped = True
+            if self.over_budget():
                 break
-            delay = eng.dmax[:] if kind in ("max", "early") else eng.dmin[:]
-            if kind == "early":
-                for k in _bits(p):
-                    delay[k] = eng.dmin[k]
-            elif kind == "late":
-                for k in _bits(p):
-                    delay[k] = eng.dmax[k]
-            waves = eng.simulate(v0, changes, delay, look, fanout,
-                                 None if max_work is None else max(0, max_work - eng.work))
+            waves = eng.simulate(v0, changes, _corner_delays(eng, kind, p), look, fanout,
+                                 None if self.max_work is None else max(0, self.max_work - eng.work))
             if waves is None:
-                stopped = True
+                self.stopped = True
                 break
             done += 1
-            runs += 1
-            for m in cands:
-                ev = waves[m]
-                a, b = v0[m], v1[m]
-                if a == b and len(ev) >= 2:
-                    hk = f"static-{a}"
-                elif a != b and len(ev) >= 3:
-                    hk = "dynamic"
-                else:
-                    continue
-                (t1, _, f1, s1), (t2, _, f2, s2) = ev[0], ev[1]
-                f1, f2 = path_mask(f1), path_mask(f2)
-                key = (m, hk, frozenset({(f1, s1), (f2, s2)}))
-                if key not in found:
-                    found[key] = ((f1, s1), (f2, s2), t2 - t1)
+            self.runs += 1
+            _races(eng, waves, cands, v0, v1, found)
         if done < len(corners):
-            partial = {"delay_corners_run": done, "delay_corners": len(corners)}
+            self.partial = {"delay_corners_run": done, "delay_corners": len(corners)}
         else:
             static_cands = {m for m in cands if v0[m] == v1[m]}
             shown = {k[0] for k in found}
-            not_shown += len(static_cands - shown)
+            self.not_shown += len(static_cands - shown)
+        return found
+
+    def group(self, found: dict, state: int, changed: tuple, inputs: list) -> None:
+        """Merge the races of one change into the groups (net, kind, changed inputs)."""
+        n = len(inputs)
+        after = state
+        for i in changed:
+            after ^= 1 << i
         cond_bits = [i for i in range(n) if i not in changed]
         cond = 0
         for b, i in enumerate(cond_bits):
             cond |= ((state >> i) & 1) << b
-        dirs = tuple(f"{circ.inputs[i]} {'rises' if (after >> i) & 1 else 'falls'}" for i in changed)
+        dirs = tuple(f"{inputs[i]} {'rises' if (after >> i) & 1 else 'falls'}" for i in changed)
         for (m, hk, pair), ((f1, s1), (f2, s2), ex) in found.items():
             gkey = (m, hk, changed)
-            g = groups.get(gkey)
-            lo, hi = eng.width(f1, f2)
+            g = self.groups.get(gkey)
+            lo, hi = self.eng.width(f1, f2)
             lo = max(lo, 0.0)
             if g is None:
-                g = groups[gkey] = {
+                g = self.groups[gkey] = {
                     "net": m, "kind": hk, "changed": changed, "conds": set(), "dirs": set(),
                     "width": (lo, hi), "example": ex, "widest": hi,
                     "paths": [(f1, s1), (f2, s2)], "cond_bits": cond_bits, "races": set(),
@@ -806,6 +308,10 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
             g["races"].add(pair)
             g["conds"].add(cond)
             g["dirs"].add(dirs)
+
+
+def _hazards(eng: Engine, circ: TimedCircuit, groups: dict, exhaustive: bool) -> list:
+    """One record per hazard group and output port (see :func:`glitch_report`)."""
     hazards = []
     port_of: dict = {}
     for o, net in circ.outputs.items():
@@ -813,12 +319,12 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
     for g in sorted(groups.values(), key=lambda g: (eng.names[g["net"]], g["kind"], g["changed"])):
         net = eng.names[g["net"]]
         names = [circ.inputs[i] for i in g["cond_bits"]]
-        when = _conditions(sorted(g["conds"]), names, exhaustive)
+        when = conditions(sorted(g["conds"]), names, exhaustive)
         reaches = circ.watch.get(net, [])
         paths = []
         for f, s in g["paths"]:
             lo, hi = eng.span(f)
-            paths.append({"from": eng.names[s], "delay_s": [_sec(lo), _sec(hi)], "hops": _hop_list(eng, f, s)})
+            paths.append({"from": eng.names[s], "delay_s": [sec(lo), sec(hi)], "hops": _hop_list(eng, f, s)})
         for port in port_of.get(net, [None]):
             hazards.append({
                 "output": port if port is not None else net,
@@ -827,23 +333,41 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
                 "inputs_changed": [circ.inputs[i] for i in g["changed"]],
                 "directions": sorted(", ".join(d) for d in g["dirs"]),
                 "when": when,
-                "width_s": [_sec(g["width"][0]), _sec(g["width"][1])],
-                "width_example_s": _sec(g["example"]),
+                "width_s": [sec(g["width"][0]), sec(g["width"][1])],
+                "width_example_s": sec(g["example"]),
                 "racing_paths": paths,
                 "races": len(g["races"]),
                 "reaches": reaches,
                 "error": bool(reaches),
             })
-    errors = sum(1 for h in hazards if h["error"])
-    listed = hazards[:MAX_LISTED]
+    return hazards
+
+
+def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths) -> dict:
+    """The work of :func:`find_glitches`."""
+    eng = Engine(circ)
+    n = len(circ.inputs)
+    sizes = (1, 2) if multi else (1,)
+    sizes = tuple(s for s in sizes if s <= n)
+    trans, total, exhaustive = _transitions(n, sizes, max_transitions, seed) if n else ([], 0, True)
+    if max_work is not None and exhaustive:
+        # a budget may stop the search: take the changes in random order so what is done is a fair sample
+        random.Random(seed).shuffle(trans)
+    search = _Search(eng, max_work)
+    for state, changed in trans:
+        if search.over_budget():
+            break
+        found = search.change(state, changed, paths_per_net, max_paths)
+        search.group(found, state, changed, circ.inputs)
+    hazards = _hazards(eng, circ, search.groups, exhaustive)
     return {
-        "hazards": listed,
+        "hazards": hazards[:MAX_LISTED],
         "hazards_total": len(hazards),
-        "errors": errors,
-        "transitions": {"checked": checked, "total": total, "exhaustive": exhaustive and not stopped,
-                        "stopped_early": stopped, "cell_evaluations": eng.work, "work_budget": max_work,
-                        "last_change_partial": partial,
-                        "sizes": list(sizes), "timed_runs": runs, "not_shown": not_shown,
+        "errors": sum(1 for h in hazards if h["error"]),
+        "transitions": {"checked": search.checked, "total": total, "exhaustive": exhaustive and not search.stopped,
+                        "stopped_early": search.stopped, "cell_evaluations": eng.work, "work_budget": max_work,
+                        "last_change_partial": search.partial,
+                        "sizes": list(sizes), "timed_runs": search.runs, "not_shown": search.not_shown,
                         "seed": None if exhaustive else seed},
     }
 
@@ -867,7 +391,7 @@ def _sample_text(tr: dict) -> str:
     return text
 
 
-def _conditions(conds: list, names: list, exhaustive: bool) -> list:
+def conditions(conds: list, names: list, exhaustive: bool) -> list:
     """States of the other inputs, merged into cubes (dicts name -> value)."""
     k = len(names)
     if k == 0:
@@ -881,30 +405,17 @@ def _conditions(conds: list, names: list, exhaustive: bool) -> list:
     return [{names[j]: (c >> j) & 1 for j in range(k)} for c in conds[:8]]
 
 
-def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
+def glitch_report(build: Build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
                   seed: int = 0, min_fraction: float | None = None,
-                  max_work: int | None = BUILD_MAX_WORK, work_per_cell: float = BUILD_WORK_PER_CELL) -> dict:
-    """Glitch figures of a build for ``build.timing``.
+                  max_work: int | None = BUILD_MAX_WORK, work_per_cell: float = BUILD_WORK_PER_CELL) -> Glitches:
+    """The glitches of a gate build: :func:`find_glitches` on its cells.
 
-    Gate builds: :func:`find_glitches` on the build's cells, giving
-    ``hazards``, ``hazards_total``, ``glitch_errors`` and ``glitch_search``.
     The work budget is ``max_work`` cell evaluations or ``work_per_cell``
     times the number of cells, whichever is more (``None``: no budget);
-    ``glitch_search["sample"]`` says in words what the search covered.
-    Relay builds: ``floating`` (:func:`relay_transfers`) and the
-    break-before-make glitches of :func:`relay_glitches`.
+    ``search["sample"]`` says in words what the search covered.
     """
     if not build.cells:
-        out = {"hazards": [], "hazards_total": 0, "glitch_errors": 0}
-        if build.contacts:
-            out["floating"] = relay_transfers(build)
-            rg = relay_glitches(build)
-            out["hazards"] = rg["hazards"]
-            out["hazards_total"] = len(rg["hazards"])
-            out["glitch_search"] = rg["search"]
-        return out
-    from .timing import paused_gc
-
+        return Glitches([], 0, 0, None)
     with paused_gc():
         circ = TimedCircuit.from_build(build, min_fraction)
     if max_work is not None:
@@ -913,214 +424,4 @@ def glitch_report(build, multi: bool = False, max_transitions: int = BUILD_MAX_T
     search = dict(res["transitions"])
     search["min_delay"] = "typical figure" if min_fraction is None else f"{min_fraction:g} of the maximum"
     search["sample"] = _sample_text(search)
-    return {"hazards": res["hazards"], "hazards_total": res["hazards_total"],
-            "glitch_errors": res["errors"], "glitch_search": search}
-
-
-def _relay_setup(build):
-    """(loaded nets, part ref -> (typical, transfer, bounce) seconds, drivers, pole order)."""
-    from .relay_timing import DIODE_RELEASE_FACTOR
-
-    target = build.target
-    loaded, diodes = set(), set()
-    for s in build.support:
-        pd = target.parts.get(s.part_id)
-        if pd is not None and pd.ratings.get("resistance") is not None and "GND" in s.nets:
-            loaded.update(x for x in s.nets if x != "GND")
-        if "diode" in f"{s.part_id} {pd.description if pd else ''}".lower():
-            diodes.update(s.nets)
-    sw = {}
-    for p in build.parts:
-        pd = target.parts[p.part_id]
-        r = pd.relay
-        if r is None:
-            continue
-        typ_fig = pd.delay_typ.get("changeover") if pd.delay_typ else None
-        typ = typ_fig.value if typ_fig is not None else r.operate_time.value
-        release = r.release_time.value * (DIODE_RELEASE_FACTOR if build.coils.get(p.ref) in diodes else 1.0)
-        sw[p.ref] = (typ, max(r.operate_time.value, release), r.bounce_time.value)
-    # relay-driven nets in topological order (fan-ins first); nets on loops (seal-in storage) last
-    drivers: dict = {}
-    for k in build.contacts:
-        drivers.setdefault(k.com, []).append(k)
-    deps = {net: {x for k in ks for x in (k.no, k.nc, build.coils.get(k.part_ref)) if x in drivers}
-            for net, ks in drivers.items()}
-    indeg = {n: len(d - {n}) for n, d in deps.items()}
-    users: dict = {}
-    for n, d in deps.items():
-        for x in d - {n}:
-            users.setdefault(x, []).append(n)
-    ready = sorted((n for n, c in indeg.items() if c == 0), reverse=True)
-    order = []
-    while ready:
-        n = ready.pop()
-        order.append(n)
-        for u in users.get(n, ()):
-            indeg[u] -= 1
-            if indeg[u] == 0:
-                ready.append(u)
-    done = set(order)
-    left = [n for n in drivers if n not in done]
-    return loaded, sw, drivers, order, left
-
-
-def relay_transfers(build) -> list:
-    """For each pole of a relay build, when its common net may float and when it has settled.
-
-    The coil net's change arrives between its earliest and latest time (coil
-    levels of the relays before it: typical changeover delay at the earliest,
-    the longer of operate and release time plus bounce at the latest).  The
-    changeover contact then breaks -- the common terminal touches neither side
-    and its net floats (or is held by its load resistor) -- and makes within
-    the operate or release time (a coil diode lengthens the release time as
-    in :mod:`mapper.analyze.relay_timing`); then it bounces for the bounce
-    time.  So:
-
-    * ``floating_s`` = ``[earliest coil change, latest coil change + max(operate, release)]``
-    * ``settled_s`` = ``floating_s[1] + bounce``
-
-    each as seconds after the input change.  ``loaded`` says whether a
-    resistor to ``GND`` holds the net while it floats (common practice: a
-    relay-driven net feeding logic or a coil needs a defined load).
-    """
-    loaded, sw, drivers, order, left = _relay_setup(build)
-    early: dict = {}
-    late: dict = {}
-    for net in order + left:  # nets on loops (seal-in storage) are timed from 0
-        e = []
-        la = []
-        for k in drivers[net]:
-            coil = build.coils.get(k.part_ref)
-            typ, transfer, bounce = sw.get(k.part_ref, (0.0, 0.0, 0.0))
-            e.append(early.get(coil, 0.0) + typ)
-            la.append(late.get(coil, 0.0) + transfer + bounce)
-            for x in (k.no, k.nc):
-                if x in drivers:
-                    e.append(early.get(x, 0.0))
-                    la.append(late.get(x, 0.0))
-        early[net] = min(e)
-        late[net] = max(la)
-    out = []
-    for k in build.contacts:
-        coil = build.coils.get(k.part_ref)
-        typ, transfer, bounce = sw.get(k.part_ref, (0.0, 0.0, 0.0))
-        start = early.get(coil, 0.0)
-        end = late.get(coil, 0.0) + transfer
-        out.append({"net": k.com, "part": k.part_ref, "pole": k.pole, "coil": coil,
-                    "floating_s": [round(start, 9), round(end, 9)],
-                    "settled_s": round(end + bounce, 9),
-                    "loaded": k.com in loaded})
-    return out
-
-
-#: relay builds with more free variables (inputs and storage) than this are not searched
-RELAY_MAX_INPUTS = 16
-
-
-def relay_glitches(build, max_inputs: int = RELAY_MAX_INPUTS) -> dict:
-    """Static-1 glitches of a relay build's outputs from break-before-make transfers.
-
-    While a changeover contact transfers, its common terminal touches neither
-    side: the net is cut off from the supply for that gap, and a net held by
-    a load resistor reads 0.  So when a coil changes while both the
-    normally-open and the normally-closed side carry 1 -- before and after
-    the change -- the common net drops and comes back: a static-1 hazard of
-    the contact network (hazards in contact networks: M. Yoeli and S. Rinon,
-    JACM 11(1), 1964; the transfer gap: common practice).  A cut-off net
-    passes the cut on through contacts of relays that do not move (contacts
-    pass signals at once), down to the loaded nets that read it as 0; it is not followed
-    through coils (a dropout shorter than the release time does not release a
-    held relay -- common practice).  Every single-input change from every
-    state of the inputs and storage outputs is examined (bit-parallel, up to
-    ``max_inputs`` free variables).
-
-    Returns ``hazards`` (as :func:`find_glitches`: ``output``, ``net``,
-    ``kind``, ``inputs_changed``, ``directions``, ``when``, ``width_s`` =
-    ``[0, transfer time of the relay that moves]``, ``racing_paths`` naming
-    that relay's pole) and ``search``.
-    """
-    from ..logic.function import var_mask
-    from ..netlist import Storage
-    from ..simulate import simulate
-
-    n = build.to_netlist()
-    storage = [name for name, node in n.nodes.items() if isinstance(node, Storage)]
-    free = list(n.inputs) + storage
-    k = len(free)
-    search = {"method": "break-before-make transfers, every single-input change", "free_variables": k}
-    if k > max_inputs:
-        search["checked"] = 0
-        search["note"] = f"more than {max_inputs} inputs and storage outputs: not searched"
-        return {"hazards": [], "search": search}
-    npat = 1 << k
-    mask = (1 << npat) - 1
-    words = {x: var_mask(k, j) for j, x in enumerate(free)}
-    vals = simulate(n, {x: words[x] for x in n.inputs}, mask, {x: words[x] for x in storage})
-    vals["VCC"], vals["GND"] = mask, 0
-
-    def val(net):
-        return vals.get(net, 0) if net is not None else 0
-
-    loaded, sw, drivers, order, _left = _relay_setup(build)
-    out_ports: dict = {}
-    for o in build.outputs:
-        out_ports.setdefault(build.output_nets.get(o, o), []).append(o)
-    hazards = []
-    for j, x in enumerate(free):
-        sh = 1 << j
-        mj = var_mask(k, j)
-
-        def nb(w):
-            return ((w & mj) >> sh) | ((w & ~mj & mask) << sh)
-
-        glitch: dict = {}
-        cause: dict = {}
-        for net in order:
-            if net not in n.nodes or isinstance(n.nodes[net], Storage):
-                continue
-            pole = drivers[net][0]
-            c = val(build.coils.get(pole.part_ref))
-            no, nc, z = val(pole.no), val(pole.nc), val(net)
-            ch = c ^ nb(c)
-            # the net is cut off (floats, or is held low by its load) for the gap
-            g = ch & no & nc & nb(no) & nb(nc)
-            if g:
-                cause[net] = pole
-            through = ~ch & mask & z & nb(z) & ((c & glitch.get(pole.no, 0)) | (~c & glitch.get(pole.nc, 0)))
-            if through & ~g:
-                src = pole.no if glitch.get(pole.no, 0) & c & through else pole.nc
-                cause.setdefault(net, cause.get(src))
-            g |= through
-            if g:
-                glitch[net] = g
-        for net, ports in out_ports.items():
-            g = glitch.get(net, 0)
-            if not g:
-                continue
-            conds = sorted({_drop_bit(p, j) for p in _bits(g)})
-            dirs = []
-            if g & ~mj:
-                dirs.append(f"{x} rises")
-            if g & mj:
-                dirs.append(f"{x} falls")
-            pole = cause.get(net)
-            transfer = sw.get(pole.part_ref, (0, 0, 0))[1] if pole is not None else 0.0
-            names = [free[i] for i in range(k) if i != j]
-            for port in ports:
-                hazards.append({
-                    "output": port, "net": net, "kind": "static-1", "inputs_changed": [x],
-                    "directions": sorted(dirs), "when": _conditions(conds, names, True),
-                    "width_s": [0.0, _sec(transfer)], "width_example_s": _sec(transfer),
-                    "racing_paths": [{"from": x, "break_before_make": {
-                        "part": pole.part_ref, "pole": pole.pole, "coil": build.coils.get(pole.part_ref),
-                        "net": pole.com, "loaded": pole.com in loaded} if pole is not None else None}],
-                    "races": 1, "reaches": [], "error": False,
-                })
-    search["checked"] = k * npat
-    search["exhaustive"] = True
-    return {"hazards": hazards, "search": search}
-
-
-def _drop_bit(p: int, j: int) -> int:
-    """State ``p`` without bit ``j`` (higher bits move down)."""
-    return (p & ((1 << j) - 1)) | ((p >> (j + 1)) << j)
+    return Glitches(res["hazards"], res["hazards_total"], res["errors"], search)

@@ -43,8 +43,7 @@ clocked at their enable's opening edge (no time borrowing), which is
 conservative.
 
 Relay builds have contacts, not cells; their timing (operate and release
-times) comes from :mod:`mapper.analyze.relay_timing` and this module returns
-nothing for them.
+times) comes from :mod:`mapper.analyze.relay`.
 
 Everything is iterative over a topological order of the cells.
 """
@@ -53,6 +52,10 @@ from __future__ import annotations
 import contextlib
 import gc
 import logging
+
+from ..build import SUPPLY_NETS, Build
+from ..order import topological_order
+from .results import ClockFigures, Timing
 
 __all__ = ["static_timing", "cell_delay", "net_loads", "PartIndex", "paused_gc", "LOAD_RATING", "SETUP_RATING",
            "HOLD_RATING"]
@@ -65,7 +68,7 @@ LOAD_RATING = "delay-per-unit-load"
 SETUP_RATING = "setup-time"
 HOLD_RATING = "hold-time"
 
-_RAILS = ("VCC", "GND")
+_RAILS = SUPPLY_NETS
 _EDGE = {"re": "rise", "ah": "rise", "fe": "fall", "al": "fall"}
 _CLOCK_ROLES = ("clock", "enable")
 
@@ -120,7 +123,7 @@ class PartIndex:
         table = self._pins.get(key)
         if table is None:
             pd = self.parts[pid]
-            table = dict(getattr(pd, "shared_pins", {}))
+            table = dict(pd.shared_pins)
             for s in pd.slots:
                 if s.index == cell.slot:
                     table.update(s.pins)  # a slot's own pin wins over a shared pin of the same name
@@ -159,7 +162,7 @@ def cell_delay(build, cell, load_ul: float = 0.0, index: PartIndex | None = None
     t = typ.value if typ is not None else 0.0
     m = mx.value if mx is not None else t
     m = max(m, t)
-    rate = getattr(pd, "ratings", {}).get(LOAD_RATING)
+    rate = pd.ratings.get(LOAD_RATING)
     if rate is not None and load_ul > 0:
         t += rate.value * load_ul
         m += rate.value * load_ul
@@ -227,26 +230,10 @@ class _Graph:
             out = pins[cd.output]
             pos[out] = len(recs)
             recs.append((c, ins, out, delay[id(c)]))
-        indeg = [0] * len(recs)
-        users: dict = {}
-        for i, (_, ins, _, _) in enumerate(recs):
-            deps = {pos[n] for _, n in ins if n in pos}
-            indeg[i] = len(deps)
-            for d in deps:
-                users.setdefault(d, []).append(i)
-        ready = [i for i in range(len(recs)) if indeg[i] == 0]
-        ready.reverse()
-        order = []
-        while ready:
-            i = ready.pop()
-            order.append(i)
-            for u in users.get(i, ()):
-                indeg[u] -= 1
-                if indeg[u] == 0:
-                    ready.append(u)
-        if len(order) != len(recs):
-            log.warning("the build's logic cells form a loop; %d cells left out of the timing",
-                        len(recs) - len(order))
+        order, left = topological_order(range(len(recs)), lambda i: {pos[n] for _, n in recs[i][1] if n in pos},
+                                        first_first=True)
+        if left:
+            log.warning("the build's logic cells form a loop; %d cells left out of the timing", len(left))
         self.arcs = [recs[i] for i in order]
         self.comb = [a[0] for a in self.arcs]
         self._storage_points()
@@ -274,7 +261,7 @@ class _Graph:
         for c in b.cells:
             if c.group is not None:
                 members.setdefault(c.group, []).append(c)
-        for key, grp in getattr(b, "storage_groups", {}).items():
+        for key, grp in b.storage_groups.items():
             cells = members.get(key, [])
             clk2q = self._group_path(cells, grp.control, grp.q)
             setup = self._group_path(cells, grp.d, grp.q)
@@ -486,11 +473,10 @@ def _clock_source(g: _Graph, net: str) -> tuple[str, int]:
 
 
 def _rating(pd, name) -> float | None:
-    f = getattr(pd, "ratings", {}).get(name)
-    return f.value if f is not None else None
+    return pd.rating(name)
 
 
-def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> dict:
+def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> ClockFigures:
     """Storage-to-storage paths: highest safe clock rate, hold slack, input setup, clock to output."""
     b = g.build
     # clock arrivals: from the inputs, and from storage outputs for clocks made by storage (ripple)
@@ -578,55 +564,51 @@ def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> dict:
     late_q, _ = _propagate(g, q0, True, True)
     clk_to_out = max((late_q.get(b.output_nets.get(o, o), 0.0) for o in b.outputs
                       if b.output_nets.get(o, o) in late_q), default=None)
-    out = {
-        "clock_period_min_s": period,
-        "clock_max_hz": (1.0 / period) if period > 0 else None,
-        "clock_path": worst,
-        "hold_slack_s": hold_slack,
-        "hold_path": hold_worst,
-        "input_setup_s": input_setup,
-        "clock_to_output_s": clk_to_out,
-        "clock_notes": notes,
-    }
-    return out
+    return ClockFigures(period_min_s=period, max_hz=(1.0 / period) if period > 0 else None, path=worst,
+                        hold_slack_s=hold_slack, hold_path=hold_worst, input_setup_s=input_setup,
+                        clock_to_output_s=clk_to_out, notes=notes)
 
 
-def static_timing(build) -> dict:
-    """Static timing figures of a gate build (see the module docstring).
+def static_timing(build: Build) -> Timing:
+    """Static timing of a gate build (see the module docstring).
 
-    Returns a dict with the stable keys
-
-    * ``delay_s`` -- worst path with maximum delays; ``delay_typ_s`` with typical;
-    * ``levels`` -- most cells on any path;
-    * ``outputs`` -- output -> ``[best_s, worst_s]`` (best with minimum, worst with maximum figures);
-    * ``paths`` -- one dict per output: ``worst_s``, ``worst_typ_s``, ``best_s``, ``best_max_s``,
-      ``levels``, ``worst_path`` and ``best_path`` (hops with parts and pins), ``worst_start``,
-      ``best_start``;
-    * ``critical_path`` -- hops of the worst path of the whole build (each with ``cell``, ``part``,
-      ``part_id``, ``slot``, ``from_pin``/``from_pin_number``, ``to_pin``/``to_pin_number``,
-      ``net_in``, ``net``, ``delay_s``, ``delay_typ_s``, ``arrival_s``, ``arrival_typ_s``) and
-      ``critical_start`` / ``critical_end``;
-    * ``overloaded`` -- nets loaded beyond their driver's output drive;
-    * for builds with storage cells: ``clock_max_hz``, ``clock_period_min_s``, ``clock_path``,
-      ``hold_slack_s``, ``input_setup_s``, ``clock_to_output_s``, ``clock_notes``.
-
-    A build without logic cells (a relay build) gives an empty dict, so the
-    relay timing already in ``build.timing`` stands.
+    The :class:`~mapper.analyze.results.Timing` has ``delay_s`` (worst path
+    with maximum delays), ``delay_typ_s`` (with typical), ``levels`` (most
+    cells on any path), ``outputs`` (output -> ``[best_s, worst_s]``),
+    ``paths`` (one dict per output: ``worst_s``, ``worst_typ_s``, ``best_s``,
+    ``best_max_s``, ``levels``, ``worst_path`` and ``best_path`` hop by hop
+    with parts and pins, ``worst_start``, ``best_start``), ``critical_path``
+    (hops of the worst path of the whole build, each with ``cell``, ``part``,
+    ``part_id``, ``slot``, ``from_pin``/``from_pin_number``,
+    ``to_pin``/``to_pin_number``, ``net_in``, ``net``, ``delay_s``,
+    ``delay_typ_s``, ``arrival_s``, ``arrival_typ_s``), ``critical_start`` /
+    ``critical_end``, ``overloaded`` (nets loaded beyond their driver's output
+    drive) and, for builds with storage, ``clock``
+    (:class:`~mapper.analyze.results.ClockFigures`).
     """
     with paused_gc():
         return _static_timing(build)
 
 
-def _static_timing(build) -> dict:
+def _overloaded(g: _Graph) -> list:
+    out = []
+    for net, ul in sorted(g.loads.items()):
+        c = g.driver.get(net)
+        ref = c.part_ref if c is not None else (g.sdriver.get(net) or {}).get("part")
+        if ref is None:
+            continue
+        pd = g.index.part_def(ref)
+        if pd.output_drive is not None and ul > pd.output_drive.value + 1e-12:
+            out.append({"net": net, "load_ul": round(ul, 6), "drive_ul": pd.output_drive.value, "part": ref})
+    return out
+
+
+def _static_timing(build: Build) -> Timing:
     """The work of :func:`static_timing`."""
     if not build.cells:
-        if build.contacts or build.coils:
-            return {}
-        outs = {o: [0.0, 0.0] for o in build.outputs}
-        return {"delay_s": 0.0, "delay_typ_s": 0.0, "levels": 0, "outputs": outs, "paths": [
+        return Timing(0.0, 0.0, 0, {o: [0.0, 0.0] for o in build.outputs}, [], paths=[
             {"output": o, "worst_s": 0.0, "worst_typ_s": 0.0, "best_s": 0.0, "best_max_s": 0.0, "levels": 0,
-             "worst_path": [], "best_path": []} for o in build.outputs],
-            "critical_path": [], "overloaded": []}
+             "worst_path": [], "best_path": []} for o in build.outputs], overloaded=[])
     g = _Graph(build)
     # storage outputs start at their clock-to-output delay after the clock edge
     base_late = {i: 0.0 for i in build.inputs}
@@ -664,27 +646,15 @@ def _static_timing(build) -> dict:
         outputs[o] = [early.get(net, 0.0), w]
     live = [(label, n) for label, n in ends if n in late]
     end_label, end = max(live, key=lambda ln: late[ln[1]], default=(None, None))
-    overloaded = []
-    for net, ul in sorted(g.loads.items()):
-        c = g.driver.get(net)
-        ref = c.part_ref if c is not None else (g.sdriver.get(net) or {}).get("part")
-        if ref is None:
-            continue
-        pd = g.index.part_def(ref)
-        if pd.output_drive is not None and ul > pd.output_drive.value + 1e-12:
-            overloaded.append({"net": net, "load_ul": round(ul, 6), "drive_ul": pd.output_drive.value,
-                               "part": ref})
-    out = {
-        "delay_s": late.get(end, 0.0) if end is not None else 0.0,
-        "delay_typ_s": max((late_t.get(n, 0.0) for _, n in ends), default=0.0),
-        "levels": max((lev.get(n, 0) for _, n in ends), default=0),
-        "outputs": outputs,
-        "paths": paths,
-        "critical_path": _path(g, lprev, end, arrivals, late_hops) if end is not None else [],
-        "critical_start": _start_of(g, _first_net(lprev, end)) if end is not None else None,
-        "critical_end": {"net": end, "endpoint": end_label} if end is not None else None,
-        "overloaded": overloaded,
-    }
-    if g.points:
-        out.update(_sequential(g, base_late, base_typ))
-    return out
+    return Timing(
+        delay_s=late.get(end, 0.0) if end is not None else 0.0,
+        delay_typ_s=max((late_t.get(n, 0.0) for _, n in ends), default=0.0),
+        levels=max((lev.get(n, 0) for _, n in ends), default=0),
+        outputs=outputs,
+        paths=paths,
+        critical_path=_path(g, lprev, end, arrivals, late_hops) if end is not None else [],
+        critical_start=_start_of(g, _first_net(lprev, end)) if end is not None else None,
+        critical_end={"net": end, "endpoint": end_label} if end is not None else None,
+        overloaded=_overloaded(g),
+        clock=_sequential(g, base_late, base_typ) if g.points else None,
+    )

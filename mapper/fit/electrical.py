@@ -14,6 +14,8 @@ from __future__ import annotations
 import logging
 from math import floor
 
+from ..errors import InternalError
+from ..order import topological_order
 from .gates import CellUse, Mapping
 
 __all__ = ["fanout_limit", "split_fanout"]
@@ -91,21 +93,8 @@ def split_fanout(mapping: Mapping, target, notes: list) -> Mapping:
 
 def _topo(cells):
     """Cells in an order where every driver comes before its loads."""
-    by_out = {c.out: c for c in cells}
-    indeg = {id(c): 0 for c in cells}
-    users: dict = {}
-    for c in cells:
-        for a in set(c.args):
-            if a in by_out:
-                indeg[id(c)] += 1
-                users.setdefault(a, []).append(c)
-    ready = [c for c in cells if indeg[id(c)] == 0]
-    out = []
-    while ready:
-        c = ready.pop()
-        out.append(c)
-        for u in users.get(c.out, ()):
-            indeg[id(u)] -= 1
-            if indeg[id(u)] == 0:
-                ready.append(u)
-    return out
+    pos = {c.out: k for k, c in enumerate(cells)}
+    order, left = topological_order(range(len(cells)), lambda k: {pos[a] for a in cells[k].args if a in pos})
+    if left:
+        raise InternalError(f"the fan-out pass made a loop of {len(left)} cells")
+    return [cells[k] for k in order]

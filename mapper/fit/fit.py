@@ -22,9 +22,11 @@ from __future__ import annotations
 import logging
 from dataclasses import replace
 
+from ..build import Build
+from ..catalog.model import Target
 from ..errors import UsageError
 from ..logic.function import Function
-from ..netlist import Netlist, Storage
+from ..netlist import Logic, Netlist
 from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary
@@ -59,11 +61,11 @@ def _restricted(target, exclude):
 _VARIANTS = [(8, 1), (4, 1), (16, 1), (8, 5), (16, 5), (12, 3), (4, 3), (6, 1)]
 
 
-def _score(build):
-    return (len(build.parts), build.timing.get("levels", 0), len(build.cells))
+def _score(build: Build, mapping: Mapping) -> tuple:
+    return (len(build.parts), mapping.depth, len(build.cells))
 
 
-def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = False) -> "Build":
+def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False) -> Build:
     """The build with the fewest whole parts found for ``design`` on ``target``.
 
     ``keep`` names design nets that must stay signals of their own, and
@@ -72,18 +74,19 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = F
     """
     storage_cells = _storage_cells(target)
     best = None
+    best_score: tuple = ()
     tried = []
 
     best_mapping = None
 
     def consider(mapping, label, lib_target):
-        nonlocal best, best_mapping
+        nonlocal best, best_mapping, best_score
         b = _assemble(design, lib_target, mapping, storage_cells)
-        b.timing["levels"] = mapping.depth
         tried.append((label, len(b.parts)))
-        if best is None or _score(b) < _score(best):
-            best, best_mapping = b, mapping
-        return b
+        score = _score(b, mapping)
+        if best is None or score < best_score:
+            best, best_mapping, best_score = b, mapping, score
+        return score
 
     lib = _library(target)
     # further candidates cost a whole mapping each: fewer of them on big designs
@@ -188,9 +191,8 @@ def fit_gates(design: Netlist, target, effort: int = 1, keep=(), trees: bool = F
                     m2 = map_logic(design, sub, subject=subject)
                 except RuntimeError:
                     continue
-                before = _score(best)
-                b2 = consider(m2, "without " + "+".join(sorted(trial)), target)
-                if _score(b2) < before:
+                before = best_score
+                if consider(m2, "without " + "+".join(sorted(trial)), target) < before:
                     step = trial
             if step is None:
                 break
@@ -206,7 +208,6 @@ def dual_netlist(design: Netlist):
     n = Netlist(design.name)
     for i in design.inputs:
         n.add_input(i)
-    from ..netlist import Logic
     for name, node in design.nodes.items():
         if not isinstance(node, Logic):
             continue
@@ -271,7 +272,6 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
     extra_cells = []
     loop_cells = []
     groups = {}
-    cautions = []
     for net, node in design.storage().items():
         d, ctrl = mapping.storage_nets[net]
         kind = node.kind
@@ -287,10 +287,6 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
             cells, group = gate_storage(_library(target), kind, d, ctrl, net, node.init)
             loop_cells.extend(cells)
             groups[net] = group
-            if node.init in (0, 1):
-                cautions.append(
-                    f"{net} must start at {node.init}: a {group.template} powers up in an unknown state; "
-                    "force it with a power-on reset if it matters")
             continue
         cd = target.cells[cell]
         if invert_ctrl:
@@ -301,10 +297,6 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
         for extra in cd.inputs[2:]:
             pins[extra] = "VCC"  # preset/clear inactive (active low)
         storage_uses.append((cell, pins, net, node.init))
-        if node.init in (0, 1):
-            cautions.append(
-                f"{net} must start at {node.init}: the part powers up in an unknown state; drive its "
-                f"{'clear' if node.init == 0 else 'preset'} input from a power-on reset if it matters")
     if extra_cells:
         mapping = Mapping(mapping.cells + extra_cells, mapping.outputs, mapping.storage_nets,
                           mapping.area, mapping.depth)
@@ -317,7 +309,6 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
                      + ", ".join(sorted({g.template for g in groups.values()})))
     b = pack(design.name, target, design.inputs, design.outputs, mapping, storage_uses)
     b.storage_groups.update(groups)
-    b.cautions.extend(cautions)
     b.notes.extend(notes)
     return b
 

@@ -35,7 +35,7 @@ from itertools import combinations_with_replacement
 
 from ..logic.function import var_mask
 
-__all__ = ["Impl", "CellLibrary", "GND", "VCC"]
+__all__ = ["Impl", "CellLibrary", "GND", "VCC", "symmetric_table"]
 
 log = logging.getLogger(__name__)
 
@@ -60,16 +60,6 @@ class Impl:
     gates: tuple
     out: int
 
-    def shifted(self, n_from: int, n_to: int) -> "Impl":
-        """The same network with gate signals renumbered for ``n_to`` leaves."""
-        d = n_to - n_from
-
-        def s(x):
-            return x + d if x >= n_from else x
-
-        return Impl(self.cost, self.depth,
-                    tuple((c, tuple(s(a) for a in args)) for c, args in self.gates), s(self.out))
-
 
 def _cell_costs(target) -> dict:
     """Cost of one slot of each logic cell: 1 / slots of its cheapest carrier."""
@@ -81,7 +71,7 @@ def _cell_costs(target) -> dict:
         for pid in target.carriers.get(name, []):
             pd = target.parts[pid]
             slots = len(pd.slots_for(name)) or len(pd.slots)
-            shared = set(getattr(pd, "shared_pins", {}) or {})
+            shared = set(pd.shared_pins)
             if shared & set(cd.inputs):
                 best = None
                 break
@@ -204,7 +194,7 @@ class CellLibrary:
             if a > 4:
                 continue  # wider cells over at most four leaves only repeat inputs
             ctab = cd.function.table()
-            combos = (combinations_with_replacement(range(len(sigs)), a) if _symmetric_table(ctab, a)
+            combos = (combinations_with_replacement(range(len(sigs)), a) if symmetric_table(ctab, a)
                       else _tuples(len(sigs), a))
             for combo in combos:
                 tabs = [sigs[i][0] for i in combo]
@@ -273,7 +263,7 @@ def _remap(impl: Impl, n_from: int, positions, n_to: int) -> Impl:
                 tuple((c, tuple(s(a) for a in args)) for c, args in impl.gates), s(impl.out))
 
 
-def _symmetric_table(t: int, n: int) -> bool:
+def symmetric_table(t: int, n: int) -> bool:
     from .cuts import expand_table
     for j in range(n - 1):
         perm = list(range(n))

@@ -22,8 +22,11 @@ from collections import Counter, defaultdict
 from functools import lru_cache
 from itertools import combinations_with_replacement, product
 
-from ..build import Build, CellInstance, PartInstance, SupportInstance, Tie
+from ..build import Build, CellInstance, PartInstance, Tie
+from ..catalog.model import Target
 from ..errors import UsageError
+from .library import symmetric_table
+from .support import add_support
 
 __all__ = ["embeddings", "pack"]
 
@@ -79,8 +82,7 @@ def _embeddings(_tid, key):
 
 
 def _symmetric(t: int, n: int) -> bool:
-    from .library import _symmetric_table
-    return _symmetric_table(t, n)
+    return symmetric_table(t, n)
 
 
 def _composed(htab: int, b: int, assign, a: int) -> int:
@@ -103,7 +105,7 @@ def _carrier(target, cell):
     return pd, len(pd.slots_for(cell))
 
 
-def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
+def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_uses) -> Build:
     """Place mapped cells and storage cells into parts; returns a :class:`Build`.
 
     ``storage_uses`` is a list of ``(cell name, pins dict, origin, init)`` for
@@ -198,7 +200,7 @@ def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
                 pins[pin] = src if isinstance(src, str) else use.args[src]
         pins[cd.output] = use.out
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, pins, use.origin,
-                                        group=getattr(use, "group", None)))
+                                        group=use.group))
     for cell, pins, origin, init in storage_uses:
         ref, slot = take(cell)
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, dict(pins), origin, init))
@@ -211,8 +213,7 @@ def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
         for s in pd.slots:
             if (p.ref, s.index) in used_slots:
                 continue
-            sc = target.cells.get(s.cell) if hasattr(target, "cells") else None
-            ins = set(sc.inputs) if sc is not None else set()
+            ins = set(target.cell_of_slot(pd.id, s.index).inputs)
             for pin, num in sorted(s.pins.items(), key=lambda kv: kv[1]):
                 # a pin shared with a used slot (a common enable) is wired already
                 if pin in ins and (p.ref, num) not in wired:
@@ -226,29 +227,3 @@ def pack(design_name, target, inputs, outputs, mapping, storage_uses) -> Build:
 def _is_storage(target, cell) -> bool:
     cd = target.cells.get(cell)
     return cd is not None and cd.storage is not None
-
-
-def add_support(build: Build) -> None:
-    """Support parts by the target's rules (decoupling capacitor per chip, …)."""
-    counters: Counter = Counter()
-    for rule in getattr(build.target, "support_rules", []) or []:
-        per = rule.per
-        pd = build.target.parts[rule.part]
-        prefix = _ref_prefix(pd)
-        if per == "chip":
-            for p in build.parts:
-                if build.target.parts[p.part_id].kind == "chip":
-                    for _ in range(rule.count):
-                        counters[prefix] += 1
-                        build.support.append(SupportInstance(
-                            f"{prefix}{counters[prefix]}", pd.id, ("VCC", "GND"),
-                            f"decoupling for {p.ref}, close to its supply pins"))
-
-
-def _ref_prefix(pd) -> str:
-    text = f"{pd.id} {pd.description}".lower()
-    if "diode" in text:
-        return "D"
-    if "resistor" in text:
-        return "R"
-    return "C"

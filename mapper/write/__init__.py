@@ -1,70 +1,48 @@
-"""Writers: one module per output format.
+"""Writers: one module per output format, and the registries that name them.
 
-A writer module offers ``write_netlist(netlist, path)`` (for ``netfit
-convert``) and/or ``write_build(build, path)`` (for ``netfit build -o``).
-Every writer goes through :func:`atomic_write`: the text is written to a
-temporary file beside the target and renamed, so an interrupted run never
-leaves half a file.
+A netlist writer (for ``netfit convert``) declares the suffixes it writes in
+``SUFFIXES`` and offers ``write_netlist(netlist, path, protect=())``.  A build
+writer (for ``netfit build -o``) offers ``write_build(build, analysis, path,
+protect=(), **options) -> [paths written]``; options a writer has no use for
+are ignored.  Every writer goes through :func:`~mapper.write.files.atomic_write`:
+the text is written to a temporary file beside the target and renamed, so an
+interrupted run never leaves half a file.
+
+To add a format: write the module, then add it to :data:`NETLIST_MODULES`
+and/or :data:`BUILD_WRITERS` below (``tests/write/test_registry.py`` checks
+that every writer module is registered).
 """
 from __future__ import annotations
 
-import importlib
-import os
-import tempfile
 from pathlib import Path
 
 from ..errors import UsageError
+from . import blif, html, json, parts, svg, verilog, wiring
+from .files import atomic_write
 
-__all__ = ["WRITERS", "writer_for", "atomic_write"]
+__all__ = ["WRITERS", "NETLIST_MODULES", "BUILD_WRITERS", "writer_for", "atomic_write"]
 
-WRITERS = {
-    ".blif": "mapper.write.blif",
-    ".json": "mapper.write.json",
-    ".v": "mapper.write.verilog",
-}
+#: modules that write a netlist in their format (each declares its ``SUFFIXES``)
+NETLIST_MODULES = (blif, json, verilog)
+#: suffix -> netlist writer module
+WRITERS = {suffix: m for m in NETLIST_MODULES for suffix in m.SUFFIXES}
+#: the files of ``netfit build -o DIR``: a name starting with "." is a suffix on the design's name
+BUILD_WRITERS = (
+    (".v", verilog),         # also writes cells.v beside it
+    (".blif", blif),
+    (".json", json),
+    ("parts.csv", parts),
+    ("wiring.txt", wiring),
+    ("schematic.svg", svg),
+    ("report.html", html),
+)
 
 
 def writer_for(path):
+    """The netlist writer module for ``path`` (by suffix); :class:`UsageError` if none."""
     suffix = Path(path).suffix.lower()
     mod = WRITERS.get(suffix)
     if mod is None:
         known = ", ".join(sorted(WRITERS))
         raise UsageError(f"{path}: no writer for '{suffix or '(no suffix)'}' files (known: {known})")
-    try:
-        return importlib.import_module(mod)
-    except ModuleNotFoundError as exc:
-        raise UsageError(f"{path}: writing '{suffix}' files is not available yet") from exc
-
-
-def _umask() -> int:
-    mask = os.umask(0o022)
-    os.umask(mask)
-    return mask
-
-
-def atomic_write(path, text: str, protect=()) -> None:
-    """Write ``text`` to ``path`` through a temporary file and a rename.
-
-    ``protect`` lists input paths that must never be overwritten.
-    """
-    path = Path(path)
-    for p in protect:
-        try:
-            if path.exists() and path.samefile(p):
-                raise UsageError(f"{path}: refusing to overwrite an input file")
-        except FileNotFoundError:
-            pass
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        # mkstemp makes the file private (0600); a written file gets the usual mode under the umask
-        os.chmod(tmp, 0o666 & ~_umask())
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    return mod

@@ -38,8 +38,10 @@ from __future__ import annotations
 import logging
 import re
 
+from ..analyze.results import Analysis
+from ..build import Build
 from ..netlist import Input, Logic, Netlist, Storage
-from . import atomic_write
+from .files import atomic_write
 
 __all__ = ["netlist_text", "write_netlist", "blif_names", "write_build"]
 
@@ -147,16 +149,20 @@ def netlist_text(netlist: Netlist) -> str:
     return "\n".join(out) + "\n"
 
 
+#: suffixes of the files this module writes
+SUFFIXES = (".blif",)
+
+
 def write_netlist(netlist: Netlist, path, protect=()) -> None:
     """Write ``netlist`` as BLIF to ``path`` (atomically; never over a file in ``protect``)."""
     atomic_write(path, netlist_text(netlist), protect=protect)
 
 
-def write_build(build, path, protect=()) -> None:
+def write_build(build: Build, analysis: Analysis, path, protect=(), **options) -> list:
     """Write a :class:`~mapper.build.Build` as BLIF: its logic view (:meth:`~mapper.build.Build.to_netlist`).
 
     Every used slot becomes one ``.names`` cover of its cell's function (or a
     ``.latch`` for a storage cell; relay poles become the multiplexer each
     pole is), so reading the file back gives a netlist equal to the design.
     """
-    atomic_write(path, netlist_text(build.to_netlist()), protect=protect)
+    return [atomic_write(path, netlist_text(build.to_netlist()), protect=protect)]

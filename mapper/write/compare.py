@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import textwrap
 
-from .layout import money, render, si
+from ..units import si
+from .layout import money, render
 from .svg import bar_chart
 
 __all__ = ["ROWS", "compare_rows", "compare_table", "compare_svg"]

@@ -12,8 +12,9 @@ import logging
 from markupsafe import Markup
 
 from .. import __version__
+from ..analyze.results import Analysis
 from ..build import Build
-from . import atomic_write
+from .files import atomic_write
 from .layout import render
 from .parts import order_rows
 from .svg import svg_text
@@ -24,10 +25,10 @@ __all__ = ["report_text", "write_build"]
 log = logging.getLogger(__name__)
 
 
-def report_text(b: Build) -> str:
+def report_text(b: Build, analysis: Analysis) -> str:
     """The report page of ``b`` as HTML text."""
-    s = b.summary()
-    timing = b.timing or {}
+    s = analysis.summary(b)
+    timing = analysis.figures(b)
     outputs = []
     for o, v in (timing.get("outputs") or {}).items():
         best, worst = (v + [None, None])[:2] if isinstance(v, list) else (None, v)
@@ -63,11 +64,11 @@ def report_text(b: Build) -> str:
                          "inputs": ", ".join(h.get("directions") or h.get("inputs_changed") or []),
                          "when": " ".join(f"{k}={v}" for k, v in (when[0] if when else {}).items()) or "any",
                          "width": widths})
-    return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b), w=wiring(b),
-                  svg=Markup(svg_text(b, declaration=False)), outputs=outputs, path=path, figures=figures,
+    return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b), w=wiring(b, analysis),
+                  svg=Markup(svg_text(b, analysis, declaration=False)), outputs=outputs, path=path, figures=figures,
                   glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)))
 
 
-def write_build(b: Build, path, protect=()) -> None:
+def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:
     """Write ``report.html`` of ``b`` to ``path`` (atomically)."""
-    atomic_write(path, report_text(b), protect=protect)
+    return [atomic_write(path, report_text(b, analysis), protect=protect)]

@@ -33,7 +33,7 @@ Builds
 
     {
       "format": "netfit-build", "version": 1,
-      "summary": {...},                  # Build.summary(), as `netfit build --json`
+      "summary": {...},                  # as `netfit build --json` (Analysis.summary)
       "design": "c17", "target": "nand-only",
       "inputs": [...], "outputs": [...], "output_nets": {"N22": "N22", ...},
       "parts": [{"ref": "U1", "part": "74HC00", "description": ..., "package": "DIP-14",
@@ -50,9 +50,10 @@ Builds
       "timing": {...}, "cautions": [...], "notes": [...]
     }
 
-``timing`` holds the figures of the build's timing analysis except the
-list of glitches (``hazards``; their number is kept), which ``netfit timing
---json`` gives in full.
+``timing`` holds the figures of the build's analyses
+(:meth:`~mapper.analyze.results.Analysis.figures`) except the list of
+glitches (``hazards``; their number is kept), which ``netfit timing --json``
+gives in full.
 
 Pins are package pin numbers, or terminal names (``COIL+``, ``NO1``) for
 relays; ``use`` is one of ``input output supply tie open nc coil contact
@@ -62,16 +63,22 @@ from __future__ import annotations
 
 import json
 
+from ..analyze.results import Analysis
+from ..build import Build
 from ..logic.function import MAX_TABLE_INPUTS
 from ..netlist import Logic, Netlist, Storage
-from . import atomic_write
+from .files import atomic_write
+from .verilog import verilog_names
+from .wiring import PinLookup, wiring
 
-__all__ = ["FORMAT", "VERSION", "BUILD_FORMAT", "netlist_dict", "write_netlist", "dumps", "build_dict",
-           "write_build"]
+__all__ = ["FORMAT", "VERSION", "BUILD_FORMAT", "SUFFIXES", "netlist_dict", "write_netlist", "dumps",
+           "build_dict", "write_build"]
 
 FORMAT = "netfit-netlist"
 VERSION = 1
 BUILD_FORMAT = "netfit-build"
+#: suffixes of the files this module writes
+SUFFIXES = (".json",)
 
 
 def netlist_dict(netlist: Netlist) -> dict:
@@ -131,12 +138,9 @@ def _plain(value):
 _TIMING_LEFT_OUT = ("hazards",)
 
 
-def build_dict(build) -> dict:
+def build_dict(build: Build, analysis: Analysis) -> dict:
     """The whole build as plain data (see the module docstring); JSON-serialisable."""
-    from .verilog import verilog_names
-    from .wiring import PinLookup, wiring
-
-    w = wiring(build)
+    w = wiring(build, analysis)
     pin_of = PinLookup(build)
     inst = verilog_names(build).instances
     cells = build.target.cells
@@ -168,7 +172,7 @@ def build_dict(build) -> dict:
     return {
         "format": BUILD_FORMAT,
         "version": VERSION,
-        "summary": _plain(build.summary()),
+        "summary": _plain(analysis.summary(build)),
         "design": build.design,
         "target": build.target.name,
         "inputs": list(build.inputs),
@@ -178,11 +182,11 @@ def build_dict(build) -> dict:
         "cells": [{"instance": inst[("cell", c.part_ref, c.slot)], "cell": c.cell, "part": c.part_ref,
                    "slot": c.slot, "pins": {p: {"pin": pin_of(c, p), "net": c.pins.get(p)}
                                             for p in cells[c.cell].pins},
-                   "origin": c.origin, "init": c.init, "group": getattr(c, "group", None)}
+                   "origin": c.origin, "init": c.init, "group": c.group}
                   for c in build.cells],
         "storage_groups": [{"net": g.q, "kind": g.kind, "d": g.d, "control": g.control, "init": g.init,
                             "built_as": g.template}
-                           for g in (getattr(build, "storage_groups", None) or {}).values()],
+                           for g in build.storage_groups.values()],
         "contacts": [{"instance": inst[("pole", k.part_ref, k.pole)], "part": k.part_ref, "pole": k.pole,
                       "coil": build.coils.get(k.part_ref), "com": k.com, "no": k.no, "nc": k.nc}
                      for k in build.contacts],
@@ -192,12 +196,12 @@ def build_dict(build) -> dict:
         "support": [{"ref": s.ref, "part": s.part_id, "nets": list(s.nets), "purpose": s.purpose}
                     for s in build.support],
         "ties": [{"part": t.part_ref, "pin": t.pin, "rail": t.rail, "reason": t.reason} for t in build.ties],
-        "timing": _plain({k: v for k, v in build.timing.items() if k not in _TIMING_LEFT_OUT}),
-        "cautions": list(build.cautions),
-        "notes": list(build.notes),
+        "timing": _plain({k: v for k, v in analysis.figures(build).items() if k not in _TIMING_LEFT_OUT}),
+        "cautions": list(analysis.cautions),
+        "notes": analysis.all_notes(build),
     }
 
 
-def write_build(build, path, protect=()) -> None:
+def write_build(build: Build, analysis: Analysis, path, protect=(), **options) -> list:
     """Write the whole build as JSON to ``path`` (atomically; never over a file in ``protect``)."""
-    atomic_write(path, dumps(build_dict(build)), protect=protect)
+    return [atomic_write(path, dumps(build_dict(build, analysis)), protect=protect)]

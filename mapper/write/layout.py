@@ -5,14 +5,10 @@ models) is a template in ``mapper/templates``; writers gather plain data and
 call :func:`render`.  Templates are found through :mod:`importlib.resources`,
 so they work from an installed wheel as well as from the source tree.
 
+Figures are written with :func:`mapper.units.si` (the filter ``si``).
+
 Examples
 --------
->>> si(7e-09, "s")
-'7 ns'
->>> si(0.000606, "A")
-'606 µA'
->>> si(None, "s")
-'-'
 >>> money(1.05)
 '1.05'
 >>> money(0.025)
@@ -26,20 +22,9 @@ from decimal import Decimal
 
 import jinja2
 
-__all__ = ["render", "environment", "si", "money"]
+from ..units import si
 
-
-def si(value, unit: str = "") -> str:
-    """A number with an SI prefix and three significant digits (``"-"`` for ``None``)."""
-    if value is None:
-        return "-"
-    value = float(value)
-    if value == 0:
-        return f"0 {unit}".rstrip()
-    for scale, prefix in ((1e3, "k"), (1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p")):
-        if abs(value) >= scale * 0.9995:
-            return f"{value / scale:.3g} {prefix}{unit}".rstrip()
-    return f"{value:.3g} {unit}".rstrip()
+__all__ = ["render", "environment", "money"]
 
 
 def money(value) -> str:

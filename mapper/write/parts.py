@@ -25,9 +25,10 @@ import logging
 from collections import OrderedDict
 from decimal import Decimal
 
-from ..build import Build
+from ..analyze.results import Analysis
+from ..build import Build, ref_key
 from ..errors import UsageError
-from . import atomic_write
+from .files import atomic_write
 from .layout import money
 
 __all__ = ["COLUMNS", "order_rows", "parts_csv", "parts_json", "parts_table", "write_build"]
@@ -36,12 +37,6 @@ log = logging.getLogger(__name__)
 
 COLUMNS = ("part", "description", "kind", "quantity", "slots_used", "slots_available", "unit_price",
            "extended_price", "currency", "price_source", "refs")
-
-
-def _refkey(ref: str):
-    head = ref.rstrip("0123456789")
-    tail = ref[len(head):]
-    return (head, int(tail) if tail else 0)
 
 
 def _price(pd) -> Decimal | None:
@@ -58,7 +53,7 @@ def order_rows(b: Build, copies: int = 1) -> dict:
     if copies < 1:
         raise UsageError(f"--qty must be 1 or more (got {copies})")
     groups: "OrderedDict[str, list]" = OrderedDict()
-    for p in sorted(b.parts, key=lambda p: _refkey(p.ref)):
+    for p in sorted(b.parts, key=lambda p: ref_key(p.ref)):
         groups.setdefault(p.part_id, []).append(p.ref)
     used: dict = {}
     for c in b.cells:
@@ -68,10 +63,10 @@ def order_rows(b: Build, copies: int = 1) -> dict:
     rows = []
     for pid, refs in groups.items():
         pd = b.target.parts[pid]
-        per = pd.relay.poles if pd.relay is not None else len(pd.slots)
+        per = pd.units()
         rows.append(_row(pd, refs, copies, sum(used.get(r, 0) for r in refs), per * len(refs)))
     sgroups: "OrderedDict[str, list]" = OrderedDict()
-    for s in sorted(b.support, key=lambda s: _refkey(s.ref)):
+    for s in sorted(b.support, key=lambda s: ref_key(s.ref)):
         sgroups.setdefault(s.part_id, []).append(s.ref)
     for pid, refs in sgroups.items():
         rows.append(_row(b.target.parts[pid], refs, copies, None, None))
@@ -157,6 +152,6 @@ def parts_table(b: Build, copies: int = 1) -> str:
     return "\n".join(out) + "\n"
 
 
-def write_build(b: Build, path, protect=(), copies: int = 1) -> None:
-    """Write ``parts.csv`` of ``b`` to ``path`` (atomically)."""
-    atomic_write(path, parts_csv(b, copies), protect=protect)
+def write_build(b: Build, analysis: Analysis, path, protect=(), copies: int = 1, **options) -> list:
+    """Write ``parts.csv`` of ``b`` for ``copies`` copies to ``path`` (atomically)."""
+    return [atomic_write(path, parts_csv(b, copies), protect=protect)]

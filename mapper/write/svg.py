@@ -22,8 +22,9 @@ from dataclasses import dataclass, field
 from lxml import etree
 
 from .. import __version__
-from ..build import SUPPLY_NETS, Build
-from . import atomic_write
+from ..analyze.results import Analysis
+from ..build import SUPPLY_NETS, Build, ref_key
+from .files import atomic_write
 
 __all__ = ["MAX_CELLS", "svg_element", "svg_text", "write_build", "bar_chart"]
 
@@ -55,23 +56,17 @@ class _Box:
     pin_xy: dict = field(default_factory=dict)
 
 
-def _refkey(ref: str):
-    head = ref.rstrip("0123456789")
-    tail = ref[len(head):]
-    return (head, int(tail) if tail else 0)
-
-
 def _boxes(b: Build) -> list:
     cells = b.target.cells
     out = []
-    for c in sorted(b.cells, key=lambda c: (_refkey(c.part_ref), c.slot)):
+    for c in sorted(b.cells, key=lambda c: (ref_key(c.part_ref), c.slot)):
         cd = cells[c.cell]
         pid = b.part(c.part_ref).part_id
         out.append(_Box(("cell", c.part_ref, c.slot), f"{c.part_ref}.{c.slot}", f"{c.cell} · {pid}",
                         [(p, c.pins.get(p)) for p in cd.inputs],
                         [(p, c.pins.get(p)) for p in (cd.output, *cd.extra_outputs)],
                         storage=cd.storage is not None))
-    for k in sorted(b.contacts, key=lambda k: (_refkey(k.part_ref), k.pole)):
+    for k in sorted(b.contacts, key=lambda k: (ref_key(k.part_ref), k.pole)):
         pid = b.part(k.part_ref).part_id
         out.append(_Box(("pole", k.part_ref, k.pole), f"{k.part_ref}.{k.pole}", f"pole · {pid}",
                         [("COIL", b.coils.get(k.part_ref)), ("NO", k.no), ("NC", k.nc)], [("COM", k.com)]))
@@ -106,7 +101,7 @@ def _levels(boxes: list, inputs: set) -> None:
         if not ready:
             # a loop (relay seal-in through coils): cut it at the box with the fewest unplaced drivers
             left = [bx for bx in boxes if id(bx) not in level]
-            cut = min(left, key=lambda bx: (len(remaining[id(bx)]), _refkey(bx.key[1]), bx.key[2]))
+            cut = min(left, key=lambda bx: (len(remaining[id(bx)]), ref_key(bx.key[1]), bx.key[2]))
             remaining[id(cut)] = set()
             ready.append(cut)
         bx = ready.pop()
@@ -141,7 +136,7 @@ def _root(width, height, title):
     return root
 
 
-def svg_element(b: Build):
+def svg_element(b: Build, analysis: Analysis):
     """The drawing of ``b`` as an lxml ``<svg>`` element (see the module docstring)."""
     boxes = _boxes(b)
     if len(boxes) > MAX_CELLS:
@@ -209,7 +204,7 @@ def svg_element(b: Build):
     root = _root(width, height, f"{b.design} on {b.target.name}")
     _el(root, "text", f"{b.design} on {b.target.name}", x=_MARGIN, y=22, font_size=15, font_weight="bold")
     _el(root, "text", f"{len(b.parts)} parts, {b.slots_used()} of {b.slots_available()} slots used, "
-                      f"{cost:.2f} {currency}; proof: {b.verified}; netfit {__version__}",
+                      f"{cost:.2f} {currency}; proof: {analysis.verified}; netfit {__version__}",
         x=_MARGIN, y=38, fill="#555555")
     wires = _el(root, "g", id="nets", fill="none", stroke_width="1.4")
     labels = _el(root, "g", id="net-names", font_size="9")
@@ -285,7 +280,7 @@ def svg_element(b: Build):
     # the parts, as a footer
     foot = _el(root, "g", id="parts", font_size="10", fill="#333333")
     line = []
-    for p in sorted(b.parts, key=lambda p: _refkey(p.ref)):
+    for p in sorted(b.parts, key=lambda p: ref_key(p.ref)):
         line.append(f"{p.ref} {p.part_id}")
     text = "parts: " + ", ".join(line)
     if b.support:
@@ -296,7 +291,7 @@ def svg_element(b: Build):
 
 
 def _overview(b: Build, n_boxes: int):
-    parts = sorted(b.parts, key=lambda p: _refkey(p.ref))
+    parts = sorted(b.parts, key=lambda p: ref_key(p.ref))
     used: dict = {}
     for c in b.cells:
         used[c.part_ref] = used.get(c.part_ref, 0) + 1
@@ -327,16 +322,16 @@ def _overview(b: Build, n_boxes: int):
     return root
 
 
-def svg_text(b: Build, declaration: bool = True) -> str:
+def svg_text(b: Build, analysis: Analysis, declaration: bool = True) -> str:
     """The drawing as SVG text (with an XML declaration unless it is to be inlined in HTML)."""
-    root = svg_element(b)
+    root = svg_element(b, analysis)
     body = etree.tostring(root, pretty_print=True, encoding="unicode")
     return ('<?xml version="1.0" encoding="UTF-8"?>\n' + body) if declaration else body
 
 
-def write_build(b: Build, path, protect=()) -> None:
+def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:
     """Write ``schematic.svg`` of ``b`` to ``path`` (atomically)."""
-    atomic_write(path, svg_text(b), protect=protect)
+    return [atomic_write(path, svg_text(b, analysis), protect=protect)]
 
 
 def bar_chart(title: str, groups: list) -> str:

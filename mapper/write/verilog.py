@@ -71,10 +71,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .. import __version__
-from ..build import Build
+from ..analyze.results import Analysis
+from ..build import Build, ref_key
 from ..errors import InternalError, UsageError
 from ..netlist import Logic, Netlist, Storage
-from . import atomic_write
+from .files import atomic_write
 from .layout import render
 
 __all__ = ["KEYWORDS", "VerilogNames", "verilog_names", "build_text", "cells_text", "write_build",
@@ -296,18 +297,12 @@ def verilog_names(b: Build) -> VerilogNames:
     """Decide the Verilog name of every net, port and instance of ``b`` (see the module docstring)."""
     nm = _Namer(b.inputs, b.outputs, _all_nets(b), b.output_nets)
     instances: dict = {}
-    for c in sorted(b.cells, key=lambda c: (_refkey(c.part_ref), c.slot)):
+    for c in sorted(b.cells, key=lambda c: (ref_key(c.part_ref), c.slot)):
         instances[("cell", c.part_ref, c.slot)] = nm.fresh(f"{c.part_ref}_{c.slot}")
-    for k in sorted(b.contacts, key=lambda k: (_refkey(k.part_ref), k.pole)):
+    for k in sorted(b.contacts, key=lambda k: (ref_key(k.part_ref), k.pole)):
         instances[("pole", k.part_ref, k.pole)] = nm.fresh(f"{k.part_ref}_{k.pole}")
     return VerilogNames(_module_name(b.design, b.target.cells), nm.ref, nm.ports, nm.wires, nm.renamed,
                         instances, nm.assigns)
-
-
-def _refkey(ref: str):
-    head = ref.rstrip("0123456789")
-    tail = ref[len(head):]
-    return (head, int(tail) if tail else 0)
 
 
 def cell_module(name: str) -> str:
@@ -335,7 +330,7 @@ def _instances(b: Build, nm: VerilogNames) -> list:
         by_part.setdefault(c.part_ref, []).append(("cell", c))
     for k in b.contacts:
         by_part.setdefault(k.part_ref, []).append(("pole", k))
-    for p in sorted(b.parts, key=lambda p: _refkey(p.ref)):
+    for p in sorted(b.parts, key=lambda p: ref_key(p.ref)):
         pd = b.part_def(p.ref)
         items = sorted(by_part.get(p.ref, []), key=lambda it: it[1].slot if it[0] == "cell" else it[1].pole)
         header = f"{p.ref}: {pd.id}, {pd.description} ({pd.package})"
@@ -392,17 +387,16 @@ def _instances(b: Build, nm: VerilogNames) -> list:
     return out
 
 
-def build_text(b: Build, cells_file: str = CELLS_FILE) -> str:
+def build_text(b: Build, analysis: Analysis, cells_file: str = CELLS_FILE) -> str:
     """The structural Verilog-2001 text of ``b`` (one module; cell models in ``cells_file``)."""
     nm = verilog_names(b)
     used_rails = sorted({n for c in b.cells for n in c.pins.values() if n in RAILS}
                         | {n for k in b.contacts for n in (k.com, k.no, k.nc) if n in RAILS}
                         | {n for n in b.coils.values() if n in RAILS}
                         | {n for _, _, _, n in nm.assigns if n in RAILS})
-    groups = getattr(b, "storage_groups", {}) or {}
-    power_up = [(nm.ref.get(g.q, g.q), g.init, g.template or g.kind) for g in groups.values()
+    power_up = [(nm.ref.get(g.q, g.q), g.init, g.template or g.kind) for g in b.storage_groups.values()
                 if g.init in (0, 1)]
-    return render("build.v.j2", b=b, nm=nm, version=__version__, cells_file=cells_file,
+    return render("build.v.j2", b=b, verified=analysis.verified, nm=nm, version=__version__, cells_file=cells_file,
                   rails=[(RAILS[r], r) for r in used_rails], power_up=power_up,
                   wires=[nm.ref[w] for w in nm.wires], parts=_instances(b, nm),
                   renamed=sorted(nm.renamed.items()))
@@ -462,7 +456,7 @@ def _model(cd) -> dict:
 
 
 def cells_text(cells) -> str:
-    """``cells.v``: a behavioural module for each :class:`~mapper.fit.target.CellDef` in ``cells``."""
+    """``cells.v``: a behavioural module for each :class:`~mapper.catalog.CellDef` in ``cells``."""
     return render("cells.v.j2", models=[_model(cd) for cd in cells], version=__version__)
 
 
@@ -482,14 +476,15 @@ def write_cells(b: Build, path, protect=()) -> None:
     atomic_write(path, cells_text(used_cells(b)), protect=protect)
 
 
-def write_build(b: Build, path, protect=()) -> None:
+def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:
     """Write ``b`` as structural Verilog to ``path`` and its cell models to ``cells.v`` beside it."""
     path = Path(path)
     cells_path = path.with_name(CELLS_FILE)
     if cells_path == path:
         raise InternalError("the build's Verilog cannot be written to cells.v itself")
-    atomic_write(path, build_text(b, CELLS_FILE), protect=protect)
+    atomic_write(path, build_text(b, analysis, CELLS_FILE), protect=protect)
     write_cells(b, cells_path, protect=protect)
+    return [path, cells_path]
 
 
 # -- netlists ---------------------------------------------------------------------------------
@@ -549,6 +544,10 @@ def netlist_text(netlist: Netlist) -> str:
     return render("netlist.v.j2", n=netlist, module=_module_name(netlist.name or "design"), ports=nm.ports,
                   wires=wires, regs=regs, seq=seq, comb=comb, assigns=nm.assigns,
                   renamed=sorted(nm.renamed.items()), version=__version__)
+
+
+#: suffixes of the files this module writes
+SUFFIXES = (".v",)
 
 
 def write_netlist(netlist: Netlist, path, protect=()) -> None:

@@ -24,9 +24,10 @@ import re
 from dataclasses import dataclass
 
 from .. import __version__
-from ..build import SUPPLY_NETS, Build
+from ..analyze.results import Analysis
+from ..build import SUPPLY_NETS, Build, ref_key
 from ..errors import InternalError
-from . import atomic_write
+from .files import atomic_write
 from .layout import render
 
 __all__ = ["PinUse", "wiring", "wiring_text", "write_build", "pin_label", "PinLookup"]
@@ -58,12 +59,6 @@ class PinUse:
     net: str | None
     use: str
     note: str = ""
-
-
-def _refkey(ref: str):
-    head = ref.rstrip("0123456789")
-    tail = ref[len(head):]
-    return (head, int(tail) if tail else 0)
 
 
 def _natural(name: str):
@@ -120,7 +115,7 @@ class _Pins:
                                    net, use, note)
 
 
-def wiring(b: Build) -> dict:
+def wiring(b: Build, analysis: Analysis) -> dict:
     """Plain data for the wiring list of ``b`` (see the module docstring).
 
     Returns a dict with ``parts`` (each with every package pin, in pin
@@ -139,7 +134,7 @@ def wiring(b: Build) -> dict:
     ties_of: dict = {}
     for t in b.ties:
         ties_of.setdefault(t.part_ref, {})[t.pin] = t
-    for p in sorted(b.parts, key=lambda p: _refkey(p.ref)):
+    for p in sorted(b.parts, key=lambda p: ref_key(p.ref)):
         pd = b.target.parts[p.part_id]
         relay = pd.relay is not None
         pins = _Pins(p.ref, pd, relay)
@@ -155,7 +150,7 @@ def wiring(b: Build) -> dict:
         parts_out.append({"ref": p.ref, "part": pd.id, "description": pd.description,
                           "package": pd.package, "kind": "relay" if relay else "chip",
                           "pinout_source": pd.pinout_source, "pins": pins})
-    for s in sorted(b.support, key=lambda s: _refkey(s.ref)):
+    for s in sorted(b.support, key=lambda s: ref_key(s.ref)):
         pd = b.target.parts[s.part_id]
         pins = _Pins(s.ref, pd, False)
         numbers = sorted(pd.pin_names()) or list(range(1, len(s.nets) + 1))
@@ -180,9 +175,9 @@ def wiring(b: Build) -> dict:
     unfed = [pu for part in parts_out for pu in part["pins"] if pu.use == "input" and pu.net is None]
     if unfed:
         raise InternalError("inputs left open in the build: " + ", ".join(pu.label for pu in unfed))
-    return {"design": b.design, "target": b.target.name, "verified": b.verified, "version": __version__,
+    return {"design": b.design, "target": b.target.name, "verified": analysis.verified, "version": __version__,
             "parts": parts_out, "nets": nets, "ties": ties, "open": opens, "not_connected": ncs,
-            "rail": b.rail if (b.contacts or b.coils) else None}
+            "rail": b.rail if b.is_relay else None}
 
 
 def _chip_pins(b: Build, ref: str, pd, pins: _Pins, cells: dict, placed: list, ties: dict, pin_of) -> None:
@@ -222,17 +217,11 @@ def _chip_pins(b: Build, ref: str, pd, pins: _Pins, cells: dict, placed: list, t
 
 
 def _slot_outputs(b: Build, pd, s) -> set:
-    """Output pins of slot ``s`` (its cell may be one the target does not use: read it from the catalog)."""
-    cd = b.target.cells.get(s.cell)
-    if cd is None:
-        from ..fit.target import load_catalog
-        try:
-            cd = load_catalog(pd.source_file)[1].get(s.cell)
-        except Exception:  # the catalog was read once already; this is only a fallback
-            cd = None
-    if cd is None:
-        raise InternalError(f"{pd.id} slot {s.index}: cell {s.cell} is unknown, its outputs cannot be told")
-    return {cd.output, *cd.extra_outputs}
+    """Output pins of slot ``s`` (its cell may be one the target does not use: the catalog has it)."""
+    try:
+        return set(b.target.cell_of_slot(pd.id, s.index).outputs)
+    except KeyError as exc:
+        raise InternalError(f"{pd.id} slot {s.index}: its outputs cannot be told ({exc})") from None
 
 
 def _relay_pins(b: Build, ref: str, pd, pins: _Pins) -> None:
@@ -255,7 +244,7 @@ def _relay_pins(b: Build, ref: str, pd, pins: _Pins) -> None:
                 num = names.get(f"{term}{s.index}")
             if num is None:
                 continue
-            net = getattr(k, term.lower()) if k is not None else None
+            net = {"COM": k.com, "NO": k.no, "NC": k.nc}[term] if k is not None else None
             what = {"COM": "common", "NO": "normally open", "NC": "normally closed"}[term]
             if net is None:
                 why = "pole not used" if k is None else "not used"
@@ -281,7 +270,7 @@ def _nets(b: Build, parts: list) -> list:
     order += [n for n in out_of if n not in order]
     result = []
     for net in order:
-        pus = sorted(joined.get(net, []), key=lambda pu: (_refkey(pu.ref), pu.number))
+        pus = sorted(joined.get(net, []), key=lambda pu: (ref_key(pu.ref), pu.number))
         drivers, loads, others = [], [], []
         for pu in pus:
             if pu.use == "output" or (pu.use == "contact" and pu.name.startswith("COM")):
@@ -302,13 +291,13 @@ def _nets(b: Build, parts: list) -> list:
     return result
 
 
-def wiring_text(b: Build) -> str:
+def wiring_text(b: Build, analysis: Analysis) -> str:
     """The wiring list of ``b`` as text (``wiring.txt``)."""
-    w = wiring(b)
+    w = wiring(b, analysis)
     width = max([len(n["net"]) for n in w["nets"]] + [4])
     return render("wiring.txt.j2", w=w, b=b, width=width, uses=USES)
 
 
-def write_build(b: Build, path, protect=()) -> None:
+def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:
     """Write the wiring list of ``b`` to ``path`` (atomically)."""
-    atomic_write(path, wiring_text(b), protect=protect)
+    return [atomic_write(path, wiring_text(b, analysis), protect=protect)]

@@ -23,7 +23,7 @@ from mapper import flow
 from mapper.analyze.timing import LOAD_RATING, cell_delay, net_loads, static_timing
 from mapper.fit.gates import CellUse, Mapping
 from mapper.fit.pack import pack
-from mapper.fit.target import Figure, load_target
+from mapper.catalog import Figure, load_target
 from mapper.read import read_design
 
 C17_GATES = [("N1", "N3", "N10"), ("N3", "N6", "N11"), ("N2", "N11", "N16"),
@@ -42,17 +42,12 @@ def nand2_figures(target):
     return pd.delay_typ["nand2"].value, pd.delay_max["nand2"].value
 
 
-def exact_table_missing():
-    from importlib.resources import files
-    return not files("mapper.data").joinpath("exact_nand2.json").is_file()
-
-
 def test_c17_published_gates_on_nand_only():
     # ISCAS-85 c17 as published: 3 NAND2 levels on the longest path, 2 on the shortest
     t = load_target("nand-only")
     typ, mx = nand2_figures(t)
     b = hand_build(t, [("nand2", (a, c), o) for a, c, o in C17_GATES], ["N1", "N2", "N3", "N6", "N7"], ["N22", "N23"])
-    r = static_timing(b)
+    r = static_timing(b).as_dict()
     assert r["delay_s"] == pytest.approx(3 * mx)
     assert r["delay_typ_s"] == pytest.approx(3 * typ)
     assert r["levels"] == 3
@@ -80,15 +75,14 @@ def test_c17_published_gates_on_nand_only():
     assert prev in ("N22", "N23")
 
 
-@pytest.mark.skipif(exact_table_missing(), reason="mapper/data/exact_nand2.json (NAND2 exact table) not generated yet")
 def test_c17_fitted_on_nand_only(data):
     # the issue's check: c17 on nand-only, worst delay = 3 NAND2 levels x the catalog's maximum NAND2 delay
     t = load_target("nand-only")
     _, mx = nand2_figures(t)
-    b = flow.fit(read_design(data / "c17.blif"), t)
-    assert b.verified == "proved"
-    assert b.timing["delay_s"] == pytest.approx(3 * mx)
-    assert b.timing["levels"] == 3
+    b, a = flow.fit(read_design(data / "c17.blif"), t)
+    assert a.verified == "proved"
+    assert a.timing.delay_s == pytest.approx(3 * mx)
+    assert a.timing.levels == 3
 
 
 def _longest_by_networkx(build, use_max=True):
@@ -112,8 +106,8 @@ def _longest_by_networkx(build, use_max=True):
 def test_worst_path_matches_networkx(name, data):
     # independent check: networkx's DAG longest path over the same cells and catalog delays
     t = load_target("gates-74")
-    b = flow.fit(read_design(data / "textbook" / f"{name}.blif"), t, effort=0)
-    r = b.timing
+    b, a = flow.fit(read_design(data / "textbook" / f"{name}.blif"), t, effort=0)
+    r = a.timing.as_dict()
     assert r["delay_s"] == pytest.approx(_longest_by_networkx(b, True))
     assert r["delay_typ_s"] == pytest.approx(_longest_by_networkx(b, False))
     # the critical path's hops add up to its arrival
@@ -127,8 +121,8 @@ def test_counter_clock_rate(data):
     # synchronous 4-bit counter (textbook circuit): T_min = clock-to-output + longest logic + setup
     # (common practice); the catalog gives no setup time for the 74HC74, so it counts as 0
     t = load_target("gates-74")
-    b = flow.fit(read_design(data / "textbook" / "counter4.blif"), t, effort=0)
-    r = b.timing
+    b, a = flow.fit(read_design(data / "textbook" / "counter4.blif"), t, effort=0)
+    r = a.timing.as_dict()
     clk2q = t.parts["74HC74"].delay_max["dff_pc"].value
     logic = _longest_by_networkx(b, True)
     assert r["clock_period_min_s"] == pytest.approx(clk2q + logic)
@@ -146,10 +140,10 @@ def test_setup_time_from_catalog_rating(data):
     t.name = "gates-74-setup"
     t.parts["74HC74"].ratings["setup-time"] = Figure(20e-9, "test value")
     design = read_design(data / "textbook" / "counter4.blif")
-    base = flow.fit(design, load_target("gates-74"), effort=0)
-    b = flow.fit(design, t, effort=0)
-    assert b.timing["clock_period_min_s"] == pytest.approx(base.timing["clock_period_min_s"] + 20e-9)
-    assert not any("74HC74" in n for n in b.timing["clock_notes"])
+    base, base_a = flow.fit(design, load_target("gates-74"), effort=0)
+    b, a = flow.fit(design, t, effort=0)
+    assert a.timing.clock.period_min_s == pytest.approx(base_a.timing.clock.period_min_s + 20e-9)
+    assert not any("74HC74" in n for n in a.timing.clock.notes)
 
 
 def test_load_dependent_delay():
@@ -162,8 +156,8 @@ def test_load_dependent_delay():
     per = t.parts["74HC00"].input_load.value
     assert loads["N11"] == pytest.approx(2 * per) and loads["N16"] == pytest.approx(2 * per)
     plain = static_timing(hand_build(load_target("nand-only"), [("nand2", (a, c), o) for a, c, o in C17_GATES],
-                                     ["N1", "N2", "N3", "N6", "N7"], ["N22", "N23"]))
-    r = static_timing(b)
+                                     ["N1", "N2", "N3", "N6", "N7"], ["N22", "N23"])).as_dict()
+    r = static_timing(b).as_dict()
     # the worst path N3 -> N11 -> N16 -> N22 adds the loads on N11 and N16 (N22 drives nothing)
     assert r["delay_s"] == pytest.approx(plain["delay_s"] + 1e-9 * (loads["N11"] + loads["N16"]))
 
@@ -174,7 +168,7 @@ def test_overloaded_net_is_listed():
     t = load_target("gates-74")
     cells = [("inv", ("a",), "x")] + [("inv", ("x",), f"y{i}") for i in range(101)]
     b = hand_build(t, cells, ["a"], [f"y{i}" for i in range(101)])
-    r = static_timing(b)
+    r = static_timing(b).as_dict()
     assert [o["net"] for o in r["overloaded"]] == ["x"]
 
 
@@ -186,24 +180,24 @@ def test_build_with_no_cells():
     n.add_input("a")
     n.add_logic("f", ["a"], Function.from_table(1, 0b10))
     n.add_output("f")
-    b = flow.fit(n, load_target("gates-74"))
-    r = static_timing(b)
+    b, a = flow.fit(n, load_target("gates-74"))
+    r = static_timing(b).as_dict()
     assert r["delay_s"] == 0.0 and r["critical_path"] == []
 
 
-def test_relay_build_keeps_relay_timing(tmp_path):
-    # relay builds have contacts, not cells: static_timing leaves the relay figures alone
+def test_relay_build_is_timed_by_coil_levels(tmp_path):
+    # relay builds have contacts, not cells: their timing is coil levels (one operate or release time
+    # each, catalog figures), never the cells' static timing
     p = tmp_path / "and.blif"
     p.write_text(".model and2\n.inputs a b\n.outputs f\n.names a b f\n11 1\n.end\n")
-    b = flow.fit(read_design(p), load_target("relay-spdt"))
+    b, a = flow.fit(read_design(p), load_target("relay-spdt"))
     assert b.cells == [] and b.contacts
-    assert static_timing(b) == {}
+    assert a.timing.relay is not None and a.timing.paths is None
     r = b.target.parts[b.parts[0].part_id].relay
-    assert b.timing["delay_s"] >= r.operate_time.value
+    assert a.timing.delay_s >= r.operate_time.value
 
 
-@pytest.mark.parametrize("target", ["gates-74", pytest.param("nand-only", marks=pytest.mark.skipif(
-    exact_table_missing(), reason="mapper/data/exact_nand2.json (NAND2 exact table) not generated yet"))])
+@pytest.mark.parametrize("target", ["gates-74", "nand-only"])
 def test_part_index_gives_the_builds_own_pins(target, tmp_path):
     # The timing pass looks parts and pins up in tables made once (PartIndex); they must give exactly
     # what the build's own (list-searching) methods give for every pin of every cell, and the pins of
@@ -211,7 +205,7 @@ def test_part_index_gives_the_builds_own_pins(target, tmp_path):
     # (independent generator).
     from generated import make
     from mapper.analyze.timing import PartIndex
-    b = flow.fit(read_design(make("rca", 4, tmp_path)), load_target(target))
+    b, a = flow.fit(read_design(make("rca", 4, tmp_path)), load_target(target))
     ix = PartIndex(b)
     for c in b.cells:
         assert ix.part_def(c.part_ref) is b.part_def(c.part_ref)
@@ -224,7 +218,7 @@ def test_part_index_gives_the_builds_own_pins(target, tmp_path):
         assert ix.part_def(p.part_id) is b.part_def(p.part_id)
     # every hop of every reported path carries the same pins as the build says
     by_out = {c.pins[b.target.cells[c.cell].output]: c for c in b.cells}
-    for path in b.timing["paths"]:
+    for path in a.timing.paths:
         for h in path["worst_path"] + path["best_path"]:
             c = by_out[h["net"]]
             assert h["from_pin_number"] == b.pin_of(c, h["from_pin"])

@@ -49,7 +49,7 @@ def test_hazard_free_builds_keep_no_static_hazard(target):
     for _ in range(12):
         n = rng.choice([3, 4])
         d = _single_node(n, rng.getrandbits(1 << n))
-        b = flow.fit_hazard_free(d, t)
-        assert b.verified == "proved"
-        static = [h for h in b.timing.get("hazards", []) if h["kind"].startswith("static")]
+        b, a = flow.fit_hazard_free(d, t)
+        assert a.verified == "proved"
+        static = [h for h in a.glitches.hazards if h["kind"].startswith("static")]
         assert static == [], (target, d.nodes["f"].func.table(), static)

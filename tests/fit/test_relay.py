@@ -1,4 +1,4 @@
-"""Tests of relay builds (mapper/fit/relay.py, mapper/fit/contacts.py, mapper/analyze/relay_timing.py).
+"""Tests of relay builds (mapper/fit/relay.py, mapper/fit/contacts.py, mapper/relay_logic.py, mapper/analyze/relay.py).
 
 Outside sources, named beside each check:
 * common practice of relay logic: an inverter is one relay (a break contact),
@@ -104,16 +104,16 @@ def operands(design, width, x, y) -> dict:
 
 def fit(path_or_design, target):
     d = read_design(path_or_design) if not hasattr(path_or_design, "nodes") else path_or_design
-    b = flow.fit(d, target)
-    assert b.verified == "proved"
-    return d, b
+    b, a = flow.fit(d, target)
+    assert a.verified == "proved"
+    return d, b, a
 
 
 # ---------------------------------------------------------------------------
 # the three figures of the trade
 def test_inverter_is_one_relay_with_a_break_contact(tmp_path):
     # common practice of relay logic: NOT is one relay, its break contact fed from the rail
-    _, b = fit(blif(tmp_path, "inv", ".model inv\n.inputs a\n.outputs y\n.names a y\n0 1\n.end\n"), SPDT)
+    _, b, a = fit(blif(tmp_path, "inv", ".model inv\n.inputs a\n.outputs y\n.names a y\n0 1\n.end\n"), SPDT)
     assert len(b.parts) == 1
     (k,) = b.contacts
     assert b.coils[k.part_ref] == "a" and k.com == "y" and k.nc == "VCC" and k.no is None
@@ -124,7 +124,7 @@ def test_inverter_is_one_relay_with_a_break_contact(tmp_path):
 def test_xor2_is_two_relays(tmp_path):
     # common practice of relay logic: XOR of two inputs on two changeover relays
     p = blif(tmp_path, "xor2", ".model xor2\n.inputs a b\n.outputs y\n.names a b y\n10 1\n01 1\n.end\n")
-    _, b = fit(p, SPDT)
+    _, b, a = fit(p, SPDT)
     assert len(b.parts) == 2
     assert sorted(b.coils.values()) == ["a", "b"]
     for a, bb in itertools.product((0, 1), repeat=2):
@@ -134,7 +134,7 @@ def test_xor2_is_two_relays(tmp_path):
 def test_and2_passes_one_input_through_the_others_make_contact(tmp_path):
     # common practice of relay logic: y = a AND b is b's net fed through a make contact of a's relay
     p = blif(tmp_path, "and2", ".model and2\n.inputs a b\n.outputs y\n.names a b y\n11 1\n.end\n")
-    _, b = fit(p, SPDT)
+    _, b, a = fit(p, SPDT)
     assert len(b.parts) == 1
     (k,) = b.contacts
     coil = b.coils[k.part_ref]
@@ -149,7 +149,7 @@ def test_and2_passes_one_input_through_the_others_make_contact(tmp_path):
 @pytest.mark.parametrize("target", [SPDT, DPDT], ids=["spdt", "dpdt"])
 def test_adders_add_and_beat_the_templates(tmp_path, width, target):
     # ariths-gen ripple-carry adders, checked against Python addition at the contact level
-    d, b = fit(generated.make("rca", width, tmp_path), target)
+    d, b, a = fit(generated.make("rca", width, tmp_path), target)
     assert len(b.parts) < template_relays(d)
     if target is DPDT:
         assert len(b.parts) <= 0.6 * template_relays(d)   # issue 6: at least 40 % fewer on DPDT
@@ -161,7 +161,7 @@ def test_adders_add_and_beat_the_templates(tmp_path, width, target):
 
 def test_comparator_compares(tmp_path):
     # ariths-gen unsigned a < b, checked against Python comparison at the contact level
-    d, b = fit(generated.make("lt", 3, tmp_path), DPDT)
+    d, b, a = fit(generated.make("lt", 3, tmp_path), DPDT)
     assert len(b.parts) <= 0.6 * template_relays(d)
     (o,) = b.outputs
     for x, y in itertools.product(range(8), repeat=2):
@@ -170,7 +170,7 @@ def test_comparator_compares(tmp_path):
 
 def test_seven_segment_decoder(tmp_path):
     # textbook 7-segment decoder: the relay build lights the same segments as the design
-    d, b = fit(DATA / "textbook" / "seg7.blif", DPDT)
+    d, b, a = fit(DATA / "textbook" / "seg7.blif", DPDT)
     assert len(b.parts) <= 0.6 * template_relays(d)
     from mapper.simulate import simulate
     for v in range(16):
@@ -197,9 +197,9 @@ def test_parity_is_its_reduced_ordered_bdd(n):
 def test_carry_passes_through_contacts(tmp_path):
     # ariths-gen 6-bit ripple-carry adder: its carry chain is 6 gates deep; passed through
     # contacts it adds no coil level per bit
-    d, b = fit(generated.make("rca", 6, tmp_path), DPDT)
+    d, b, a = fit(generated.make("rca", 6, tmp_path), DPDT)
     assert d.depth() >= 6
-    assert b.timing["levels"] <= 2
+    assert a.timing.levels <= 2
     through = [k for k in b.contacts for x in (k.no, k.nc)
                if x not in (None, "VCC") and x not in d.inputs]
     assert through   # relay-driven nets fed on through further contacts
@@ -218,7 +218,7 @@ def clock_edges(b, n, energized=None):
 @pytest.mark.parametrize("target", [SPDT, DPDT], ids=["spdt", "dpdt"])
 def test_counter_counts_at_the_contacts(target):
     # textbook 4-bit binary counter: 0, 1, …, 15, 0 on rising edges, starting from 0
-    d, b = fit(DATA / "textbook" / "counter4.blif", target)
+    d, b, a = fit(DATA / "textbook" / "counter4.blif", target)
     assert len(b.parts) < template_relays(d)
     if target is DPDT:
         assert len(b.parts) <= 0.6 * template_relays(d)
@@ -228,7 +228,7 @@ def test_counter_counts_at_the_contacts(target):
     values = [sum(o[f"q{i}"] << i for i in range(4)) for o in clock_edges(b, 20)]
     assert values == [(k + 1) % 16 for k in range(20)]
     assert len(b.latches) == 4 and all(lt.master for lt in b.latches)
-    assert sum("powers up at 0" in c for c in b.cautions) == 4
+    assert sum("powers up at 0" in c for c in a.cautions) == 4
 
 
 LATCH = """.model lat
@@ -242,7 +242,7 @@ LATCH = """.model lat
 @pytest.mark.parametrize("kind", ["ah", "al"])
 def test_level_latch_seals_in(tmp_path, kind):
     # a seal-in relay latch (common practice): transparent while enabled, holds otherwise
-    _, b = fit(blif(tmp_path, f"lat_{kind}", LATCH.format(kind=kind, init=0)), SPDT)
+    _, b, a = fit(blif(tmp_path, f"lat_{kind}", LATCH.format(kind=kind, init=0)), SPDT)
     (lt,) = b.latches
     hold = next(k for k in b.contacts if k.com == lt.hold)
     assert b.coils[hold.part_ref] == "q" and hold.no == "VCC"   # its own make contact from the rail
@@ -261,10 +261,10 @@ def test_level_latch_seals_in(tmp_path, kind):
 def test_falling_edge_and_initial_one(tmp_path):
     # a falling-edge toggle that must start at 1 (held in complement; a relay powers up released)
     text = ".model t\n.inputs clk\n.outputs q\n.latch d q fe clk 1\n.names q d\n0 1\n.end\n"
-    _, b = fit(blif(tmp_path, "tfe", text), SPDT)
+    _, b, a = fit(blif(tmp_path, "tfe", text), SPDT)
     (lt,) = b.latches
     assert lt.inverted and lt.state != "q"
-    assert any("must start at 1" in c for c in b.cautions)
+    assert any("must start at 1" in c for c in a.cautions)
     energized = None
     out, energized = outputs_of(b, {"clk": 1}, energized)
     assert out["q"] == 1                      # the design's initial value at power-up
@@ -286,7 +286,7 @@ def test_latch_without_control_is_refused(netfit, tmp_path):
 # packing, support parts, figures
 @pytest.mark.parametrize("target", [SPDT, DPDT], ids=["spdt", "dpdt"])
 def test_packing_one_coil_net_per_relay_and_fewest_relays(tmp_path, target):
-    _, b = fit(generated.make("rca", 3, tmp_path), target)
+    _, b, a = fit(generated.make("rca", 3, tmp_path), target)
     P = target.parts[b.parts[0].part_id].relay.poles
     per_coil = {}
     for k in b.contacts:
@@ -302,7 +302,7 @@ def test_packing_one_coil_net_per_relay_and_fewest_relays(tmp_path, target):
 
 
 def test_support_parts_diode_per_coil_and_load_per_net(tmp_path):
-    _, b = fit(generated.make("rca", 2, tmp_path), SPDT)
+    _, b, a = fit(generated.make("rca", 2, tmp_path), SPDT)
     diodes = [s for s in b.support if s.part_id == "D-1N4148"]
     assert sorted(s.nets[1] for s in diodes) == sorted(b.coils[p.ref] for p in b.parts)
     assert all(s.nets[0] == "GND" for s in diodes)               # anode to GND, cathode to the coil
@@ -314,16 +314,16 @@ def test_support_parts_diode_per_coil_and_load_per_net(tmp_path):
 
 def test_timing_and_supply_from_the_catalog(tmp_path):
     # catalog figures (generic small-signal relay datasheets) and Ohm's law
-    from mapper.analyze.relay_timing import DIODE_RELEASE_FACTOR
-    _, b = fit(blif(tmp_path, "inv", ".model inv\n.inputs a\n.outputs y\n.names a y\n0 1\n.end\n"), SPDT)
+    from mapper.analyze.relay import DIODE_RELEASE_FACTOR
+    _, b, a = fit(blif(tmp_path, "inv", ".model inv\n.inputs a\n.outputs y\n.names a y\n0 1\n.end\n"), SPDT)
     r = SPDT.parts["RLY-SPDT-5V"].relay
     level = max(r.operate_time.value, r.release_time.value * DIODE_RELEASE_FACTOR) + r.bounce_time.value
-    assert b.timing["delay_s"] == pytest.approx(level)
+    assert a.timing.delay_s == pytest.approx(level)
     res = SPDT.parts["R-10K"].ratings["resistance"].value
     volts = SPDT.supply_voltage.value
-    assert b.timing["coil_current_a"] == pytest.approx(r.coil_current.value)
-    assert b.timing["supply_current_a"] == pytest.approx(r.coil_current.value + volts / res)
-    assert 0 < b.timing["supply_current_typ_a"] < b.timing["supply_current_a"]
+    assert a.supply.coil_current_a == pytest.approx(r.coil_current.value)
+    assert a.supply.current_a == pytest.approx(r.coil_current.value + volts / res)
+    assert 0 < a.supply.current_typ_a < a.supply.current_a
 
 
 def test_build_json_summary_keys(netfit, tmp_path):
@@ -360,13 +360,13 @@ def test_a_user_catalog_with_four_pole_relays(tmp_path):
         .replace('name="relay-dpdt"', 'name="relay-4pdt"').replace('src="relays"', 'src="four.xml"')
         .replace("RLY-DPDT-5V", "RLY-4PDT-5V"))
     t = flow.load_target(tmp_path / "relay-4pdt.xml")
-    d, b = fit(generated.make("rca", 3, tmp_path), t)
+    d, b, a = fit(generated.make("rca", 3, tmp_path), t)
     poles = {}
     for k in b.contacts:
         poles[b.coils[k.part_ref]] = poles.get(b.coils[k.part_ref], 0) + 1
         assert k.pole <= 4
     assert len(b.parts) == sum(ceil(n / 4) for n in poles.values())
-    _, b2 = fit(d, DPDT)
+    _, b2, _ = fit(d, DPDT)
     assert len(b.parts) <= len(b2.parts)
 
 
@@ -374,8 +374,8 @@ def test_a_user_catalog_with_four_pole_relays(tmp_path):
 def test_a_design_cut_into_windows(tmp_path):
     # more inputs than one window holds: ariths-gen 9-bit adder (18 inputs), checked by the proof
     # and by a few sums at the contact level
-    d, b = fit(generated.make("rca", 9, tmp_path), DPDT)
-    assert b.timing["synthesis"]["windows"] > 1
+    d, b, a = fit(generated.make("rca", 9, tmp_path), DPDT)
+    assert b.fit_stats["windows"] > 1
     assert len(b.parts) < template_relays(d)
     for x, y in ((0, 0), (511, 1), (300, 211), (511, 511), (256, 255)):
         out, _ = outputs_of(b, operands(d, 9, x, y))
@@ -406,8 +406,8 @@ def test_contact_logic_refuses_a_loop_of_contacts():
 
 
 def test_feedback_loop_without_a_load_is_warned(tmp_path):
-    from mapper.analyze.relay_timing import feedback_loops
-    _, b = fit(blif(tmp_path, "lat", LATCH.format(kind="ah", init=0)), SPDT)
+    from mapper.analyze.relay import feedback_loops
+    _, b, a = fit(blif(tmp_path, "lat", LATCH.format(kind="ah", init=0)), SPDT)
     loops = feedback_loops(b)
     assert loops and all(not lp["unloaded"] for lp in loops)
     b.support = [s for s in b.support if not (s.part_id == "R-10K" and "q" in s.nets)]

@@ -23,27 +23,12 @@ from mapper.errors import InputError
 from mapper.netlist import Logic, Storage
 from mapper.read import read_design
 from mapper.read.blif import BlifError, read, read_text
+from mapper.simulate import simulate
 
 HERE = Path(__file__).parent / "blif"
 VALID = HERE / "valid"
 INVALID = HERE / "invalid"
 DATA = Path(__file__).parent.parent / "data"
-
-
-def simulate(netlist, words, mask):
-    """All net values for bit-parallel input words (the project's simulator when present)."""
-    try:
-        from mapper.simulate import simulate as sim
-    except ImportError:  # evaluate node by node in topological order
-        vals = {i: words.get(i, 0) for i in netlist.inputs}
-        for net in netlist.topological_order():
-            node = netlist.nodes[net]
-            if isinstance(node, Logic):
-                vals[net] = node.func.eval_words([vals[f] for f in node.fanins], mask)
-            elif net not in vals:
-                vals[net] = 0
-        return vals
-    return sim(netlist, words, mask)
 
 
 def exhaustive(names):

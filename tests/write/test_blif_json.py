@@ -18,28 +18,15 @@ import generated
 from mapper.logic.function import Function
 from mapper.netlist import Logic, Netlist
 from mapper.read import read_design
+from mapper import verify
 from mapper.read.blif import read_text
+from mapper.simulate import simulate
 from mapper.write import blif as wblif
 from mapper.write import json as wjson
 
 DATA = Path(__file__).parent.parent / "data"
 VALID = Path(__file__).parent.parent / "read" / "blif" / "valid"
 VALID_FILES = sorted(VALID.glob("*.blif"))
-
-
-def simulate(netlist, words, mask, state=None):
-    try:
-        from mapper.simulate import simulate as sim
-    except ImportError:
-        vals = {i: words.get(i, 0) for i in netlist.inputs}
-        for net, node in netlist.storage().items():
-            vals[net] = (state or {}).get(net, 0)
-        for net in netlist.topological_order():
-            node = netlist.nodes[net]
-            if isinstance(node, Logic):
-                vals[net] = node.func.eval_words([vals[f] for f in node.fanins], mask)
-        return vals
-    return sim(netlist, words, mask, state)
 
 
 def random_words(names, count, seed):
@@ -104,7 +91,6 @@ def test_blif_roundtrip_generated(kind, width, hier, tmp_path):
 @pytest.mark.parametrize("path", [DATA / "c17.blif", VALID / "latches.blif", VALID / "spec_adder.blif",
                                   VALID / "offset.blif", VALID / "wide.blif"], ids=lambda p: p.name)
 def test_blif_roundtrip_proven_equivalent(path, tmp_path):
-    verify = pytest.importorskip("mapper.verify", reason="mapper.verify (another helper's) is missing")
     a = read_design(path)
     _, b = roundtrip(a, tmp_path)
     res = verify.check_equivalence(a, b)
@@ -112,7 +98,6 @@ def test_blif_roundtrip_proven_equivalent(path, tmp_path):
 
 
 def test_blif_roundtrip_of_generated_multiplier_proven_equivalent(tmp_path):
-    verify = pytest.importorskip("mapper.verify", reason="mapper.verify (another helper's) is missing")
     a = read_design(generated.make("dadda", 6, tmp_path, hier=True))
     _, b = roundtrip(a, tmp_path)
     assert verify.check_equivalence(a, b).equivalent
@@ -120,7 +105,6 @@ def test_blif_roundtrip_of_generated_multiplier_proven_equivalent(tmp_path):
 
 def test_changed_copy_is_told_apart(tmp_path):
     # The round-trip checks above must be able to fail: flip one cube in the written copy.
-    verify = pytest.importorskip("mapper.verify", reason="mapper.verify (another helper's) is missing")
     a = read_design(DATA / "c17.blif")
     text = wblif.netlist_text(a).replace(".names N2 N11 N16\n0- 1\n", ".names N2 N11 N16\n1- 1\n")
     b = read_text(text)

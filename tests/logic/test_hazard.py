@@ -20,7 +20,7 @@ import random
 
 import pytest
 
-from mapper.analyze.hazard import (add_consensus, consensus, cover_hazards, design_hazards,
+from mapper.logic.hazard import (add_consensus, consensus, cover_hazards, design_hazards,
                                    hazard_free_cover, hazard_transitions, ternary_hazard, ternary_value)
 from mapper.logic.function import Function, isop, table_of_cover
 from mapper.netlist import Netlist

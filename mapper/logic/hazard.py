@@ -50,9 +50,8 @@ from __future__ import annotations
 import logging
 from dataclasses import dataclass
 
-from ..logic.function import MAX_TABLE_INPUTS, Function, isop, table_of_cover
-from ..logic.function import var_mask
 from ..netlist import Logic, Netlist, Storage
+from .function import MAX_TABLE_INPUTS, Function, isop, table_of_cover, var_mask
 
 __all__ = [
     "CoverHazard",

@@ -1,4 +1,4 @@
-"""Tests of the cell-function parser (mapper/fit/expr.py).
+"""Tests of the cell-function parser (mapper/catalog/expr.py).
 
 Outside sources used here, named beside each check:
 * pyslang, an independent SystemVerilog front end (from the package
@@ -13,13 +13,12 @@ from __future__ import annotations
 
 import itertools
 
+import pyslang  # the outside front end: a test dependency, never skipped
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from mapper.fit.expr import ExprError, expr_function, parse_assignment, parse_expression
-
-pyslang = pytest.importorskip("pyslang")
+from mapper.catalog.expr import ExprError, expr_function, parse_assignment, parse_expression
 
 NAMES = ["A", "B", "C", "E_N"]
 

@@ -1,4 +1,4 @@
-"""Tests of catalogs and targets (mapper/fit/target.py, libraries/*.xml, targets/*.xml).
+"""Tests of catalogs and targets (mapper/catalog/, libraries/*.xml, targets/*.xml).
 
 Outside sources used here, named beside each check:
 * the standard DIP pinouts of the 74-series parts, written out below pin by pin
@@ -22,7 +22,7 @@ from pathlib import Path
 import pytest
 
 from mapper.errors import Diagnostic, InputError
-from mapper.fit.target import (
+from mapper.catalog import (
     CatalogError,
     Figure,
     TargetError,
@@ -31,8 +31,8 @@ from mapper.fit.target import (
     describe_target,
     load_catalog,
     load_target,
-    parse_quantity,
 )
+from mapper.units import parse_quantity
 
 HERE = Path(__file__).parent
 LIBS = HERE.parent.parent / "libraries"
@@ -397,7 +397,7 @@ def test_entity_bomb_is_refused_fast(netfit):
 def test_parser_itself_resolves_no_entities(tmp_path):
     # defence in depth: even if the text check were bypassed, the parser settings expand nothing
     from lxml import etree
-    from mapper.fit.target import _parser
+    from mapper.catalog.xmlfile import xml_parser as _parser
     secret = tmp_path / "secret.txt"
     secret.write_text("TOP-SECRET-CONTENT-42\n", encoding="utf-8")
     doc = f'<!DOCTYPE a [<!ENTITY s SYSTEM "file://{secret}">]><a>&s;</a>'.encode()

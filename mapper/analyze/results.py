@@ -1,0 +1,230 @@
+"""Typed results of the analyses of a build, and the plain data made from them.
+
+The analyses (:mod:`mapper.analyze`) read a :class:`~mapper.build.Build` and
+return these; the writers and the command line read them beside the build.
+Each result turns into plain data with stable, append-only keys (SI units in
+key names) through ``as_dict``; :meth:`Analysis.figures` is the ``timing``
+object of a build's JSON file and :meth:`Analysis.summary` the summary that
+``netfit build --json`` prints.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..build import Build
+
+__all__ = ["ClockFigures", "RelayFigures", "Timing", "Supply", "Glitches", "Proof", "Analysis"]
+
+
+@dataclass
+class ClockFigures:
+    """Clocked figures of a sequential gate build (see :mod:`mapper.analyze.timing`)."""
+
+    period_min_s: float
+    max_hz: float | None
+    path: dict | None
+    hold_slack_s: float | None
+    hold_path: dict | None
+    input_setup_s: float
+    clock_to_output_s: float | None
+    notes: list = field(default_factory=list)
+
+    def as_dict(self) -> dict:
+        return {"clock_period_min_s": self.period_min_s, "clock_max_hz": self.max_hz, "clock_path": self.path,
+                "hold_slack_s": self.hold_slack_s, "hold_path": self.hold_path,
+                "input_setup_s": self.input_setup_s, "clock_to_output_s": self.clock_to_output_s,
+                "clock_notes": list(self.notes)}
+
+
+@dataclass
+class RelayFigures:
+    """Relay timing figures: one coil level, the relay's own times, storage clock to output."""
+
+    per_level_s: float
+    operate_s: float | None
+    release_s: float | None
+    bounce_s: float | None
+    clock_to_q_s: float
+
+    def as_dict(self) -> dict:
+        return {"per_level_s": self.per_level_s, "operate_s": self.operate_s, "release_s": self.release_s,
+                "bounce_s": self.bounce_s, "clock_to_q_s": self.clock_to_q_s}
+
+
+@dataclass
+class Timing:
+    """Worst and best paths of a build (static timing of gates, or coil levels of relays).
+
+    ``outputs`` maps each output to ``[best_s, worst_s]``; ``critical_path``
+    lists the hops of the worst path (dicts with parts, pins and arrivals).
+    Gate builds also have ``paths`` (per output, worst and best, hop by
+    hop), ``critical_start``/``critical_end``, ``overloaded`` nets and, with
+    storage, ``clock``; relay builds have ``relay``.
+    """
+
+    delay_s: float
+    delay_typ_s: float
+    levels: int
+    outputs: dict
+    critical_path: list
+    paths: list | None = None
+    critical_start: dict | None = None
+    critical_end: dict | None = None
+    overloaded: list | None = None
+    clock: ClockFigures | None = None
+    relay: RelayFigures | None = None
+
+    def as_dict(self) -> dict:
+        out = {"delay_s": self.delay_s, "delay_typ_s": self.delay_typ_s, "levels": self.levels,
+               "outputs": self.outputs}
+        if self.paths is not None:
+            out["paths"] = self.paths
+        out["critical_path"] = self.critical_path
+        if self.relay is None:
+            out.update({"critical_start": self.critical_start, "critical_end": self.critical_end,
+                        "overloaded": self.overloaded if self.overloaded is not None else []})
+        if self.clock is not None:
+            out.update(self.clock.as_dict())
+        if self.relay is not None:
+            out.update(self.relay.as_dict())
+        return out
+
+
+@dataclass
+class Supply:
+    """Supply current of a build; relay builds add coil figures and contact loads.
+
+    ``current_a`` is the worst case (see ``basis``), ``current_typ_a`` the
+    typical figure.  ``input_coil_current_a`` maps an input net to the coil
+    current it carries when on; ``contact_overloads`` lists ``[net, amps,
+    rating]`` where coils fed through contacts draw more than they are rated for.
+    """
+
+    current_a: float
+    current_typ_a: float
+    basis: str = ""
+    coil_current_a: float | None = None
+    coil_voltage_v: float | None = None
+    input_coil_current_a: dict = field(default_factory=dict)
+    contact_overloads: list = field(default_factory=list)
+
+    def as_dict(self, relay: bool) -> dict:
+        out = {"supply_current_a": self.current_a, "supply_current_typ_a": self.current_typ_a}
+        if relay:
+            out.update({"coil_current_a": self.coil_current_a, "coil_voltage_v": self.coil_voltage_v,
+                        "input_coil_current_a": self.input_coil_current_a,
+                        "contact_overloads": self.contact_overloads})
+        return out
+
+
+@dataclass
+class Glitches:
+    """Glitches found in a build (see :mod:`mapper.analyze.glitch` and :mod:`mapper.analyze.relay_glitch`).
+
+    ``hazards`` lists them (at most a few hundred; ``total`` counts all),
+    ``errors`` counts those reaching a clock, enable, preset or clear input,
+    ``search`` says what was examined, ``floating`` (relay builds) when each
+    relay-driven net floats during a transfer.
+    """
+
+    hazards: list = field(default_factory=list)
+    total: int = 0
+    errors: int = 0
+    search: dict | None = None
+    floating: list | None = None
+
+    def as_dict(self) -> dict:
+        out: dict = {"hazards": self.hazards, "hazards_total": self.total, "glitch_errors": self.errors}
+        if self.floating is not None:
+            out["floating"] = self.floating
+        if self.search is not None:
+            out["glitch_search"] = self.search
+        return out
+
+
+@dataclass
+class Proof:
+    """Whether the build was proved to do the design's logic, how, and the prover's notes."""
+
+    status: str = "not checked"
+    method: str = ""
+    notes: list = field(default_factory=list)
+
+
+@dataclass
+class Analysis:
+    """Everything netfit found out about a build: the results every writer reads beside it.
+
+    ``cautions`` are what a builder must heed (supply, mains, start-up
+    states, loads); ``loops`` the feedback loops of a relay build;
+    ``hazard_free`` what consensus terms cost when they were asked for;
+    ``stage_s`` seconds per stage of the run; ``notes`` further notes of the
+    run (beside the build's own and the prover's).
+    """
+
+    timing: Timing
+    supply: Supply
+    glitches: Glitches
+    proof: Proof
+    cautions: list = field(default_factory=list)
+    loops: list = field(default_factory=list)
+    hazard_free: dict | None = None
+    stage_s: dict = field(default_factory=dict)
+    notes: list = field(default_factory=list)
+
+    @property
+    def verified(self) -> str:
+        """The proof's status in one word (``"proved"``)."""
+        return self.proof.status
+
+    def all_notes(self, build: Build) -> list:
+        """The build's notes (how it was made), then the prover's, then the run's."""
+        return list(build.notes) + list(self.proof.notes) + list(self.notes)
+
+    def figures(self, build: Build) -> dict:
+        """Timing, supply and glitch figures as one dict (the ``timing`` object of the build file)."""
+        out = self.timing.as_dict()
+        out.update(self.supply.as_dict(build.is_relay))
+        if build.fit_stats:
+            out["synthesis"] = dict(build.fit_stats)
+        out.update(self.glitches.as_dict())
+        if self.stage_s:
+            out["stage_s"] = dict(self.stage_s)
+        if self.hazard_free is not None:
+            out["hazard_free"] = self.hazard_free
+        return out
+
+    def summary(self, build: Build) -> dict:
+        """The ``--json`` summary of ``netfit build`` (stable, append-only keys)."""
+        cost, currency = build.cost()
+        s = {
+            "design": build.design,
+            "target": build.target.name,
+            "parts_total": len(build.parts),
+            "parts": dict(sorted(build.part_counts().items())),
+            "cells": dict(sorted(build.cell_counts().items())),
+            "slots_used": build.slots_used(),
+            "slots_available": build.slots_available(),
+            "spare_slots": build.spare_slots(),
+            "support_parts": dict(sorted(build.support_counts().items())),
+            "delay_s": self.timing.delay_s,
+            "cost": cost,
+            "currency": currency,
+            "verified": self.proof.status,
+            "delay_typ_s": self.timing.delay_typ_s,
+            "supply_current_a": self.supply.current_a,
+            "supply_current_typ_a": self.supply.current_typ_a,
+        }
+        if build.is_relay:
+            s["poles_used"] = len(build.contacts)
+            s["poles_available"] = build.slots_available()
+            s["coil_current_a"] = self.supply.coil_current_a
+            s["coil_voltage_v"] = self.supply.coil_voltage_v
+        s["ties"] = len(build.ties)
+        s["cautions"] = list(self.cautions)
+        s["notes"] = self.all_notes(build)
+        if self.hazard_free is not None:
+            s["hazard_free"] = self.hazard_free
+        return s
