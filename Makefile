@@ -7,7 +7,7 @@ STAMP   := $(VENV)/.installed
 # engine that renders report.html headless).
 DEBS    := iverilog chromium
 
-.PHONY: demo test bench venv debs clean
+.PHONY: demo test lint bench venv debs clean
 
 $(STAMP): pyproject.toml
 	$(PY) -m venv $(VENV)
@@ -31,8 +31,13 @@ demo: $(STAMP)
 	$(BIN)/netfit build examples/doorbell/chime.blif --target nand-only -o out/chime
 	$(BIN)/netfit compare examples/doorbell/chime.blif
 
-test: $(STAMP) debs
+test: $(STAMP) debs lint
 	$(BIN)/python -m pytest -n 2 -q
+
+# the house's linter and type checker, with the settings in pyproject.toml
+lint: $(STAMP)
+	$(BIN)/ruff check mapper tests bench
+	$(BIN)/mypy
 
 bench: $(STAMP)
 	$(BIN)/python bench/run.py

@@ -23,8 +23,8 @@ sys.path.insert(0, str(ROOT / "tests"))
 sys.path.insert(0, str(ROOT / "bench"))
 
 from baseline import textbook_nand2, textbook_parts  # noqa: E402
-import generated  # noqa: E402
 
+import generated  # noqa: E402
 from mapper import flow  # noqa: E402
 from mapper.read import read_design  # noqa: E402
 
@@ -69,7 +69,8 @@ def main(argv=None):
                 row += [len(b.parts), 100.0 * (base - len(b.parts)) / base if base else 0.0, secs, peak,
                         a.verified]
             rows.append(row)
-            print(" ".join(str(x) if not isinstance(x, float) else f"{x:.1f}" for x in row), file=sys.stderr, flush=True)
+            print(" ".join(str(x) if not isinstance(x, float) else f"{x:.1f}" for x in row), file=sys.stderr,
+                  flush=True)
     head = f"{'design':<12}{'nodes':>6}{'tb-nand':>8}{'tb-parts':>9}"
     for t in targets:
         head += f" | {t.name[:10]:>10}{'saved':>7}{'s':>6}{'MB':>6}"

@@ -20,7 +20,6 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT / "tests"))
 
 import generated  # noqa: E402
-
 from mapper import flow  # noqa: E402
 from mapper.read import read_design  # noqa: E402
 

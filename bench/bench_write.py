@@ -20,7 +20,6 @@ sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "tests"))
 
 from generated import make  # noqa: E402
-
 from mapper import flow  # noqa: E402
 from mapper.read import read_design  # noqa: E402
 from mapper.write import blif, html, parts, svg, verilog, wiring  # noqa: E402
@@ -44,7 +43,7 @@ def main(argv) -> int:
             for target in ("gates-74", "nand-only"):
                 try:
                     b, a = flow.fit(design, flow.load_target(target), effort=0)
-                except Exception as exc:  # a mapper fault is reported, the table goes on
+                except Exception as exc:  # noqa: BLE001 -- a mapper fault is reported, the table goes on
                     print(f"{design.name:<10}{target:<11}  build failed: {type(exc).__name__}: {exc}")
                     continue
                 out = tmp / f"{design.name}-{target}"

@@ -163,7 +163,7 @@ def _positive(text):
     try:
         n = int(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number")
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
     if n < 1:
         raise argparse.ArgumentTypeError(f"must be 1 or more, not {n}")
     return n
@@ -194,7 +194,7 @@ def cmd_build(args):
     print(f"design  {s['design']}  on target {s['target']}   proof: {s['verified']}")
     print(f"parts   {s['parts_total']}  (" + ", ".join(f"{k} ×{v}" for k, v in s["parts"].items()) + ")")
     if s["cells"]:
-        print(f"cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
+        print("cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
     if "poles_used" in s and not s["cells"]:
         print(f"poles   {s['poles_used']} used of {s['poles_available']}  ({s['spare_slots']} spare)")
     else:
@@ -505,7 +505,7 @@ def main(argv=None) -> int:
     except BrokenPipeError:
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return 0
-    except Exception as exc:  # a bug of ours
+    except Exception as exc:  # noqa: BLE001 -- a bug of ours: reported, exit 3
         print(f"netfit: internal error: {type(exc).__name__}: {exc}", file=sys.stderr)
         if args.debug:
             traceback.print_exc()

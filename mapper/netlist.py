@@ -109,7 +109,7 @@ class Netlist:
     warnings: list = field(default_factory=list)
     #: external don't-care network (BLIF ``.exdc``): outputs named like ours;
     #: where it is 1 the output value does not matter
-    exdc: "Netlist | None" = None
+    exdc: Netlist | None = None
 
     # -- building ---------------------------------------------------------
     def _drive(self, name: str, node, where) -> None:
@@ -161,7 +161,7 @@ class Netlist:
 
     def fanouts(self) -> dict:
         """net -> list of nets it feeds (outputs not counted)."""
-        out = {k: [] for k in self.nodes}
+        out: dict = {k: [] for k in self.nodes}
         for name, node in self.nodes.items():
             for f in node.fanins:
                 out.setdefault(f, []).append(name)
@@ -193,7 +193,7 @@ class Netlist:
 
     def levels(self) -> dict:
         """net -> logic level (inputs, constants and storage outputs are level 0)."""
-        lev = {}
+        lev: dict = {}
         for n in self.topological_order():
             node = self.nodes[n]
             if isinstance(node, Logic) and node.fanins:
@@ -209,7 +209,7 @@ class Netlist:
 
     def kind_counts(self) -> Counter:
         """Node counts by kind of function (``and2``, ``xor2``, ``const``, ``cover5`` ...)."""
-        c = Counter()
+        c: Counter = Counter()
         for node in self.nodes.values():
             if isinstance(node, Input):
                 continue
@@ -220,7 +220,7 @@ class Netlist:
         return c
 
     # -- checks -----------------------------------------------------------
-    def _where(self, net):
+    def _where(self, net) -> tuple[str | None, int | None, int | None]:
         return self.origin.get(net) or (None, None, None)
 
     def _loop_diagnostics(self) -> list:
@@ -245,7 +245,7 @@ class Netlist:
         """
         errors = []
         reported = set()
-        for name, node in self.nodes.items():
+        for node in self.nodes.values():
             for f in node.fanins:
                 if f not in self.nodes and f not in reported:
                     reported.add(f)
@@ -290,7 +290,7 @@ class Netlist:
         self.warnings.extend(warnings)
         return warnings
 
-    def copy(self) -> "Netlist":
+    def copy(self) -> Netlist:
         n = Netlist(self.name, list(self.inputs), list(self.outputs), dict(self.nodes),
                     list(self.clocks), dict(self.origin), list(self.warnings), self.exdc)
         return n

@@ -26,6 +26,7 @@ import sys
 import threading
 import time
 from contextlib import contextmanager
+from typing import TextIO
 
 __all__ = ["configure", "enabled", "stage", "Stage", "DELAY_S"]
 
@@ -33,7 +34,14 @@ __all__ = ["configure", "enabled", "stage", "Stage", "DELAY_S"]
 DELAY_S = 1.0
 _INTERVAL_S = 0.1
 
-_state = {"on": False, "stream": None}
+class _State:
+    """Whether stages are drawn, and where."""
+
+    on: bool = False
+    stream: TextIO | None = None
+
+
+_state = _State()
 _lock = threading.Lock()
 _active: list = []  # stack of running stages; only the innermost draws
 
@@ -46,13 +54,13 @@ def configure(on: bool, stream=None) -> None:
     """
     stream = stream if stream is not None else sys.stderr
     tty = bool(getattr(stream, "isatty", lambda: False)())
-    _state["on"] = bool(on) and tty and os.environ.get("TERM", "") != "dumb"
-    _state["stream"] = stream
+    _state.on = bool(on) and tty and os.environ.get("TERM", "") != "dumb"
+    _state.stream = stream
 
 
 def enabled() -> bool:
     """Whether stages are drawn at all."""
-    return _state["on"]
+    return _state.on
 
 
 def _colour() -> bool:
@@ -108,7 +116,7 @@ def _width(stream) -> int:
 
 
 def _painter(st: Stage, stop: threading.Event) -> None:
-    stream = _state["stream"] or sys.stderr
+    stream = _state.stream or sys.stderr
     while not stop.wait(_INTERVAL_S):
         if time.monotonic() - st.start < DELAY_S:
             continue
@@ -127,7 +135,7 @@ def _painter(st: Stage, stop: threading.Event) -> None:
 def stage(label: str, total: int | None = None):
     """Run a stage: yields a :class:`Stage`; draws it on stderr if it lasts over :data:`DELAY_S`."""
     st = Stage(label, total)
-    if not _state["on"]:
+    if not _state.on:
         yield st
         return
     stop = threading.Event()
@@ -144,7 +152,7 @@ def stage(label: str, total: int | None = None):
             if st in _active:
                 _active.remove(st)
             if st.shown:
-                stream = _state["stream"] or sys.stderr
+                stream = _state.stream or sys.stderr
                 try:
                     stream.write("\r\x1b[2K")
                     stream.flush()

@@ -168,7 +168,7 @@ def _check_latch(lt: RelayLatch, drv: _Drivers) -> tuple[set, set]:
         raise InternalError(f"{lt.net}: the enable pole is not wired as a seal-in latch")
     internal |= {lt.hold, lt.state}
     private.add(lt.hold)
-    if lt.master is not None:
+    if lt.master is not None and lt.master_hold is not None:
         drv.check_hold(lt.master_hold, lt.master, f"{lt.net}: the master's hold contact is wrong")
         k_m, c_m = drv.pole(lt.master)
         if c_m != lt.control:

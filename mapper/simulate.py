@@ -203,7 +203,10 @@ def compile_netlist(netlist: Netlist) -> SimProgram:
         if ref() is netlist and prog.matches(netlist):
             return prog
     prog = SimProgram(netlist)
-    _CACHE[key] = (weakref.ref(netlist, lambda _r, k=key: _forget(k)), prog)
+    def forget(_ref, k=key) -> None:
+        _forget(k)
+
+    _CACHE[key] = (weakref.ref(netlist, forget), prog)
     return prog
 
 

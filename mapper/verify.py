@@ -332,7 +332,7 @@ class _Prover:
     def _cone_top(self, root: int) -> set:
         """The :data:`_CONE_TOP` largest variables of ``root``'s cone."""
         f0, f1 = self.n.f0, self.n.f1
-        seen = set()
+        seen: set = set()
         heap = [-root]
         while heap and len(seen) < _CONE_TOP:
             v = -heapq.heappop(heap)
@@ -373,7 +373,7 @@ class _Prover:
         frontier = {vx, vy}
         heap = [-vx, -vy] if vx != vy else [-vx]
         heapq.heapify(heap)
-        inner = []
+        inner: list = []
         while heap and len(inner) < _CUT_NODES:
             v = -heapq.heappop(heap)
             a = f0[v]

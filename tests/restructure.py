@@ -26,7 +26,7 @@ from __future__ import annotations
 import random
 
 from mapper.logic.function import MAX_TABLE_INPUTS, Function, isop, var_mask
-from mapper.netlist import Input, Logic, Netlist, Storage
+from mapper.netlist import Logic, Netlist
 
 __all__ = ["restructure", "change_one_cube"]
 

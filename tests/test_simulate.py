@@ -258,7 +258,7 @@ def _random_sequential(rng, n_in=4, n_ff=5, n_gates=30):
         net.add_logic(name, [a, b], f)
         gates.append((name, f, a, b))
         sources.append(name)
-    for j, q in enumerate(ffs):
+    for q in ffs:
         net.add_storage(q, rng.choice(sources[n_in + n_ff:]), "re", None, rng.choice((0, 1)))
     for o in rng.sample(sources[n_in:], 4):
         if o not in net.outputs:
@@ -283,7 +283,7 @@ def test_sequential_against_iverilog(tmp_path):
     cycles = 30
     seq = [{f"i{j}": rng.getrandbits(1) for j in range(4)} for _ in range(cycles)]
     tb = ["module tb; reg clk = 0; reg i0, i1, i2, i3;", "  rs dut(clk, i0, i1, i2, i3);", "  initial begin"]
-    for k, w in enumerate(seq):
+    for w in seq:
         tb.append("    " + " ".join(f"i{j} = {w[f'i{j}']};" for j in range(4)) + " #1;")
         tb.append('    $display("' + " ".join("%b" for _ in net.outputs) + '", '
                   + ", ".join(f"dut.{o}" for o in net.outputs) + ");")

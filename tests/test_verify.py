@@ -21,12 +21,12 @@ import random
 import pytest
 
 import generated
+from mapper import verify
 from mapper.errors import InternalError
 from mapper.logic.function import Function, var_mask
 from mapper.netlist import Logic, Netlist
 from mapper.read.blif import read, read_text
 from mapper.simulate import simulate
-from mapper import verify
 from mapper.verify import check_equivalence
 from restructure import change_one_cube, restructure
 

@@ -43,8 +43,7 @@ def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list) ->
     n = len(build.parts)
     out.append(f"supply: {supply.current_a * 1000:.0f} mA at {volts:g} V with every coil energized "
                f"({n} relay{'s' if n != 1 else ''}); use a supply rated above that with margin, and fuse it")
-    ratings = sorted({build.part_def(p.ref).relay.contact_rating for p in build.parts
-                      if build.part_def(p.ref).relay is not None})
+    ratings = sorted({r.contact_rating for r in (build.part_def(p.ref).relay for p in build.parts) if r is not None})
     out.append("contacts switching mains voltage: only as local electrical codes and licensed practice allow; "
                f"these contacts are rated {', '.join(ratings) or 'as the catalog says'}")
     out.append("changeover contacts break before they make: relay-driven nets float during each transfer; "

@@ -85,7 +85,7 @@ from itertools import combinations
 
 from ..build import Build
 from ..logic.function import isop
-from .glitch_engine import X, Engine, bits, path_mask, sec
+from .glitch_engine import Engine, X, bits, path_mask, sec
 from .results import Glitches
 from .timed import TimedCircuit
 from .timing import paused_gc
@@ -134,7 +134,7 @@ def _transitions(n: int, sizes: tuple, limit: int, seed: int):
         return [(s, c) for s in range(1 << n) for c in groups], total, True
     rng = random.Random(seed)
     seen = set()
-    out = []
+    out: list = []
     while len(out) < limit:
         s = rng.getrandbits(n) if n else 0
         c = groups[rng.randrange(len(groups))]
@@ -347,8 +347,7 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
     """The work of :func:`find_glitches`."""
     eng = Engine(circ)
     n = len(circ.inputs)
-    sizes = (1, 2) if multi else (1,)
-    sizes = tuple(s for s in sizes if s <= n)
+    sizes = tuple(s for s in ((1, 2) if multi else (1,)) if s <= n)
     trans, total, exhaustive = _transitions(n, sizes, max_transitions, seed) if n else ([], 0, True)
     if max_work is not None and exhaustive:
         # a budget may stop the search: take the changes in random order so what is done is a fair sample

@@ -229,8 +229,8 @@ class Engine:
         Each path is a chain of cell indices as :meth:`simulate` records it
         (here first cell outermost); :func:`path_mask` gives its bit mask.
         """
-        out = []
-        stack = [(net, None)]
+        out: list = []
+        stack: list = [(net, None)]
         while stack and len(out) < limit:
             n, mask = stack.pop()
             if n in changed_ids:
@@ -285,7 +285,7 @@ class Engine:
         if changes:
             buckets[0.0] = [(n, v, None, n) for n, v in changes]
             times.append(0.0)
-        waves = {n: [] for n in look}
+        waves: dict = {n: [] for n in look}
         wget = waves.get
         work = 0
         if fanout is None:

@@ -13,8 +13,8 @@ from ..logic.function import var_mask
 from ..netlist import Storage
 from ..order import topological_order
 from ..simulate import simulate
-from .glitch_engine import bits, sec
 from .glitch import conditions
+from .glitch_engine import bits, sec
 from .relay import switch_times
 
 __all__ = ["relay_transfers", "relay_glitches", "RELAY_MAX_INPUTS"]
@@ -138,7 +138,7 @@ def relay_glitches(build: Build, max_inputs: int = RELAY_MAX_INPUTS) -> dict:
         sh = 1 << j
         mj = var_mask(k, j)
 
-        def nb(w):
+        def nb(w, mj=mj, sh=sh):
             return ((w & mj) >> sh) | ((w & ~mj & mask) << sh)
 
         glitch: dict = {}

@@ -111,7 +111,7 @@ class Supply:
     contact_overloads: list = field(default_factory=list)
 
     def as_dict(self, relay: bool) -> dict:
-        out = {"supply_current_a": self.current_a, "supply_current_typ_a": self.current_typ_a}
+        out: dict = {"supply_current_a": self.current_a, "supply_current_typ_a": self.current_typ_a}
         if relay:
             out.update({"coil_current_a": self.coil_current_a, "coil_voltage_v": self.coil_voltage_v,
                         "input_coil_current_a": self.input_coil_current_a,

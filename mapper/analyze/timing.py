@@ -202,7 +202,7 @@ class _Graph:
         target = build.target
         self.comb = []       # logic cells in topological order
         self.points = []     # storage points (dicts, see _storage_points)
-        self.driver = {}     # net -> logic cell driving it
+        self.driver: dict = {}     # net -> logic cell driving it
         self.sdriver = {}    # net -> storage point whose output it is
         cdefs = target.cells
         logic = []
@@ -222,7 +222,7 @@ class _Graph:
             delay[id(c)] = index.cell_delay(c, loads.get(c.pins.get(cd.output), 0.0))
         # the arcs of each logic cell, made once for every propagation:
         # (cell, ((input pin, input net), ...) without rails, output net, (typical, maximum))
-        recs = []
+        recs: list = []
         pos: dict = {}  # output net -> position in recs
         for c, cd in logic:
             pins = c.pins
@@ -285,7 +285,7 @@ class _Graph:
             for p in cd.inputs:
                 users.setdefault(c.pins.get(p), []).append(c)
         best = (0.0, 0.0)
-        stack = [(src, frozenset(), 0.0, 0.0)]
+        stack: list = [(src, frozenset(), 0.0, 0.0)]
         steps = 0
         while stack and steps < 10_000:  # a template has a handful of cells
             steps += 1

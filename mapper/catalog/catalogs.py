@@ -353,12 +353,13 @@ def _relay_data(relay_el, pid: str, nslots: int, c: Collector) -> RelayData | No
     if poles != nslots:
         c.err(relay_el, f"part {pid}: the relay has {poles} pole{'s' * (poles != 1)} but the pinout "
                         f"{nslots} slot{'s' * (nslots != 1)} (one slot per pole)")
-    if None in figs.values() or ccur is None:
+    got = {tag: f for tag, f in figs.items() if f is not None}
+    if len(got) < len(figs) or ccur is None:
         return None
-    return RelayData(poles=poles, form=relay_el.get("form"), coil_voltage=figs["coil-voltage"],
-                     coil_resistance=figs["coil-resistance"], coil_current=figs["coil-current"],
-                     operate_time=figs["operate-time"], release_time=figs["release-time"],
-                     bounce_time=figs["bounce-time"],
+    return RelayData(poles=poles, form=relay_el.get("form"), coil_voltage=got["coil-voltage"],
+                     coil_resistance=got["coil-resistance"], coil_current=got["coil-current"],
+                     operate_time=got["operate-time"], release_time=got["release-time"],
+                     bounce_time=got["bounce-time"],
                      contact_rating=f"{cr.get('current')} at {cr.get('voltage')} {cr.get('type')}",
                      contact_current=ccur, contact_voltage=cvol)
 

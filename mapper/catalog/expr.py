@@ -40,8 +40,8 @@ from __future__ import annotations
 
 import logging
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Sequence
 
 from ..logic.function import MAX_TABLE_INPUTS, Function, var_mask
 
@@ -108,7 +108,7 @@ def _tokens(text: str) -> list[_Tok]:
         m = _TOKEN.match(text, pos)
         if not m or m.end() == pos:
             raise ExprError(f"unexpected character {text[pos]!r}", pos + 1)
-        kind = m.lastgroup
+        kind = m.lastgroup or ""
         tok = m.group(kind)
         col = m.start(kind) + 1
         if kind == "num":

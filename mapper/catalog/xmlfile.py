@@ -64,7 +64,7 @@ def read_xml(data: bytes, display: str, root_tag: str, what: str, err_cls):
         msg = re.sub(r", line \d+, column \d+$", "", exc.msg or "malformed XML")
         line, col = (exc.position if exc.position else (exc.lineno, None))
         fail(f"malformed XML: {msg}", line, col or None)
-    if root.getroottree().docinfo.doctype:
+    if root.getroottree().docinfo.doctype:  # type: ignore[union-attr]  # lxml-stubs lack DocInfo.doctype
         fail(f"a document type declaration is not allowed in a {what}", 1)
     if root.tag != root_tag:
         fail(f"expected a {what} (a <{root_tag}> element at the top), found <{root.tag}>", root.sourceline)

@@ -94,7 +94,9 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6):
     n_orig = aig.num_vars
     cuts = enumerate_cuts(aig, k=3, limit=k_limit)
     levels = aig.levels()
-    xor2, xor3, maj = {}, {}, {}
+    xor2: dict = {}
+    xor3: dict = {}
+    maj: dict = {}
     for v in range(1, n_orig):
         if not aig.is_and(v) or v in boundary:
             continue
@@ -122,7 +124,7 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6):
 
     # an exclusive-OR inside a full adder gets its shapes from the adder's
     # (offering both confuses the cover: measured on ariths-gen multipliers)
-    in_adder = set()
+    in_adder: set = set()
     for leaves in maj:
         if leaves in xor3:
             a, b, c = leaves
@@ -139,7 +141,7 @@ def structural_choices(aig, boundary=frozenset(), k_limit: int = 6):
                 for v, pv in nodes:
                     offer(v, x ^ pa ^ pb ^ pv)
     groups = []
-    inner = set()
+    inner: set = set()
     for leaves, carries in maj.items():
         sums = xor3.get(leaves)
         if not sums:

@@ -65,140 +65,170 @@ def _score(build: Build, mapping: Mapping) -> tuple:
     return (len(build.parts), mapping.depth, len(build.cells))
 
 
-def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False) -> Build:
-    """The build with the fewest whole parts found for ``design`` on ``target``.
+class _PartSearch:
+    """The candidates of :func:`fit_gates` and the best build among them (fewest parts, then levels, then cells)."""
 
-    ``keep`` names design nets that must stay signals of their own, and
-    ``trees`` asks for tree-shaped matches only, which keep hazard-free
-    covers hazard-free (see :func:`mapper.fit.gates.map_logic`).
-    """
-    storage_cells = _storage_cells(target)
-    best = None
-    best_score: tuple = ()
-    tried = []
+    def __init__(self, design: Netlist, target: Target, effort: int, keep, trees: bool):
+        self.design, self.target, self.keep, self.trees = design, target, keep, trees
+        self.storage_cells = _storage_cells(target)
+        self.lib = _library(target)
+        self.best: Build | None = None
+        self.best_mapping: Mapping | None = None
+        self.best_score: tuple = ()
+        self.tried: list = []
+        # further candidates cost a whole mapping each: fewer of them on big designs (a mapping's
+        # time grows with the size, so the count falls faster above a few hundred nodes: a
+        # thousand-node design should not wait longer than a ten-thousand-node one)
+        size = max(1, len(design.nodes) - len(design.inputs))
+        self.budget = int(min(40, 12_000 / size, 6_000_000 / size ** 2)) if effort > 0 else 0
+        self.big = size > 6_000  # room for at most one candidate beyond the first
+        self.subjects: list = []
 
-    best_mapping = None
-
-    def consider(mapping, label, lib_target):
-        nonlocal best, best_mapping, best_score
-        b = _assemble(design, lib_target, mapping, storage_cells)
-        tried.append((label, len(b.parts)))
-        score = _score(b, mapping)
-        if best is None or score < best_score:
-            best, best_mapping, best_score = b, mapping, score
-        return score
-
-    lib = _library(target)
-    # further candidates cost a whole mapping each: fewer of them on big designs
-    size = max(1, len(design.nodes) - len(design.inputs))
-    # (a mapping's time grows with the size, so the count falls faster above
-    # a few hundred nodes: a thousand-node design should not wait longer
-    # than a ten-thousand-node one)
-    budget = [int(min(40, 12_000 / size, 6_000_000 / size ** 2))] if effort > 0 else [0]
-    big = size > 6_000  # room for at most one candidate beyond the first
-
-    def spend() -> bool:
-        if budget[0] <= 0:
+    def spend(self) -> bool:
+        if self.budget <= 0:
             return False
-        budget[0] -= 1
+        self.budget -= 1
         return True
 
-    # a single NAND2 or NOR2 cell: also map the dual design with the dual
-    # cell and rename -- a network of NORs computes the dual of the same
-    # network of NANDs, so NOR(dual) mapped as NAND gives the design back.
-    # The AIG is built of ANDs, so one of the two often maps better.
-    # A big design gets one of the two: the dual for a NOR cell (its
-    # AND-built subject graph then maps as NANDs), else the design.
-    dual = len(lib.cells) == 1 and _complete_cells(lib) and not design.storage()
-    nor = dual and lib.cells[_complete_cells(lib)[0]].function.table() == 0b0001
-    dual_design = dual_netlist(design) if dual and (nor or not big) else None
-    subjects = []
-    try:
-        if dual_design is None or not big:
-            subject = subject_graph(design, keep, trees=trees)
-            subjects.append((design, subject, lib, ""))
-            consider(map_logic(design, lib, subject=subject), "all cells", target)
-        if dual_design is not None:
-            dual_lib = _library(_dual_target(target), frozenset())
-            dual_subject = subject_graph(dual_design, keep, trees=trees)
-            subjects.append((dual_design, dual_subject, dual_lib, "dual "))
-            consider(_undual(map_logic(dual_design, dual_lib, subject=dual_subject)), "dual", target)
-    except RuntimeError as exc:
-        raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
-    subject = subjects[0][1]
-    # other cut budgets and numbers of area-flow passes: the cover heuristics
-    # land in different local optima, and whole parts are what counts
-    variants = [] if big else _VARIANTS if len(subjects) > 1 else _VARIANTS[:4]
-    for limit, passes in variants:
-        for subj_design, subj, sub_lib, label in subjects:
-            if not spend():
-                break
-            m = map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes)
-            consider(_undual(m) if label else m, f"{label}{limit} cuts, {passes} passes", target)
+    def consider(self, mapping: Mapping, label: str) -> tuple:
+        b = _assemble(self.design, self.target, mapping, self.storage_cells)
+        self.tried.append((label, len(b.parts)))
+        score = _score(b, mapping)
+        if self.best is None or score < self.best_score:
+            self.best, self.best_mapping, self.best_score = b, mapping, score
+        return score
 
-    # re-map the mapped logic: a second subject graph built from the first cover
-    if effort > 0 and not big:
-        m = best_mapping
+    def result(self) -> Build:
+        if self.best is None:
+            raise UsageError(f"target {self.target.name} made no build of {self.design.name}")
+        return self.best
+
+    def first_mappings(self) -> None:
+        """The mapping with every cell; for one NAND2 or NOR2 cell, also the dual design's.
+
+        A network of NORs computes the dual of the same network of NANDs, so
+        NOR(dual) mapped as NAND gives the design back; the AIG is built of
+        ANDs, so one of the two often maps better.  A big design gets one of
+        the two: the dual for a NOR cell (its AND-built subject graph then
+        maps as NANDs), else the design.
+        """
+        design, lib, target = self.design, self.lib, self.target
+        complete = _complete_cells(lib)
+        dual = len(lib.cells) == 1 and bool(complete) and not design.storage()
+        nor = dual and lib.cells[complete[0]].logic_function().table() == 0b0001
+        dual_design = dual_netlist(design) if dual and (nor or not self.big) else None
+        try:
+            if dual_design is None or not self.big:
+                subject = subject_graph(design, self.keep, trees=self.trees)
+                self.subjects.append((design, subject, lib, ""))
+                self.consider(map_logic(design, lib, subject=subject), "all cells")
+            if dual_design is not None:
+                dual_lib = _library(_dual_target(target), frozenset())
+                dual_subject = subject_graph(dual_design, self.keep, trees=self.trees)
+                self.subjects.append((dual_design, dual_subject, dual_lib, "dual "))
+                self.consider(_undual(map_logic(dual_design, dual_lib, subject=dual_subject)), "dual")
+        except RuntimeError as exc:
+            raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
+
+    def variants(self) -> None:
+        """Other cut budgets and numbers of area-flow passes: the cover heuristics land in
+        different local optima, and whole parts are what counts."""
+        variants = [] if self.big else _VARIANTS if len(self.subjects) > 1 else _VARIANTS[:4]
+        for limit, passes in variants:
+            for subj_design, subj, sub_lib, label in self.subjects:
+                if not self.spend():
+                    break
+                m = map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes)
+                self.consider(_undual(m) if label else m, f"{label}{limit} cuts, {passes} passes")
+
+    def remap(self) -> None:
+        """Re-map the mapped logic: a second subject graph built from the best cover so far."""
+        m = self.best_mapping
         for _ in range(2):
-            if not spend():
+            if m is None or not self.spend():
                 break
-            again = map_logic(mapping_netlist(design, m, target), lib, keep=keep, trees=trees)
+            again = map_logic(mapping_netlist(self.design, m, self.target), self.lib, keep=self.keep,
+                              trees=self.trees)
             if again.area < m.area - 1e-9:
                 m = again
-                consider(m, "re-mapped", target)
+                self.consider(m, "re-mapped")
             else:
                 break
-    # seeds from a single complete cell type (NAND2 or NOR2), alone and with
-    # each other type: one kind of part packs best, and its mapping is exact
-    if effort > 0 and len(lib.cells) > 1:
-        used = best.cell_counts()
+
+    def seeds(self, subject) -> None:
+        """A single complete cell type (NAND2 or NOR2), alone and with each other type: one kind
+        of part packs best, and its mapping is exact."""
+        lib = self.lib
+        used = self.result().cell_counts()
         seeds = [{base} for base in _complete_cells(lib)]
         seeds += [{base, extra} for base in _complete_cells(lib)
                   for extra in sorted(used, key=lambda c: (-used[c], c)) if extra != base and extra in lib.cells]
-        seen_seeds = set()
+        seen_seeds: set = set()
         for keep_cells in seeds:
             if frozenset(keep_cells) in seen_seeds:
                 continue
             seen_seeds.add(frozenset(keep_cells))
-            if not spend():
+            if not self.spend():
                 break
             trial = frozenset(c for c in lib.cells if c not in keep_cells)
             try:
-                sub = _library(target, trial)
-                m2 = map_logic(design, sub, subject=subject)
+                sub = _library(self.target, trial)
+                m2 = map_logic(self.design, sub, subject=subject)
             except (ValueError, RuntimeError):
                 continue
-            consider(m2, "only " + "+".join(sorted(keep_cells)), target)
-    # drop part types one at a time (greedy descent over cell subsets):
-    # fewer kinds of part often means fewer parts, since spare slots pool
-    if effort > 0 and len(lib.cells) > 1:
+            self.consider(m2, "only " + "+".join(sorted(keep_cells)))
+
+    def drop_types(self, subject) -> None:
+        """Drop part types one at a time (greedy descent over cell subsets): fewer kinds of part
+        often means fewer parts, since spare slots pool."""
         excluded: frozenset = frozenset()
         for _ in range(8):
             step = None
-            for cell in sorted(set(best.cell_counts())):
-                if cell not in lib.cells or cell in excluded:
+            for cell in sorted(set(self.result().cell_counts())):
+                if cell not in self.lib.cells or cell in excluded:
                     continue
                 trial = excluded | {cell}
-                if not spend():
+                if not self.spend():
                     break
                 try:
-                    sub = _library(target, trial)
+                    sub = _library(self.target, trial)
                 except ValueError:
                     continue
                 if sub.inverter() is None:
                     continue
                 try:
-                    m2 = map_logic(design, sub, subject=subject)
+                    m2 = map_logic(self.design, sub, subject=subject)
                 except RuntimeError:
                     continue
-                before = best_score
-                if consider(m2, "without " + "+".join(sorted(trial)), target) < before:
+                before = self.best_score
+                if self.consider(m2, "without " + "+".join(sorted(trial))) < before:
                     step = trial
             if step is None:
                 break
             excluded = step
-    log.info("tried: %s", ", ".join(f"{l}: {n} parts" for l, n in tried))
-    best.notes.append("part search: " + "; ".join(f"{l} {n}" for l, n in tried))
+
+
+def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False) -> Build:
+    """The build with the fewest whole parts found for ``design`` on ``target``.
+
+    ``keep`` names design nets that must stay signals of their own, and
+    ``trees`` asks for tree-shaped matches only, which keep hazard-free
+    covers hazard-free (see :func:`mapper.fit.gates.map_logic`).  The
+    candidates are those of the module docstring, in that order, as long as
+    the budget lasts.
+    """
+    search = _PartSearch(design, target, effort, keep, trees)
+    search.first_mappings()
+    subject = search.subjects[0][1]
+    search.variants()
+    if effort > 0 and not search.big:
+        search.remap()
+    if effort > 0 and len(search.lib.cells) > 1:
+        search.seeds(subject)
+        search.drop_types(subject)
+    best = search.result()
+    log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
+    best.notes.append("part search: " + "; ".join(f"{label} {n}" for label, n in search.tried))
     return best
 
 
@@ -260,7 +290,7 @@ def _complete_cells(lib) -> list:
 
 def _storage_cells(target) -> dict:
     """storage kind -> cell name among the target's cells."""
-    out = {}
+    out: dict = {}
     for name, cd in target.cells.items():
         if cd.storage is not None and target.carriers.get(name):
             out.setdefault(cd.storage, name)
@@ -300,7 +330,7 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
     if extra_cells:
         mapping = Mapping(mapping.cells + extra_cells, mapping.outputs, mapping.storage_nets,
                           mapping.area, mapping.depth)
-    notes = []
+    notes: list = []
     mapping = split_fanout(mapping, target, notes)
     if loop_cells:  # after the fan-out pass, whose ordering assumes no loops
         mapping = Mapping(mapping.cells + loop_cells, mapping.outputs, mapping.storage_nets,
@@ -315,8 +345,9 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
 
 def _inverter_use(target, src, out):
     from .gates import CellUse
-    lib = _library(target)
-    impl = lib.inverter()
+    impl = _library(target).inverter()
+    if impl is None:
+        raise UsageError(f"target {target.name} cannot make an inverter for a clock of the other edge")
     (cell, args), = impl.gates
     return CellUse(cell, tuple(src for _ in args), out, None)
 

@@ -146,7 +146,7 @@ def map_logic(design, lib: CellLibrary, k: int = 4, cuts_per_node: int = 8,
     mapper.sweeps = sweeps
     mapper.trees = subject.trees
     mapper.run(subject.roots, area_passes)
-    names = {}
+    names: dict = {}
     if seed_names:
         for net, lit in subject.litmap.items():
             if lit > 1:
@@ -167,7 +167,7 @@ class _Mapper:
         self.limit = limit
         nv = aig.num_vars
         self.refs = [max(1, r) for r in aig.fanout_counts()]
-        self.best = [[None, None] for _ in range(nv)]
+        self.best: list[list[_Choice | None]] = [[None, None] for _ in range(nv)]
         inv = lib.inverter()
         self.inv_cost = inv.cost if inv is not None else INF
         self.inv_depth = inv.depth if inv is not None else 0
@@ -175,7 +175,7 @@ class _Mapper:
             if not aig.is_and(v):
                 self.best[v][0] = _Choice(None, None, False, 0.0, 0)
                 self.best[v][1] = _Choice(None, None, True, self.inv_cost, self.inv_depth)
-        self.cuts = None
+        self.cuts: dict = {}
         self.mode = "delay"
         self.sweeps = 2
         self.trees = False
@@ -263,7 +263,7 @@ class _Mapper:
 
     def _match(self, v):
         memo = self._memo
-        cand = [None, None]
+        cand: list = [None, None]
         for leaves, table in self.cuts[v]:
             if len(leaves) == 1 and leaves[0] == v:
                 continue
@@ -587,7 +587,7 @@ class _Mapper:
                     continue
                 pref = names.get((v, p))
                 if ch.inv:
-                    impl = lib.inverter()
+                    impl = self._inverter()
                     leaf_nets = [netof[(v, 1 - p)]]
                 else:
                     impl = ch.impl
@@ -610,6 +610,13 @@ class _Mapper:
             storage_nets[latch.name] = (dn, cn)
         area = sum(lib.costs[c.cell] for c in cells)
         return Mapping(cells, outputs, storage_nets, area, _depth(cells, design.inputs))
+
+    def _inverter(self) -> Impl:
+        """The library's inverter; a choice of an inverted phase is made only when there is one."""
+        inv = self.lib.inverter()
+        if inv is None:
+            raise RuntimeError("a phase was chosen through an inverter the cells cannot make")
+        return inv
 
     @staticmethod
     def _emit(impl: Impl, leaf_nets, gate, pref):
@@ -669,7 +676,7 @@ def _is_tree(impl: Impl, n: int) -> bool:
     reconvergent path that can glitch.
     """
     users = [0] * (n + len(impl.gates))
-    for cell, args in impl.gates:
+    for _cell, args in impl.gates:
         for a in set(args):
             if a >= 0:
                 users[a] += 1

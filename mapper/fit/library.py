@@ -29,9 +29,9 @@ import os
 import pickle
 import tempfile
 from dataclasses import dataclass
-from pathlib import Path
-from functools import lru_cache
+from functools import cache
 from itertools import combinations_with_replacement
+from pathlib import Path
 
 from ..logic.function import var_mask
 
@@ -146,8 +146,8 @@ class CellLibrary:
             log.debug("match table cache not written: %s", exc)
         return table
 
-    def inverter(self) -> Impl:
-        """Cheapest inverter of leaf 0."""
+    def inverter(self) -> Impl | None:
+        """Cheapest inverter of leaf 0 (``None`` when the cells cannot make one)."""
         return self.lookup(1, 0b01)
 
     # -- supergate enumeration -------------------------------------------
@@ -213,7 +213,7 @@ class CellLibrary:
                     break
         else:
             small = list(best.items())
-            wide = {}
+            wide: dict = {}
             if 3 not in self._tables:
                 self._tables[3] = self._cached(3)
             sub = {t: (i if isinstance(i, Impl) else Impl(*i)) for t, i in self._tables[3].items()}
@@ -311,7 +311,7 @@ def _compose(name: str, cost: float, n: int, ia: Impl, ib: Impl) -> Impl:
     return Impl(ia.cost + ib.cost + cost, 1 + max(ia.depth, ib.depth), gates, n + len(gates) - 1)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _exact_impl(cell: str, gate: str, n: int, table: int, cost: float) -> Impl | None:
     from ..logic import exact
 

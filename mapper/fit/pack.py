@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import logging
 from collections import Counter, defaultdict
+from collections.abc import Iterable
 from functools import lru_cache
 from itertools import combinations_with_replacement, product
 
@@ -66,6 +67,7 @@ def _embeddings(_tid, key):
             b = hd.function.n
             choices = list(range(a)) + ["GND", "VCC"]
             htab = hd.function.table()
+            tries: Iterable
             if _symmetric(htab, b):
                 tries = combinations_with_replacement(choices, b)
             elif len(choices) ** b <= 50_000:
@@ -124,7 +126,8 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
         for cell, k in counts.items():
             _, s = _carrier(target, cell)
             parts_of[cell] = -(-k // s)
-        order = sorted((c for c in counts if counts[c]), key=lambda c: counts[c] - _carrier(target, c)[1] * (parts_of[c] - 1))
+        order = sorted((c for c in counts if counts[c]),
+                       key=lambda c: counts[c] - _carrier(target, c)[1] * (parts_of[c] - 1))
         for cell in order:
             if any(u[0] == cell and u[2] is None and _is_storage(target, cell) for u in uses):
                 continue

@@ -29,10 +29,10 @@ import logging
 from collections import Counter
 from dataclasses import dataclass
 
-from ..build import Build, ContactInstance, PartInstance, SupportInstance
+from ..build import Build, ContactInstance, PartInstance
 from ..catalog.model import Target
 from ..errors import InternalError, UsageError
-from ..logic.aig import from_netlist
+from ..logic.aig import AIG, from_netlist
 from ..netlist import Netlist
 from ..relay_logic import RelayLatch
 from .contacts import OPEN, RAIL, synthesize
@@ -53,7 +53,7 @@ SPLIT_LEAVES = (10, 4)
 def relay_carriers(target) -> list:
     """The relay parts of ``target`` that carry changeover poles, most poles first."""
     ids = []
-    for cell, parts in target.carriers.items():
+    for parts in target.carriers.values():
         for pid in parts:
             pd = target.parts[pid]
             if pd.relay is not None and pid not in ids:
@@ -72,7 +72,7 @@ class _Names:
         self.taken = set(taken) | {"VCC", "GND"}
         self.counter = 0
 
-    def copy(self) -> "_Names":
+    def copy(self) -> _Names:
         c = _Names(())
         c.taken, c.counter = set(self.taken), self.counter
         return c
@@ -93,7 +93,7 @@ class _Names:
 # plans: networks for a choice of windows
 @dataclass
 class _Context:
-    g: object
+    g: AIG
     want: list
     inverted: set
     inv_names: dict
@@ -301,7 +301,7 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
 
     g, litmap = from_netlist(design)
     names = _Names(list(design.inputs) + list(design.outputs) + list(design.storage()))
-    design_name = {}
+    design_name: dict = {}
     for net, lit in litmap.items():
         if not lit & 1 and lit > 1 and g.is_and(lit >> 1):
             design_name.setdefault(lit >> 1, net)
@@ -332,12 +332,14 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
     need_and = sorted({lit >> 1 for _, _, lit in want if (lit >> 1) and g.is_and(lit >> 1)})
     # windows cut at nets of many fan-outs: always possible, never far from the templates;
     # small windows and smaller ones (close to gate by gate, with pass-through), the better kept
-    split = None
+    split: _Plan | None = None
     for limit in SPLIT_LEAVES:
         p = _plan(ctx, windows(g, need_and, limit), False, names.copy(),
                   split.relays if split is not None else None)
         if p is not None and (split is None or p.relays < split.relays):
             split = p
+    if split is None:  # without a bound a windowed plan is always made
+        raise InternalError(f"no windowed relay plan for {design.name}")
     best = split
     if len(leaves_all) <= WINDOW_LEAVES:
         # one window over every leaf: exact decision diagrams with sharing across outputs,

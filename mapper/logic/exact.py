@@ -69,10 +69,10 @@ from __future__ import annotations
 import itertools
 import json
 import logging
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from functools import lru_cache
+from functools import cache, lru_cache
 from importlib import resources
-from typing import Sequence
 
 from .function import var_mask
 
@@ -166,7 +166,7 @@ class Chain:
             out.append(0 if o == TIE_LOW else full if o == TIE_HIGH else sig[o])
         return tuple(out)
 
-    def dual(self) -> "Chain":
+    def dual(self) -> Chain:
         """The same wiring with the other gate type (NAND <-> NOR), ties
         swapped: it computes the dual ``f*(x) = ~f(~x)`` of every output
         ``f`` of this chain (De Morgan)."""
@@ -174,7 +174,7 @@ class Chain:
         return Chain(self.n, self.gates, tuple(swap.get(o, o) for o in self.outputs),
                      "nor" if self.gate == "nand" else "nand")
 
-    def permuted(self, perm: Sequence[int]) -> "Chain":
+    def permuted(self, perm: Sequence[int]) -> Chain:
         """The chain with input ``j`` renamed ``perm[j]``.
 
         If this chain computes ``f`` then the result computes
@@ -196,7 +196,7 @@ class Chain:
         return f"{body}>{outs}"
 
     @classmethod
-    def decode(cls, n: int, text: str, gate: str = "nand") -> "Chain":
+    def decode(cls, n: int, text: str, gate: str = "nand") -> Chain:
         """Inverse of :meth:`encode`."""
         body, _, outs = text.partition(">")
         gates = tuple((int(body[i], 36), int(body[i + 1], 36)) for i in range(0, len(body), 2))
@@ -239,7 +239,7 @@ def permute_table(table: int, n: int, perm: Sequence[int]) -> int:
     return out
 
 
-@lru_cache(maxsize=None)
+@cache
 def _row_map(n: int, perm: tuple[int, ...]) -> tuple[int, ...]:
     res = []
     for m in range(1 << n):
@@ -251,7 +251,7 @@ def _row_map(n: int, perm: tuple[int, ...]) -> tuple[int, ...]:
     return tuple(res)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _perms(n: int) -> tuple[tuple[int, ...], ...]:
     return tuple(itertools.permutations(range(n)))
 
@@ -259,11 +259,11 @@ def _perms(n: int) -> tuple[tuple[int, ...], ...]:
 def perm_class_rep(table: int, n: int) -> tuple[int, tuple[int, ...]]:
     """Smallest table of the input-permutation class of ``table`` and a
     permutation ``p`` with ``permute_table(rep, n, p) == table``."""
-    best = None
-    best_p = None
+    best = permute_table(table, n, tuple(range(n)))
+    best_p = tuple(range(n))
     for p in _perms(n):
         t = permute_table(table, n, p)
-        if best is None or t < best:
+        if t < best:
             best, best_p = t, p
     # permute_table(table, p) == best, so rep -> table goes through p's inverse
     inv = [0] * n
@@ -272,7 +272,7 @@ def perm_class_rep(table: int, n: int) -> tuple[int, tuple[int, ...]]:
     return best, tuple(inv)
 
 
-@lru_cache(maxsize=None)
+@cache
 def _swap_rows(n: int, j: int) -> tuple[int, ...]:
     """Row ``m`` with bits ``j`` and ``j+1`` exchanged, for every row."""
     res = []
@@ -290,7 +290,7 @@ def _lex_ok(n: int, table: int) -> bool:
     return True
 
 
-@lru_cache(maxsize=None)
+@cache
 def _swap_perm(n: int, j: int) -> tuple[int, ...]:
     p = list(range(n))
     p[j], p[j + 1] = p[j + 1], p[j]
@@ -339,16 +339,16 @@ class _Encoder:
             self._amo(sv)
         # gate semantics on every row
         for i in range(r):
-            for (j, k), sv in self.s[i].items():
+            for (j, k), var in self.s[i].items():
                 for t in range(self.rows):
-                    self._nand_rows(sv, self._sig(j, t), self._sig(k, t), self.x[i][t], j == k)
+                    self._nand_rows(var, self._sig(j, t), self._sig(k, t), self.x[i][t], j == k)
         # outputs
         single = len(self.tables) == 1
         self.o = None
         self.out = self.x[r - 1] if single else None
-        if single:
-            f = None if self.free else self.tables[0]
-            for t in range(self.rows if f is not None else 0):
+        if single and not self.free:
+            f = self.tables[0]
+            for t in range(self.rows):
                 v = self.x[r - 1][t]
                 cl.append([v if (f >> t) & 1 else -v])
         else:
@@ -405,7 +405,7 @@ class _Encoder:
         most significant) than itself with inputs ``j`` and ``j+1`` swapped,
         for every ``j``: each input-permutation class keeps its smallest
         member, which satisfies all of these (a lex-leader constraint)."""
-        out, cl = self.out, self.clauses
+        out, cl = self.out_bits(), self.clauses
         for j in range(self.n - 1):
             sw = _swap_rows(self.n, j)
             e = self._new()
@@ -419,9 +419,15 @@ class _Encoder:
                 cl += [[-e, -f, g], [-e, f, g, e2], [-e, -f, -g, e2]]
                 e = e2
 
+    def out_bits(self) -> list[int]:
+        """The variables of the single output's table, row by row (one-output encodings only)."""
+        if self.out is None:
+            raise ValueError("an encoding of several outputs has no single output table")
+        return self.out
+
     def block_clause(self, table: int) -> list[int]:
         """Clause forbidding the free output to equal ``table``."""
-        return [-v if (table >> t) & 1 else v for t, v in enumerate(self.out)]
+        return [-v if (table >> t) & 1 else v for t, v in enumerate(self.out_bits())]
 
     def _new(self) -> int:
         self.nv += 1
@@ -434,11 +440,11 @@ class _Encoder:
             for a, b in itertools.combinations(lits, 2):
                 self.clauses.append([-a, -b])
             return
-        prev = None
+        prev = 0  # no literal yet (0 is never a SAT variable)
         for v in lits[:-1]:
             c = self._new()
             self.clauses.append([-v, c])
-            if prev is not None:
+            if prev:
                 self.clauses.append([-prev, c])
                 self.clauses.append([-prev, -v])
             prev = c
@@ -472,6 +478,7 @@ class _Encoder:
         for i in range(self.r):
             pick = next(p for p, v in self.s[i].items() if v in val)
             gates.append(pick)
+        outputs: tuple[int, ...]
         if self.o is None:
             outputs = (self.n + self.r - 1,)
         else:
@@ -534,8 +541,9 @@ def enumerate_cost(n: int, r: int, cheaper, part: tuple[int, int] | None = None,
     enc.lex_swaps()
     top = (1 << n) - 1
     if part is not None:
-        enc.clauses.append([enc.out[0] if part[0] else -enc.out[0]])
-        enc.clauses.append([enc.out[top] if part[1] else -enc.out[top]])
+        out = enc.out_bits()
+        enc.clauses.append([out[0] if part[0] else -out[0]])
+        enc.clauses.append([out[top] if part[1] else -out[top]])
 
     def wanted(t):
         return (part is None or ((t & 1) == part[0] and ((t >> top) & 1) == part[1])) and _lex_ok(n, t)
@@ -569,7 +577,7 @@ def enumerate_cost(n: int, r: int, cheaper, part: tuple[int, int] | None = None,
 def _trivial(n: int, tables: Sequence[int]):
     """Outputs needing no gate: signal index, tie marker or ``None``."""
     full = _full(n)
-    res = []
+    res: list = []
     for f in tables:
         if f == 0:
             res.append(TIE_LOW)

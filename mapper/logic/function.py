@@ -133,13 +133,13 @@ class Function:
             raise ValueError("a function needs a table or a cover")
 
     @classmethod
-    def from_table(cls, n: int, table: int) -> "Function":
+    def from_table(cls, n: int, table: int) -> Function:
         if n > MAX_TABLE_INPUTS:
             raise ValueError(f"a table over {n} inputs is too wide")
         return cls(n, table=table & ((1 << (1 << n)) - 1))
 
     @classmethod
-    def from_cover(cls, n: int, cubes, phase: int = 1) -> "Function":
+    def from_cover(cls, n: int, cubes, phase: int = 1) -> Function:
         """A function from a cover; small ones also get their table at once."""
         cubes = tuple(cubes)
         if n <= MAX_TABLE_INPUTS:
@@ -147,7 +147,7 @@ class Function:
         return cls(n, cubes=cubes, phase=phase)
 
     @classmethod
-    def constant(cls, value: int) -> "Function":
+    def constant(cls, value: int) -> Function:
         return cls(0, table=1 if value else 0)
 
     @property
@@ -163,7 +163,8 @@ class Function:
     def cover(self) -> tuple[tuple[str, ...], int]:
         """A cover and its phase (the one given, or an ISOP of the table)."""
         if self._cubes is None:
-            cubes, _ = isop(self._table, self._table, self.n)
+            table = self.table()
+            cubes, _ = isop(table, table, self.n)
             self._cubes, self._phase = tuple(cubes), 1
         return self._cubes, self._phase
 
@@ -222,4 +223,4 @@ class Function:
     def __repr__(self) -> str:
         if self._table is not None:
             return f"Function(n={self.n}, table={self._table:#x})"
-        return f"Function(n={self.n}, cubes={len(self._cubes)}, phase={self._phase})"
+        return f"Function(n={self.n}, cubes={len(self._cubes or ())}, phase={self._phase})"

@@ -260,9 +260,9 @@ def ternary_value(cubes, phase: int, values) -> int | None:
     >>> ternary_value(["1-", "-1"], 1, (1, None))
     1
     """
-    acc = 0
+    acc: int | None = 0
     for cube in cubes:
-        v = 1
+        v: int | None = 1
         for ch, x in zip(cube, values):
             if ch == "-":
                 continue
@@ -421,8 +421,8 @@ def add_consensus(netlist: Netlist, collapse_inputs: int = 0, collapse_cubes: in
             if where is not None:
                 new.origin[name] = where
             continue
-        cubes, phase = node.func.cover()
-        cubes = list(dict.fromkeys(cubes))
+        cover_cubes, phase = node.func.cover()
+        cubes = list(dict.fromkeys(cover_cubes))
         if len(cubes) < 2 or not _needs_structure(cubes):
             new.nodes[name] = node
             if where is not None:
@@ -438,12 +438,12 @@ def add_consensus(netlist: Netlist, collapse_inputs: int = 0, collapse_cubes: in
             if where is not None:
                 new.origin[name] = where
             continue
-        def fresh(tag):
+        def fresh(tag, name=name):
             t = _fresh(f"{name}~{tag}", taken)
             taken.add(t)
             return t
 
-        def tree(leaves, table, top=None, top_table=None):
+        def tree(leaves, table, top=None, top_table=None, where=where):
             """Balanced tree of 2-input nodes over ``leaves``; every node kept.  Iterative."""
             level = list(leaves)
             while len(level) > (2 if top is not None else 1):
@@ -587,7 +587,7 @@ def collapse_hazardous_cones(netlist: Netlist, max_inputs: int = 8, max_cubes: i
             for j in range(k):
                 if (s >> j) & 1 or ((table >> s) & 1) != ((table >> (s | 1 << j)) & 1):
                     continue
-                vals = {x: (s >> i) & 1 for i, x in enumerate(support)}
+                vals: dict[str, int | None] = {x: (s >> i) & 1 for i, x in enumerate(support)}
                 vals[support[j]] = None
                 for n in nodes:
                     nd = netlist.nodes[n]

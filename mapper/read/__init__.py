@@ -10,7 +10,7 @@ from __future__ import annotations
 import importlib
 from pathlib import Path
 
-from ..errors import Diagnostic, UsageError
+from ..errors import UsageError
 
 __all__ = ["READERS", "reader_for", "read_design"]
 

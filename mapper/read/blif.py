@@ -193,7 +193,7 @@ class _Model:
         self.outputs = []  # (name, where)
         self.clocks = []   # (name, where)
         self.items = []
-        self.exdc = None   # list of items after .exdc
+        self.exdc: list | None = None   # list of items after .exdc
         self.exdc_where = None
         # nets whose defining line was malformed: not reported again as undriven
         self.broken = set()
@@ -223,7 +223,7 @@ class _Cover:
         self.model = model
 
 
-_SKIP = object()  # rows after a broken header are skipped silently
+_SKIP = _Cover("", (), None, 0, "", None, None)  # rows after a broken header are skipped silently
 
 
 class _Reader:
@@ -231,23 +231,24 @@ class _Reader:
         self.main = main
         self.root = main.resolve().parent
         self.allow_outside = allow_outside
-        self.errors = []
-        self.warnings = []
-        self.timing = {}      # command -> [where, count]
-        self.models = {}      # name -> _Model
-        self.first_model = None
-        self.files = set()    # resolved paths read
-        self.file_rank = {}   # file name as shown in diagnostics -> order of reading
-        self.queue = []       # (path, where of the .search token)
+        self.errors: list = []
+        self.warnings: list = []
+        self.timing: dict = {}      # command -> [where, count]
+        self.models: dict = {}      # name -> _Model
+        self.first_model: _Model | None = None
+        self.files: set = set()    # resolved paths read
+        self.file_rank: dict = {}   # file name as shown in diagnostics -> order of reading
+        self.queue: list = []       # (path, where of the .search token)
         self.search_failed = False
-        self.funcs = {}       # (n, cubes, phase) -> Function (shared between nodes)
+        self.funcs: dict = {}       # (n, cubes, phase) -> Function (shared between nodes)
 
     # -- diagnostics --
     def err(self, message, where):
         self.errors.append(Diagnostic(message, *where))
 
     def warn(self, message, where):
-        self.warnings.append(Diagnostic(message, *where, severity="warning"))
+        file, line, col = where
+        self.warnings.append(Diagnostic(message, file, line, col, severity="warning"))
 
     # -- files --
     def read_all(self) -> None:
@@ -301,7 +302,7 @@ class _Reader:
         err = self.err
         model = None
         dest = None          # list receiving items (model.items or model.exdc)
-        cover = None
+        cover: _Cover | None = None
         ended_any = False
         in_kiss = False
         funcs = self.funcs
@@ -671,7 +672,7 @@ class _Reader:
                 if child is None:
                     continue
                 ins = {n for n, _ in child.inputs} | {n for n, _ in child.clocks}
-                for k, (formal, actual, w) in enumerate(it[2]):
+                for k, (formal, actual, _w) in enumerate(it[2]):
                     if formal in ins:
                         use(actual, it[4], it[5], k + 2, len(formal) + 1)
         for name, w in m.outputs:
@@ -681,8 +682,8 @@ class _Reader:
 
     def check_exdc(self, m: _Model) -> None:
         drivers = {n: w for n, w in m.inputs + m.clocks}
-        local = {}
-        for it in m.exdc:
+        local: dict = {}
+        for it in m.exdc or ():
             first = local.get(it[1])
             if it[1] in drivers or first is not None:
                 first = first or drivers[it[1]]
@@ -691,7 +692,7 @@ class _Reader:
             else:
                 local[it[1]] = it[4]
         reported = set()
-        for it in m.exdc:
+        for it in m.exdc or ():
             for j, f in enumerate(it[2]):
                 if f not in drivers and f not in local and f not in reported:
                     reported.add(f)
@@ -704,7 +705,7 @@ class _Reader:
 
     def find_cycles(self, order: list) -> None:
         """Report models that instantiate themselves (iterative depth-first search)."""
-        state = {}  # name -> 1 on the path, 2 done
+        state: dict = {}  # name -> 1 on the path, 2 done
         for root in order:
             if state.get(root.name):
                 continue
@@ -748,7 +749,7 @@ class _Reader:
         add_storage = nl.add_storage
         models = self.models
         # frame: (items iterator, rename function or None, prefix, instance counters)
-        stack = [(iter(top.items), None, "", {})]
+        stack: list = [(iter(top.items), None, "", {})]
         count = 0
         while stack:
             it, rn, prefix, counters = stack[-1]
@@ -796,7 +797,7 @@ class _Reader:
         for name, w in top.inputs + top.clocks:
             if name not in dc.nodes:
                 dc.add_input(name, where=w)
-        for it in top.exdc:
+        for it in top.exdc or ():
             dc.add_logic(it[1], it[2], it[3], it[4])
         for name, w in top.outputs:
             if name in dc.nodes and name not in dc.inputs:
@@ -864,7 +865,7 @@ def read_text(text: str, name: str = "text.blif", top: str | None = None) -> Net
 def _finish(r: _Reader, path: Path, top) -> Netlist:
     netlist = None
     if r.first_model is not None:
-        top_model = r.first_model
+        top_model: _Model | None = r.first_model
         if top is not None:
             top_model = r.models.get(top)
             if top_model is None:

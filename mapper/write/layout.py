@@ -33,11 +33,12 @@ def money(value) -> str:
         return ""
     d = Decimal(repr(float(value))) if not isinstance(value, Decimal) else value
     d = d.normalize()
-    places = max(2, -d.as_tuple().exponent if d.as_tuple().exponent < 0 else 0)
+    exponent = d.as_tuple().exponent
+    places = max(2, -exponent if isinstance(exponent, int) and exponent < 0 else 0)
     return f"{d:.{places}f}"
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def environment() -> jinja2.Environment:
     """The shared environment: HTML and SVG templates autoescape, text ones do not."""
     root = importlib.resources.files("mapper.templates")

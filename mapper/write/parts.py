@@ -52,7 +52,7 @@ def order_rows(b: Build, copies: int = 1) -> dict:
     """
     if copies < 1:
         raise UsageError(f"--qty must be 1 or more (got {copies})")
-    groups: "OrderedDict[str, list]" = OrderedDict()
+    groups: OrderedDict[str, list] = OrderedDict()
     for p in sorted(b.parts, key=lambda p: ref_key(p.ref)):
         groups.setdefault(p.part_id, []).append(p.ref)
     used: dict = {}
@@ -65,7 +65,7 @@ def order_rows(b: Build, copies: int = 1) -> dict:
         pd = b.target.parts[pid]
         per = pd.units()
         rows.append(_row(pd, refs, copies, sum(used.get(r, 0) for r in refs), per * len(refs)))
-    sgroups: "OrderedDict[str, list]" = OrderedDict()
+    sgroups: OrderedDict[str, list] = OrderedDict()
     for s in sorted(b.support, key=lambda s: ref_key(s.ref)):
         sgroups.setdefault(s.part_id, []).append(s.ref)
     for pid, refs in sgroups.items():

@@ -93,7 +93,7 @@ def _levels(boxes: list, inputs: set) -> None:
         for s in d:
             users.setdefault(s, []).append(bx)
     by_id = {id(bx): bx for bx in boxes}
-    level = {}
+    level: dict = {}
     remaining = {i: set(d) for i, d in deps.items()}
     ready = [bx for bx in boxes if not remaining[id(bx)]]
     done = 0
@@ -126,7 +126,7 @@ def _el(parent, tag, text=None, **attrs):
 
 
 def _root(width, height, title):
-    root = etree.Element(f"{{{SVG_NS}}}svg", nsmap={None: SVG_NS},
+    root = etree.Element(f"{{{SVG_NS}}}svg", nsmap={None: SVG_NS},  # type: ignore[dict-item]  # lxml-stubs
                          attrib={"width": str(int(width)), "height": str(int(height)),
                                  "viewBox": f"0 0 {int(width)} {int(height)}",
                                  "font-family": "DejaVu Sans, Arial, Helvetica, sans-serif",
@@ -182,7 +182,7 @@ def svg_element(b: Build, analysis: Analysis):
             rows = max(len(bx.inputs), len(bx.outputs), 2)
             bx.h = rows * _PIN_STEP + 30
             bx.x, bx.y = col_x[col], y
-            for i, (pin, net) in enumerate(bx.inputs):
+            for i, (pin, _net) in enumerate(bx.inputs):
                 py = y + 38 + i * _PIN_STEP
                 bx.pin_xy[("in", pin)] = (bx.x, py)
             for i, (pin, net) in enumerate(bx.outputs):
@@ -225,7 +225,7 @@ def svg_element(b: Build, analysis: Analysis):
         net = b.output_nets.get(o, o)
         if net not in SUPPLY_NETS:
             ends.setdefault(net, []).append((col_x[out_col], out_y[o]))
-    colour = {}
+    colour: dict = {}
     for col, nets in trunks.items():
         base = col_x[col] + (_BOX_W if col > 0 else 0)
         for i, net in enumerate(sorted(nets, key=lambda n: start.get(n, (0, 0))[1])):
@@ -353,7 +353,7 @@ def bar_chart(title: str, groups: list) -> str:
     root = _root(width, height, title)
     _el(root, "text", title, x=_MARGIN, y=24, font_size=15, font_weight="bold")
     y = 50
-    for gi, (label, unit, bars) in enumerate(groups):
+    for label, unit, bars in groups:
         values = [v for _, v, _ in bars if v is not None and v > 0]
         vmax = max(values, default=0)
         vmin = min(values, default=0)

@@ -318,7 +318,7 @@ def _instances(b: Build, nm: VerilogNames) -> list:
     """Plain data for each instance line of the module, ordered by part and slot."""
     from .wiring import PinLookup
 
-    out = []
+    out: list[dict] = []
     cells = b.target.cells
     pin_of = PinLookup(b)
 
@@ -339,22 +339,22 @@ def _instances(b: Build, nm: VerilogNames) -> list:
             note = f"coil on {coil}, no pole used" if coil else "no slot used"
             out.append({"header": header + f" -- {note}", "lines": []})
             continue
-        lines = []
+        lines: list[dict] = []
         for kind, it in items:
             if kind == "cell":
                 cd = cells[it.cell]
-                pins = []
+                placed = []
                 for pin in cd.pins:
                     net = it.pins.get(pin)
                     num = pin_of(it, pin)
-                    pins.append((pin, nm.ref[net] if net is not None else "", num))
+                    placed.append((pin, nm.ref[net] if net is not None else "", num))
                 params = f" #(.INIT({_init_literal(it.init)}))" if cd.storage is not None else ""
-                open_ = [pin for pin, c_, _ in pins if not c_]
+                open_ = [pin for pin, c_, _ in placed if not c_]
                 lines.append({"module": cell_module(it.cell), "params": params,
                               "name": nm.instances[("cell", it.part_ref, it.slot)],
                               "what": f"slot {it.slot}, {it.cell}" + (f" ({', '.join(open_)} open)" if open_ else ""),
-                              "pins": [(pin, conn_) for pin, conn_, _ in pins],
-                              "numbers": " ".join(f"{pin}={num}" for pin, _, num in pins)})
+                              "pins": [(pin, conn_) for pin, conn_, _ in placed],
+                              "numbers": " ".join(f"{pin}={num}" for pin, _, num in placed)})
             else:
                 slot = next((s for s in pd.slots if s.index == it.pole), None)
                 if slot is None:
@@ -415,8 +415,8 @@ def _model(cd) -> dict:
     name = cell_module(cd.name)
     ins = list(cd.inputs)
     outs = [cd.output] + list(cd.extra_outputs)
-    m = {"name": name, "description": cd.description or cd.name, "inputs": ins, "outputs": outs,
-         "kind": "logic", "expr": cd.expr}
+    m: dict = {"name": name, "description": cd.description or cd.name, "inputs": ins, "outputs": outs,
+               "kind": "logic", "expr": cd.expr}
     coil = [p for p in ins if cd.roles.get(p) == "coil"]
     if cd.storage is None and coil:
         rhs = _rhs(cd.expr)
@@ -429,7 +429,7 @@ def _model(cd) -> dict:
         return m
     roles = cd.roles
     data = next((p for p in ins if roles.get(p) == "data"), ins[0])
-    ctrl = next((p for p in ins if roles.get(p) in ("clock", "enable")), ins[1] if len(ins) > 1 else None)
+    ctrl = next((p for p in ins if roles.get(p) in ("clock", "enable")), ins[1] if len(ins) > 1 else "")
     low = set(cd.active_low)
 
     def active(p):

@@ -260,7 +260,7 @@ def _nets(b: Build, parts: list) -> list:
             if pu.net is not None:
                 joined.setdefault(pu.net, []).append(pu)
     inputs, outputs = list(b.inputs), list(b.outputs)
-    out_of = {}
+    out_of: dict = {}
     for o in outputs:
         out_of.setdefault(b.output_nets.get(o, o), []).append(o)
     order = [r for r in SUPPLY_NETS if r in joined]

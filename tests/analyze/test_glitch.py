@@ -27,14 +27,14 @@ import pytest
 
 from mapper import flow
 from mapper.analyze.glitch import find_glitches, glitch_report
-from mapper.analyze.glitch_engine import X, Engine, path_mask
+from mapper.analyze.glitch_engine import Engine, X, path_mask
 from mapper.analyze.relay_glitch import relay_transfers
 from mapper.analyze.timed import Gate, TimedCircuit
-from mapper.logic.hazard import hazard_transitions
+from mapper.catalog import load_target
 from mapper.fit.gates import CellUse, Mapping
 from mapper.fit.pack import pack
-from mapper.catalog import load_target
 from mapper.logic.function import isop
+from mapper.logic.hazard import hazard_transitions
 from mapper.read import read_design
 
 NS = 1e-9

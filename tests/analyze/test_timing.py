@@ -21,9 +21,9 @@ import pytest
 
 from mapper import flow
 from mapper.analyze.timing import LOAD_RATING, cell_delay, net_loads, static_timing
+from mapper.catalog import Figure, load_target
 from mapper.fit.gates import CellUse, Mapping
 from mapper.fit.pack import pack
-from mapper.catalog import Figure, load_target
 from mapper.read import read_design
 
 C17_GATES = [("N1", "N3", "N10"), ("N3", "N6", "N11"), ("N2", "N11", "N16"),
@@ -174,8 +174,8 @@ def test_overloaded_net_is_listed():
 
 def test_build_with_no_cells():
     # an output wired straight to an input: no cell, no delay
-    from mapper.netlist import Netlist
     from mapper.logic.function import Function
+    from mapper.netlist import Netlist
     n = Netlist("wire")
     n.add_input("a")
     n.add_logic("f", ["a"], Function.from_table(1, 0b10))

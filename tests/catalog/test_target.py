@@ -21,7 +21,6 @@ from pathlib import Path
 
 import pytest
 
-from mapper.errors import Diagnostic, InputError
 from mapper.catalog import (
     CatalogError,
     Figure,
@@ -32,6 +31,7 @@ from mapper.catalog import (
     load_catalog,
     load_target,
 )
+from mapper.errors import Diagnostic, InputError
 from mapper.units import parse_quantity
 
 HERE = Path(__file__).parent
@@ -359,7 +359,8 @@ def test_malformed_file(path):
     m = _EXPECT.search(text)
     assert m, "each corpus file states its expected error"
     line, words = int(m.group(1)), m.group(2)
-    loader, err_cls = (load_catalog, CatalogError) if path.parent.parent.name == "catalogs" else (load_target, TargetError)
+    in_catalogs = path.parent.parent.name == "catalogs"
+    loader, err_cls = (load_catalog, CatalogError) if in_catalogs else (load_target, TargetError)
     start = time.perf_counter()
     with pytest.raises(err_cls) as exc:
         loader(str(path))
@@ -397,6 +398,7 @@ def test_entity_bomb_is_refused_fast(netfit):
 def test_parser_itself_resolves_no_entities(tmp_path):
     # defence in depth: even if the text check were bypassed, the parser settings expand nothing
     from lxml import etree
+
     from mapper.catalog.xmlfile import xml_parser as _parser
     secret = tmp_path / "secret.txt"
     secret.write_text("TOP-SECRET-CONTENT-42\n", encoding="utf-8")
@@ -404,7 +406,7 @@ def test_parser_itself_resolves_no_entities(tmp_path):
     root = etree.fromstring(doc, _parser())
     assert "TOP-SECRET" not in etree.tostring(root).decode()
     laughs = ('<!DOCTYPE a [<!ENTITY l0 "lol">' +
-              "".join(f'<!ENTITY l{i} "{("&l%d;" % (i - 1)) * 10}">' for i in range(1, 10)) +
+              "".join(f'<!ENTITY l{i} "{f"&l{i - 1};" * 10}">' for i in range(1, 10)) +
               ']><a>&l9;</a>').encode()
     start = time.perf_counter()
     try:

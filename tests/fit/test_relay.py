@@ -76,7 +76,7 @@ def settle(build: Build, inputs: dict, energized: dict | None = None, rounds: in
         rail = uf.find("VCC")
         new = {ref: uf.find(net) == rail for ref, net in build.coils.items()}
         if new == energized:
-            return (lambda net: int(net != "GND" and uf.find(net) == rail)), energized
+            return (lambda net, uf=uf, rail=rail: int(net != "GND" and uf.find(net) == rail)), energized
         energized = new
     raise AssertionError("the relays never settle")
 

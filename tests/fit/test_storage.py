@@ -9,7 +9,6 @@ clock edge.
 """
 from __future__ import annotations
 
-import itertools
 import random
 
 import pytest

@@ -20,9 +20,17 @@ import random
 
 import pytest
 
-from mapper.logic.hazard import (add_consensus, consensus, cover_hazards, design_hazards,
-                                   hazard_free_cover, hazard_transitions, ternary_hazard, ternary_value)
 from mapper.logic.function import Function, isop, table_of_cover
+from mapper.logic.hazard import (
+    add_consensus,
+    consensus,
+    cover_hazards,
+    design_hazards,
+    hazard_free_cover,
+    hazard_transitions,
+    ternary_hazard,
+    ternary_value,
+)
 from mapper.netlist import Netlist
 from mapper.read import read_design
 from mapper.verify import check_equivalence

@@ -15,10 +15,10 @@ from pathlib import Path
 import pytest
 
 import generated
-from mapper.logic.function import Function
-from mapper.netlist import Logic, Netlist
-from mapper.read import read_design
 from mapper import verify
+from mapper.logic.function import Function
+from mapper.netlist import Netlist
+from mapper.read import read_design
 from mapper.read.blif import read_text
 from mapper.simulate import simulate
 from mapper.write import blif as wblif

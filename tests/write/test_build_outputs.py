@@ -44,7 +44,7 @@ from mapper.build import Build, CellInstance, PartInstance, SupportInstance, Tie
 from mapper.read import read_design
 from mapper.simulate import run_cycles, simulate
 from mapper.verify import check_equivalence
-from mapper.write.parts import order_rows, parts_csv
+from mapper.write.parts import parts_csv
 from mapper.write.verilog import verilog_names
 from mapper.write.wiring import wiring, wiring_text
 
@@ -87,7 +87,7 @@ def _deadline(seconds: int, what: str):
         signal.signal(signal.SIGALRM, old)
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _built(path: str, target: str):
     design = read_design(path)
     with _deadline(FIT_DEADLINE_S, f"building {Path(path).name} on {target}"):

@@ -13,9 +13,9 @@ from __future__ import annotations
 
 import shutil
 import struct
-from collections import Counter
 import subprocess
 import zlib
+from collections import Counter
 from pathlib import Path
 
 import pytest
