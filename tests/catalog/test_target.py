@@ -16,7 +16,6 @@ from __future__ import annotations
 import itertools
 import json
 import re
-import time
 from pathlib import Path
 
 import pytest
@@ -361,14 +360,11 @@ def test_malformed_file(path):
     line, words = int(m.group(1)), m.group(2)
     in_catalogs = path.parent.parent.name == "catalogs"
     loader, err_cls = (load_catalog, CatalogError) if in_catalogs else (load_target, TargetError)
-    start = time.perf_counter()
     with pytest.raises(err_cls) as exc:
         loader(str(path))
-    elapsed = time.perf_counter() - start
     diags = exc.value.diagnostics
     assert any(d.line == line and words in d.message and d.file == str(path) for d in diags), \
         [str(d) for d in diags]
-    assert elapsed < 1.0  # refused promptly (entity bombs included)
 
 
 # -- safety of parsing ------------------------------------------------------------------------------
@@ -379,20 +375,23 @@ def test_external_entity_reveals_nothing(netfit, tmp_path):
     evil.write_text(f'<?xml version="1.0"?>\n<!DOCTYPE target [<!ENTITY s SYSTEM "file://{secret}">]>\n'
                     '<target name="x" kind="gates"><description>&s;</description><catalog src="74hc"/>'
                     '<use cell="nand2"><carrier part="74HC00"/></use></target>\n', encoding="utf-8")
-    start = time.perf_counter()
     code, out, err = netfit("targets", evil)
-    assert time.perf_counter() - start < 1.0
     assert code == 2
     assert f"{evil}:2: error: a document type declaration" in err
     assert "TOP-SECRET" not in out + err and "root:" not in out + err
 
 
-def test_entity_bomb_is_refused_fast(netfit):
+def test_entity_bomb_is_refused_before_parsing(monkeypatch):
+    # refused from the text: the XML parser (which could expand it) is never called
+    import mapper.catalog.xmlfile as xmlfile
+
+    def no_parse(*args, **kwargs):
+        raise AssertionError("the parser was called on an entity bomb")
+
+    monkeypatch.setattr(xmlfile.etree, "fromstring", no_parse)
     bomb = HERE / "catalogs" / "invalid" / "entity_bomb.xml"
-    start = time.perf_counter()
-    with pytest.raises(CatalogError):
+    with pytest.raises(CatalogError, match="document type declaration"):
         load_catalog(bomb)
-    assert time.perf_counter() - start < 1.0
 
 
 def test_parser_itself_resolves_no_entities(tmp_path):
@@ -408,13 +407,11 @@ def test_parser_itself_resolves_no_entities(tmp_path):
     laughs = ('<!DOCTYPE a [<!ENTITY l0 "lol">' +
               "".join(f'<!ENTITY l{i} "{f"&l{i - 1};" * 10}">' for i in range(1, 10)) +
               ']><a>&l9;</a>').encode()
-    start = time.perf_counter()
     try:
         root = etree.fromstring(laughs, _parser())
         assert len(etree.tostring(root)) < 10_000
     except etree.XMLSyntaxError:
         pass  # refusing is as good as not expanding
-    assert time.perf_counter() - start < 1.0
 
 
 def test_non_utf8_is_refused(tmp_path):
