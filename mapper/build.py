@@ -29,7 +29,7 @@ from .catalog.model import CellDef, PartDef, Target
 from .errors import InternalError
 from .logic.function import Function
 from .netlist import Netlist
-from .relay_logic import RelayLatch, contact_logic
+from .relay_logic import RelaySequencer, RelayStorage, contact_logic
 
 __all__ = ["PartInstance", "CellInstance", "ContactInstance", "SupportInstance", "Tie", "Build", "GateStorage",
            "SUPPLY_NETS", "ref_key"]
@@ -143,8 +143,10 @@ class Build:
     notes: list = field(default_factory=list)
     #: what fit counted while it worked (relay builds: windows, evaluations, seconds, re-amplification points)
     fit_stats: dict = field(default_factory=dict)
-    #: relay builds: seal-in storage, turned into storage elements by :func:`mapper.relay_logic.contact_logic`
-    latches: list[RelayLatch] = field(default_factory=list)
+    #: relay builds: storage elements, turned into storage by :func:`mapper.relay_logic.contact_logic`
+    latches: list[RelayStorage] = field(default_factory=list)
+    #: relay builds: the sequencers that step each clock or enable net through its phases
+    sequencers: list[RelaySequencer] = field(default_factory=list)
     #: gate builds: storage made of gates (a feedback loop of cells), group key ->
     #: :class:`GateStorage`; the prover sees each group as one storage element
     storage_groups: dict = field(default_factory=dict)

@@ -86,6 +86,10 @@ def convert(src, dst, **read_options) -> dict:
             "storage": len(n.storage()), "nodes": len(n.nodes) - len(n.inputs)}
 
 
+#: rounds of repeater relays added where a contact chain leaves a coil short of its operating voltage
+MAX_REPEATER_ROUNDS = 4
+
+
 class Result(NamedTuple):
     """A proved build and everything found out about it."""
 
@@ -149,6 +153,24 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     lap("proof")
     analysis = analyze_build(build, proof)
     lap("analysis")
+    for _ in range(MAX_REPEATER_ROUNDS):   # relay chains too long to hold their coils: add repeaters
+        nets = (analysis.wired or {}).get("redrive") or []
+        if not nets:
+            break
+        from .fit.relay import redrive
+        again = redrive(build, nets)
+        if again is build:
+            break
+        build = again
+        proof = prove(design, build)
+        analysis = analyze_build(build, proof)
+        lap("repeaters")
+    wiring = analysis.wiring_check
+    if wiring is not None and wiring["defects"]:
+        found = {k: len(wiring[k]) for k in ("order_dependent", "oscillations", "shorts", "back_feeds", "floating",
+                                             "behaviour") if wiring[k]}
+        raise InternalError(f"the relay build of {design.name} on {target.name} fails the checks as wired ({found}; "
+                            f"first: {next(wiring[k][0] for k in found)}) -- this is a bug in netfit")
     analysis.stage_s = stages
     return Result(build, analysis)
 

@@ -32,23 +32,56 @@ one multiplexer per pole, exact, no fixed point needed.
 
 Storage
 -------
-A latch is one relay holding itself through its own make contact (seal-in):
-the latch net ``q`` is the common terminal of a pole on the enable's relay
-whose transparent side is the data net and whose other side is a hold net
-``h``; ``h`` is the common of a make contact of ``q``'s own relay, fed from
-the rail.  Kind ``ah`` (transparent while the enable is 1) has the data on
-NO; kind ``al`` on NC.  Edge-triggered storage is two such latches: a
-master ``m`` transparent while the clock is inactive, and the slave ``q``,
-transparent while the clock is active, fed from ``m`` (kind ``re``: master
-``al`` and slave ``ah`` on the same clock; ``fe`` the other way round).
+Relay storage is built so that it settles the same whichever relay moves
+first, and so that no holding coil ever loses its feed while a contact is in
+flight (a changeover breaks before it makes).  Two kinds of record describe
+it; :func:`contact_logic` checks every pole and diode of both against this
+description before it reads the build as logic.
 
-For the proof each latch (or master/slave pair) becomes one
-:class:`~mapper.netlist.Storage` element named like the design's, of the
-design's kind, with the data and control nets read off its poles after
-:func:`contact_logic` has checked the exact shape above; the hold and
-master nets are internal to it.  A seal-in latch powers up released (0); a
-design element that must start at 1 is built with its relay holding the
-complement (``q`` is then read from the relay's break contacts).
+*Sequencer* (:class:`RelaySequencer`), one per clock or enable net and kind,
+steps that net through phases on *buses*: nets fed from the rail by one
+contact each.  A flip-flop (kinds ``re``, ``fe``) has four buses: LM (load
+master), HM (hold master), LS (load slave), HS (hold slave).  On the active
+edge they change in the order HM on, LM off, LS on, HS off; on the other
+edge HS on, LS off, LM on, HM off.  One single-pole relay per step makes
+that order (CK are the relays on the control net; ``'`` is "not"):
+
+    X = CK + LS          HM = X      (LS feeds X's coil through a diode)
+    Y = HM (CK + W')     LM = Y', LS = Y   (one changeover: LM breaks before LS makes)
+    Z = LS CK            HS = Z'
+    W = HS               (W's coil is on the HS bus)
+
+Each step starts only when the relay before it has *landed*: its coil is fed
+from a bus that relay's landing made, or (where a feed must *stop* after a
+bus was made) from a break contact of a relay that bus operates (W).  Every
+relay released is the rest at clock 0, so a falling-edge sequencer is the
+mirror of that (T, V, U, W with HS = T, LM = V, LS = V', HM = U';
+``T = CK + LM``, ``V = HS (CK + W')``, ``U = LM CK``, W's coil on HM): a
+build powered up with its clocks at 0 sees no edge.  A latch
+(kinds ``ah``, ``al``) has two buses, LM and HM:
+
+    X = CK'              HM = X
+    W = HM               (W's coil is on the HM bus)
+    Y = CK + Y W'        LM = Y      (Y holds itself until HM is made)
+
+*Storage element* (:class:`RelayStorage`): a slave relay S holds the bit
+(its coil is the storage net); a flip-flop also has a master relay M.
+Each coil is fed from two diodes (a diode OR: the feeds never feed each
+other or a bus):
+
+    M coil  <-|  LM through a make contact of the data net's relay  (load)
+            <-|  HM through M's own make contact                     (hold)
+    S coil  <-|  LS through M's second make contact                  (load)
+            <-|  HS through S's own make contact                     (hold)
+
+A latch has only S, loaded from LM and held from HM.  At every moment a bus
+feeds the load or the hold path of each coil, so a bit is never left
+unfed; all masters hold before any slave loads.  A relay powers up
+released: storage starts at 0, and an element that must start at 1 is
+built holding its complement (its true value is read from a break contact
+of S).  For the proof each storage element is one
+:class:`~mapper.netlist.Storage` of the design's kind, with the data and
+control nets read off its record after the check.
 """
 from __future__ import annotations
 
@@ -61,25 +94,111 @@ from .netlist import Input, Netlist
 from .order import topological_order
 
 if TYPE_CHECKING:
-    from .build import Build, ContactInstance
+    from .build import Build
 
-__all__ = ["RelayLatch", "MUX_FUNCTION", "contact_logic", "relay_driven_nets", "storage_nets"]
+__all__ = ["RelaySequencer", "RelayStorage", "MUX_FUNCTION", "contact_logic", "relay_driven_nets",
+           "storage_nets", "sequencer_for"]
 
 #: ``COM = COIL ? NO : NC`` over fan-ins (coil, no, nc), input 0 least significant
 MUX_FUNCTION = Function.from_table(3, sum(
     1 << m for m in range(8) if ((m >> 1) & 1 if m & 1 else (m >> 2) & 1)))
 
 
+#: the kinds of storage and which side of the control's relays is active (energized: NO)
+_ACTIVE_NO = {"re": True, "ah": True, "fe": False, "al": False}
+
+
+def _on_active(kind: str, com, coil, src) -> tuple:
+    """A pole on the control's relay joining ``com`` to ``src`` while the control is active."""
+    return (com, coil, src, None) if _ACTIVE_NO[kind] else (com, coil, None, src)
+
+
+def _on_inactive(kind: str, com, coil, src) -> tuple:
+    return (com, coil, None, src) if _ACTIVE_NO[kind] else (com, coil, src, None)
+
+
 @dataclass
-class RelayLatch:
+class RelaySequencer:
+    """The relays that step one clock or enable net through its phases (see the module docstring).
+
+    ``x``, ``y`` (and ``z`` for flip-flops) are the coil nets of the step
+    relays; relay W's coil is a bus (HS, or HM for a latch).  ``lm``, ``hm``
+    (and ``ls``, ``hs``) are the buses, ``feeds`` the private feed nets.
+    """
+
+    control: str
+    kind: str
+    x: str
+    y: str
+    lm: str
+    hm: str
+    feeds: tuple = ()
+    z: str | None = None
+    ls: str | None = None
+    hs: str | None = None
+
+    @property
+    def edge(self) -> bool:
+        return self.kind in ("re", "fe")
+
+    def poles(self) -> list:
+        """Every pole of the sequencer, ``(com, coil net, no, nc)``."""
+        k, c = self.kind, self.control
+        if k == "fe":
+            # the mirror of "re": every relay released is the rest after a falling edge (clock 0), so a
+            # build powered up with its clock at 0 sees no edge
+            return [
+                (self.z, c, "VCC", None),                  # T <- CK       (HS = T)
+                (self.y, c, self.hs, None),                # V <- HS CK
+                (self.y, self.hm, None, self.hs),          # V <- HS W'    (W's coil on HM)
+                (self.x, c, self.lm, None),                # U <- LM CK    (HM = U')
+                (self.hs, self.z, "VCC", None),            # HS = T
+                ("VCC", self.y, self.lm, self.ls),         # LS = V', LM = V
+                (self.hm, self.x, None, "VCC"),            # HM = U'
+            ]
+        if self.edge:
+            return [
+                _on_active(k, self.x, c, "VCC"),          # X <- CK
+                _on_active(k, self.y, c, self.hm),         # Y <- HM CK
+                (self.y, self.hs, None, self.hm),          # Y <- HM W'   (W's coil on HS)
+                _on_active(k, self.z, c, self.ls),         # Z <- LS CK
+                (self.hm, self.x, "VCC", None),            # HM = X
+                ("VCC", self.y, self.ls, self.lm),         # LM = Y', LS = Y
+                (self.hs, self.z, None, "VCC"),            # HS = Z'
+            ]
+        (ys,) = self.feeds
+        return [
+            _on_inactive(k, self.x, c, "VCC"),             # X <- CK'
+            _on_active(k, self.y, c, "VCC"),               # Y <- CK
+            (ys, self.hm, None, "VCC"),                    # ys = W'     (W's coil on HM)
+            (self.y, self.y, ys, None),                    # Y <- Y W'
+            (self.hm, self.x, "VCC", None),                # HM = X
+            (self.lm, self.y, "VCC", None),                # LM = Y
+        ]
+
+    def diodes(self) -> list:
+        """``(anode, cathode)`` of the sequencer's steering diodes."""
+        if self.kind == "fe":
+            return [(self.lm, self.z)]   # T <- LM: T holds until LM breaks
+        return [(self.ls, self.x)] if self.edge else []
+
+    def own_nets(self) -> set:
+        """The nets nothing outside the sequencer may drive."""
+        return {n for n in (self.x, self.y, self.z, self.lm, self.hm, self.ls, self.hs, *self.feeds)
+                if n is not None}
+
+
+@dataclass
+class RelayStorage:
     """One storage element of a relay build (see the module docstring).
 
-    ``net`` is the design's storage net.  ``state`` is the net the relay
-    holds (``net`` itself, or a net holding its complement when
-    ``inverted``); ``hold`` the net between the hold contact and the
-    enable pole.  Edge-triggered elements have a ``master`` latch net and its
-    ``master_hold``.  ``d`` and ``control`` are the data and clock/enable
-    nets as wired (``d`` is ``None`` for a constant 0 data input).
+    ``net`` is the design's storage net; ``state`` the coil net of the slave
+    relay (``net`` itself, or a net holding its complement when
+    ``inverted``); ``master`` the master's coil net (flip-flops only).
+    ``d`` is the data net as wired (``None`` for a constant 0, ``"VCC"``
+    for a constant 1) and ``control`` the clock or enable net.
+    ``paths`` are the private nets between each make contact and its diode:
+    load and hold of the master (or of a latch), then of the slave.
     """
 
     net: str
@@ -88,16 +207,50 @@ class RelayLatch:
     control: str
     init: int
     state: str
-    hold: str
+    paths: tuple
     master: str | None = None
-    master_hold: str | None = None
     inverted: bool = False
     #: the design's initial value (0, 1, 2 don't care, 3 unknown)
     design_init: int = 3
 
+    def poles(self, seq: RelaySequencer) -> list:
+        """The storage element's own poles (those on the data net's relay included)."""
+        out: list = []
+        first = self.master if self.master is not None else self.state
+        load, hold = self.paths[0], self.paths[1]
+        if self.d not in (None, "VCC"):
+            out.append((load, self.d, seq.lm, None))
+        out.append((hold, first, seq.hm, None))
+        if self.master is not None:
+            sload, shold = self.paths[2], self.paths[3]
+            out.append((sload, self.master, seq.ls, None))
+            out.append((shold, self.state, seq.hs, None))
+        return out
+
+    def diodes(self, seq: RelaySequencer) -> list:
+        """``(anode, cathode)`` of every steering diode of the element."""
+        first = self.master if self.master is not None else self.state
+        out = []
+        if self.d == "VCC":
+            out.append((seq.lm, first))
+        elif self.d is not None:
+            out.append((self.paths[0], first))
+        out.append((self.paths[1], first))
+        if self.master is not None:
+            out += [(self.paths[2], self.state), (self.paths[3], self.state)]
+        return out
+
     def own_nets(self) -> set:
-        """The nets of this element's own poles: state, hold, master and master hold."""
-        return {x for x in (self.state, self.hold, self.master, self.master_hold) if x is not None}
+        """Nets private to the element: its paths and its master's coil."""
+        return set(self.paths) | ({self.master} if self.master else set())
+
+
+def sequencer_for(build: Build, lt: RelayStorage) -> RelaySequencer:
+    """The sequencer that steps ``lt``'s control (``InternalError`` when the build has none)."""
+    for seq in build.sequencers:
+        if seq.control == lt.control and seq.kind == lt.kind:
+            return seq
+    raise InternalError(f"storage {lt.net}: no sequencer for {lt.kind} on {lt.control}")
 
 
 def relay_driven_nets(build: Build) -> list:
@@ -111,23 +264,30 @@ def relay_driven_nets(build: Build) -> list:
 
 
 def storage_nets(build: Build) -> tuple[set, set]:
-    """``(nets whose driving pole belongs to storage, storage output nets)`` of a relay build."""
-    driven, outs = set(), set()
+    """``(nets that belong to storage and its sequencers, storage output nets)`` of a relay build.
+
+    The first set holds every net a storage pole drives or a storage diode
+    feeds, the buses and the sequencers' own nets: analyses that follow
+    single-driver contact networks leave them out.
+    """
+    inner, outs = set(), set()
+    for seq in build.sequencers:
+        inner |= seq.own_nets()
     for lt in build.latches:
-        driven |= lt.own_nets()
+        inner |= lt.own_nets() | {lt.state}
         outs |= {lt.state, lt.net}
         if lt.inverted:
-            driven.add(lt.net)
-    return driven, outs
+            inner.add(lt.net)
+    return inner, outs
 
 
 class _Drivers:
     """The driving pole of each relay-driven net, refusing the shapes :func:`contact_logic` cannot read."""
 
-    def __init__(self, build: Build, netlist: Netlist):
-        self.coil = build.coils
+    def __init__(self, contacts: list, coil: dict, netlist: Netlist):
+        self.coil = coil
         self.by_net: dict = {}
-        for k in build.contacts:
+        for k in contacts:
             if k.com in self.by_net:
                 raise InternalError(f"net {k.com} is the common terminal of two poles "
                                     f"({self.by_net[k.com].part_ref} and {k.part_ref})")
@@ -135,53 +295,67 @@ class _Drivers:
                 raise InternalError(f"{k.com} is on the common terminal of {k.part_ref} pole {k.pole}")
             self.by_net[k.com] = k
 
-    def pole(self, net: str) -> tuple[ContactInstance, str]:
-        k = self.by_net.get(net)
-        if k is None:
-            raise InternalError(f"storage net {net} has no driving pole")
-        return k, self.coil[k.part_ref]
 
-    def check_hold(self, hold: str, relay_net: str, what: str) -> None:
-        k, c = self.pole(hold)
-        if not (c == relay_net and k.no == "VCC" and k.nc is None):
-            raise InternalError(what)
+def _storage_contacts(build: Build) -> set:
+    """Indices in ``build.contacts`` of every storage and sequencer pole, each checked to be there exactly once.
+
+    Also checks the steering diodes, the data relay of each element, and that
+    no other pole drives or reads a net private to storage.
+    """
+    coil = build.coils
+    free: dict = {}
+    for i, k in enumerate(build.contacts):
+        free.setdefault((k.com, coil[k.part_ref], k.no, k.nc), []).append(i)
+    used: set = set()
+
+    def take(pole, what):
+        idx = free.get(pole)
+        if not idx:
+            raise InternalError(f"{what}: the build lacks pole {pole} (common, coil, NO, NC)")
+        used.add(idx.pop())
+
+    seqs = {(seq.control, seq.kind): seq for seq in build.sequencers}
+    if len(seqs) != len(build.sequencers):
+        raise InternalError("two sequencers step the same control net the same way")
+    private: set = set()
+    diodes: dict = {}
+    for s in build.support:
+        if s.role == "steering":
+            diodes[tuple(s.nets)] = diodes.get(tuple(s.nets), 0) + 1
+
+    def diode(d, what):
+        if not diodes.get(d):
+            raise InternalError(f"{what}: the build lacks the steering diode {d[0]} -> {d[1]}")
+        diodes[d] -= 1
+
+    for seq in build.sequencers:
+        for pole in seq.poles():
+            take(pole, f"sequencer of {seq.control}")
+        for d in seq.diodes():
+            diode(d, f"sequencer of {seq.control}")
+        private |= seq.own_nets()
+    for lt in build.latches:
+        seq = sequencer_for(build, lt)
+        for pole in lt.poles(seq):
+            take(pole, f"storage {lt.net}")
+        for d in lt.diodes(seq):
+            diode(d, f"storage {lt.net}")
+        private |= lt.own_nets()
+        if lt.inverted:
+            take((lt.net, lt.state, None, "VCC"), f"storage {lt.net} (its true value)")
+    extra = [d for d, n in diodes.items() if n]
+    if extra:
+        raise InternalError(f"steering diodes no storage element uses: {extra}")
+    for i, k in enumerate(build.contacts):
+        if i in used:
+            continue
+        touched = {k.com, k.no, k.nc, coil[k.part_ref]} & private
+        if touched:
+            raise InternalError(f"{k.part_ref} pole {k.pole} touches storage-internal net(s) {sorted(touched)}")
+    return used
 
 
-def _check_latch(lt: RelayLatch, drv: _Drivers) -> tuple[set, set]:
-    """Check one storage element's poles; ``(its internal nets, nets private to it)``."""
-    internal, private = set(), set()
-    if lt.inverted and lt.net in drv.by_net:
-        # the true value of storage held in complement: a break contact of its relay from the rail
-        k_t, c_t = drv.pole(lt.net)
-        if not (c_t == lt.state and k_t.no is None and k_t.nc == "VCC"):
-            raise InternalError(f"{lt.net}: its true value is not a break contact of its relay")
-        internal.add(lt.net)
-    drv.check_hold(lt.hold, lt.state, f"{lt.net}: the hold contact is not a make contact of its own relay "
-                                      "fed from the rail")
-    k_q, c_q = drv.pole(lt.state)
-    if c_q != lt.control:
-        raise InternalError(f"{lt.net}: the enable pole is not on the control's relay")
-    active = "ah" if lt.kind in ("ah", "re") else "al"
-    src = lt.master if lt.master is not None else lt.d
-    on, off = (k_q.no, k_q.nc) if active == "ah" else (k_q.nc, k_q.no)
-    if on != src or off != lt.hold:
-        raise InternalError(f"{lt.net}: the enable pole is not wired as a seal-in latch")
-    internal |= {lt.hold, lt.state}
-    private.add(lt.hold)
-    if lt.master is not None and lt.master_hold is not None:
-        drv.check_hold(lt.master_hold, lt.master, f"{lt.net}: the master's hold contact is wrong")
-        k_m, c_m = drv.pole(lt.master)
-        if c_m != lt.control:
-            raise InternalError(f"{lt.net}: the master's enable pole is not on the clock's relay")
-        on, off = (k_m.nc, k_m.no) if active == "ah" else (k_m.no, k_m.nc)
-        if on != lt.d or off != lt.master_hold:
-            raise InternalError(f"{lt.net}: the master is not wired as a seal-in latch")
-        internal |= {lt.master, lt.master_hold}
-        private |= {lt.master, lt.master_hold}
-    return internal, private
-
-
-def _add_storage(netlist: Netlist, lt: RelayLatch, used_rails: set) -> None:
+def _add_storage(netlist: Netlist, lt: RelayStorage, used_rails: set) -> None:
     dn = lt.d if lt.d is not None else "GND"
     if dn in ("VCC", "GND"):
         used_rails.add(dn)
@@ -198,32 +372,20 @@ def _add_storage(netlist: Netlist, lt: RelayLatch, used_rails: set) -> None:
 def contact_logic(build: Build, netlist: Netlist) -> None:
     """Add to ``netlist`` the logic of every relay-driven net of ``build``.
 
-    Each pole becomes ``COM = coil ? NO : NC`` (an unused terminal reads 0);
-    each :class:`RelayLatch` becomes one storage element of its kind,
-    named like the design's, after its poles are checked to have exactly
-    the seal-in shape of the module docstring.  Raises
-    :class:`~mapper.errors.InternalError` for any other shape: a net driven
-    by two poles, a rail or input on a common terminal, a loop of contacts,
-    or an undriven net.
+    Storage and its sequencers are checked pole by pole and diode by diode
+    against their records (see the module docstring) and become one storage
+    element each, named like the design's.  Every other pole becomes
+    ``COM = coil ? NO : NC`` (an unused terminal reads 0).  Raises
+    :class:`~mapper.errors.InternalError` for any other shape: a storage pole
+    or diode missing or extra, a pole touching a net private to storage, a
+    net driven by two poles, a rail or input on a common terminal, a loop of
+    contacts, or an undriven net.
     """
-    drv = _Drivers(build, netlist)
     coil = build.coils
-    internal: set = set()     # nets driven by storage poles (not translated pole by pole)
-    private: set = set()      # nets no pole outside their storage element may touch
-    for lt in build.latches:
-        i, p = _check_latch(lt, drv)
-        internal |= i
-        private |= p
-    own_of = {}
-    for lt in build.latches:
-        for net in lt.own_nets():
-            own_of[net] = lt.own_nets()
-    for k in build.contacts:
-        for x in (k.no, k.nc):
-            if x in private and x not in own_of.get(k.com, ()):
-                raise InternalError(f"storage-internal net {x} is used by {k.part_ref} pole {k.pole}")
-    # the remaining poles in an order where fan-ins come first; a loop of contacts is refused
-    comb = {net: k for net, k in drv.by_net.items() if net not in internal}
+    in_storage = _storage_contacts(build)
+    rest = [k for i, k in enumerate(build.contacts) if i not in in_storage]
+    drv = _Drivers(rest, coil, netlist)
+    comb = drv.by_net
     order, stuck = topological_order(comb, lambda n: (comb[n].no, comb[n].nc, coil[comb[n].part_ref]))
     if stuck:
         raise InternalError("contacts form a loop not broken by storage through nets "
@@ -243,8 +405,8 @@ def contact_logic(build: Build, netlist: Netlist) -> None:
     for rail, value in (("VCC", 1), ("GND", 0)):
         if rail in used_rails and rail not in netlist.nodes:
             netlist.add_constant(rail, value)
-    known = set(netlist.nodes) | {"VCC", "GND"} | internal
-    for k in build.contacts:
+    known = set(netlist.nodes) | {"VCC", "GND"}
+    for k in rest:
         for x in (coil[k.part_ref], k.no, k.nc):
             if x is not None and x not in known:
                 raise InternalError(f"net {x} at {k.part_ref} pole {k.pole} is driven by nothing")

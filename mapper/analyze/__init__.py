@@ -22,7 +22,9 @@ from .relay import feedback_loops, relay_timing
 from .relay_glitch import relay_glitches, relay_transfers
 from .results import Analysis, Glitches, Proof, Timing
 from .supply import supply_current
+from .switch import check_relay_build
 from .timing import static_timing
+from .wired import wired_figures
 
 __all__ = ["analyze_build", "build_timing", "build_glitches"]
 
@@ -55,5 +57,22 @@ def analyze_build(build: Build, proof: Proof, glitches: Glitches | None = None) 
     loops = feedback_loops(build) if build.is_relay else []
     if glitches is None:
         glitches = build_glitches(build)
+    notes = []
+    wiring = None
+    wired = None
+    if build.is_relay:
+        report = check_relay_build(build)
+        wiring = report.as_dict()
+        notes.append(_wiring_note(report))
+        wired = wired_figures(build, report.settled)
     return Analysis(timing=timing, supply=supply, glitches=glitches, proof=proof,
-                    cautions=cautions(build, timing, supply, loops), loops=loops)
+                    cautions=cautions(build, timing, supply, loops, wired), loops=loops, notes=notes,
+                    wiring_check=wiring, wired=wired.as_dict() if wired is not None else None)
+
+
+def _wiring_note(r) -> str:
+    """The switch-level checks in one sentence with their counts."""
+    how = "all of them" if r.exhaustive else "a sample"
+    return (f"checked as wired, relays moving in every order: {r.stable_states} settled states and "
+            f"{r.changes_checked + r.changes_sampled} input changes ({how}; {r.changes_sampled} of the changes "
+            f"on sampled orders), {r.states_visited:,} states visited, {r.defects} defect(s)")

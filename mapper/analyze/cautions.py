@@ -14,10 +14,10 @@ from .results import Supply, Timing
 __all__ = ["cautions", "gate_cautions", "relay_cautions"]
 
 
-def cautions(build: Build, timing: Timing, supply: Supply, loops: list) -> list:
+def cautions(build: Build, timing: Timing, supply: Supply, loops: list, wired=None) -> list:
     """Every caution for ``build`` (relay or gate), in the order a builder meets them."""
     if build.is_relay:
-        return relay_cautions(build, timing, supply, loops)
+        return relay_cautions(build, timing, supply, loops, wired)
     return gate_cautions(build)
 
 
@@ -36,7 +36,7 @@ def gate_cautions(build: Build) -> list:
     return out
 
 
-def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list) -> list:
+def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list, wired=None) -> list:
     """Supply and fusing, mains, transfers, coil diodes, start-up states, coil currents, loops."""
     out = []
     volts = supply.coil_voltage_v
@@ -47,7 +47,7 @@ def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list) ->
     out.append("contacts switching mains voltage: only as local electrical codes and licensed practice allow; "
                f"these contacts are rated {', '.join(ratings) or 'as the catalog says'}")
     out.append("changeover contacts break before they make: relay-driven nets float during each transfer; "
-               "the pull-down resistors of this build give them a defined load")
+               "coils and the pull-down resistors of this build give them a defined load")
     if build.support_nets("coil-diode"):
         out.append("the diode across each coil lengthens its release time (figures in the timing assume "
                    "so); a zener in series with the diode restores most of it")
@@ -61,15 +61,32 @@ def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list) ->
         else:
             start = ("powers up at 0 (its relay released); the design leaves the start open: add a "
                      "power-on reset if another start matters")
-        out.append(f"{lt.net}: {start}; hold the clock or enable in each state at least "
-                   f"{per_level * 1000:.1f} ms so the hold contact closes")
-    for net, amps in sorted(supply.input_coil_current_a.items()):
-        out.append(f"input {net} carries {amps * 1000:.0f} mA of coil current when on")
+        out.append(f"{lt.net}: {start}")
+    for seq in build.sequencers:
+        steps = 4 if seq.edge else 3
+        out.append(f"the {'clock' if seq.edge else 'enable'} {seq.control} is stepped through its phases by "
+                   f"{steps} relays in turn: keep it in each state at least {steps * per_level * 1000:.0f} ms "
+                   f"({steps} coil levels of {per_level * 1000:.1f} ms) so every step lands")
+    if build.sequencers:
+        out.append("storage coils are fed through steering diodes (a load path and a hold path each): fit each "
+                   "diode with its cathode towards the coil, as the wiring list says")
+    if wired is not None:
+        for net, amps in sorted(wired.inputs_a.items()):
+            out.append(f"input {net} carries up to {amps * 1000:.0f} mA when on (coils it feeds through contacts "
+                       f"included, over {wired.states} settled states): use a switch rated for it")
+        for text in wired.over:
+            out.append(f"warning: {text}")
+    else:
+        for net, amps in sorted(supply.input_coil_current_a.items()):
+            out.append(f"input {net} carries {amps * 1000:.0f} mA of coil current when on")
     for net, amps, limit in supply.contact_overloads:
         out.append(f"net {net} feeds {amps * 1000:.0f} mA of coils through contacts rated "
                    f"{limit:g} A: split the load or use a heavier relay")
+    storage = {lt.state for lt in build.latches}
+    for seq in build.sequencers:
+        storage |= seq.own_nets()
     for loop in loops:
-        if loop["unloaded"]:
-            out.append("warning: feedback loop through contacts without a defined load on "
-                       + ", ".join(loop["unloaded"]) + " (loop: " + ", ".join(loop["nets"]) + "): it may chatter")
+        if not storage & set(loop["nets"]):
+            out.append("warning: a feedback loop through contacts that is neither storage nor a sequencer: "
+                       + ", ".join(loop["nets"][:8]) + ": it may chatter")
     return out

@@ -22,10 +22,10 @@ is iterative over a topological order of the poles.
 Feedback loops
 --------------
 A loop is a strongly connected set of nets where a net's value depends on
-the nets on its pole's NO and NC terminals and on its relay's coil net.
-Every loop of a relay build must include a defined load on each of its nets
-that feeds a coil; :func:`feedback_loops` lists the loops and the nets in
-each that have none (a warning per such loop goes into the build's cautions).
+the nets on its pole's NO and NC terminals, on its relay's coil net, and on
+the anodes of the diodes feeding it.  :func:`feedback_loops` lists them;
+storage elements are the only loops a build should have (every coil net is
+held at 0 by its coil when nothing feeds it, so no loop floats).
 """
 from __future__ import annotations
 
@@ -83,11 +83,11 @@ def relay_timing(build: Build) -> Timing:
     ``{"net", "part", "pole", "coil", "arrival_s"}``; ``relay`` holds
     ``per_level_s`` (the slowest relay's coil level), ``operate_s``,
     ``release_s`` (with the coil diode), ``bounce_s`` and ``clock_to_q_s``
-    (storage: one coil level of the clock's relay, 0 without storage).
+    (storage: the coil levels from a clock edge to the bit, 0 without storage).
     """
     sw = {ref: (t, w + b) for ref, (t, w, b) in switch_times(build).items()}
     stor_driven, _ = storage_nets(build)
-    drivers = {k.com: k for k in build.contacts if k.com not in stor_driven}
+    drivers = {k.com: k for k in build.contacts if k.com not in stor_driven and k.com not in SUPPLY_NETS}
     worst: dict = {}
     typ: dict = {}
     best: dict = {}
@@ -127,11 +127,9 @@ def relay_timing(build: Build) -> Timing:
         n = src
     path.reverse()
     per_level = max((w for _, w in sw.values()), default=0.0)
-    clock_to_q = 0.0
-    for lt in build.latches:
-        for k in build.contacts:
-            if k.com == lt.state:
-                clock_to_q = max(clock_to_q, sw[k.part_ref][1])
+    # a clock edge reaches a bit through the control's relay, the sequencer's steps to the load bus
+    # (X and Y for a flip-flop, Y for a latch) and the bit's own relay (see mapper.relay_logic)
+    clock_to_q = max(((4 if lt.kind in ("re", "fe") else 3) * per_level for lt in build.latches), default=0.0)
     first = build.parts[0] if build.parts else None
     r = build.target.parts[first.part_id].relay if first else None
     diodes = coil_diode_nets(build)
@@ -153,24 +151,24 @@ def relay_timing(build: Build) -> Timing:
 
 
 def feedback_loops(build: Build) -> list:
-    """Loops through contacts and coils, each ``{"nets": [...], "unloaded": [...]}``.
+    """Loops through contacts, diodes and coils, each ``{"nets": [...]}`` (sorted).
 
-    ``unloaded`` lists the loop's nets that feed a coil and have no defined
-    load (a resistor from the net to ``GND``) -- a warning each.
+    Every storage element is such a loop (a coil fed through its own
+    contact); a loop elsewhere would be a fault of the build.
     """
     g = nx.DiGraph()
     for k in build.contacts:
         coil = build.coils[k.part_ref]
         for x in (k.no, k.nc, coil):
-            if x is not None and x not in SUPPLY_NETS:
+            if x is not None and x not in SUPPLY_NETS and k.com not in SUPPLY_NETS:
                 g.add_edge(x, k.com)
-    loaded = build.support_nets("pull-down")
-    coil_nets = set(build.coils.values())
+    for s in build.support:
+        if s.role == "steering":
+            g.add_edge(s.nets[0], s.nets[1])
     out = []
     for comp in nx.strongly_connected_components(g):
         if len(comp) < 2 and not any(g.has_edge(n, n) for n in comp):
             continue
-        nets = sorted(comp)
-        out.append({"nets": nets, "unloaded": [n for n in nets if n in coil_nets and n not in loaded]})
+        out.append({"nets": sorted(comp)})
     out.sort(key=lambda d: d["nets"])
     return out

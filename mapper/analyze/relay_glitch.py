@@ -8,10 +8,11 @@ outputs.
 """
 from __future__ import annotations
 
-from ..build import Build
+from ..build import SUPPLY_NETS, Build
 from ..logic.function import var_mask
 from ..netlist import Storage
 from ..order import topological_order
+from ..relay_logic import storage_nets
 from ..simulate import simulate
 from .glitch import conditions
 from .glitch_engine import bits, sec
@@ -25,9 +26,11 @@ def _relay_setup(build: Build):
     loaded = build.support_nets("pull-down")
     sw = switch_times(build)
     # relay-driven nets in topological order (fan-ins first); nets on loops (seal-in storage) last
+    inner, _ = storage_nets(build)
     drivers: dict = {}
     for k in build.contacts:
-        drivers.setdefault(k.com, []).append(k)
+        if k.com not in inner and k.com not in SUPPLY_NETS:
+            drivers.setdefault(k.com, []).append(k)
     order, left = topological_order(
         sorted(drivers),
         lambda n: {x for k in drivers[n] for x in (k.no, k.nc, build.coils.get(k.part_ref)) if x != n},

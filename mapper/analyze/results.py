@@ -173,6 +173,10 @@ class Analysis:
     hazard_free: dict | None = None
     stage_s: dict = field(default_factory=dict)
     notes: list = field(default_factory=list)
+    #: relay builds: the switch-level checks of the build as wired (:mod:`mapper.analyze.switch`)
+    wiring_check: dict | None = None
+    #: relay builds: worst currents and coil voltages as wired (:mod:`mapper.analyze.wired`)
+    wired: dict | None = None
 
     @property
     def verified(self) -> str:
@@ -190,6 +194,10 @@ class Analysis:
         if build.fit_stats:
             out["synthesis"] = dict(build.fit_stats)
         out.update(self.glitches.as_dict())
+        if self.wiring_check is not None:
+            out["wiring_check"] = self.wiring_check
+        if self.wired is not None:
+            out["wired"] = self.wired
         if self.stage_s:
             out["stage_s"] = dict(self.stage_s)
         if self.hazard_free is not None:

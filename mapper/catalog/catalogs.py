@@ -293,7 +293,8 @@ def _kind_checks(el, pinout, pid: str, kind: str, slots: list, supply: dict, c: 
         if pinout.findall("slot"):
             c.err(pinout, f"part {pid}: a support part has no slots")
         if role is None:
-            c.err(el, f"part {pid}: a support part needs its role (role=\"{'|'.join(SUPPORT_ROLES)}\")")
+            c.err(el, f"part {pid}: a support part needs its role (role=\"{'|'.join(SUPPORT_ROLES)}\", "
+                      "several separated by spaces)")
     if kind != "support" and role is not None:
         c.err(el, f"part {pid}: only a support part has a role")
     relay_el = el.find("relay")
@@ -405,7 +406,7 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
         input_load=il, output_drive=od, price=price, currency=currency or "",
         price_source=price.source if price is not None else "", relay=relay, family=el.get("family") or "",
         source_file=display, pinout_source=pinout.get("source").strip(), nc_pins=nc,
-        ratings=ratings, role=el.get("role") or "")
+        ratings=ratings, roles=tuple((el.get("role") or "").split()))
 
 
 # ---------------------------------------------------------------------------

@@ -32,7 +32,7 @@ def _part(p: PartDef) -> dict:
             "contact_rating": p.relay.contact_rating},
         "ratings": {k: _fig(v) for k, v in p.ratings.items()},
         "pinout_source": p.pinout_source, "source_file": p.source_file,
-        "role": p.role or None,
+        "role": " ".join(p.roles) or None,
     }
 
 

@@ -19,10 +19,12 @@ __all__ = ["Figure", "CellDef", "SlotDef", "RelayData", "PartDef", "SupportRule"
 SUPPORT_ROLES = {
     "decoupling": "C",    # a capacitor across a chip's supply pins
     "coil-diode": "D",    # a diode across a relay coil (clamps the turn-off spike)
+    "steering": "D",      # a diode that lets two feeds join one coil without feeding each other
     "pull-down": "R",     # a resistor from a relay-driven net to GND (its defined load)
 }
 #: a target's ``<support per=...>`` -> the role its part must have
-ROLE_FOR_PER = {"chip": "decoupling", "coil": "coil-diode", "relay-driven-net": "pull-down"}
+ROLE_FOR_PER = {"chip": "decoupling", "coil": "coil-diode", "relay-driven-net": "pull-down",
+                "steering": "steering"}
 
 DEFAULT_OBJECTIVE = ("parts", "delay", "wires")
 
@@ -107,8 +109,9 @@ class RelayData:
 class PartDef:
     """One orderable part.
 
-    ``kind`` is ``chip``, ``relay`` or ``support``; a support part has a
-    ``role`` (a key of :data:`SUPPORT_ROLES`).  ``ratings`` holds further
+    ``kind`` is ``chip``, ``relay`` or ``support``; a support part lists the
+    ``roles`` it can play (keys of :data:`SUPPORT_ROLES`; a small diode is
+    both a coil diode and a steering diode).  ``ratings`` holds further
     sourced figures by name (``resistance``, ``setup-time``, ...).
     """
 
@@ -135,7 +138,12 @@ class PartDef:
     pinout_source: str = ""
     nc_pins: tuple = ()
     ratings: dict = field(default_factory=dict)
-    role: str = ""
+    roles: tuple = ()
+
+    @property
+    def role(self) -> str:
+        """The first role of a support part (``""`` for other parts)."""
+        return self.roles[0] if self.roles else ""
 
     def slots_for(self, cell: str) -> list:
         """The slots of this part that perform ``cell``, in index order."""

@@ -191,8 +191,8 @@ def _support_rules(root, all_parts: dict, parts: dict, c: Collector) -> list:
         if part.kind != "support":
             c.err(s, f"part {pid} is a {part.kind}, not a support part")
             continue
-        if part.role != ROLE_FOR_PER[per]:
-            c.err(s, f"support part {pid} has role {part.role!r}; one per {per} must have role "
+        if ROLE_FOR_PER[per] not in part.roles:
+            c.err(s, f"support part {pid} has role {' '.join(part.roles)!r}; one per {per} must have role "
                      f"{ROLE_FOR_PER[per]!r}")
             continue
         if (pid, per) in seen_rules:

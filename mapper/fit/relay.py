@@ -29,17 +29,17 @@ import logging
 from collections import Counter
 from dataclasses import dataclass
 
-from ..build import Build, ContactInstance, PartInstance
+from ..build import SUPPLY_NETS, Build, ContactInstance, PartInstance
 from ..catalog.model import Target
 from ..errors import InternalError, UsageError
 from ..logic.aig import AIG, from_netlist
 from ..netlist import Netlist
-from ..relay_logic import RelayLatch
+from ..relay_logic import RelaySequencer, RelayStorage, sequencer_for, storage_nets
 from .contacts import OPEN, RAIL, synthesize
 from .support import add_support
 from .windows import Window, cone, dfs_order, lit_table, window_tables, windows
 
-__all__ = ["fit_relays", "relay_carriers", "WINDOW_LEAVES"]
+__all__ = ["fit_relays", "relay_carriers", "redrive", "WINDOW_LEAVES"]
 
 log = logging.getLogger(__name__)
 
@@ -98,7 +98,6 @@ class _Context:
     inverted: set
     inv_names: dict
     latch_vars: set
-    ctrl_poles: Counter
     design_name: dict
     state_net: dict
     net_of_var: dict
@@ -110,6 +109,7 @@ class _Context:
 class _Plan:
     poles: list
     latches: list
+    sequencers: list
     output_nets: dict
     reamp: list
     windows: list
@@ -140,16 +140,7 @@ class _Work:
             tlist = [(f"{kind}:{name}", lit_table(val, lit, full), None) for kind, name, lit in ctx.want]
         else:
             tlist = [(f"var:{v}", val[v], None) for v in win.targets]
-        extra: dict = {}
-        for j, v in enumerate(leaves):
-            k = (1 if v in ctx.latch_vars else 0) + (0 if single else ctx.ctrl_poles.get(2 * v, 0))
-            if k:
-                extra[("leaf", j)] = k   # hold contacts (and clock poles in windows)
-        if single:
-            for latch in g.latches:
-                extra[("target", f"control:{latch.name}")] = 2 if latch.kind in ("re", "fe") else 1
-                if latch.kind in ("re", "fe"):
-                    extra[("relay", f"master:{latch.name}")] = 1
+        extra = self._extra_poles(win, single)
         roots_for_order = [lit >> 1 for _, _, lit in ctx.want] if single else win.targets
         res = synthesize(n, tlist, {v: val[v] for v in win.nodes}, ctx.P, extra=extra,
                          order=dfs_order(g, leaves, roots_for_order), effort=ctx.effort,
@@ -161,6 +152,48 @@ class _Work:
                   w_index, n, res.cost, res.evaluations, res.seconds)
         self._name_nets(res, leaves, single)
         return True
+
+    def _extra_poles(self, win: Window, single: bool) -> dict:
+        """Poles storage needs beyond the window's networks, for the relay count (see :mod:`mapper.relay_logic`):
+        each slave's hold contact, each data net's load contact, the sequencers' contacts on their control
+        nets, and (once, in one window over everything) the masters' and the sequencers' own relays."""
+        ctx, g = self.ctx, self.ctx.g
+        extra: dict = {}
+        leaf_index = {v: j for j, v in enumerate(win.leaves)}
+        targets = set(win.targets)
+
+        def add(key, k):
+            extra[key] = extra.get(key, 0) + k
+
+        def on_lit(lit, k, name):
+            v = lit >> 1
+            if v == 0:
+                return  # a constant: no coil
+            if single:
+                add(("target", name), k)
+            elif v in leaf_index:
+                add(("leaf", leaf_index[v]), k)
+            elif v in targets:
+                add(("target", f"var:{v}"), k)
+
+        for v in ctx.latch_vars:
+            if v in leaf_index:
+                add(("leaf", leaf_index[v]), 1)   # the slave's hold contact
+        seen = set()
+        for latch in g.latches:
+            edge = latch.kind in ("re", "fe")
+            on_lit(latch.next ^ (1 if latch.var in ctx.inverted else 0), 1, f"d:{latch.name}")
+            key = (latch.control, latch.kind)
+            if key not in seen:
+                seen.add(key)
+                on_lit(latch.control, 3 if edge else 2, f"control:{latch.name}")  # the sequencer's CK poles
+                if single:
+                    for rel, k in ((("x", 1), ("y", 1), ("z", 1), ("w", 1)) if edge else
+                                   (("x", 1), ("y", 2), ("w", 1))):
+                        add(("relay", f"seq:{key}:{rel}"), k)
+            if single and edge:
+                add(("relay", f"master:{latch.name}"), 2)
+        return extra
 
     def _name_nets(self, res, leaves: list, single: bool) -> None:
         """Net names for a window's nodes (design names where known), its poles, and its results."""
@@ -229,37 +262,43 @@ class _Work:
                 out[name] = "GND" if net is None else net
         return out
 
-    def latches(self) -> list:
-        """Seal-in storage poles for every storage element (see :mod:`mapper.relay_logic`)."""
+    def storage(self) -> tuple[list, list]:
+        """Sequencers and storage elements with all their poles (see :mod:`mapper.relay_logic`)."""
         ctx, names, poles = self.ctx, self.names, self.poles
+        seqs: dict = {}
         out = []
         for latch in ctx.g.latches:
             d_net = self.wanted_net[("d", latch.name)]
             c_net = self.wanted_net[("control", latch.name)]
             if c_net is None or c_net == "VCC":
                 raise UsageError(f"storage element {latch.name} has a constant clock or enable")
-            state = ctx.state_net[latch.name]
-            hold = names.fresh(f"{latch.name}_hold")
-            master = mhold = None
-            if latch.kind in ("re", "fe"):
-                master = names.fresh(f"{latch.name}_master")
-                mhold = names.fresh(f"{latch.name}_master_hold")
-                if latch.kind == "re":   # master transparent while the clock is 0, slave while it is 1
-                    poles.append((master, c_net, mhold, d_net))
-                    poles.append((state, c_net, master, hold))
-                else:
-                    poles.append((master, c_net, d_net, mhold))
-                    poles.append((state, c_net, hold, master))
-                poles.append((mhold, master, "VCC", None))
-            elif latch.kind == "ah":
-                poles.append((state, c_net, d_net, hold))
-            else:
-                poles.append((state, c_net, hold, d_net))
-            poles.append((hold, state, "VCC", None))
+            key = (c_net, latch.kind)
+            seq = seqs.get(key)
+            if seq is None:
+                seq = seqs[key] = _sequencer(c_net, latch.kind, names)
+                poles.extend(seq.poles())
+            edge = latch.kind in ("re", "fe")
+            paths = tuple(names.fresh(f"{latch.name}_{tag}")
+                          for tag in (("load", "hold", "slave_load", "slave_hold") if edge else ("load", "hold")))
             inv = latch.var in ctx.inverted
-            out.append(RelayLatch(latch.name, latch.kind, d_net, c_net, 1 if inv else 0, state, hold,
-                                  master, mhold, inv, latch.init))
-        return out
+            lt = RelayStorage(latch.name, latch.kind, d_net, c_net, 1 if inv else 0, ctx.state_net[latch.name], paths,
+                              names.fresh(f"{latch.name}_master") if edge else None, inv, latch.init)
+            poles.extend(lt.poles(seq))
+            out.append(lt)
+        return list(seqs.values()), out
+
+
+def _sequencer(control: str, kind: str, names: _Names) -> RelaySequencer:
+    """A sequencer with fresh net names for the phases of ``control`` (see :mod:`mapper.relay_logic`)."""
+    tag = f"{control}_{kind}"
+
+    def fresh(what):
+        return names.fresh(f"{tag}_{what}")
+
+    if kind in ("re", "fe"):
+        return RelaySequencer(control, kind, fresh("x"), fresh("y"), fresh("lm"), fresh("hm"), (),
+                              fresh("z"), fresh("ls"), fresh("hs"))
+    return RelaySequencer(control, kind, fresh("x"), fresh("y"), fresh("lm"), fresh("hm"), (fresh("ys"),))
 
 
 def _plan(ctx: _Context, wins: list, single: bool, names: _Names, bound) -> _Plan | None:
@@ -272,10 +311,10 @@ def _plan(ctx: _Context, wins: list, single: bool, names: _Names, bound) -> _Pla
     if not single:
         work.polarities()
     output_nets = work.output_nets()
-    latches = work.latches()
+    sequencers, latches = work.storage()
     per_coil = Counter(coil for _, coil, _, _ in work.poles)
     relays = sum(-(-k // ctx.P) for k in per_coil.values())
-    return _Plan(work.poles, latches, output_nets, work.reamp, wins, single, work.stats, names, relays)
+    return _Plan(work.poles, latches, sequencers, output_nets, work.reamp, wins, single, work.stats, names, relays)
 
 
 # ---------------------------------------------------------------------------
@@ -321,13 +360,10 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
     for latch in g.latches:
         want.append(("d", latch.name, latch.next ^ (1 if latch.var in inverted else 0)))
         want.append(("control", latch.name, latch.control))
-    ctrl_poles: Counter = Counter()
-    for latch in g.latches:
-        ctrl_poles[latch.control] += 2 if latch.kind in ("re", "fe") else 1
     latch_vars = {latch.var for latch in g.latches}
 
     leaves_all = list(g.inputs) + [latch.var for latch in g.latches]
-    ctx = _Context(g, want, inverted, inv_names, latch_vars, ctrl_poles, design_name, state_net,
+    ctx = _Context(g, want, inverted, inv_names, latch_vars, design_name, state_net,
                    dict(net_of_var), P, effort)
     need_and = sorted({lit >> 1 for _, _, lit in want if (lit >> 1) and g.is_and(lit >> 1)})
     # windows cut at nets of many fan-outs: always possible, never far from the templates;
@@ -352,8 +388,9 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
     b = Build(design.name, target, list(design.inputs), list(design.outputs))
     b.output_nets = best.output_nets
     b.latches = best.latches
+    b.sequencers = best.sequencers
     _pack(b, target, carriers, list(best.poles))
-    add_support(b)
+    add_support(b, _steering(b))
     b.notes.append(
         "contact networks from reduced ordered decision diagrams built as relay contacts "
         "(Shannon, Trans. AIEE 57, 1938 and BSTJ 28, 1949; Lee, BSTJ 38, 1959; Akers, IEEE Trans. "
@@ -370,6 +407,21 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
         "re_amplification_points": best.reamp,
     }
     return b
+
+
+def _steering(b: Build) -> list:
+    """``(anode, cathode), purpose`` of every steering diode the build's storage needs."""
+    out = []
+    for seq in b.sequencers:
+        for anode, cathode in seq.diodes():
+            out.append(((anode, cathode), f"steering for the sequencer of {seq.control}: {anode} holds the "
+                                          f"coil on {cathode} without being fed back"))
+    for lt in b.latches:
+        seq = sequencer_for(b, lt)
+        for anode, cathode in lt.diodes(seq):
+            out.append(((anode, cathode), f"steering for {lt.net}: lets {anode} feed the coil on {cathode} "
+                                          "without being fed back"))
+    return out
 
 
 # ---------------------------------------------------------------------------
@@ -413,3 +465,52 @@ def _pack(b: Build, target, carriers: list, poles: list) -> None:
                 com, no, nc = group[i]
                 b.contacts.append(ContactInstance(ref, pole, com, no, nc))
                 i += 1
+
+
+# ---------------------------------------------------------------------------
+# repeaters
+def redrive(b: Build, nets: list) -> Build:
+    """``b`` with a repeater relay on each of ``nets``: its coil on the net, a make contact from the rail
+    feeding a new net that takes over every contact and coil the net fed (storage's own poles excepted).
+
+    A long chain of contacts, or many coils on one chain, loses voltage on
+    the way (see :mod:`mapper.analyze.wired`); the repeater starts the rest
+    of the chain afresh from the supply.  The new net has the old one's
+    value, so the build does the same logic (the caller proves it again);
+    it costs a relay and a coil level.  Nets private to storage and the rails
+    are left alone.
+    """
+    inner, _ = storage_nets(b)
+    keep = {(lt_pole) for seq in b.sequencers for lt_pole in seq.poles()}
+    for lt in b.latches:
+        keep.update(lt.poles(sequencer_for(b, lt)))
+    names = _Names(list(b.inputs) + list(b.outputs) + [n for k in b.contacts for n in (k.com, k.no, k.nc) if n]
+                   + list(b.coils.values()))
+    poles = [(k.com, b.coils[k.part_ref], k.no, k.nc) for k in b.contacts]
+    done = []
+    for net in nets:
+        if net in inner or net in SUPPLY_NETS:
+            continue
+        fresh = names.fresh(f"{net}_rep")
+        moved = []
+        for com, coil, no, nc in poles:
+            if (com, coil, no, nc) in keep:
+                moved.append((com, coil, no, nc))
+                continue
+            moved.append((com, fresh if coil == net else coil, fresh if no == net else no, fresh if nc == net else nc))
+        if moved == poles:
+            continue
+        poles = moved + [(fresh, net, "VCC", None)]
+        done.append(net)
+    if not done:
+        return b
+    out = Build(b.design, b.target, list(b.inputs), list(b.outputs))
+    out.output_nets = dict(b.output_nets)
+    out.latches, out.sequencers = b.latches, b.sequencers
+    out.notes = list(b.notes) + [f"repeater relays drive afresh what {', '.join(done)} fed (the voltage left at "
+                                 "the end of the chain was too low)"]
+    out.fit_stats = dict(b.fit_stats)
+    _pack(out, b.target, relay_carriers(b.target), poles)
+    add_support(out, _steering(out))
+    return out
+

@@ -53,7 +53,13 @@ net of its relay, ``NO`` and ``NC`` on the nets of its terminals, ``COM``
 on its common net.  A terminal left unused reads 0 (``1'b0``): in the build
 a relay-driven net that no closed contact feeds is held at 0 by its load.
 The model's armature moves only on a definite 1 at the coil and starts
-released, so seal-in latches power up released, as the build assumes.
+released, so storage powers up released, as the build assumes.  A pole fed
+at its common terminal (a storage sequencer's changeover, see
+:mod:`mapper.relay_logic`) is an instance of ``<cell>_fed``, which drives
+its ``NO`` and ``NC`` terminals.  A steering diode is an ``assign`` from
+anode to cathode (one way), and a net with more than one driver -- a coil
+fed through several diodes, a coil net fed by several contacts -- is a
+``wor`` (wired OR), as the contacts and diodes join it.
 
 Storage cells carry a parameter ``INIT`` (the power-up value the design
 declares; ``1'bx`` when it declares none).  Storage built from gates (a
@@ -145,10 +151,13 @@ class Port:
     #: for a vector: bit index -> net name; for a scalar: {None: net}
     bits: dict = field(default_factory=dict)
 
+    #: ``"wor "`` for an output with several drivers (contacts and diodes joined on it)
+    net_type: str = ""
+
     @property
     def decl(self) -> str:
         rng = f"[{self.range[0]}:{self.range[1]}] " if self.range else ""
-        return f"{self.direction} {rng}{self.name}"
+        return f"{self.direction} {self.net_type}{rng}{self.name}"
 
 
 @dataclass
@@ -181,7 +190,25 @@ def _all_nets(b: Build) -> list:
         nets.extend(n for n in (k.com, k.no, k.nc) if n is not None)
     nets.extend(b.coils.values())
     nets.extend(b.output_nets.values())
+    for s in _steering(b):
+        nets.extend(s.nets)
     return list(dict.fromkeys(nets))
+
+
+def _steering(b: Build) -> list:
+    return [s for s in b.support if s.role == "steering"]
+
+
+def _driven_often(b: Build) -> set:
+    """Nets with more than one driver (several contacts or diodes join them): written as ``wor``."""
+    count: dict = {}
+    for k in b.contacts:
+        for net in ((k.no, k.nc) if k.com in RAILS else (k.com,)):
+            if net is not None and net not in RAILS:
+                count[net] = count.get(net, 0) + 1
+    for s in _steering(b):
+        count[s.nets[1]] = count.get(s.nets[1], 0) + 1
+    return {n for n, c in count.items() if c > 1}
 
 
 def _vector_groups(ports_in: list, ports_out: list, all_nets: list) -> dict:
@@ -369,17 +396,19 @@ def _instances(b: Build, nm: VerilogNames) -> list:
                     if role == "coil":
                         role_net[pin] = coil
                 net_of = {"COM": it.com, "NO": it.no, "NC": it.nc}
+                fed = it.com in RAILS   # fed at the common terminal: it drives NO and NC
                 pins, numbers = [], []
                 for pin in cd.pins:
                     net = role_net.get(pin, net_of.get(pin))
-                    if pin == cd.output:
+                    drives = (pin != cd.output and pin not in role_net) if fed else pin == cd.output
+                    if drives:
                         pins.append((pin, nm.ref[net] if net is not None else ""))
                     else:
                         pins.append((pin, conn(net)))
                     num = slot.pins.get(pin)
                     label = f"{pin}{it.pole}" if pin in net_of else ("COIL+" if pin in role_net else pin)
                     numbers.append(f"{label}={num}")
-                lines.append({"module": cell_module(slot.cell), "params": "",
+                lines.append({"module": cell_module(slot.cell) + ("_fed" if fed else ""), "params": "",
                               "name": nm.instances[("pole", it.part_ref, it.pole)],
                               "what": f"pole {it.pole}, {slot.cell}" + ("" if it.com else f" ({cd.output} open)"),
                               "pins": pins, "numbers": " ".join(numbers)})
@@ -396,9 +425,15 @@ def build_text(b: Build, analysis: Analysis, cells_file: str = CELLS_FILE) -> st
                         | {n for _, _, _, n in nm.assigns if n in RAILS})
     power_up = [(nm.ref.get(g.q, g.q), g.init, g.template or g.kind) for g in b.storage_groups.values()
                 if g.init in (0, 1)]
-    return render("build.v.j2", b=b, verified=analysis.verified, nm=nm, version=__version__, cells_file=cells_file,
+    wired = _driven_often(b)
+    for p in nm.ports:
+        if p.direction == "output" and any(n in wired for n in p.bits.values()):
+            p.net_type = "wor "
+    diodes = [(nm.ref[s.nets[1]], nm.ref[s.nets[0]], s.ref) for s in _steering(b)]
+    return render("build.v.j2", b=b, verified=analysis.verified, nm=nm, diodes=diodes, version=__version__,
+                  cells_file=cells_file,
                   rails=[(RAILS[r], r) for r in used_rails], power_up=power_up,
-                  wires=[nm.ref[w] for w in nm.wires], parts=_instances(b, nm),
+                  wires=[("wor" if w in wired else "wire", nm.ref[w]) for w in nm.wires], parts=_instances(b, nm),
                   renamed=sorted(nm.renamed.items()))
 
 
@@ -455,9 +490,28 @@ def _model(cd) -> dict:
     return m
 
 
-def cells_text(cells) -> str:
-    """``cells.v``: a behavioural module for each :class:`~mapper.catalog.CellDef` in ``cells``."""
-    return render("cells.v.j2", models=[_model(cd) for cd in cells], version=__version__)
+def cells_text(cells, fed=()) -> str:
+    """``cells.v``: a behavioural module for each :class:`~mapper.catalog.CellDef` in ``cells``, and a
+    ``<cell>_fed`` model (driven from the common terminal) for each relay cell named in ``fed``."""
+    models = [_model(cd) for cd in cells]
+    for cd in cells:
+        if cd.name in fed:
+            m = _model(cd)
+            sides = [p for p in cd.inputs if cd.roles.get(p) != "coil"]
+            m.update(kind="relay_fed", name=m["name"] + "_fed", source=cd.output, sides=sides,
+                     inputs=[p for p in cd.inputs if p not in sides] + [cd.output], outputs=sides)
+            models.append(m)
+    return render("cells.v.j2", models=models, version=__version__)
+
+
+def fed_cells(b: Build) -> set:
+    """Relay cells of the poles fed at their common terminal."""
+    out: set = set()
+    for k in b.contacts:
+        if k.com in RAILS:
+            pd = b.part_def(k.part_ref)
+            out.update(s.cell for s in pd.slots if s.index == k.pole)
+    return out
 
 
 def used_cells(b: Build) -> list:
@@ -473,7 +527,7 @@ def used_cells(b: Build) -> list:
 
 def write_cells(b: Build, path, protect=()) -> None:
     """Write the cell models of ``b`` (``cells.v``) to ``path`` (atomically)."""
-    atomic_write(path, cells_text(used_cells(b)), protect=protect)
+    atomic_write(path, cells_text(used_cells(b), fed_cells(b)), protect=protect)
 
 
 def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:

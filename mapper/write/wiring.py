@@ -236,6 +236,10 @@ def _relay_pins(b: Build, ref: str, pd, pins: _Pins) -> None:
         elif name == "COIL-":
             pins.set(num, "GND", "coil", "return")
     contacts = {k.pole: k for k in b.contacts if k.part_ref == ref}
+    poles = {s.index for s in pd.slots}
+    for k in contacts.values():
+        if k.pole not in poles:
+            raise InternalError(f"{ref} ({pd.id}) has no pole {k.pole}, but the build wires one -- a bug in netfit")
     for s in pd.slots:
         k = contacts.get(s.index)
         for term in ("COM", "NO", "NC"):

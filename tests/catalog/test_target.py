@@ -274,7 +274,7 @@ def test_relay_targets(name, part, poles):
     assert t.supply_voltage.value == 5.0
     assert part.replace("5V", "12V") in t.available  # the 12 V variant is in the catalog
     rules = {(r.part, r.per) for r in t.support_rules}
-    assert rules == {("D-1N4148", "coil"), ("R-10K", "relay-driven-net")}
+    assert rules == {("D-1N4148", "coil"), ("R-10K", "relay-driven-net"), ("D-SS14", "steering")}
     assert t.parts["R-10K"].ratings["resistance"].value == 1e4
 
 
