@@ -31,9 +31,9 @@ __all__ = ["parse_quantity", "si", "UNIT_WORDS"]
 #: what each unit measures, for messages
 UNIT_WORDS = {"s": "a time (s)", "A": "a current (A)", "V": "a voltage (V)", "ohm": "a resistance (ohm)",
               "UL": "a number of unit loads (UL)", "": "a plain number", "W": "a power (W)",
-              "F": "a capacitance (F)"}
-_PREFIX = {"": 0, "p": -12, "n": -9, "u": -6, "µ": -6, "m": -3, "k": 3, "M": 6}  # powers of ten
-_QTY = re.compile(r"^\s*([0-9]+(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?)\s?(p|n|u|µ|m|k|M)?(s|A|V|W|F|ohm|Ω|UL)?\s*$")
+              "F": "a capacitance (F)", "Hz": "a frequency (Hz)"}
+_PREFIX = {"": 0, "p": -12, "n": -9, "u": -6, "µ": -6, "m": -3, "k": 3, "M": 6, "G": 9}  # powers of ten
+_QTY = re.compile(r"^\s*([0-9]+(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?)\s?(p|n|u|µ|m|k|M|G)?(s|A|V|W|F|ohm|Ω|UL|Hz)?\s*$")
 _SCALES = ((1e6, "M"), (1e3, "k"), (1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p"))
 
 

@@ -149,6 +149,7 @@ class _Pair:
     la: int
     lb: int
     dc: int = 0  # literal where the difference does not count (0: nowhere)
+    flip: int = 0  # 1: B's net is compared inverted (a storage kind mirrored on the inverse control)
 
 
 # -- port matching ---------------------------------------------------------
@@ -176,13 +177,21 @@ def _match_ports(a: Netlist, b: Netlist, notes: list) -> bool:
     return ok
 
 
+#: storage kinds that are one another on the inverted control (a latch open while its enable is low is
+#: a latch open while the inverse is high; a falling-edge flip-flop a rising-edge one on the inverse)
+_MIRROR = {"ah": "al", "al": "ah", "re": "fe", "fe": "re"}
+
+
 def _match_storage(a: Netlist, b: Netlist, notes: list) -> tuple[bool, bool]:
     """(kinds and controls agree, initial values agree)."""
     kinds_ok = init_ok = True
     sb = b.storage()
     for name, x in a.storage().items():
         y = sb[name]
-        if x.kind != y.kind:
+        if _MIRROR.get(x.kind) == y.kind:
+            notes.append(f"storage element '{name}' is of kind '{x.kind}' in A and '{y.kind}' in B: the same "
+                         "only where B's control is the inverse of A's (compared so)")
+        elif x.kind != y.kind:
             notes.append(f"storage element '{name}' is of kind '{x.kind}' in A but '{y.kind}' in B")
             kinds_ok = False
         elif (x.control is None) != (y.control is None):
@@ -224,7 +233,10 @@ def _build_miter(a: Netlist, b: Netlist, notes: list):
         y = sb[name]
         pairs.append(_Pair("next-state", name, x.d, y.d, la[x.d], lb[y.d]))
         if x.kind != "as" and x.control is not None and y.control is not None:
-            pairs.append(_Pair("control", name, x.control, y.control, la[x.control], lb[y.control]))
+            # a mirrored kind on the inverted control is the same storage
+            flip = 1 if x.kind != y.kind else 0
+            pairs.append(_Pair("control", name, x.control, y.control, la[x.control], lb[y.control] ^ flip,
+                               flip=flip))
     return g, pairs, la, lb
 
 
@@ -258,7 +270,7 @@ def _replay(a: Netlist, b: Netlist, pairs: list, inputs: dict, state: dict) -> l
     vdc = simulate(a.exdc, inputs, 1, state) if a.exdc is not None else {}
     differs = []
     for p in pairs:
-        x, y = va[p.a_net] & 1, vb[p.b_net] & 1
+        x, y = va[p.a_net] & 1, (vb[p.b_net] ^ p.flip) & 1
         if x == y:
             continue
         if p.kind == "output" and p.dc and vdc.get(p.name, 0) & 1:

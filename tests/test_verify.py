@@ -313,8 +313,29 @@ def test_initial_values():
 
 
 def test_storage_kinds_must_agree():
+    # a falling-edge counter is not a rising-edge one on the same clock: the controls differ once the
+    # mirrored kind is read on the inverse control (common practice: fe on c is re on not-c)
     res = check_equivalence(counter(3), counter(3, kind="fe"))
-    assert not res.equivalent and res.method == "storage"
+    assert not res.equivalent
+    assert any(d["kind"] == "control" for d in res.counterexample["differs"])
+    assert any("inverse" in n for n in res.notes)
+    # a latch open while high on the inverse of an enable is one open while low on the enable itself
+    from mapper.logic.function import Function
+    from mapper.netlist import Netlist
+
+    def latch(kind, inverted):
+        n = Netlist("l")
+        for i in ("d", "en"):
+            n.add_input(i)
+        ctl = "en"
+        if inverted:
+            n.add_logic("en_n", ["en"], Function.from_table(1, 0b01))
+            ctl = "en_n"
+        n.add_storage("q", "d", kind, ctl, 0)
+        n.add_output("q")
+        return n
+    assert check_equivalence(latch("al", False), latch("ah", True)).equivalent
+    assert not check_equivalence(latch("al", False), latch("ah", False)).equivalent
 
 
 # -- the command ---------------------------------------------------------------

@@ -29,9 +29,14 @@ from .wired import wired_figures
 __all__ = ["analyze_build", "build_timing", "build_glitches"]
 
 
-def build_timing(build: Build) -> Timing:
-    """Worst and best paths of any build (coil levels for relays, catalog delays for gates)."""
-    return relay_timing(build) if build.is_relay else static_timing(build)
+def build_timing(build: Build, clock_hz: float | None = None) -> Timing:
+    """Worst and best paths of any build (coil levels for relays, catalog delays for gates).
+
+    ``clock_hz`` is the clock the builder means to run: hold margins and
+    pulse widths are checked at it (else at the fastest safe clock).
+    """
+    period = 1.0 / clock_hz if clock_hz else None
+    return relay_timing(build, period) if build.is_relay else static_timing(build, period)
 
 
 def build_glitches(build: Build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
@@ -50,10 +55,15 @@ def build_glitches(build: Build, multi: bool = False, max_transitions: int = BUI
     return Glitches(rg["hazards"], len(rg["hazards"]), 0, rg["search"], relay_transfers(build))
 
 
-def analyze_build(build: Build, proof: Proof, glitches: Glitches | None = None) -> Analysis:
-    """Every analysis of ``build``: timing, supply, glitches (unless given), relay loops, cautions."""
-    timing = build_timing(build)
-    supply = supply_current(build)
+def analyze_build(build: Build, proof: Proof, glitches: Glitches | None = None,
+                  clock_hz: float | None = None) -> Analysis:
+    """Every analysis of ``build``: timing, supply, glitches (unless given), relay loops, cautions.
+
+    ``clock_hz`` is the clock rate the builder means to run (timing checks and
+    the switching supply current use it).
+    """
+    timing = build_timing(build, clock_hz)
+    supply = supply_current(build, clock_hz)
     loops = feedback_loops(build) if build.is_relay else []
     if glitches is None:
         glitches = build_glitches(build)

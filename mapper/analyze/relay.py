@@ -74,7 +74,7 @@ def switch_times(build: Build) -> dict:
     return out
 
 
-def relay_timing(build: Build) -> Timing:
+def relay_timing(build: Build, period_s: float | None = None) -> Timing:
     """Timing figures of a relay build (see the module docstring).
 
     ``delay_s`` is the worst arrival at an output or storage data/control

@@ -20,7 +20,17 @@ __all__ = ["ClockFigures", "RelayFigures", "Timing", "Supply", "Glitches", "Proo
 
 @dataclass
 class ClockFigures:
-    """Clocked figures of a sequential gate build (see :mod:`mapper.analyze.timing`)."""
+    """Clocked figures of a sequential build (see :mod:`mapper.analyze.timing` and :mod:`mapper.analyze.relay`).
+
+    ``period_min_s`` is the shortest safe period (``inf`` when none works),
+    ``limited_by`` what sets it, ``path`` the storage-to-storage path that
+    does.  Hold margins and pulse widths are checked at ``checked_period_s``
+    (the clock asked for, ``requested_period_s``, else the shortest period):
+    ``hold_violations`` and ``pulse_violations`` list what fails there.
+    ``latches`` lists latches that borrow time (data passing while open).
+    Relay builds add ``high_min_s`` and ``low_min_s``: how long the clock
+    must stay high and low for every relay of the storage to land.
+    """
 
     period_min_s: float
     max_hz: float | None
@@ -30,12 +40,36 @@ class ClockFigures:
     input_setup_s: float
     clock_to_output_s: float | None
     notes: list = field(default_factory=list)
+    limited_by: str = ""
+    pulse_width_s: float = 0.0
+    checked_period_s: float = 0.0
+    hold_violations: list = field(default_factory=list)
+    pulse_violations: list = field(default_factory=list)
+    latches: list = field(default_factory=list)
+    requested_period_s: float | None = None
+    high_min_s: float | None = None
+    low_min_s: float | None = None
+
+    @property
+    def violations(self) -> int:
+        """Hold and pulse-width violations at the checked period, and a requested clock too fast."""
+        fast = self.requested_period_s is not None and self.requested_period_s < self.period_min_s * (1 - 1e-9)
+        return len(self.hold_violations) + len(self.pulse_violations) + int(fast)
 
     def as_dict(self) -> dict:
-        return {"clock_period_min_s": self.period_min_s, "clock_max_hz": self.max_hz, "clock_path": self.path,
-                "hold_slack_s": self.hold_slack_s, "hold_path": self.hold_path,
-                "input_setup_s": self.input_setup_s, "clock_to_output_s": self.clock_to_output_s,
-                "clock_notes": list(self.notes)}
+        finite = self.period_min_s if self.period_min_s != float("inf") else None
+        out = {"clock_period_min_s": finite, "clock_max_hz": self.max_hz, "clock_path": self.path,
+               "hold_slack_s": self.hold_slack_s, "hold_path": self.hold_path,
+               "input_setup_s": self.input_setup_s, "clock_to_output_s": self.clock_to_output_s,
+               "clock_notes": list(self.notes), "clock_limited_by": self.limited_by,
+               "clock_pulse_min_s": self.pulse_width_s, "clock_checked_period_s": self.checked_period_s,
+               "hold_violations": self.hold_violations, "pulse_violations": self.pulse_violations,
+               "latches_borrowing": self.latches, "clock_requested_period_s": self.requested_period_s,
+               "timing_violations": self.violations}
+        if self.high_min_s is not None:
+            out["clock_high_min_s"] = self.high_min_s
+            out["clock_low_min_s"] = self.low_min_s
+        return out
 
 
 @dataclass
@@ -105,13 +139,20 @@ class Supply:
     current_a: float
     current_typ_a: float
     basis: str = ""
+    #: with nothing switching (gate builds: the quiescent figures; relay builds: every coil on, as ``current_a``)
+    static_a: float | None = None
+    #: the switching rate ``current_a`` assumes (gate builds)
+    switching_hz: float | None = None
     coil_current_a: float | None = None
     coil_voltage_v: float | None = None
     input_coil_current_a: dict = field(default_factory=dict)
     contact_overloads: list = field(default_factory=list)
 
     def as_dict(self, relay: bool) -> dict:
-        out: dict = {"supply_current_a": self.current_a, "supply_current_typ_a": self.current_typ_a}
+        out: dict = {"supply_current_a": self.current_a, "supply_current_typ_a": self.current_typ_a,
+                     "supply_current_static_a": self.static_a, "supply_basis": self.basis}
+        if self.switching_hz is not None:
+            out["supply_switching_hz"] = self.switching_hz
         if relay:
             out.update({"coil_current_a": self.coil_current_a, "coil_voltage_v": self.coil_voltage_v,
                         "input_coil_current_a": self.input_coil_current_a,

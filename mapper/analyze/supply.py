@@ -2,9 +2,15 @@
 
 Gate builds
 -----------
-Each chip draws its quiescent current plus a per-unit figure for every used
-section (the catalogs' ``per-unit`` current).  The worst case counts every
-used section active; the typical figure half of them.
+Each chip draws its quiescent current, plus for every used section its
+``per-unit`` current -- the catalogs give it for one section switching at
+:data:`CATALOG_HZ` (1 MHz).  A CMOS section draws in proportion to how
+often it switches (``I = C_pd · V · f``: common practice, generic 74HC
+datasheets), so the figure is scaled to the rate asked for (``--clock``):
+the worst case counts every used section switching at that rate, the
+typical figure half of them.  Without a rate the catalog's 1 MHz is taken
+and ``basis`` says so.  ``static_a`` is the current with nothing switching
+(the quiescent figures alone; for TTL parts that is all of it).
 
 Relay builds
 ------------
@@ -23,32 +29,46 @@ from collections import Counter
 
 from ..build import SUPPLY_NETS, Build
 from ..simulate import simulate
+from ..units import si
 from .results import Supply
 
-__all__ = ["supply_current", "gate_supply", "relay_supply", "SUPPLY_PATTERNS"]
+__all__ = ["supply_current", "gate_supply", "relay_supply", "SUPPLY_PATTERNS", "CATALOG_HZ"]
 
 #: random patterns simulated for the typical supply current of a relay build
 SUPPLY_PATTERNS = 4096
+#: the switching rate the catalogs' per-unit currents are given at
+CATALOG_HZ = 1e6
 
 
-def supply_current(build: Build) -> Supply:
+def supply_current(build: Build, clock_hz: float | None = None) -> Supply:
     """The supply figures of any build (:func:`relay_supply` or :func:`gate_supply`)."""
-    return relay_supply(build) if build.is_relay else gate_supply(build)
+    return relay_supply(build) if build.is_relay else gate_supply(build, clock_hz)
 
 
-def gate_supply(build: Build) -> Supply:
-    """Quiescent current per chip plus its per-unit figure per used section (see the module docstring)."""
-    worst = typ = 0.0
+def gate_supply(build: Build, clock_hz: float | None = None) -> Supply:
+    """Quiescent current per chip plus its per-unit figure per used section, scaled to ``clock_hz``.
+
+    See the module docstring; ``clock_hz`` ``None`` takes the catalogs' own
+    rate (:data:`CATALOG_HZ`) and says so in ``basis``.
+    """
+    worst = typ = static = 0.0
+    rate = clock_hz if clock_hz is not None else CATALOG_HZ
+    scale = rate / CATALOG_HZ
     per_part = Counter(c.part_ref for c in build.cells)
     for p in build.parts:
         pd = build.target.parts[p.part_id]
         q = pd.current_quiescent.value if pd.current_quiescent is not None else 0.0
-        u = pd.current_per_unit.value if pd.current_per_unit is not None else 0.0
+        u = pd.current_per_unit.value * scale if pd.current_per_unit is not None else 0.0
         used = per_part[p.ref]
+        static += q
         worst += q + u * used
         typ += q + u * used / 2
-    return Supply(round(worst, 9), round(typ, 9),
-                  basis="every used section active at the catalogs' per-section figure")
+    if clock_hz is None:
+        basis = ("every used section switching at 1 MHz, the rate the catalogs' per-section figures are given "
+                 "at (give the clock rate to scale it)")
+    else:
+        basis = f"every used section switching at {si(clock_hz, 'Hz')} (the clock rate given)"
+    return Supply(round(worst, 9), round(typ, 9), basis=basis, static_a=round(static, 9), switching_hz=rate)
 
 
 def _one_fractions(build: Build, nets: set, patterns: int, seed: int) -> dict:
@@ -104,6 +124,7 @@ def relay_supply(build: Build, patterns: int = SUPPLY_PATTERNS, seed: int = 0) -
     return Supply(
         round(worst, 9), round(typ, 9),
         basis="every coil energized and every load resistor at the supply voltage",
+        static_a=round(worst, 9),
         coil_current_a=round(coil_total, 9), coil_voltage_v=volts,
         input_coil_current_a={net: round(a, 9) for net, a in per_net.items() if net in inputs},
         contact_overloads=overloads)

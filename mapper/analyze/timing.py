@@ -58,7 +58,7 @@ from ..order import topological_order
 from .results import ClockFigures, Timing
 
 __all__ = ["static_timing", "cell_delay", "net_loads", "PartIndex", "paused_gc", "LOAD_RATING", "SETUP_RATING",
-           "HOLD_RATING"]
+           "HOLD_RATING", "PULSE_RATING"]
 
 log = logging.getLogger(__name__)
 
@@ -67,6 +67,8 @@ LOAD_RATING = "delay-per-unit-load"
 #: part ratings read for storage cells
 SETUP_RATING = "setup-time"
 HOLD_RATING = "hold-time"
+#: shortest clock (or enable) pulse, high and low, a storage part needs
+PULSE_RATING = "pulse-width"
 
 _RAILS = SUPPLY_NETS
 _EDGE = {"re": "rise", "ah": "rise", "fe": "fall", "al": "fall"}
@@ -256,6 +258,7 @@ class _Graph:
                 "clock": c.pins.get(ctrl_pin) if ctrl_pin else None, "d": c.pins.get(cd.inputs[0]),
                 "outs": outs, "delay": self.delay[id(c)],
                 "setup": _rating(pd, SETUP_RATING), "hold": _rating(pd, HOLD_RATING),
+                "pulse": _rating(pd, PULSE_RATING),
             })
         members: dict = {}
         for c in b.cells:
@@ -264,13 +267,14 @@ class _Graph:
         for key, grp in b.storage_groups.items():
             cells = members.get(key, [])
             clk2q = self._group_path(cells, grp.control, grp.q)
-            setup = self._group_path(cells, grp.d, grp.q)
+            d2q = self._group_path(cells, grp.d, grp.q)
             self.points.append({
                 "part": cells[0].part_ref if cells else None, "cell": grp.template or "storage from gates",
                 "part_id": None, "kind": grp.kind, "clock": grp.control, "d": grp.d,
-                "outs": {grp.q: (None, None)}, "delay": clk2q,
-                # a latch made of gates must see D settle through its input gates before it closes
-                "setup": setup[1], "hold": 0.0, "group": key,
+                "outs": {grp.q: (None, None)}, "delay": clk2q, "d2q": d2q,
+                # storage made of gates must see D settle through its loop before it closes, and
+                # its control must stay long enough for the loop to settle (common practice)
+                "setup": d2q[1], "hold": 0.0, "pulse": clk2q[1], "group": key,
             })
         for pt in self.points:
             for net in pt["outs"]:
@@ -476,80 +480,313 @@ def _rating(pd, name) -> float | None:
     return pd.rating(name)
 
 
-def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> ClockFigures:
-    """Storage-to-storage paths: highest safe clock rate, hold slack, input setup, clock to output."""
-    b = g.build
-    # clock arrivals: from the inputs, and from storage outputs for clocks made by storage (ripple)
-    late_clk, _ = _propagate(g, base_late, True, True)
-    early_clk, _ = _propagate(g, base_typ, False, False)
+#: a loop of latches open together (or a period search) gives up after this many rounds
+_MAX_ROUNDS = 64
+
+
+class _Clocking:
+    """Setup, hold and pulse-width checks of the storage points of a build at a clock period.
+
+    Every storage point ``i`` has a *phase* (the clock edge it captures on,
+    or the edge that opens a latch), a clock arrival (late and early), its
+    delays, and setup, hold and pulse-width figures.  Times of point ``i``
+    are counted from its edge ``O_i`` (0 for the rising edge of its clock
+    source, ``T/2`` for the falling edge: a 50 % duty cycle).
+
+    A flip-flop's output leaves at ``d_i = clock + clock-to-output``; a
+    latch's at ``d_i = max(clock + enable-to-output, a_i + D-to-output)``:
+    data that comes while it is open passes through, borrowing time from
+    the next stage.  The data at ``i`` is the latest of
+    ``d_j + path_ji + s_ji`` over the storage points ``j`` of the same clock
+    source, where ``s_ji`` shifts ``j``'s launching edge to ``i``'s frame:
+    the latest launch strictly before ``i`` captures (a flip-flop at its
+    edge, a latch when it closes at ``O_i + T/2``).  So ``s = -T`` from the
+    same edge into a flip-flop, ``0`` into a latch open on that edge (it
+    flows through in the same window), ``-T/2`` from the other edge.  A
+    latch's departure depends on its arrival, so the arrivals are repeated
+    until they settle; when they never do, latches open together form a loop
+    and no period works (K. A. Sakallah, T. N. Mudge and O. A. Olukotun,
+    "Analysis and design of latch-controlled synchronous digital circuits",
+    DAC 1990 -- their timing model, here for one clock and its inverse).
+
+    Setup: ``a_i + setup_i <= clock_i (early) + (T/2 for a latch)``.
+    Hold: the first launch at or after ``i`` captures must arrive no sooner
+    than ``hold_i`` after it, with earliest figures.  Pulse width: each
+    half period at least the storage part's ``pulse-width`` rating.
+    """
+
+    def __init__(self, g: _Graph, info: list):
+        self.g = g
+        self.info = info
+        self.by_source: dict = {}
+        for s in info:
+            self.by_source.setdefault(s["source"], []).append(s)
+        self.latches = any(s["latch"] for s in info)
+        self._launch: dict = {}
+
+    @staticmethod
+    def shift(launch, capture, T: float) -> float:
+        if launch["edge"] != capture["edge"]:
+            return -T / 2
+        return 0.0 if capture["latch"] else -T
+
+    @staticmethod
+    def _hold_shift(launch, capture, T: float) -> float:
+        if launch["edge"] != capture["edge"]:
+            return 0.0 if capture["latch"] else T / 2
+        return T / 2 if capture["latch"] else 0.0
+
+    def arrivals(self, dep: dict, T: float, want_prev: bool = False):
+        """Latest data arrival per storage point (``None`` without a storage path), and the paths' trace."""
+        arr: dict = {}
+        prevs: dict = {}
+        for pts in self.by_source.values():
+            for edge, latch in {(p["edge"], p["latch"]) for p in pts}:
+                probe = {"edge": edge, "latch": latch}
+                starts: dict = {}
+                for j in pts:
+                    t = dep[id(j)] + self.shift(j, probe, T)
+                    for q in j["outs"]:
+                        if q not in starts or t > starts[q]:
+                            starts[q] = t
+                late, prev = _propagate(self.g, starts, True, True)
+                for i in pts:
+                    if i["edge"] == edge and i["latch"] == latch and i["d"] in late:
+                        arr[id(i)] = late[i["d"]]
+                        if want_prev:
+                            prevs[id(i)] = (late, prev)
+        return arr, prevs
+
+    def settle(self, T: float):
+        """Departures and arrivals at period ``T`` (``None`` when latches open together loop)."""
+        dep = {id(s): s["clk_late"] + s["clk2q"][1] for s in self.info}
+        rounds = 1 if not self.latches else _MAX_ROUNDS
+        for _ in range(rounds):
+            arr, _ = self.arrivals(dep, T)
+            changed = False
+            for s in self.info:
+                a = arr.get(id(s))
+                if s["latch"] and a is not None:
+                    d = max(s["clk_late"] + s["clk2q"][1], a + s["d2q"][1])
+                    if d > dep[id(s)] + 1e-15:
+                        dep[id(s)] = d
+                        changed = True
+            if not changed:
+                return dep, arr
+        return None
+
+    def setup_slacks(self, T: float):
+        """``(worst slack, point, arrivals, departures)`` at ``T``; slack ``-inf`` when latches loop."""
+        r = self.settle(T)
+        if r is None:
+            return float("-inf"), None, {}, None
+        dep, arr = r
+        worst, at = float("inf"), None
+        for s in self.info:
+            a = arr.get(id(s))
+            if a is None:
+                continue
+            close = s["clk_early"] + (T / 2 if s["latch"] else 0.0)
+            slack = close - (a + s["setup"])
+            if slack < worst:
+                worst, at = slack, s
+        return worst, at, arr, dep
+
+    def min_period(self) -> float:
+        """The shortest period that meets every setup (bisection when latches borrow time)."""
+        if not self.latches:
+            # no latch: departures do not depend on T, so each relation gives T directly
+            return max((self.need_ff(s) for s in self.info), default=0.0)
+        hi = max(1e-12, sum(s["clk2q"][1] + s["setup"] for s in self.info) + sum(a[3][1] for a in self.g.arcs))
+        lo = 0.0
+        if self.setup_slacks(hi)[0] < 0:
+            for _ in range(20):
+                hi *= 4
+                if self.setup_slacks(hi)[0] >= 0:
+                    break
+            else:
+                return float("inf")
+        for _ in range(48):
+            mid = (lo + hi) / 2
+            if self.setup_slacks(mid)[0] >= 0:
+                hi = mid
+            else:
+                lo = mid
+            if hi - lo <= hi * 1e-6:
+                break
+        return hi
+
+    def launched(self, source, edge):
+        """``(arrival, prev)`` of the flip-flop launches of one clock source and edge, from their edge."""
+        key = (source, edge)
+        got = self._launch.get(key)
+        if got is None:
+            starts: dict = {}
+            for j in self.by_source.get(source, []):
+                if j["edge"] == edge:
+                    t = j["clk_late"] + j["clk2q"][1]
+                    for q in j["outs"]:
+                        starts[q] = max(starts.get(q, t), t)
+            got = self._launch[key] = _propagate(self.g, starts, True, True)
+        return got
+
+    def need_ff(self, cap) -> float:
+        """The period a capture needs when no latch borrows: ``T`` from its own edge, ``T/2`` from the other."""
+        need = 0.0
+        if cap["d"] is None:
+            return need
+        for edge in {p["edge"] for p in self.by_source.get(cap["source"], [])}:
+            late, _ = self.launched(cap["source"], edge)
+            if cap["d"] in late:
+                x = late[cap["d"]] + cap["setup"] - cap["clk_early"]
+                need = max(need, x if edge == cap["edge"] else 2 * x)
+        return need
+
+    def holds(self, T: float) -> list:
+        """Hold slack per storage point fed by a storage path, at period ``T``.
+
+        Each item is ``(slack, point, start net, early arrivals, trace)``.
+        """
+        out = []
+        for pts in self.by_source.values():
+            for edge, latch in {(p["edge"], p["latch"]) for p in pts}:
+                probe = {"edge": edge, "latch": latch}
+                starts: dict = {}
+                for j in pts:
+                    if latch and j["latch"] and j["edge"] == edge:
+                        continue  # latches open together: data flows through both in one window (by design)
+                    t = j["clk_early"] + j["clk2q"][0] + self._hold_shift(j, probe, T)
+                    for q in j["outs"]:
+                        if q not in starts or t < starts[q]:
+                            starts[q] = t
+                early, prev = _propagate(self.g, starts, False, False)
+                for i in pts:
+                    if i["edge"] == edge and i["latch"] == latch and i["d"] in early:
+                        slack = early[i["d"]] - (i["clk_late"] + i["hold"])
+                        out.append((slack, i, _first_net(prev, i["d"]), early, prev))
+        return out
+
+
+def _point_info(g: _Graph, late_clk: dict, early_clk: dict) -> tuple[list, set]:
+    """Clock source, edge, clock arrivals and figures of every storage point; part ids lacking figures."""
     info = []
-    missing_setup = set()
+    missing = set()
     for pt in g.points:
         clk = pt["clock"]
         src, inv = _clock_source(g, clk) if clk else (None, 0)
         edge = _EDGE.get(pt["kind"], "rise")
         if inv:
             edge = "fall" if edge == "rise" else "rise"
-        if pt["setup"] is None and pt["part_id"]:
-            missing_setup.add(pt["part_id"])
+        latch = pt["kind"] in ("ah", "al")
+        if pt["part_id"] and (pt["setup"] is None or pt["hold"] is None):
+            missing.add(pt["part_id"])
         info.append({
-            "point": pt, "clock": clk, "source": src, "edge": edge,
+            "point": pt, "clock": clk, "source": src, "edge": edge, "latch": latch,
             "clk_late": late_clk.get(clk, 0.0) if clk else 0.0,
             "clk_early": early_clk.get(clk, 0.0) if clk else 0.0,
-            "clk2q": pt["delay"], "setup": pt["setup"] or 0.0, "hold": pt["hold"] or 0.0,
+            # a latch's catalog figure is D to Q with the latch open; enable to Q is taken as the same
+            "clk2q": pt["delay"], "d2q": pt.get("d2q", pt["delay"]),
+            "setup": pt["setup"] or 0.0, "hold": pt["hold"] or 0.0, "pulse": pt.get("pulse") or 0.0,
             "d": pt["d"], "outs": list(pt["outs"]),
         })
-    # one propagation per (clock source, edge) group of launching cells
-    groups: dict = {}
-    for s in info:
-        groups.setdefault((s["source"], s["edge"]), []).append(s)
-    worst_period = 0.0
-    worst = None
-    hold_slack = None
-    hold_worst = None
-    for (src, edge), launch in groups.items():
-        late0 = {}
-        early0 = {}
-        for s in launch:
-            for q in s["outs"]:
-                late0[q] = s["clk_late"] + s["clk2q"][1]
-                early0[q] = s["clk_early"] + s["clk2q"][0]
-        late, lprev = _propagate(g, late0, True, True)
-        early, eprev = _propagate(g, early0, False, False)
-        for cap in info:
-            d = cap["d"]
-            if d is None or d not in late:
-                continue
-            if cap["source"] != src:
-                continue  # a different clock: no synchronous relation assumed
-            need = late[d] + cap["setup"] - cap["clk_early"]
-            period = need if cap["edge"] == edge else 2 * need
-            if period > worst_period:
-                worst_period = period
-                first = _first_net(lprev, d)
-                worst = {"from": _start_of(g, first),
-                         "to": {"part": cap["point"]["part"], "cell": cap["point"]["cell"], "net": d},
-                         "arrival_s": late[d], "setup_s": cap["setup"],
-                         "half_cycle": cap["edge"] != edge,
-                         "path": _path(g, lprev, d, [("arrival_s", late)])}
-            if d in early:
-                slack = early[d] - cap["clk_late"] - cap["hold"]
-                if hold_slack is None or slack < hold_slack:
-                    hold_slack = slack
-                    hold_worst = {"from": _start_of(g, _first_net(eprev, d)),
-                                  "to": {"part": cap["point"]["part"], "cell": cap["point"]["cell"], "net": d}}
-    own = max((s["clk2q"][1] + s["setup"] for s in info), default=0.0)
+    return info, missing
+
+
+def _where(s) -> dict:
+    return {"part": s["point"]["part"], "cell": s["point"]["cell"], "net": s["d"]}
+
+
+def _sequential(g: _Graph, base_late: dict, base_typ: dict, period_s: float | None = None) -> ClockFigures:
+    """Storage-to-storage timing: shortest period, pulse widths, hold margins, input setup, clock to output.
+
+    ``period_s`` is the clock the builder means to run (``--clock``); hold
+    margins and pulse widths are checked at it, else at the shortest period.
+    """
+    b = g.build
+    # clock arrivals: from the inputs, and from storage outputs for clocks made by storage (ripple)
+    late_clk, _ = _propagate(g, base_late, True, True)
+    early_clk, _ = _propagate(g, base_typ, False, False)
+    info, missing = _point_info(g, late_clk, early_clk)
+    ck = _Clocking(g, info)
     notes = []
-    if worst is None:
-        notes.append("no storage-to-storage path: the clock rate is limited only by the storage parts' "
-                     "own clock-to-output delay")
-    period = max(worst_period, own)
-    if missing_setup:
-        notes.append("the catalog gives no setup or hold time for " + ", ".join(sorted(missing_setup))
+    paths_T = ck.min_period()
+    pulse = max((s["pulse"] for s in info), default=0.0)
+    pulse_T = 2 * pulse   # each half of a 50 % duty cycle at least the widest pulse a part needs
+    period = max(paths_T, pulse_T)
+    limited_by = "pulse width" if pulse_T > paths_T else "storage-to-storage path"
+    worst = None
+    latches = []
+    if period == float("inf"):
+        notes.append("latches open at the same time form a loop through logic: no clock rate lets it settle")
+        max_hz = None
+    else:
+        max_hz = (1.0 / period) if period > 0 else None
+        trace = None
+        half = False
+        if ck.latches:
+            _, at, arr, dep = ck.setup_slacks(paths_T)
+            if at is not None and dep is not None:
+                trace = ck.arrivals(dep, paths_T, want_prev=True)[1].get(id(at))
+            for s in info:
+                a = arr.get(id(s))
+                if s["latch"] and a is not None and a > s["clk_late"]:
+                    latches.append({**_where(s), "borrowed_s": a - s["clk_late"]})
+        else:
+            at = max((s for s in info if ck.need_ff(s) > 0), key=ck.need_ff, default=None)
+            if at is not None:
+                best = None
+                for edge in ("rise", "fall"):
+                    late, prev = ck.launched(at["source"], edge)
+                    if at["d"] in late:
+                        x = late[at["d"]] + at["setup"] - at["clk_early"]
+                        need = x if edge == at["edge"] else 2 * x
+                        if best is None or need > best[0]:
+                            best = (need, late, prev, edge != at["edge"])
+                if best is not None:
+                    trace, half = (best[1], best[2]), best[3]
+        if trace is not None and at is not None:
+            late, prev = trace
+            d = at["d"]
+            first = _first_net(prev, d)
+            if ck.latches:
+                # arrivals were counted from the capturing edge: count them from the launching edge
+                src = g.sdriver.get(first)
+                launch = next((j for j in info if j["point"] is src), None)
+                shift = ck.shift(launch, at, paths_T) if launch is not None else 0.0
+                half = launch is not None and launch["edge"] != at["edge"]
+                late = {n: t - shift for n, t in late.items()}
+            worst = {"from": _start_of(g, first), "to": _where(at),
+                     "arrival_s": late[d], "setup_s": at["setup"], "latch": at["latch"], "half_cycle": half,
+                     "path": _path(g, prev, d, [("arrival_s", late)])}
+    if worst is None and period != float("inf"):
+        notes.append("no storage-to-storage path: the clock rate is limited by the storage parts' shortest "
+                     "clock pulse" if pulse else
+                     "no storage-to-storage path and no pulse-width figure: nothing here limits the clock rate")
+    if missing:
+        notes.append("the catalog gives no setup or hold time for " + ", ".join(sorted(missing))
                      + ": they count as 0 in the clock rate")
     if any(s["source"] is not None and s["source"] not in b.inputs for s in info):
-        notes.append("a clock or enable comes from logic, not straight from an input: check it for glitches")
-    # inputs to storage data, storage to outputs
+        notes.append("a clock or enable comes from logic, not straight from an input: glitches on it are "
+                     "searched for in the glitch report")
+    # hold margins and pulse widths at the period the builder runs (or the shortest)
+    check_T = period_s if period_s is not None else (period if period != float("inf") else 0.0)
+    violations = []
+    hold_slack = None
+    hold_worst = None
+    for slack, s, first, early, prev in ck.holds(check_T):
+        if hold_slack is None or slack < hold_slack:
+            hold_slack = slack
+            hold_worst = {"from": _start_of(g, first), "to": _where(s)}
+        if slack < -1e-15:
+            violations.append({"from": _start_of(g, first), "to": _where(s), "slack_s": slack,
+                               "hold_s": s["hold"], "path": _path(g, prev, s["d"], [("arrival_s", early)])})
+    violations.sort(key=lambda v: v["slack_s"])
+    narrow = []
+    if check_T > 0:
+        for s in info:
+            if s["pulse"] and check_T / 2 < s["pulse"] - 1e-15:
+                narrow.append({**_where(s), "pulse_s": s["pulse"], "half_period_s": check_T / 2})
+    # inputs to storage data (before the capturing edge, or the closing edge of a latch), storage to outputs
     inp0 = {i: 0.0 for i in b.inputs}
     late_in, _ = _propagate(g, inp0, True, True)
     input_setup = 0.0
@@ -564,12 +801,15 @@ def _sequential(g: _Graph, base_late: dict, base_typ: dict) -> ClockFigures:
     late_q, _ = _propagate(g, q0, True, True)
     clk_to_out = max((late_q.get(b.output_nets.get(o, o), 0.0) for o in b.outputs
                       if b.output_nets.get(o, o) in late_q), default=None)
-    return ClockFigures(period_min_s=period, max_hz=(1.0 / period) if period > 0 else None, path=worst,
+    return ClockFigures(period_min_s=period, max_hz=max_hz, path=worst,
                         hold_slack_s=hold_slack, hold_path=hold_worst, input_setup_s=input_setup,
-                        clock_to_output_s=clk_to_out, notes=notes)
+                        clock_to_output_s=clk_to_out, notes=notes, limited_by=limited_by,
+                        pulse_width_s=pulse, checked_period_s=check_T, hold_violations=violations,
+                        pulse_violations=narrow, latches=latches,
+                        requested_period_s=period_s)
 
 
-def static_timing(build: Build) -> Timing:
+def static_timing(build: Build, period_s: float | None = None) -> Timing:
     """Static timing of a gate build (see the module docstring).
 
     The :class:`~mapper.analyze.results.Timing` has ``delay_s`` (worst path
@@ -587,7 +827,7 @@ def static_timing(build: Build) -> Timing:
     (:class:`~mapper.analyze.results.ClockFigures`).
     """
     with paused_gc():
-        return _static_timing(build)
+        return _static_timing(build, period_s)
 
 
 def _overloaded(g: _Graph) -> list:
@@ -603,7 +843,7 @@ def _overloaded(g: _Graph) -> list:
     return out
 
 
-def _static_timing(build: Build) -> Timing:
+def _static_timing(build: Build, period_s: float | None = None) -> Timing:
     """The work of :func:`static_timing`."""
     if not build.cells:
         return Timing(0.0, 0.0, 0, {o: [0.0, 0.0] for o in build.outputs}, [], paths=[
@@ -656,5 +896,5 @@ def _static_timing(build: Build) -> Timing:
         critical_start=_start_of(g, _first_net(lprev, end)) if end is not None else None,
         critical_end={"net": end, "endpoint": end_label} if end is not None else None,
         overloaded=_overloaded(g),
-        clock=_sequential(g, base_late, base_typ) if g.points else None,
+        clock=_sequential(g, base_late, base_typ, period_s) if g.points else None,
     )
