@@ -273,7 +273,10 @@ def _terminals(b: Build, board: Board) -> dict:
 
 # -- annealing ------------------------------------------------------------------------------------------
 def _anneal(cost: _Cost, pos_of_site: list, assign: list, shape: tuple, rng: random.Random) -> tuple[list, int]:
-    """Simulated annealing of units over sites; ``assign[u]`` is the site of unit u.  Returns (assign, moves)."""
+    """Simulated annealing of units over sites; ``assign[u]`` is the site of unit u.
+
+    Returns the best assignment met (never worse than the start) and the number of moves tried.
+    """
     n_units = len(assign)
     n_sites = len(pos_of_site)
     if n_units < 2 and n_sites <= n_units:
@@ -330,6 +333,8 @@ def _anneal(cost: _Cost, pos_of_site: list, assign: list, shape: tuple, rng: ran
     alpha = (t_end / t) ** (1 / rounds)
     radius = max(per, rows)
     moves = 0
+    current = sum(netcost)
+    best_cost, best = current, list(assign)
     for _ in range(rounds):
         for _ in range(per_round):
             u = rng.randrange(n_units)
@@ -346,11 +351,14 @@ def _anneal(cost: _Cost, pos_of_site: list, assign: list, shape: tuple, rng: ran
                     assign[v] = s_u
                 for k, c in new.items():
                     netcost[k] = c
+                current += d
+                if current < best_cost:
+                    best_cost, best = current, list(assign)
             else:
                 undo(u, v, s_u, s_v)
         t *= alpha
         radius = max(1, int(radius * 0.93))
-    return assign, moves
+    return best, moves
 
 
 # -- the whole ----------------------------------------------------------------------------------------

@@ -239,7 +239,7 @@ def connectivity(dr: Drawing):
         return hit
 
     points: dict = defaultdict(list)
-    for n, (page, part, pin, p) in enumerate(dr.pins):
+    for page, part, pin, p in dr.pins:
         key = ("pin", part, pin)
         u.find(key)
         attach(key, page, p)
