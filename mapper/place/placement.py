@@ -444,7 +444,7 @@ def _put_support(b: Build, p: Placement, sp, host: str, k: int) -> None:
 def _breadboard_legs(b: Build, p: Placement, sp, host: str) -> tuple[list, str]:
     """Holes of a support part's legs on a breadboard: rails for rail nets, the host's strips otherwise."""
     hp = p.parts[host]
-    by_net = {}
+    by_net: dict = {}
     for (ref, key), xy in p.holes.items():
         if ref == host:
             by_net.setdefault(_net_at(b, ref, key), []).append(xy)

@@ -381,6 +381,6 @@ def _rail_net(b: Build, p: Placement, runs: Runs, holes: _Holes, net: str, stops
     term = p.terminals[("supply", net)]
     runs.wires.append(Wire(0, net, role, End(f"supply {net}", term), End(f"{net} rail", holes.rail(net, (0, rows[0])))))
     for r1, r2 in zip(rows, rows[1:]):
-        a = holes.rail(net, (0, r1))
-        c = holes.rail(net, (0, r2))
-        runs.wires.append(Wire(0, net, role, End(f"{net} rail", a), End(f"{net} rail", c), jumper=True))
+        h1 = holes.rail(net, (0, r1))
+        h2 = holes.rail(net, (0, r2))
+        runs.wires.append(Wire(0, net, role, End(f"{net} rail", h1), End(f"{net} rail", h2), jumper=True))

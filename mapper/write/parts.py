@@ -212,7 +212,7 @@ def parts_json(b: Build, copies: int = 1, sockets: bool = False, spares=None) ->
     return {"design": b.design, "target": b.target.name, "copies": copies,
             "rows": [plain(r) for r in data["rows"]], "total": plain(data["total"]),
             "totals": {k: plain(v) for k, v in data["totals"].items()},
-            "sockets": sockets, "spares": None if spares is None else list(spares_from_text(spares))}
+            "sockets": sockets, "spares": list(data["spares"]) if data["spares"] else None}
 
 
 def parts_table(b: Build, copies: int = 1, sockets: bool = False, spares=None) -> str:
