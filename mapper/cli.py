@@ -148,7 +148,7 @@ def _build_args(p):
                    help="target name (see `netfit targets`) or a target .xml file")
     p.add_argument("-o", "--out", metavar="DIR", help=(
         "write the build's files into DIR: DESIGN.v and cells.v, DESIGN.blif, DESIGN.json, parts.csv, "
-        "wiring.txt, schematic.svg, report.html"))
+        "wiring.txt, schematic.svg, board.svg, report.html"))
     p.add_argument("--qty", type=_positive, default=1, metavar="N",
                    help="parts.csv for N copies of the build (default 1)")
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),

@@ -6,7 +6,12 @@ TimberWolf (Sechen and Sangiovanni-Vincentelli, IEEE J. Solid-State
 Circuits 20(2), 1985): parts are moved to other places or swapped, a move
 that shortens the wiring is always kept, a move that lengthens it is kept
 with probability exp(-increase / temperature), the temperature falls
-geometrically, and the distance a part may jump shrinks with it.  The
+geometrically, and the distance a part may jump shrinks with it.  It
+starts from the reference order at a low temperature (a twentieth of the
+average change a random move makes): the reference order already keeps
+parts of one stretch of logic together, and a hot start scatters them
+further than the move budget (:data:`MAX_MOVES`) can gather again.  The
+best placement met is kept, so the result is never longer than the start.  The
 length is the half-perimeter of the box around each signal net's pins
 (supply pins go to the rails, wherever the part stands).  The random
 sequence is seeded: the same build gives the same placement.
@@ -325,13 +330,13 @@ def _anneal(cost: _Cost, pos_of_site: list, assign: list, shape: tuple, rng: ran
         d, _ = delta(u, v, s_u, s_v)
         undo(u, v, s_u, s_v)
         samples.append(abs(d))
-    t = max(1.0, 10.0 * (sum(samples) / max(1, len(samples))))
+    t = max(1.0, 0.05 * (sum(samples) / max(1, len(samples))))
     t_end = 0.05
-    budget = min(MAX_MOVES, max(2000, 300 * n_units))
+    budget = min(MAX_MOVES, max(8000, 300 * n_units))
     per_round = max(20, 4 * n_units)
     rounds = max(1, budget // per_round)
     alpha = (t_end / t) ** (1 / rounds)
-    radius = max(per, rows)
+    radius = max(2, max(per, rows) // 3)
     moves = 0
     current = sum(netcost)
     best_cost, best = current, list(assign)

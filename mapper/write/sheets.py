@@ -26,6 +26,7 @@ shortest nets first: no two nets overlap or touch, crossings are plain.
 """
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass, field
 
@@ -115,10 +116,19 @@ def _side_reach(s: Symbol, side: str) -> int:
 
 def _tall(s: Symbol, under: dict) -> int:
     """Grid rows a symbol (and what stands under it) takes, gap included."""
-    h = _LABEL_ROWS + s.height + 1 + _ROW_GAP
-    for u in under.get(s.key, ()):
-        h += _LABEL_ROWS + u.height + 1 + _ROW_GAP
+    h = _TALL.get(id(s))
+    if h is None:
+        h = _LABEL_ROWS + s.height + 1 + _ROW_GAP
+        for u in under.get(s.key, ()):
+            h += _LABEL_ROWS + u.height + 1 + _ROW_GAP
+        _TALL[id(s)] = h
     return h
+
+
+#: rows each symbol takes, by id, for the symbols of the drawing being made (paging asks often)
+_TALL: dict = {}
+#: most symbols a page is tried with (a page holds far fewer: this only bounds the search)
+_PAGE_MOST = 160
 
 
 def _column_width(col: list, under: dict) -> tuple[int, int, int]:
@@ -175,7 +185,9 @@ def _fits(syms: list, under: dict, b: Build, extra: tuple = ((), ())) -> list | 
     right = max((_port_len(o) + (_RAIL_LEN if b.output_nets.get(o, o) in SUPPLY_NETS else 0) for o in outs),
                 default=0) + _COL_GAP
     levels = len({s.level for s in syms})
-    tries = [_by_level(syms)] + [_chunks(syms, under, n) for n in range(min(max(levels, 8), len(syms)), 0, -1)]
+    total = sum(_tall(s, under) for s in syms)
+    counts = [n for n in range(min(max(levels, 8), len(syms)), 0, -1) if n * (GRID_H - 1) >= total]
+    tries = itertools.chain([_by_level(syms)], (_chunks(syms, under, n) for n in counts))
     for cols in tries:
         if any(sum(_tall(s, under) for s in c) > GRID_H - 1 for c in cols):
             continue
@@ -210,7 +222,7 @@ def _paginate(symbols: list, under: dict, b: Build, extra: tuple) -> list:
     i = 0
     while i < len(order):
         ex = extra if i == 0 else ((), ())
-        lo, hi = 1, len(order) - i
+        lo, hi = 1, min(len(order) - i, _PAGE_MOST)
         if _fits(order[i:i + hi], under, b, ex) is None:
             while lo < hi:  # the longest run that fits
                 mid = (lo + hi + 1) // 2
@@ -446,6 +458,7 @@ def _block(grid: Grid, x0, y0, x1, y1) -> None:
 # -- the whole ----------------------------------------------------------------------------------------
 def sheets(b: Build, shapes: str = "distinctive") -> list:
     """The pages of ``b``'s schematic, placed and wired (see the module docstring)."""
+    _TALL.clear()
     logic, under = logic_symbols(b, shapes)
     set_levels(logic, b.inputs)
     extra = _orphans(logic, b)

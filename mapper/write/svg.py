@@ -179,10 +179,18 @@ def _page_group(parent, b: Build, analysis: Analysis, page: Page, total: int, sh
     return g
 
 
+#: the last drawing made: the schematic writer and the report draw the same build one after the other
+_LAST: list = []
+
+
 def _pages(b: Build, shapes: str) -> list:
     if shapes not in SHAPES:
         raise ValueError(f"unknown gate shapes {shapes!r} (known: {', '.join(SHAPES)})")
-    return sheets(b, shapes)
+    if _LAST and _LAST[0] is b and _LAST[1] == shapes and _LAST[2] == (len(b.cells), len(b.contacts), len(b.parts)):
+        return _LAST[3]
+    pages = sheets(b, shapes)
+    _LAST[:] = [b, shapes, (len(b.cells), len(b.contacts), len(b.parts)), pages]
+    return pages
 
 
 def svg_element(b: Build, analysis: Analysis, shapes: str = "distinctive", pages=None):

@@ -38,7 +38,8 @@ DATA = ROOT / "tests" / "data"
 DESIGNS = sorted((ROOT / "examples").rglob("*.blif"))[:1] + [DATA / "c17.blif"] + \
     sorted((DATA / "textbook").glob("*.blif"))
 TARGETS = ("nand-only", "gates-74", "relay-spdt", "relay-dpdt")
-BOARDS = ("breadboard-830", "breadboard-400", "perf:80x60", "wrap:80x60")
+# a wire-wrap board is placed and wired as a perforated one: its own run is below
+BOARDS = ("breadboard-830", "breadboard-400", "perf:80x60")
 
 
 @functools.cache
@@ -151,6 +152,14 @@ def test_at_most_two_wires_on_a_pin_and_chains_within_the_tree_bound(path, targe
                 full.add_edge(i, j, weight=abs(pts[i][0] - pts[j][0]) + abs(pts[i][1] - pts[j][1]))
         tree = sum(d["weight"] for _, _, d in nx.minimum_spanning_edges(full, data=True)) if len(pts) > 1 else 0
         assert length <= 2 * tree, (net, length, tree)
+
+
+def test_wire_wrap_board_is_wired_like_a_perforated_one():
+    path = str(DATA / "textbook" / "full_adder.blif")
+    wrap, perf = _plan(path, "gates-74", "wrap:80x60"), _plan(path, "gates-74", "perf:80x60")
+    assert wrap.placement.board.kind == "wire-wrap"
+    assert [(w.a.hole, w.b.hole) for w in wrap.runs.wires] == [(w.a.hole, w.b.hole) for w in perf.runs.wires]
+    test_wires_rebuild_the_build_nets(DATA / "textbook" / "full_adder.blif", "gates-74", "wrap:80x60")
 
 
 @pytest.mark.parametrize("target", ["gates-74", "relay-dpdt"])
