@@ -381,8 +381,7 @@ def place(b: Build, board: Board, anneal: bool = True) -> Placement:
     if anneal and len(units) > 1:
         assign, moves = _anneal(cost, sites, assign, shape, random.Random(_SEED))
     p = Placement(board, boards, terminals=terminals,
-                  method="simulated annealing (Kirkpatrick et al. 1983), half-perimeter wire length"
-                  if anneal else "reference order")
+                  method="simulated annealing" if anneal else "reference order")
     p.length_start = start
     p.length = cost.total([sites[s] for s in assign]) if units else 0
     p.moves = moves

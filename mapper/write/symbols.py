@@ -275,8 +275,8 @@ def _rect_gate(g, s, x0, y0, w, h):
 
 def _block(g, s, x0, y0, w, h):
     _rect(g, x0, y0, w, h)
-    if s.qualifier:
-        el(g, "text", s.qualifier, x=_r(x0 + w / 2), y=_r(y0 + h - 5), text_anchor="middle", font_size=8,
+    if s.qualifier:  # the general qualifying symbol stands at the top of the block (IEEE Std 91)
+        el(g, "text", s.qualifier, x=_r(x0 + w / 2), y=_r(y0 + 8), text_anchor="middle", font_size=6.5,
            **{"class": "qualifier"})
     for p in s.pins():
         py = y0 + p.row * G
@@ -284,12 +284,24 @@ def _block(g, s, x0, y0, w, h):
             if p.clock:  # the dynamic-input triangle of IEEE Std 91
                 el(g, "path", d=f"M{_r(x0)},{_r(py - 4)} L{_r(x0 + 7)},{_r(py)} L{_r(x0)},{_r(py + 4)}",
                    fill="none", stroke=INK, stroke_width=1.1)
-            el(g, "text", p.name, x=_r(x0 + (9 if p.clock else 3)), y=_r(py + 3), font_size=7.5,
+            el(g, "text", _shown(p), x=_r(x0 + (9 if p.clock else 3)), y=_r(py + 3), font_size=7.5,
                **{"class": "pin-name"})
         else:
-            el(g, "text", p.name, x=_r(x0 + w - 3), y=_r(py + 3), font_size=7.5, text_anchor="end",
-               **{"class": "pin-name"})
+            name = _shown(p)
+            bar = {"text_decoration": "overline"} if name != p.name and not p.negated else {}
+            el(g, "text", name, x=_r(x0 + w - 3), y=_r(py + 3), font_size=7.5, text_anchor="end",
+               **{"class": "pin-name"}, **bar)
     return _flat(w)
+
+
+def _shown(p: SymPin) -> str:
+    """A pin's name inside a block: an active-low input drops its ``_N`` (the circle says it), an
+    inverted output (``QN``) drops its ``N`` and is drawn with a bar over it."""
+    if p.negated and p.name.endswith("_N"):
+        return p.name[:-2]
+    if p.side == "E" and p.name.endswith("N") and len(p.name) == 2:
+        return p.name[0]
+    return p.name
 
 
 def _contact(g, s, x0, y0, w, h):
