@@ -218,3 +218,34 @@ def test_pin_numbers_are_the_datasheet_pins(path, target):
                 assert rail in g["names"], (p.ref, rail, number)
                 checked += 1
     assert checked
+
+
+@pytest.mark.parametrize("target", ["gates-74", "relay-spdt"])
+def test_one_spelling_of_references_sections_and_nets_in_every_document(tmp_path, target):
+    # the same references, sections and net names in the schematic, the wiring list, the ordering list
+    # and the structural Verilog (instance U3_2 is section 2 of U3)
+    import csv
+    import re
+
+    r = _build(str(DATA / "textbook" / "full_adder.blif"), target)
+    b = r.build
+    flow.write_build(r, tmp_path)
+    svg_doc = (tmp_path / "schematic.svg").read_text()
+    wiring = (tmp_path / "wiring.txt").read_text()
+    verilog = (tmp_path / "full_adder.v").read_text()
+    rows = list(csv.DictReader((tmp_path / "parts.csv").open()))
+    refs = {p.ref for p in b.parts} | {s.ref for s in b.support}
+    assert set(re.findall(r'data-part="([^"]+)"', svg_doc)) == refs
+    assert {ref for r_ in rows for ref in r_["refs"].split()} == refs
+    assert all(re.search(rf"^  {ref} ", wiring, re.M) for ref in refs)
+    for c in b.cells:
+        assert f"section {c.slot}" in svg_doc and f"{c.part_ref}_{c.slot}" in verilog
+    for k in b.contacts:
+        assert f"pole {k.pole}" in svg_doc and f"{k.part_ref}_{k.pole}" in verilog
+    dr = read(svg_doc.encode())
+    shown = {name for _, cls, kind, name, _ in dr.connectors if kind != "output"}
+    shown |= set(re.findall(r'class="net-name" data-net="([^"]+)"', svg_doc))
+    nets = set(b.nets()) | set(b.inputs)
+    assert shown <= nets, shown - nets
+    for net in b.nets():
+        assert re.search(rf"^  {re.escape(net)} ", wiring, re.M), net
