@@ -23,8 +23,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from lxml import etree
-
 from .drawing import INK, PAPER, TINT, el, text_width
 
 __all__ = ["G", "GATE_W", "BLOCK_W", "SymPin", "Symbol", "gate_kind", "draw_symbol", "STUB"]
@@ -372,12 +370,3 @@ def _capacitor(g, s, x0, y0, w, h):
 _BODIES = {"and": _and, "or": _or, "xor": _xor, "buf": _buf, "block": _block, "supply": _block,
            "contact": _contact, "coil": _coil, "diode": _diode, "resistor": _resistor, "capacitor": _capacitor,
            "rect-gate": _rect_gate}
-
-
-def symbol_to_string(s: Symbol, shapes: str = "distinctive") -> str:
-    """One symbol alone as SVG text (for tests and for looking at a shape)."""
-    from .drawing import svg_root
-    root = svg_root(200, 200, s.title)
-    s.gx, s.gy = 6, 6
-    draw_symbol(root, s, 0, 0, shapes)
-    return etree.tostring(root, encoding="unicode")
