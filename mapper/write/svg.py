@@ -13,7 +13,9 @@ Reading the drawing by program
 The file is meant to be read back, not only looked at:
 
 * each page is a ``<g class="page" data-page="k">``, moved down by a
-  ``transform="translate(0 Y)"`` (the only transform in the file);
+  ``transform="translate(0 Y)"`` (the only transform in the file); a
+  ``@page`` rule sizes the printed sheet to one page, so a browser prints
+  the file one page to a sheet;
 * each pin is a ``<line class="pin">`` with ``data-part``, ``data-pin``
   (as the wiring list names it: a package pin number, or a relay terminal
   such as ``COM1``) and ``data-net``; its connection point is the line's
@@ -199,6 +201,9 @@ def svg_element(b: Build, analysis: Analysis, shapes: str = "distinctive", pages
     n = len(pages)
     root = svg_root(PAGE_W, PAGE_H * n, f"{b.design} on {b.target.name}: schematic",
                     physical=(PAGE_MM[0], round(PAGE_MM[1] * n, 2)))
+    # printed from a browser, each page of the drawing is one sheet of paper of its own size
+    style = el(root, "style", f"@page {{ size: {PAGE_MM[0]}mm {PAGE_MM[1]}mm; margin: 0; }}")
+    root.insert(0, style)
     for page in pages:
         g = _page_group(root, b, analysis, page, n, shapes)
         if page.number > 1:

@@ -221,3 +221,18 @@ def test_report_prints_each_schematic_page_on_one_landscape_sheet(report, tmp_pa
     assert len({v[0][0] for v in sheet_pages.values()}) == n
     assert len(reader.pages) > n
     assert not outside, outside[:5]
+
+
+def test_schematic_file_prints_one_page_to_a_sheet(report, tmp_path):
+    out, b = report
+    pdf = tmp_path / "schematic.pdf"
+    r = _chromium(tmp_path, "--no-pdf-header-footer", f"--print-to-pdf={pdf}", (out / "schematic.svg").as_uri())
+    assert r.returncode == 0 and pdf.exists(), r.stderr[-2000:]
+    reader = pypdf.PdfReader(str(pdf))
+    n = len(reader.pages)
+    assert n >= 2
+    for k, pg in enumerate(reader.pages, 1):
+        # 266.7 mm x 193.04 mm in points (72 to the inch): fits landscape A4 and Letter
+        assert abs(float(pg.mediabox.width) - 266.7 / 25.4 * 72) < 2
+        assert abs(float(pg.mediabox.height) - 193.04 / 25.4 * 72) < 2
+        assert re.findall(r"page \d+ of \d+", pg.extract_text()) == [f"page {k} of {n}"]
