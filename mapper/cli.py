@@ -148,15 +148,35 @@ def _build_args(p):
                    help="target name (see `netfit targets`) or a target .xml file")
     p.add_argument("-o", "--out", metavar="DIR", help=(
         "write the build's files into DIR: DESIGN.v and cells.v, DESIGN.blif, DESIGN.json, parts.csv, "
-        "wiring.txt, schematic.svg, report.html"))
+        "wiring.txt, schematic.svg, board.svg, report.html"))
     p.add_argument("--qty", type=_positive, default=1, metavar="N",
                    help="parts.csv for N copies of the build (default 1)")
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),
                    help="0: one mapping pass; 1 (default): also search for fewer parts")
     p.add_argument("--hazard-free", action="store_true",
                    help="add consensus terms so two-level covers cannot glitch, and report the parts they cost")
+    p.add_argument("--board", metavar="B", help=(
+        "the board the wiring list places the parts on: breadboard-830 (default), breadboard-400, "
+        "perf:WxH or wrap:WxH (a perforated or wire-wrap board of W x H holes at 0.1 inch)"))
+    p.add_argument("--symbols", choices=("distinctive", "rectangular"), default="distinctive",
+                   help="gate symbols of the schematic: IEEE 91 distinctive shapes (default) or IEC rectangles")
+    _add_order_args(p)
     _add_read_args(p)
     p.add_argument("--json", action="store_true", help="print the build summary as JSON")
+
+
+def _add_order_args(p):
+    p.add_argument("--sockets", action="store_true", help="order a socket for every chip")
+    p.add_argument("--spares", type=_spares, metavar="N|P%",
+                   help="order spares: N more of each part, or P percent more (rounded up)")
+
+
+def _spares(text):
+    from . import flow
+    try:
+        return flow.spares_from_text(text)
+    except NetfitError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
 
 
 def _positive(text):
@@ -180,8 +200,9 @@ def _progress(args) -> None:
 def cmd_build(args):
     from . import flow
     _progress(args)
+    docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols}
     r = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
-                   hazard_free=args.hazard_free, **_read_options(args))
+                   hazard_free=args.hazard_free, documents=docs, **_read_options(args))
     s = r.analysis.summary(r.build)
     if args.json:
         _print_json(s)
@@ -330,6 +351,7 @@ def _parts_args(p):
     p.add_argument("--qty", type=_positive, default=1, metavar="N", help="for N copies of the build (default 1)")
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),
                    help="0: one mapping pass; 1 (default): also search for fewer parts")
+    _add_order_args(p)
     _add_read_args(p)
     fmt = p.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print JSON")
@@ -341,7 +363,8 @@ def _parts_args(p):
 def cmd_parts(args):
     from . import flow
     _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
-    p = flow.parts(args.design, args.target, effort=args.effort, copies=args.qty, **_read_options(args))
+    p = flow.parts(args.design, args.target, effort=args.effort, copies=args.qty, sockets=args.sockets,
+                   spares=args.spares, **_read_options(args))
     if args.json:
         _print_json(p["json"])
     elif args.csv:

@@ -23,11 +23,13 @@ from .catalog import load_target as _load_target
 from .errors import InputError, InternalError, NetfitError
 from .logic.hazard import COLLAPSE_INPUTS, add_consensus, design_hazards
 from .netlist import Netlist
+from .place import board_from_spec
+from .place import plan as plan_board
 from .read import read_design
 from .verify import check_equivalence
 from .write import BUILD_WRITERS, atomic_write, writer_for
 from .write.compare import compare_svg, compare_table
-from .write.parts import order_rows, parts_csv, parts_json, parts_table
+from .write.parts import order_rows, parts_csv, parts_json, parts_table, spares_from_text
 
 __all__ = ["Result", "inspect", "verify", "convert", "load_target", "targets", "target_info", "fit", "build",
            "write_build", "parts", "compare", "BUILD_FILES", "fit_hazard_free", "timing"]
@@ -176,8 +178,14 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
 
 
 def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, hazard_free: bool = False,
-          **read_options) -> Result:
-    """``netfit build``: read, fit, prove, analyze, and write the build's files when ``out_dir`` is given."""
+          documents: dict | None = None, **read_options) -> Result:
+    """``netfit build``: read, fit, prove, analyze, and write the build's files when ``out_dir`` is given.
+
+    ``documents`` holds the options of the documents (see :func:`write_build`).
+    """
+    documents = dict(documents or {})
+    board_from_spec(documents.get("board"))  # a bad --board is refused before the fit
+    spares_from_text(documents.get("spares"))
     with progress.stage("reading the design"):
         design = read_design(path, **read_options)
     target = load_target(target_name)
@@ -185,7 +193,7 @@ def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, haz
         r = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
     if out_dir is not None:
         with progress.stage("writing the build's files"):
-            write_build(r, out_dir, protect=(path,), copies=copies)
+            write_build(r, out_dir, protect=(path,), copies=copies, **documents)
     return r
 
 
@@ -199,7 +207,7 @@ def _file_stem(design: str) -> str:
     return stem + "_build" if stem == "cells" else stem
 
 
-def write_build(r: Result, out_dir, protect=(), copies: int = 1) -> list:
+def write_build(r: Result, out_dir, protect=(), copies: int = 1, **options) -> list:
     """Write the build's files into ``out_dir``; returns their paths.
 
     ``<design>.v`` and ``cells.v`` (structural Verilog and cell models),
@@ -208,28 +216,37 @@ def write_build(r: Result, out_dir, protect=(), copies: int = 1) -> list:
     ``schematic.svg`` and ``report.html`` (:data:`mapper.write.BUILD_WRITERS`).
     Each file is written through a temporary file and a rename; the wiring is
     checked (every pin on at most one net) before any file is written.
+    ``options``: ``board`` (as ``--board``: where the parts are placed and
+    wired, :mod:`mapper.place`), ``sockets`` and ``spares`` (the ordering
+    list), ``shapes`` (the schematic's gate shapes).
     """
     from .write import wiring
 
     wiring.wiring(r.build, r.analysis)  # raises before anything is written if a pin would join two nets
+    options["plan"] = plan_board(r.build, options.pop("board", None))
     out = Path(out_dir)
     stem = _file_stem(r.build.design)
     written = []
     for name, module in BUILD_WRITERS:
         p = out / (stem + name if name.startswith(".") else name)
-        written += module.write_build(r.build, r.analysis, p, protect=protect, copies=copies)
+        written += module.write_build(r.build, r.analysis, p, protect=protect, copies=copies, **options)
         log.info("wrote %s", p)
     return written
 
 
-def parts(path, target_name, effort: int = 1, copies: int = 1, **read_options) -> dict:
+def parts(path, target_name, effort: int = 1, copies: int = 1, sockets: bool = False, spares=None,
+          **read_options) -> dict:
     """``netfit parts``: the ordering list for ``copies`` copies of the build.
 
-    Returns ``{"result": Result, "json": data, "csv": text, "table": text}``.
+    ``sockets`` adds a socket per chip; ``spares`` (``"2"`` or ``"10%"``)
+    extra parts per row.  Returns ``{"result": Result, "json": data, "csv":
+    text, "table": text}``.
     """
+    spares = spares_from_text(spares)
     r = build(path, target_name, effort=effort, **read_options)
-    return {"result": r, "json": parts_json(r.build, copies), "csv": parts_csv(r.build, copies),
-            "table": parts_table(r.build, copies), "rows": order_rows(r.build, copies)}
+    b = r.build
+    return {"result": r, "json": parts_json(b, copies, sockets, spares), "csv": parts_csv(b, copies, sockets, spares),
+            "table": parts_table(b, copies, sockets, spares), "rows": order_rows(b, copies, sockets, spares)}
 
 
 def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -> dict:

@@ -17,7 +17,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..errors import UsageError
-from . import blif, html, json, parts, svg, verilog, wiring
+from . import blif, board, html, json, parts, svg, verilog, wiring
 from .files import atomic_write
 
 __all__ = ["WRITERS", "NETLIST_MODULES", "BUILD_WRITERS", "writer_for", "atomic_write"]
@@ -34,6 +34,7 @@ BUILD_WRITERS = (
     ("parts.csv", parts),
     ("wiring.txt", wiring),
     ("schematic.svg", svg),
+    ("board.svg", board),
     ("report.html", html),
 )
 

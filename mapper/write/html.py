@@ -1,32 +1,39 @@
 """The build report (``report.html``): one self-contained page.
 
-Summary, parts list (the ordering list), the drawing inline, delays (worst
-path and arrival per output), the wiring by net and pin by pin, cautions
-and notes.  No scripts, no fonts or images from elsewhere: the page opens
-offline and prints as it shows.  Layout: ``mapper/templates/report.html.j2``.
+Summary, cautions, the ordering list, the schematic (each page its own
+printed sheet), the board with its numbered wires to tick off, delays
+(worst path and arrival per output), glitches, the wiring by net and pin
+by pin, and notes.  No scripts, no fonts or images from elsewhere, no
+scroll boxes: the page opens offline and prints as it shows, drawings
+scaled to the page width.  Layout: ``mapper/templates/report.html.j2``.
 """
 from __future__ import annotations
 
 import logging
 
+from lxml import etree
 from markupsafe import Markup
 
 from .. import __version__
 from ..analyze.results import Analysis
 from ..build import Build
+from ..place import Plan, plan_for
+from .board import board_svg
 from .files import atomic_write
 from .layout import render
 from .parts import order_rows
-from .svg import svg_text
-from .wiring import wiring
+from .svg import page_elements
+from .wiring import board_data, wiring
 
 __all__ = ["report_text", "write_build"]
 
 log = logging.getLogger(__name__)
 
 
-def report_text(b: Build, analysis: Analysis) -> str:
-    """The report page of ``b`` as HTML text."""
+def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: str = "distinctive",
+                sockets: bool = False, spares=None, copies: int = 1) -> str:
+    """The report page of ``b`` as HTML text (``plan``: the placed board; default the default board)."""
+    plan = plan if plan is not None else plan_for(b)
     s = analysis.summary(b)
     timing = analysis.figures(b)
     outputs = []
@@ -37,9 +44,9 @@ def report_text(b: Build, analysis: Analysis) -> str:
     for step in timing.get("critical_path") or []:
         where = step.get("part", "")
         if "slot" in step:
-            where += f".{step['slot']}"
+            where += f", section {step['slot']}"
         elif "pole" in step:
-            where += f".{step['pole']}"
+            where += f", pole {step['pole']}"
         pins = ""
         if "from_pin_number" in step:
             pins = f"{step['from_pin_number']} → {step.get('to_pin_number', '')}"
@@ -64,11 +71,15 @@ def report_text(b: Build, analysis: Analysis) -> str:
                          "inputs": ", ".join(h.get("directions") or h.get("inputs_changed") or []),
                          "when": " ".join(f"{k}={v}" for k, v in (when[0] if when else {}).items()) or "any",
                          "width": widths})
-    return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b), w=wiring(b, analysis),
-                  svg=Markup(svg_text(b, analysis, declaration=False)), outputs=outputs, path=path, figures=figures,
-                  glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)))
+    sheets = [Markup(etree.tostring(e, encoding="unicode")) for e in page_elements(b, analysis, shapes)]
+    return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b, copies, sockets, spares),
+                  w=wiring(b, analysis), sheets=sheets, board=board_data(b, plan),
+                  board_svg=Markup(board_svg(b, analysis, plan, declaration=False)), outputs=outputs, path=path,
+                  figures=figures, glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)))
 
 
-def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:
+def write_build(b: Build, analysis: Analysis, path, protect=(), plan: Plan | None = None, shapes: str = "distinctive",
+                sockets: bool = False, spares=None, copies: int = 1, **options) -> list:
     """Write ``report.html`` of ``b`` to ``path`` (atomically)."""
-    return [atomic_write(path, report_text(b, analysis), protect=protect)]
+    text = report_text(b, analysis, plan, shapes, sockets, spares, copies)
+    return [atomic_write(path, text, protect=protect)]

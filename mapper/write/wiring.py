@@ -27,10 +27,12 @@ from .. import __version__
 from ..analyze.results import Analysis
 from ..build import SUPPLY_NETS, Build, ref_key
 from ..errors import InternalError
+from ..place import Plan, plan_for
+from ..place.runs import ROLE_COLOUR, hole_name
 from .files import atomic_write
 from .layout import render
 
-__all__ = ["PinUse", "wiring", "wiring_text", "write_build", "pin_label", "PinLookup"]
+__all__ = ["PinUse", "wiring", "wiring_text", "write_build", "pin_label", "PinLookup", "board_data"]
 
 log = logging.getLogger(__name__)
 
@@ -192,25 +194,25 @@ def _chip_pins(b: Build, ref: str, pd, pins: _Pins, cells: dict, placed: list, t
                 net = c.pins.get(pin)
                 if pin in cd.inputs:
                     if net in SUPPLY_NETS:
-                        pins.set(num, net, "input", f"{pin} of slot {s.index}, held at {net}")
+                        pins.set(num, net, "input", f"{pin} of section {s.index}, held at {net}")
                     else:
-                        pins.set(num, net, "input", f"{pin} of slot {s.index}")
+                        pins.set(num, net, "input", f"{pin} of section {s.index}")
                 elif net is None:
-                    pins.set(num, None, "open", f"{pin} of slot {s.index}, not used")
+                    pins.set(num, None, "open", f"{pin} of section {s.index}, not used")
                 else:
-                    pins.set(num, net, "output", f"{pin} of slot {s.index}")
+                    pins.set(num, net, "output", f"{pin} of section {s.index}")
             continue
         outs = _slot_outputs(b, pd, s)
         for pin, num in s.pins.items():
             if pin in outs:
                 if num not in pins.pins:
-                    pins.set(num, None, "open", f"output of unused slot {s.index}")
+                    pins.set(num, None, "open", f"output of unused section {s.index}")
                 continue
             t = ties.get(num)
             if t is not None:
                 pins.set(num, t.rail, "tie", t.reason)
             elif num not in pins.pins:
-                raise InternalError(f"{ref} pin {num} ({pin} of unused slot {s.index}) is an input "
+                raise InternalError(f"{ref} pin {num} ({pin} of unused section {s.index}) is an input "
                                     f"left open: the build has no tie-off for it")
     for num, t in ties.items():
         pins.set(num, t.rail, "tie", t.reason)
@@ -295,13 +297,43 @@ def _nets(b: Build, parts: list) -> list:
     return result
 
 
-def wiring_text(b: Build, analysis: Analysis) -> str:
-    """The wiring list of ``b`` as text (``wiring.txt``)."""
+def board_data(b: Build, plan: Plan) -> dict:
+    """Plain data of the board, where each part goes, the numbered wires and their totals."""
+    p, runs = plan.placement, plan.runs
+    parts = []
+    logic = {q.ref for q in b.parts}
+    for ref in sorted(p.parts, key=lambda r: (r not in logic, ref_key(r))):
+        pp = p.parts[ref]
+        if pp.fp is not None:
+            pin1 = pp.pins.get(1)
+            where = f"pin 1 at {hole_name(p, pin1)}" + (", notch to the left" if pp.fp.notch else "")
+        else:
+            where = pp.note + " (" + ", ".join(f"leg {n} in {hole_name(p, xy)}" for n, xy in sorted(pp.pins.items())) \
+                + ")"
+        parts.append({"ref": ref, "part": pp.part_id, "package": pp.package, "where": where})
+    wires = []
+    for w in runs.wires:
+        wires.append({"number": w.number, "net": w.net, "role": w.role, "colour": w.colour,
+                      "from": w.a.label, "from_hole": hole_name(p, w.a.hole),
+                      "to": w.b.label, "to_hole": hole_name(p, w.b.hole),
+                      "length_mm": round(w.length_m * 1000), "length_m": w.length_m, "jumper": w.jumper})
+    totals = runs.totals()
+    return {"board": p.board.title, "board_key": p.board.key, "boards": p.boards, "method": p.method,
+            "length_start": p.length_start, "length": p.length, "parts": parts, "wires": wires,
+            "totals": totals, "chains": runs.chains, "colours": ROLE_COLOUR,
+            "breadboard": p.board.is_breadboard}
+
+
+def wiring_text(b: Build, analysis: Analysis, plan: Plan | None = None) -> str:
+    """The wiring list of ``b`` as text (``wiring.txt``), its wires placed by ``plan`` (default: the default board)."""
     w = wiring(b, analysis)
     width = max([len(n["net"]) for n in w["nets"]] + [4])
-    return render("wiring.txt.j2", w=w, b=b, width=width, uses=USES)
+    board = board_data(b, plan if plan is not None else plan_for(b))
+    cols = {k: max([len(str(x[k])) for x in board["wires"]] + [len(k)]) for k in
+            ("from", "from_hole", "to", "to_hole", "net")}
+    return render("wiring.txt.j2", w=w, b=b, width=width, uses=USES, board=board, cols=cols)
 
 
-def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:
+def write_build(b: Build, analysis: Analysis, path, protect=(), plan: Plan | None = None, **options) -> list:
     """Write the wiring list of ``b`` to ``path`` (atomically)."""
-    return [atomic_write(path, wiring_text(b, analysis), protect=protect)]
+    return [atomic_write(path, wiring_text(b, analysis, plan), protect=protect)]

@@ -515,8 +515,16 @@ def test_parts_csv_totals_equal_the_json_summary(tmp_path, target, copies):
     rows = list(csv.DictReader(io.StringIO((tmp_path / "parts.csv").read_text())))
     total = rows.pop()
     assert total["part"] == "total"
+    sub = {r["part"]: r for r in rows if r["part"].startswith("total ")}
+    rows = [r for r in rows if not r["part"].startswith("total")]
     ext = sum(Decimal(r["extended_price"]) for r in rows)
     assert ext == Decimal(total["extended_price"])
+    assert Decimal(sub["total logic parts"]["extended_price"]) + Decimal(sub["total support parts"]["extended_price"]) \
+        == ext
+    # rows sorted by kind (chips before support parts), then by part number
+    kinds = [r["kind"] for r in rows]
+    assert kinds == sorted(kinds, key=["chip", "relay", "support", "socket"].index)
+    assert all(r["package"] for r in rows)
     assert abs(float(ext) - summary["cost"] * copies) < 1e-9
     for r in rows:
         assert Decimal(r["unit_price"]) * int(r["quantity"]) == Decimal(r["extended_price"])
@@ -525,6 +533,7 @@ def test_parts_csv_totals_equal_the_json_summary(tmp_path, target, copies):
     assert logic == {k: v * copies for k, v in summary["parts"].items()}
     assert support == {k: v * copies for k, v in summary["support_parts"].items()}
     assert int(total["quantity"]) == (summary["parts_total"] + sum(summary["support_parts"].values())) * copies
+    assert int(sub["total logic parts"]["quantity"]) == summary["parts_total"] * copies
     assert int(total["slots_used"]) == summary["slots_used"] * copies
     assert int(total["slots_available"]) == summary["slots_available"] * copies
 
@@ -536,7 +545,7 @@ def test_build_command_writes_every_file(tmp_path, netfit):
     assert code == 0, err
     names = sorted(p.name for p in tmp_path.iterdir())
     assert names == sorted(["c17.v", "cells.v", "c17.blif", "c17.json", "parts.csv", "wiring.txt",
-                            "schematic.svg", "report.html"])
+                            "schematic.svg", "board.svg", "report.html"])
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no temporary files left
     # the BLIF of the build reads back and is proved equal to the design
     back = read_design(tmp_path / "c17.blif")
