@@ -160,9 +160,37 @@ def _build_args(p):
         "perf:WxH or wrap:WxH (a perforated or wire-wrap board of W x H holes at 0.1 inch)"))
     p.add_argument("--symbols", choices=("distinctive", "rectangular"), default="distinctive",
                    help="gate symbols of the schematic: IEEE 91 distinctive shapes (default) or IEC rectangles")
+    _add_clock_args(p)
     _add_order_args(p)
     _add_read_args(p)
     p.add_argument("--json", action="store_true", help="print the build summary as JSON")
+
+
+def _add_clock_args(p):
+    p.add_argument("--clock", type=_clock, metavar="RATE", help=(
+        "the clock you will run, as a rate (10MHz, 5Hz) or a period (100ns, 200ms): hold margins, pulse "
+        "widths and the switching supply current are figured at it"))
+    p.add_argument("--together", action="append", type=_names, default=[], metavar="A,B,...", help=(
+        "inputs that change at once (bits of one bus, outputs of one counter): the glitch search changes "
+        "them together; give it once per group"))
+
+
+def _clock(text):
+    from .units import parse_quantity
+    try:
+        value, unit = parse_quantity(text.strip())
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a rate (10MHz, 5Hz) or a period (100ns)") from None
+    if value <= 0 or unit not in ("Hz", "s"):
+        raise argparse.ArgumentTypeError(f"{text!r} is not a rate (10MHz, 5Hz) or a period (100ns)")
+    return value if unit == "Hz" else 1.0 / value
+
+
+def _names(text):
+    names = [n.strip() for n in text.split(",") if n.strip()]
+    if len(names) < 2:
+        raise argparse.ArgumentTypeError(f"{text!r}: name two or more inputs, separated by commas")
+    return names
 
 
 def _add_order_args(p):
@@ -202,7 +230,8 @@ def cmd_build(args):
     _progress(args)
     docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols}
     r = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
-                   hazard_free=args.hazard_free, documents=docs, **_read_options(args))
+                   hazard_free=args.hazard_free, documents=docs, clock_hz=args.clock, together=args.together,
+                   **_read_options(args))
     s = r.analysis.summary(r.build)
     if args.json:
         _print_json(s)
@@ -222,9 +251,17 @@ def cmd_build(args):
         print(f"slots   {s['slots_used']} used of {s['slots_available']}  ({s['spare_slots']} spare)")
     if s["support_parts"]:
         print("support " + ", ".join(f"{k} ×{v}" for k, v in s["support_parts"].items()))
-    print(f"delay   {si(s['delay_s'], 's')} worst path (maximum figures)")
+    print(f"delay   {si(s['delay_s'], 's')} slowest path (maximum figures)")
+    ck = r.analysis.timing.clock
+    if ck is not None:
+        print("clock   " + _clock_line(ck.as_dict()))
     if "supply_current_a" in s:
-        print(f"supply  {si(s['supply_current_a'], 'A')} worst case")
+        static = s.get("supply_current_static_a")
+        extra = (f"; {si(static, 'A')} with nothing switching" if static is not None and not r.build.is_relay
+                 else "")
+        print(f"supply  {si(s['supply_current_a'], 'A')} worst case ({s.get('supply_basis', '')}){extra}")
+    print(f"glitches {s['hazards_total']} found" + (f", {s['glitch_errors']} reaching storage"
+                                                   if s["glitch_errors"] else ""))
     print(f"cost    {s['cost']:.2f} {s['currency']}")
     for c in s["cautions"]:
         print(f"caution: {c}")
@@ -240,11 +277,15 @@ def _timing_args(p):
                    help="target name (see `netfit targets`) or a target .xml file")
     p.add_argument("--hazard-free", action="store_true",
                    help="build with consensus terms added to the two-level covers, and show what they cost")
-    p.add_argument("--multi", action="store_true", help="also try changes of two inputs at once")
+    p.add_argument("--multi", action="store_true",
+                   help="also try every two inputs changing at once (gate targets)")
     p.add_argument("--changes", type=_positive, metavar="N",
                    help="examine at most N input changes, drawn at random beyond that (default 20000)")
+    p.add_argument("--detail", action="store_true",
+                   help="list every glitch with its racing paths, and when relay contacts float")
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),
                    help="0: one mapping pass; 1 (default): also search for fewer parts")
+    _add_clock_args(p)
     _add_read_args(p)
     p.add_argument("--json", action="store_true", help="print JSON")
 
@@ -254,92 +295,212 @@ def _hop_text(h) -> str:
         return f"{h['net']}"
     pins = ""
     if "from_pin_number" in h:
-        pins = f" {h['from_pin_number']}→{h.get('to_pin_number')}"
+        pins = f" pin {h['from_pin_number']}→{h.get('to_pin_number')}"
     return f"{h['part']}{pins} ({h['cell']}) {h['net']}"
 
 
 def _cube_text(d) -> str:
-    return " ".join(f"{k}={v}" for k, v in d.items()) or "any"
+    return " ".join(f"{k}={v}" for k, v in d.items()) or "in any state"
 
 
-@command("timing", "worst and best paths, clock rate, and glitches of a design's build, with their causes",
+def _pulse_text(w) -> str:
+    lo, hi = w
+    return f"up to {si(hi, 's')}" if lo <= 0 else f"{si(lo, 's')} to {si(hi, 's')}"
+
+
+def _clock_line(c: dict) -> str:
+    """The clock verdict in one line: the safe rate, and the rate asked for."""
+    if c.get("clock_period_min_s") is None:
+        return "no clock rate works: latches open at the same time feed one another in a loop"
+    text = (f"safe up to {si(c['clock_max_hz'], 'Hz')}: one tick per {si(c['clock_period_min_s'], 's')} "
+            f"(set by the {c.get('clock_limited_by') or 'storage'})")
+    req = c.get("clock_requested_period_s")
+    if req is not None:
+        spare = req - c["clock_period_min_s"]
+        text += (f"; {si(1 / req, 'Hz')} asked: " + (f"meets it with {si(spare, 's')} to spare" if spare >= 0
+                                                    else f"too fast by {si(-spare, 's')} a tick"))
+    return text
+
+
+def _storage_text(d: dict) -> str:
+    text = d.get("net") or "?"
+    if d.get("part"):
+        text += f" ({d['part']} {d.get('cell', '')}".rstrip() + (f" pin {d['pin_number']}" if d.get("pin_number")
+                                                                 else "") + ")"
+    return text
+
+
+def _print_paths(r) -> None:
+    print(f"\n{'output':<16}{'fastest typ':>12}{'fastest max':>12}{'slowest typ':>12}{'slowest max':>12}")
+    for p in r["paths"]:
+        cells = [p.get(k) for k in ("best_s", "best_max_s", "worst_typ_s", "worst_s")]
+        if r["relay"]:
+            cells[1] = cells[2] = None   # relay builds give the fastest typical and the slowest worst only
+        print(f"{p['output']:<16}" + "".join(f"{si(v, 's') if v is not None else '':>12}" for v in cells))
+    if not r["critical_path"]:
+        return
+    st = r.get("critical_start") or {}
+    start = st.get("net") or r["critical_path"][0].get("net_in", "")
+    kind = {"input": "input", "storage": "storage bit", "rail": "the supply rail"}.get(st.get("kind") or "", "net")
+    print(f"\nslowest path, from {kind} {_storage_text({**st, 'net': start}) if kind != 'the supply rail' else ''}"
+          .rstrip() + ":")
+    if r["relay"]:
+        print(f"  {'step':<5}{'relay':<8}{'coil':<14}{'pole':<6}{'signal':<16}{'ready at':>10}")
+        for i, h in enumerate(r["critical_path"], 1):
+            print(f"  {i:<5}{h.get('part', ''):<8}{h.get('coil', ''):<14}{h.get('pole', ''):<6}{h['net']:<16}"
+                  f"{si(h.get('arrival_s'), 's'):>10}")
+        return
+    print(f"  {'step':<5}{'chip':<7}{'pins in→out':<14}{'signal':<16}{'adds':>9}{'ready at':>10}")
+    for i, h in enumerate(r["critical_path"], 1):
+        pins = f"{h.get('from_pin_number')}→{h.get('to_pin_number')}"
+        print(f"  {i:<5}{h['part']:<7}{pins:<14}{h['net']:<16}{'+' + si(h['delay_s'], 's'):>9}"
+              f"{si(h['arrival_s'], 's'):>10}")
+
+
+def _print_clock(r) -> None:
+    if "clock_period_min_s" not in r:
+        return
+    print("\nclock   " + _clock_line(r))
+    path = r.get("clock_path") or {}
+    if path.get("from"):
+        print(f"        slowest storage-to-storage path: {_storage_text(path['from'])} → "
+              f"{_storage_text(path['to'])}" + (" (launched on the other edge)" if path.get("half_cycle") else ""))
+    if r.get("clock_high_min_s") is not None:
+        print(f"        keep the clock high at least {si(r['clock_high_min_s'], 's')} and low at least "
+              f"{si(r['clock_low_min_s'], 's')}; data inputs steady {si(r.get('input_setup_s'), 's')} before "
+              f"the clock edge and {si(r.get('input_hold_s'), 's')} after it")
+    else:
+        if r.get("hold_slack_s") is not None:
+            print(f"        smallest hold margin {si(r['hold_slack_s'], 's')} (at one tick per "
+                  f"{si(r.get('clock_checked_period_s'), 's')})")
+        print(f"        data inputs steady {si(r.get('input_setup_s'), 's')} before the clock edge")
+        if r.get("clock_pulse_min_s"):
+            print(f"        clock high and low at least {si(r['clock_pulse_min_s'], 's')} each")
+    if r.get("clock_to_output_s") is not None:
+        print(f"        outputs ready {si(r['clock_to_output_s'], 's')} after the clock edge")
+    for b in r.get("latches_borrowing", [])[:5]:
+        print(f"        latch {b['net'] and _storage_text({'net': b['net'], 'part': b['part'], 'cell': b['cell']})}"
+              f" takes data {si(b['borrowed_s'], 's')} after it opens (time borrowed from the next stage)")
+    for v in r.get("hold_violations", [])[:10]:
+        print(f"        hold margin missed by {si(-v['slack_s'], 's')}: {_storage_text(v['from'])} → "
+              f"{_storage_text(v['to'])}")
+    for v in r.get("pulse_violations", [])[:10]:
+        print(f"        clock half period {si(v['half_period_s'], 's')} is shorter than the "
+              f"{si(v['pulse_s'], 's')} pulse {v['part']} needs")
+    for n in r.get("clock_notes", []):
+        print(f"        {n}")
+
+
+def _glitch_groups(hazards: list) -> list:
+    """Glitches grouped by output and kind: one row each with the changes, counts and widest pulse."""
+    groups: dict = {}
+    for h in hazards:
+        g = groups.setdefault((h["output"], h["kind"]), {"output": h["output"], "kind": h["kind"], "n": 0,
+                                                         "inputs": [], "widest": 0.0, "reaches": [],
+                                                         "error": False})
+        g["n"] += 1
+        for i in h["inputs_changed"]:
+            if i not in g["inputs"]:
+                g["inputs"].append(i)
+        g["widest"] = max(g["widest"], h["width_s"][1])
+        g["error"] = g["error"] or h.get("error", False)
+        for w in h.get("reaches", []):
+            text = f"the {w['role']} of {w['part']}" + (f" pin {w['pin_number']}" if w.get("pin_number") else "")
+            if text not in g["reaches"]:
+                g["reaches"].append(text)
+    return sorted(groups.values(), key=lambda g: (not g["error"], g["output"], g["kind"]))
+
+
+def _print_glitches(r, detail: bool) -> None:
+    g = r["glitch_search"]
+    if g.get("sample"):
+        print(f"\nglitch search: {g['sample']}; shortest delays taken as the {g.get('min_delay', 'typical figure')}")
+        ctl = g.get("control_search")
+        if ctl:
+            print(f"               clocks and enables ({', '.join(ctl.get('nets', []))}) searched on their own: "
+                  f"{ctl['sample']}")
+        if g.get("bits_changed_together"):
+            print(f"               {g['bits_changed_together']} change(s) of storage bits on one clock edge tried "
+                  "together")
+    elif g.get("method"):
+        print(f"\nglitch search: {g['method']}, {g.get('checked', 0)} changes")
+    groups = _glitch_groups(r["hazards"])
+    print(f"glitches {r['hazards_total']}" + (f" in {len(groups)} group(s)" if groups else "")
+          + (f", {r['glitch_errors']} reaching storage" if r["glitch_errors"] else ""))
+    if groups:
+        print(f"  {'signal':<16}{'kind':<10}{'changes':>8}  {'widest':>8}  inputs changing")
+    for grp in groups:
+        mark = "  → " + ", ".join(grp["reaches"]) if grp["reaches"] else ""
+        print(f"  {grp['output']:<16}{grp['kind']:<10}{grp['n']:>8}  {si(grp['widest'], 's'):>8}  "
+              f"{', '.join(grp['inputs'])}{mark}")
+    if not detail:
+        if r["hazards"]:
+            print("  (--detail lists each glitch with its racing paths)")
+        return
+    for h in r["hazards"]:
+        when = "; ".join(_cube_text(w) for w in h["when"])
+        print(f"\n  {h['output']}: {h['kind']} pulse {_pulse_text(h['width_s'])} when "
+              f"{', '.join(h['inputs_changed'])} changes ({'; '.join(h['directions'])}) with {when}")
+        for p in h["racing_paths"]:
+            if p and "hops" in p:
+                print(f"      {p['from']} → " + " → ".join(_hop_text(x) for x in p["hops"]))
+            elif p and p.get("break_before_make"):
+                bm = p["break_before_make"]
+                held = "held low by its load" if bm.get("loaded") else "floating"
+                print(f"      {p['from']} moves {bm['part']} (coil {bm['coil']}): pole {bm['pole']} breaks "
+                      f"before it makes, {bm['net']} {held} meanwhile")
+        for w in h.get("reaches", []):
+            pin = f", pin {w['pin_number']}" if w.get("pin_number") else ""
+            print(f"      reaches the {w['role']} of {w['part']} ({w['cell']}{pin}): it can store a wrong bit")
+    floats = r.get("floating") or []
+    if floats:
+        print("\nrelay contacts in transfer (the net touches neither side):")
+        for f in floats:
+            print(f"  {f['net']:<16}{f['part']} pole {f['pole']}: from {si(f['floating_s'][0], 's')} to "
+                  f"{si(f['floating_s'][1], 's')}, settled by {si(f['settled_s'], 's')}"
+                  + ("" if f["loaded"] else "  (nothing holds it meanwhile)"))
+
+
+@command("timing", "slowest and fastest paths, safe clock rate, hold margins and glitches of a design's build",
          _timing_args)
 def cmd_timing(args):
     from . import flow
     _progress(args)
     r = flow.timing(args.design, args.target, hazard_free=args.hazard_free, multi=args.multi,
-                    effort=args.effort, max_transitions=args.changes, **_read_options(args))
-    code = 1 if r["glitch_errors"] else 0
+                    effort=args.effort, max_transitions=args.changes, clock_hz=args.clock, together=args.together,
+                    **_read_options(args))
+    code = 1 if r["glitch_errors"] or r["timing_violations"] else 0
     if args.json:
         _print_json(r)
         return code
     print(f"design  {r['design']}  on target {r['target']}  ({r['parts']} parts)")
-    print(f"delay   {si(r['delay_s'], 's')} worst path (maximum figures), {si(r['delay_typ_s'], 's')} "
-          f"typical; {r['levels']} level(s)")
-    print(f"\n{'output':<16}{'best typ':>11}{'best max':>11}{'worst typ':>11}{'worst max':>11}")
-    for p in r["paths"]:
-        print(f"{p['output']:<16}{si(p.get('best_s'), 's'):>11}{si(p.get('best_max_s'), 's'):>11}"
-              f"{si(p.get('worst_typ_s'), 's'):>11}{si(p.get('worst_s'), 's'):>11}")
-    if r["critical_path"]:
-        st = r.get("critical_start") or {}
-        start = st.get("net") or r["critical_path"][0].get("net_in", "")
-        if st.get("kind") == "storage":
-            start += f" ({st.get('part')} {st.get('cell')}" + (f" pin {st['pin_number']}" if "pin_number" in st
-                                                              else "") + ")"
-        print(f"\ncritical path from {start}:")
-        for h in r["critical_path"]:
-            if "from_pin_number" in h:
-                print(f"  {h['part']:<5} {h['cell']:<8} pin {h['from_pin_number']} ({h['from_pin']}) → pin "
-                      f"{h['to_pin_number']} ({h['to_pin']})  {h['net']:<14} +{si(h['delay_s'], 's'):<9} "
-                      f"at {si(h['arrival_s'], 's')}")
-            else:
-                print(f"  {h.get('part', '')} {h['net']}  at {si(h.get('arrival_s'), 's')}")
-    if r.get("clock_max_hz"):
-        print(f"\nclock   at most {r['clock_max_hz'] / 1e6:.3g} MHz (period {si(r['clock_period_min_s'], 's')})"
-              + (f"; hold slack {si(r['hold_slack_s'], 's')}" if r.get("hold_slack_s") is not None else ""))
-        for n in r.get("clock_notes", []):
-            print(f"        {n}")
-    for f in r.get("floating", []):
-        print(f"floats  {f['net']} ({f['part']} pole {f['pole']}): {si(f['floating_s'][0], 's')} to "
-              f"{si(f['floating_s'][1], 's')}, settled by {si(f['settled_s'], 's')}"
-              + ("" if f["loaded"] else "  (no load resistor)"))
-    g = r["glitch_search"]
-    if g.get("checked") is not None:
-        how = "all of them" if g.get("exhaustive") else f"drawn at random from {g['total']}"
-        if g.get("stopped_early"):
-            how = f"in random order from {g['total']}, when the work budget ran out (--changes N to go on)"
-        print(f"\nglitch search: {g['checked']} input change(s), {how}"
-              + (f"; minimum delays: {g['min_delay']}" if g.get("min_delay") else f"; {g.get('method', '')}"))
-        if g.get("sample") and not g.get("exhaustive"):
-            print(f"               {g['sample']}")
-    print(f"hazards {r['hazards_total']}")
-    for h in r["hazards"]:
-        when = "; ".join(_cube_text(w) for w in h["when"])
-        print(f"  {h['output']:<12}{h['kind']:<10}{', '.join(h['inputs_changed'])} changes "
-              f"({'; '.join(h['directions'])}) when {when}: pulse {si(h['width_s'][0], 's')} to "
-              f"{si(h['width_s'][1], 's')}")
-        for p in h["racing_paths"]:
-            if "hops" in p:
-                print(f"      {p['from']} → " + " → ".join(_hop_text(x) for x in p["hops"]))
-            elif p.get("break_before_make"):
-                bm = p["break_before_make"]
-                held = "held low by its load" if bm.get("loaded") else "floating"
-                print(f"      {p['from']} moves {bm['part']} (coil {bm['coil']}): pole {bm['pole']} breaks "
-                      f"before it makes, {bm['net']} {held} meanwhile")
-        for w in h["reaches"]:
-            print(f"      error: reaches the {w['role']} of {w['part']} ({w['cell']}, pin {w['pin_number']})")
+    print(f"slowest path {si(r['delay_s'], 's')} (maximum figures), {si(r['delay_typ_s'], 's')} typical; "
+          f"{r['levels']} {'coil level' if r['relay'] else 'gate'}(s) deep")
+    _print_paths(r)
+    _print_clock(r)
+    sup = r["supply"]
+    print(f"\nsupply  {si(sup['supply_current_a'], 'A')} worst case ({sup.get('supply_basis', '')})"
+          + (f"; {si(sup['supply_current_static_a'], 'A')} with nothing switching"
+             if sup.get("supply_current_static_a") is not None and not r["relay"] else ""))
+    _print_glitches(r, args.detail)
     if r["cover_hazards"]:
-        print(f"\ncover hazards (the design's two-level covers): {len(r['cover_hazards'])}")
-        for c in r["cover_hazards"][:50]:
-            print(f"  {c['node']:<12}{c['kind']:<10}{c['input']} changes when "
+        print(f"\ncover hazards (the design's own two-level covers): {len(r['cover_hazards'])}")
+        for c in r["cover_hazards"][:50 if args.detail else 10]:
+            print(f"  {c['node']:<12}{c['kind']:<10}{c['input']} changes with "
                   f"{'; '.join(_cube_text(w) for w in c['when'])}; cured by the term {_cube_text(c['fix'])}")
     if "hazard_free" in r:
         h = r["hazard_free"]
         print(f"\nhazard-free: {h['terms_added']} consensus term(s) added; {h['parts']} parts against "
               f"{h['parts_plain']} ({h['extra_parts']:+d}); glitches {h['hazards']} against {h['hazards_plain']}")
-    if code:
-        print(f"netfit: error: {r['glitch_errors']} glitch(es) reach a clock, enable, preset or clear input",
-              file=sys.stderr)
+    for c in r.get("cautions", []):
+        if c.startswith(("glitch on", "hold margin", "the clock asked", "clock pulses", "latches open")):
+            print(f"caution: {c}")
+    if r["glitch_errors"]:
+        print(f"netfit: error: {r['glitch_errors']} glitch(es) reach a clock, enable, preset or clear input "
+              "(--hazard-free, or drive it from one input)", file=sys.stderr)
+    if r["timing_violations"]:
+        print(f"netfit: error: {r['timing_violations']} timing check(s) fail: hold margins, clock pulses or the "
+              "clock asked for (see above)", file=sys.stderr)
     return code
 
 

@@ -20,7 +20,7 @@ from .analyze.results import Analysis, Proof
 from .build import Build
 from .catalog import Target, builtin_targets, describe_target
 from .catalog import load_target as _load_target
-from .errors import InputError, InternalError, NetfitError
+from .errors import InputError, InternalError, NetfitError, UsageError
 from .logic.hazard import COLLAPSE_INPUTS, add_consensus, design_hazards
 from .netlist import Netlist
 from .place import board_from_spec
@@ -134,13 +134,37 @@ def prove(design: Netlist, build: Build) -> Proof:
     return Proof("proved", result.method, list(result.notes))
 
 
-def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False) -> Result:
+def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False,
+        clock_hz: float | None = None, together=(), clean_controls: bool = True) -> Result:
     """Map a read design onto a loaded target, prove the build, and analyze it.
 
     ``keep`` and ``trees`` serve hazard-free builds (see
-    :func:`mapper.fit.fit.fit_gates`).  A build that fails its proof is a bug
-    of ours (:class:`InternalError`, exit 3), never a result.
+    :func:`mapper.fit.fit.fit_gates`).  ``clock_hz`` is the clock rate the
+    builder means to run and ``together`` groups of inputs that change at
+    once (see :func:`mapper.analyze.analyze_build`).  A build that fails its
+    proof is a bug of ours (:class:`InternalError`, exit 3), never a result.
+
+    Clocks and enables are built free of glitches by default: when a gate
+    build lets a glitch reach a clock, enable, preset or clear, the cones of
+    the design's clocks and enables are rewritten as hazard-free two-level
+    covers (:func:`mapper.logic.hazard.add_consensus`), built again with
+    those nodes kept, and the build with the fewest such glitches (then the
+    fewest parts) is returned; a note says what it cost (``clean_controls``
+    false keeps the first build, for tests and comparisons).  On relay targets a
+    design whose latches can run data through one another, or whose decoded
+    clock can glitch, is refused (:class:`UsageError`, exit 2): relays move
+    in any order, so no relay build of it is safe.
     """
+    if target.is_relay:
+        _refuse_latch_races(design, target)
+    r = _fit_once(design, target, effort, keep, trees, clock_hz, together)
+    if clean_controls and not target.is_relay and not keep and r.analysis.glitches.errors:
+        r = _clean_controls(design, target, effort, r, clock_hz, together)
+    return r
+
+
+def _fit_once(design, target, effort, keep, trees, clock_hz, together) -> Result:
+    """One map, proof and analysis (with repeater relays where relay chains are too long)."""
     clock = [time.perf_counter()]
     stages: dict = {}
 
@@ -153,7 +177,7 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     lap("fit")
     proof = prove(design, build)
     lap("proof")
-    analysis = analyze_build(build, proof)
+    analysis = analyze_build(build, proof, clock_hz=clock_hz, together=together)
     lap("analysis")
     for _ in range(MAX_REPEATER_ROUNDS):   # relay chains too long to hold their coils: add repeaters
         nets = (analysis.wired or {}).get("redrive") or []
@@ -165,8 +189,10 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
             break
         build = again
         proof = prove(design, build)
-        analysis = analyze_build(build, proof)
+        analysis = analyze_build(build, proof, clock_hz=clock_hz, together=together)
         lap("repeaters")
+    if build.is_relay and analysis.glitches.errors:
+        _refuse_relay_control_glitch(design, build, target, analysis)
     wiring = analysis.wiring_check
     if wiring is not None and wiring["defects"]:
         found = {k: len(wiring[k]) for k in ("order_dependent", "oscillations", "shorts", "back_feeds", "floating",
@@ -177,11 +203,88 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     return Result(build, analysis)
 
 
+def _refuse_latch_races(design: Netlist, target: Target) -> None:
+    """Refuse a relay build of latches that run data through one another (see :mod:`mapper.logic.races`)."""
+    from .logic.races import latch_races
+    races = latch_races(design)
+    if not races:
+        return
+    lines = []
+    for r in races:
+        if r["kind"] == "loop":
+            lines.append(f"latches {', '.join(r['latches'])} feed their own data while {r['enable']} holds them "
+                         "open: they have no stable value then")
+        else:
+            lines.append(f"latch {r['to']} is fed from latch {r['from']}, and they are open on opposite levels of "
+                         f"{r['enable']}: as it changes one opens while the other closes, and relays moving in "
+                         "any order let the new data run through both")
+    raise UsageError(f"{design.name} cannot be built safely on relays ({target.name}): " + "; ".join(lines)
+                     + ". Use flip-flops, or two enables that are never on together")
+
+
+def _refuse_relay_control_glitch(design: Netlist, build: Build, target: Target, analysis: Analysis) -> None:
+    """Refuse a relay build whose decoded clock or enable can drop out while a contact transfers."""
+    bad = [h for h in analysis.glitches.hazards if h["error"]]
+    h = bad[0]
+    when = "; ".join(", ".join(f"{k}={v}" for k, v in w.items()) or "any state" for w in h["when"][:3])
+    storage = design.storage()
+    name = next((storage[lt.net].control for lt in build.latches
+                 if lt.control == h["net"] and lt.net in storage and storage[lt.net].control), h["net"])
+    raise UsageError(
+        f"the {h['reaches'][0]['role'] if h['reaches'] else 'clock'} {name} of {design.name} is decoded by "
+        f"contacts and drops out while a contact transfers ({', '.join(h['inputs_changed'])} changes when {when}): "
+        f"on relays ({target.name}) its storage would step on that dropout. netfit builds contact networks as "
+        "changeover trees, which cannot hold such a net; drive the clock or enable from one input (or one "
+        f"storage bit), or build {design.name} on a gate target, where its clock is built free of glitches")
+
+
+def _clean_controls(design: Netlist, target: Target, effort: int, plain: Result, clock_hz, together) -> Result:
+    """The build with clock and enable cones made hazard-free, when that lets fewer glitches reach storage."""
+    from .logic.hazard import control_cones
+    controls, nodes = control_cones(design)
+    if not nodes:
+        return plain
+    hf, kept, report = add_consensus(design, collapse_inputs=COLLAPSE_INPUTS, only=nodes)
+    if not kept:
+        return plain
+    same = check_equivalence(design, hf)
+    if not same.equivalent:
+        raise InternalError(f"making the clocks of {design.name} hazard-free changed their logic — a bug in netfit")
+    tries = [plain]
+    for trees in (False, True):
+        tries.append(_fit_once(hf, target, effort, kept, trees, clock_hz, together))
+        if not tries[-1].analysis.glitches.errors:
+            break
+    best = min(tries, key=lambda x: (x.analysis.glitches.errors, len(x.build.parts), len(x.build.cells)))
+    own = [h for h in design_hazards(design) if h["node"] in nodes]
+    if best is plain:
+        plain.analysis.notes.append(
+            "clocks and enables rebuilt as hazard-free covers still let a glitch reach storage: the plain build "
+            "is kept (see its cautions)")
+        return plain
+    extra = len(best.build.parts) - len(plain.build.parts)
+    terms = report["terms_added"]
+    note = (f"clocks and enables ({', '.join(controls)}) built free of glitches: {terms} consensus term(s) "
+            f"added, {extra:+d} part(s) against the plain build, which let {plain.analysis.glitches.errors} "
+            "glitch(es) reach storage")
+    if own:
+        note += ("; the design's own cover glitches there (" + "; ".join(
+            f"{h['node']} when {h['input']} changes, cured by the term {_cube_text(h['fix'])}" for h in own[:3])
+            + ")")
+    best.analysis.notes.append(note)
+    return best
+
+
+def _cube_text(d: dict) -> str:
+    return "·".join(f"{k}" if v else f"{k}'" for k, v in d.items()) or "1"
+
+
 def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, hazard_free: bool = False,
-          documents: dict | None = None, **read_options) -> Result:
+          documents: dict | None = None, clock_hz: float | None = None, together=(), **read_options) -> Result:
     """``netfit build``: read, fit, prove, analyze, and write the build's files when ``out_dir`` is given.
 
-    ``documents`` holds the options of the documents (see :func:`write_build`).
+    ``documents`` holds the options of the documents (see :func:`write_build`);
+    ``clock_hz`` and ``together`` go to :func:`fit`.
     """
     documents = dict(documents or {})
     board_from_spec(documents.get("board"))  # a bad --board is refused before the fit
@@ -190,7 +293,10 @@ def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, haz
         design = read_design(path, **read_options)
     target = load_target(target_name)
     with progress.stage(f"fitting {design.name} onto {target.name} and proving it"):
-        r = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
+        if hazard_free:
+            r = fit_hazard_free(design, target, effort, clock_hz=clock_hz, together=together)
+        else:
+            r = fit(design, target, effort=effort, clock_hz=clock_hz, together=together)
     if out_dir is not None:
         with progress.stage("writing the build's files"):
             write_build(r, out_dir, protect=(path,), copies=copies, **documents)
@@ -315,7 +421,8 @@ def compare(path, target_names=None, effort: int = 1, jobs: int | None = None, s
     return {**data, "table": compare_table(data)}
 
 
-def fit_hazard_free(design: Netlist, target: Target, effort: int = 1) -> Result:
+def fit_hazard_free(design: Netlist, target: Target, effort: int = 1, clock_hz: float | None = None,
+                    together=()) -> Result:
     """Fit ``design`` with every two-level cover made free of static hazards (``--hazard-free``).
 
     Small cones that glitch are collapsed into two-level covers and
@@ -332,12 +439,13 @@ def fit_hazard_free(design: Netlist, target: Target, effort: int = 1) -> Result:
     same = check_equivalence(design, hf)
     if not same.equivalent:
         raise InternalError(f"adding consensus terms changed the logic of {design.name} — this is a bug in netfit")
-    plain = fit(design, target, effort=effort)
+    plain = fit(design, target, effort=effort, clock_hz=clock_hz, together=together)
     # The mapper may still rebuild a kept node from a minimum circuit with reconvergent paths
     # (x + x'y for x + y), which glitches again; the part search makes that likelier.  So each
     # effort level is tried and the glitch finder picks: fewest glitches, then fewest parts --
     # the plain build included, so the answer is never worse than it (ties go to the plain build).
-    tries = [plain] + [fit(hf, target, effort=e, keep=kept, trees=True) for e in sorted({0, effort})]
+    tries = [plain] + [fit(hf, target, effort=e, keep=kept, trees=True, clock_hz=clock_hz, together=together)
+                       for e in sorted({0, effort})]
     best = min(tries, key=lambda x: (x.analysis.glitches.total, len(x.build.parts), len(x.build.cells)))
     report["chosen"] = "plain" if best is plain else "consensus"
     if best is plain:
@@ -360,42 +468,61 @@ def fit_hazard_free(design: Netlist, target: Target, effort: int = 1) -> Result:
 
 
 def timing(path, target_name, hazard_free: bool = False, multi: bool = False, effort: int = 1,
-           max_transitions: int | None = None, **read_options) -> dict:
-    """``netfit timing``: static timing, glitches and cover hazards of a design's build.
+           max_transitions: int | None = None, clock_hz: float | None = None, together=(),
+           **read_options) -> dict:
+    """``netfit timing``: static timing, clock verdicts, glitches and cover hazards of a design's build.
 
     Returns a dict with ``delay_s`` (worst path, maximum figures), ``delay_typ_s``,
     ``levels``, ``outputs``, ``paths`` (per output: worst and best path with parts
-    and pins), ``critical_path``, ``clock_max_hz`` and the other clock figures
-    for sequential builds, ``hazards`` (the glitch finder's, each with at least
-    ``output``, ``kind``, ``inputs_changed`` and ``width_s``), ``glitch_errors``
-    (hazards reaching a clock, enable, preset or clear), ``glitch_search``,
-    ``cover_hazards`` (the algebraic check of the design's two-level covers),
-    ``floating`` for relay builds and ``hazard_free`` when asked for.
+    and pins), ``critical_path`` and ``critical_start``, the clock figures of a
+    sequential build (``clock_max_hz``, ``clock_period_min_s``, ``clock_path``,
+    hold margins and their violations, pulse widths, and for relays the
+    shortest clock high and low), ``timing_violations`` (hold margins and
+    pulse widths missed, a ``clock_hz`` too fast), ``hazards`` (each with at
+    least ``output``, ``kind``, ``inputs_changed``, ``width_s`` and
+    ``error``), ``glitch_errors`` (hazards reaching a clock, enable, preset
+    or clear), ``glitch_search``, ``cover_hazards`` (the algebraic check of
+    the design's two-level covers), ``floating`` for relay builds,
+    ``supply`` figures and ``hazard_free`` when asked for.  ``multi`` (pairs
+    of inputs changing at once) is refused on relay targets: the
+    switch-level check of every relay build already moves the relays in
+    every order.
     """
     design = read_design(path, **read_options)
     target = load_target(target_name)
-    r = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
+    if multi and target.is_relay:
+        raise UsageError("--multi tries pairs of inputs changing at once in the timed search of gate builds; "
+                         f"{target.name} is a relay target, whose builds are checked relay by relay in every "
+                         "order (see the wiring check in the build's report): leave --multi out")
+    if hazard_free:
+        r = fit_hazard_free(design, target, effort, clock_hz=clock_hz, together=together)
+    else:
+        r = fit(design, target, effort=effort, clock_hz=clock_hz, together=together)
     b, a = r.build, r.analysis
     if b.cells:
+        from .analyze.cautions import cautions
         a.glitches = build_glitches(b, multi=multi, max_transitions=max_transitions or MAX_TRANSITIONS,
-                                    max_work=None if max_transitions else TIMING_MAX_WORK)
+                                    max_work=None if max_transitions else TIMING_MAX_WORK, together=together)
+        a.cautions = cautions(b, a.timing, a.supply, a.loops, None, a.glitches)
     t = a.timing.as_dict()
     paths = t.get("paths") or [{"output": o, "best_s": v[0], "worst_s": v[1]} for o, v in t["outputs"].items()]
-    out = {"design": b.design, "target": target.name, "parts": len(b.parts),
+    out = {"design": b.design, "target": target.name, "parts": len(b.parts), "relay": b.is_relay,
            "delay_s": t["delay_s"], "delay_typ_s": t["delay_typ_s"], "levels": t["levels"],
            "outputs": t["outputs"], "paths": paths, "critical_path": t["critical_path"],
            "critical_start": t.get("critical_start"), "critical_end": t.get("critical_end")}
-    for key in ("clock_max_hz", "clock_period_min_s", "clock_path", "hold_slack_s", "input_setup_s",
-                "clock_to_output_s", "clock_notes", "overloaded", "per_level_s", "operate_s", "release_s",
-                "bounce_s"):
-        if key in t:
-            out[key] = t[key]
+    for key, value in t.items():
+        if key.startswith(("clock_", "hold_", "input_", "pulse_", "latches_")) or key in (
+                "overloaded", "per_level_s", "operate_s", "release_s", "bounce_s", "timing_violations"):
+            out[key] = value
+    out.setdefault("timing_violations", 0)
     g = a.glitches
     if g.floating is not None:
         out["floating"] = g.floating
     out.update({"hazards": g.hazards, "hazards_total": g.total, "glitch_errors": g.errors,
                 "glitch_search": g.search or {}, "cover_hazards": design_hazards(design)})
+    out["supply"] = a.supply.as_dict(b.is_relay)
     if a.hazard_free is not None:
         out["hazard_free"] = a.hazard_free
+    out["cautions"] = list(a.cautions)
     out["notes"] = a.all_notes(b)
     return out

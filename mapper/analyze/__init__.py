@@ -40,33 +40,37 @@ def build_timing(build: Build, clock_hz: float | None = None) -> Timing:
 
 
 def build_glitches(build: Build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
-                   max_work: int | None = BUILD_MAX_WORK) -> Glitches:
+                   max_work: int | None = BUILD_MAX_WORK, together=()) -> Glitches:
     """Glitches of any build: timed simulation of gate builds, contact transfers of relay builds.
 
     ``multi``, ``max_transitions`` and ``max_work`` steer the search of gate
-    builds (:func:`mapper.analyze.glitch.glitch_report`); a relay build is
-    searched in full up to a size limit (:func:`mapper.analyze.relay_glitch.relay_glitches`).
+    builds (:func:`mapper.analyze.glitch.glitch_report`), with ``together``
+    the groups of inputs that change at once; a relay build is searched in
+    full up to a size limit (:func:`mapper.analyze.relay_glitch.relay_glitches`).
     """
     if not build.is_relay:
-        return glitch_report(build, multi=multi, max_transitions=max_transitions, max_work=max_work)
+        return glitch_report(build, multi=multi, max_transitions=max_transitions, max_work=max_work,
+                             together=together)
     if not build.contacts:
         return Glitches([], 0, 0, None, [])
     rg = relay_glitches(build)
-    return Glitches(rg["hazards"], len(rg["hazards"]), 0, rg["search"], relay_transfers(build))
+    return Glitches(rg["hazards"], len(rg["hazards"]), sum(1 for h in rg["hazards"] if h["error"]), rg["search"],
+                    relay_transfers(build))
 
 
 def analyze_build(build: Build, proof: Proof, glitches: Glitches | None = None,
-                  clock_hz: float | None = None) -> Analysis:
+                  clock_hz: float | None = None, together=()) -> Analysis:
     """Every analysis of ``build``: timing, supply, glitches (unless given), relay loops, cautions.
 
     ``clock_hz`` is the clock rate the builder means to run (timing checks and
-    the switching supply current use it).
+    the switching supply current use it); ``together`` lists groups of
+    inputs that change at once (the glitch search changes them together).
     """
     timing = build_timing(build, clock_hz)
     supply = supply_current(build, clock_hz)
     loops = feedback_loops(build) if build.is_relay else []
     if glitches is None:
-        glitches = build_glitches(build)
+        glitches = build_glitches(build, together=together)
     notes = []
     wiring = None
     wired = None
@@ -76,7 +80,7 @@ def analyze_build(build: Build, proof: Proof, glitches: Glitches | None = None,
         notes.append(_wiring_note(report))
         wired = wired_figures(build, report.settled)
     return Analysis(timing=timing, supply=supply, glitches=glitches, proof=proof,
-                    cautions=cautions(build, timing, supply, loops, wired), loops=loops, notes=notes,
+                    cautions=cautions(build, timing, supply, loops, wired, glitches), loops=loops, notes=notes,
                     wiring_check=wiring, wired=wired.as_dict() if wired is not None else None)
 
 

@@ -9,16 +9,80 @@ and feedback loops without a defined load.
 from __future__ import annotations
 
 from ..build import Build
-from .results import Supply, Timing
+from ..units import si
+from .results import Glitches, Supply, Timing
 
-__all__ = ["cautions", "gate_cautions", "relay_cautions"]
+__all__ = ["cautions", "gate_cautions", "relay_cautions", "timing_cautions", "glitch_cautions"]
+
+#: hold and pulse-width cautions listed at most (the count of all is given)
+MAX_TIMING_CAUTIONS = 5
 
 
-def cautions(build: Build, timing: Timing, supply: Supply, loops: list, wired=None) -> list:
+def cautions(build: Build, timing: Timing, supply: Supply, loops: list, wired=None,
+             glitches: Glitches | None = None) -> list:
     """Every caution for ``build`` (relay or gate), in the order a builder meets them."""
     if build.is_relay:
-        return relay_cautions(build, timing, supply, loops, wired)
-    return gate_cautions(build)
+        out = relay_cautions(build, timing, supply, loops, wired)
+    else:
+        out = gate_cautions(build)
+    if glitches is not None:
+        out += glitch_cautions(glitches)
+    return out + timing_cautions(timing)
+
+
+def glitch_cautions(glitches: Glitches) -> list:
+    """One caution per net where a glitch can reach a clock, enable, preset or clear, with its causes."""
+    groups: dict = {}
+    for h in glitches.hazards:
+        if h.get("error"):
+            groups.setdefault(h["net"], []).append(h)
+    out = []
+    for net, hs in groups.items():
+        widest = max(hs, key=lambda h: h["width_s"][1])
+        pins = ", ".join(sorted({f"the {w['role']} of {w['part']}" + (f" (pin {w['pin_number']})"
+                                                                     if w.get("pin_number") else "")
+                                 for h in hs for w in h["reaches"]}))
+        when = "; ".join(", ".join(f"{k}={v}" for k, v in c.items()) or "in any state" for c in widest["when"][:2])
+        path = ""
+        rp = [p for p in widest.get("racing_paths", []) if p.get("hops")]
+        if rp:
+            path = "; racing paths from " + " and ".join(
+                f"{p['from']} through {len(p['hops'])} gate(s)" for p in rp[:2])
+        more = f" ({len(hs)} input changes in all)" if len(hs) > 1 else ""
+        out.append(f"glitch on {net} reaches {pins}: a {widest['kind']} pulse up to "
+                   f"{si(widest['width_s'][1], 's')} when {', '.join(widest['inputs_changed'])} changes "
+                   f"({when}){path}{more}; it can store a wrong bit. Build with --hazard-free, or drive it from "
+                   "one input or one storage bit")
+    return out
+
+
+def timing_cautions(timing: Timing) -> list:
+    """Clock rates that cannot work, hold margins and pulse widths missed (gate and relay builds)."""
+    ck = timing.clock
+    if ck is None:
+        return []
+    out = []
+    if ck.period_min_s == float("inf"):
+        out.append("latches open at the same time feed one another in a loop: no clock rate lets them settle")
+        return out
+    req = ck.requested_period_s
+    if req is not None and req < ck.period_min_s * (1 - 1e-9):
+        out.append(f"the clock asked for ({si(1 / req, 'Hz')}) is faster than this build can run: at most "
+                   f"{si(ck.max_hz, 'Hz')} (a period of {si(ck.period_min_s, 's')}, set by the "
+                   f"{ck.limited_by})")
+    for v in ck.hold_violations[:MAX_TIMING_CAUTIONS]:
+        src = v["from"]
+        start = src.get("net", "?") + (f" ({src['part']})" if src.get("part") else "")
+        out.append(f"hold margin missed: data from {start} can reach the data input {v['to']['net']} of "
+                   f"{v['to']['part']} ({v['to']['cell']}) {si(-v['slack_s'], 's')} sooner than it allows after it "
+                   f"captures (it needs the data held {si(v['hold_s'], 's')}): the bit can take the next value "
+                   "early. Lengthen that path, or shorten the clock's path to the part")
+    if len(ck.hold_violations) > MAX_TIMING_CAUTIONS:
+        out.append(f"... {len(ck.hold_violations) - MAX_TIMING_CAUTIONS} more hold margins missed (netfit timing)")
+    for p in ck.pulse_violations[:MAX_TIMING_CAUTIONS]:
+        out.append(f"clock pulses too short for {p['part']} ({p['cell']}): each half period is "
+                   f"{si(p['half_period_s'], 's')}, the part needs {si(p['pulse_s'], 's')}")
+    return out
 
 
 def gate_cautions(build: Build) -> list:

@@ -101,6 +101,8 @@ __all__ = [
     "BUILD_MAX_WORK",
     "BUILD_WORK_PER_CELL",
     "TIMING_MAX_WORK",
+    "CONTROL_MAX_TRANSITIONS",
+    "CONTROL_MAX_WORK",
 ]
 
 log = logging.getLogger(__name__)
@@ -124,24 +126,63 @@ BUILD_MAX_WORK = 80_000
 BUILD_WORK_PER_CELL = 16
 #: hazards listed at most (the count of all is given)
 MAX_LISTED = 500
+#: changes tried in the cones of clocks, enables, presets and clears (all of them up to this many)
+CONTROL_MAX_TRANSITIONS = 20000
+#: cell evaluations allowed for the search of those cones
+CONTROL_MAX_WORK = 1_000_000
 
 
-def _transitions(n: int, sizes: tuple, limit: int, seed: int):
-    """(list of (state, changed tuple), total, exhaustive)."""
-    groups = [c for s in sizes for c in combinations(range(n), s)]
-    total = (1 << n) * len(groups)
+#: inputs grouped with ``together`` are changed in every subset up to this group size (beyond: whole group)
+SUBSET_GROUP_MAX = 6
+
+
+def _change_kinds(circ: TimedCircuit, multi: bool, together) -> tuple[list, list]:
+    """``(fixed, clocked)``: the input changes tried from every state.
+
+    ``fixed`` holds tuples of input indices: each input alone, each pair
+    with ``multi``, and for each group of ``together`` (input names) every
+    subset of two or more (the whole group only when it has more than
+    :data:`SUBSET_GROUP_MAX` inputs).  ``clocked`` holds one list per clock
+    group of ``(input index of the bit, data net)``: from a state, the bits
+    whose data differs change together.
+    """
+    n = len(circ.inputs)
+    fixed: list = [(i,) for i in range(n)]
+    if multi:
+        fixed += list(combinations(range(n), 2))
+    index = {name: i for i, name in enumerate(circ.inputs)}
+    seen = set(fixed)
+    for grp in together or ():
+        ids = sorted({index[x] for x in grp if x in index})
+        subsets = ([c for k in range(2, len(ids) + 1) for c in combinations(ids, k)]
+                   if len(ids) <= SUBSET_GROUP_MAX else [tuple(ids)])
+        for c in subsets:
+            if c not in seen:
+                seen.add(c)
+                fixed.append(c)
+    clocked = []
+    for grp in circ.clock_groups:
+        bits_ = [(index[q], d) for q, d in grp if q in index]
+        if len(bits_) >= 2:
+            clocked.append(bits_)
+    return fixed, clocked
+
+
+def _transitions(n: int, kinds: int, limit: int, seed: int):
+    """``(list of (state, kind index), total, exhaustive)``: every pair, or ``limit`` drawn at random."""
+    total = (1 << n) * kinds
     if total <= limit:
-        return [(s, c) for s in range(1 << n) for c in groups], total, True
+        return [(st, k) for st in range(1 << n) for k in range(kinds)], total, True
     rng = random.Random(seed)
     seen = set()
     out: list = []
     while len(out) < limit:
-        s = rng.getrandbits(n) if n else 0
-        c = groups[rng.randrange(len(groups))]
-        if (s, c) in seen:
+        st = rng.getrandbits(n) if n else 0
+        k = rng.randrange(kinds)
+        if (st, k) in seen:
             continue
-        seen.add((s, c))
-        out.append((s, c))
+        seen.add((st, k))
+        out.append((st, k))
     return out, total, False
 
 
@@ -170,7 +211,7 @@ def _hop_list(eng: Engine, mask: int, src: int) -> list:
 
 def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int = MAX_TRANSITIONS,
                   seed: int = 0, paths_per_net: int = PATHS_PER_NET, max_work: int | None = None,
-                  max_paths: int = PATHS_PER_CHANGE) -> dict:
+                  max_paths: int = PATHS_PER_CHANGE, together=()) -> dict:
     """Search ``circ`` for glitches (see the module docstring).
 
     Returns a dict with ``hazards`` (list, see :func:`glitch_report`),
@@ -181,7 +222,7 @@ def find_glitches(circ: TimedCircuit, multi: bool = False, max_transitions: int 
     the change that passes it and says how many changes it examined.
     """
     with paused_gc():
-        return _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths)
+        return _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths, together)
 
 
 def _corners(eng: Engine, cands: list, tern: list, changed: tuple, paths_per_net: int, max_paths: int) -> list:
@@ -343,22 +384,35 @@ def _hazards(eng: Engine, circ: TimedCircuit, groups: dict, exhaustive: bool) ->
     return hazards
 
 
-def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths) -> dict:
+def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, max_paths, together=()) -> dict:
     """The work of :func:`find_glitches`."""
     eng = Engine(circ)
     n = len(circ.inputs)
-    sizes = tuple(s for s in ((1, 2) if multi else (1,)) if s <= n)
-    trans, total, exhaustive = _transitions(n, sizes, max_transitions, seed) if n else ([], 0, True)
+    fixed, clocked = _change_kinds(circ, multi, together)
+    kinds = len(fixed) + len(clocked)
+    trans, total, exhaustive = _transitions(n, kinds, max_transitions, seed) if n and kinds else ([], 0, True)
     if max_work is not None and exhaustive:
         # a budget may stop the search: take the changes in random order so what is done is a fair sample
         random.Random(seed).shuffle(trans)
     search = _Search(eng, max_work)
-    for state, changed in trans:
+    together_n = 0
+    for state, k in trans:
         if search.over_budget():
             break
+        if k < len(fixed):
+            changed = fixed[k]
+        else:
+            vals = eng.steady(state)
+            changed = tuple(qi for qi, d in clocked[k - len(fixed)]
+                            if vals[eng.ids[d]] != (state >> qi) & 1)
+            if len(changed) < 2:
+                search.checked += 1   # one bit or none moves: the single changes cover it
+                continue
+            together_n += 1
         found = search.change(state, changed, paths_per_net, max_paths)
         search.group(found, state, changed, circ.inputs)
     hazards = _hazards(eng, circ, search.groups, exhaustive)
+    sizes = sorted({len(c) for c in fixed} | ({2} if clocked else set()))
     return {
         "hazards": hazards[:MAX_LISTED],
         "hazards_total": len(hazards),
@@ -366,8 +420,10 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
         "transitions": {"checked": search.checked, "total": total, "exhaustive": exhaustive and not search.stopped,
                         "stopped_early": search.stopped, "cell_evaluations": eng.work, "work_budget": max_work,
                         "last_change_partial": search.partial,
-                        "sizes": list(sizes), "timed_runs": search.runs, "not_shown": search.not_shown,
-                        "seed": None if exhaustive else seed},
+                        "sizes": sizes, "timed_runs": search.runs, "not_shown": search.not_shown,
+                        "seed": None if exhaustive else seed,
+                        "clock_groups": len(clocked), "bits_changed_together": together_n,
+                        "input_groups": [list(g) for g in together or ()]},
     }
 
 
@@ -406,12 +462,19 @@ def conditions(conds: list, names: list, exhaustive: bool) -> list:
 
 def glitch_report(build: Build, multi: bool = False, max_transitions: int = BUILD_MAX_TRANSITIONS,
                   seed: int = 0, min_fraction: float | None = None,
-                  max_work: int | None = BUILD_MAX_WORK, work_per_cell: float = BUILD_WORK_PER_CELL) -> Glitches:
+                  max_work: int | None = BUILD_MAX_WORK, work_per_cell: float = BUILD_WORK_PER_CELL,
+                  together=()) -> Glitches:
     """The glitches of a gate build: :func:`find_glitches` on its cells.
 
     The work budget is ``max_work`` cell evaluations or ``work_per_cell``
     times the number of cells, whichever is more (``None``: no budget);
-    ``search["sample"]`` says in words what the search covered.
+    ``search["sample"]`` says in words what the search covered.  The cones
+    of the nets that reach a clock, enable, preset or clear are then
+    searched on their own (:data:`CONTROL_MAX_TRANSITIONS` changes, all of
+    them when the cones are small, and :data:`CONTROL_MAX_WORK`): a glitch
+    there is an error, so it is looked for in full wherever it can be;
+    ``search["control_search"]`` says what that covered.  ``together``
+    names groups of inputs that change at once (see :func:`find_glitches`).
     """
     if not build.cells:
         return Glitches([], 0, 0, None)
@@ -419,8 +482,29 @@ def glitch_report(build: Build, multi: bool = False, max_transitions: int = BUIL
         circ = TimedCircuit.from_build(build, min_fraction)
     if max_work is not None:
         max_work = max(max_work, int(work_per_cell * len(circ.gates)))
-    res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed, max_work=max_work)
+    res = find_glitches(circ, multi=multi, max_transitions=max_transitions, seed=seed, max_work=max_work,
+                        together=together)
     search = dict(res["transitions"])
     search["min_delay"] = "typical figure" if min_fraction is None else f"{min_fraction:g} of the maximum"
     search["sample"] = _sample_text(search)
-    return Glitches(res["hazards"], res["hazards_total"], res["errors"], search)
+    hazards, total = res["hazards"], res["hazards_total"]
+    if circ.watch:
+        cres = find_glitches(circ.cone(list(circ.watch)), multi=multi, max_transitions=CONTROL_MAX_TRANSITIONS,
+                             seed=seed, max_work=CONTROL_MAX_WORK, together=together)
+        have = {_hazard_key(h) for h in res["hazards"]}
+        extra = [h for h in cres["hazards"] if h["error"] and _hazard_key(h) not in have]
+        # errors first: they are what a builder must act on
+        hazards = extra + hazards
+        total += len(extra)
+        ctl = dict(cres["transitions"])
+        ctl["sample"] = _sample_text(ctl)
+        ctl["nets"] = sorted(circ.watch)
+        search["control_search"] = ctl
+    errors = [h for h in hazards if h["error"]]
+    rest = [h for h in hazards if not h["error"]]
+    hazards = (errors + rest)[:MAX_LISTED]
+    return Glitches(hazards, total, sum(1 for h in errors), search)
+
+
+def _hazard_key(h: dict) -> tuple:
+    return (h["net"], h["kind"], tuple(h["inputs_changed"]))

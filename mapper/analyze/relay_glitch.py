@@ -76,7 +76,10 @@ def relay_transfers(build: Build) -> list:
         early[net] = min(e)
         late[net] = max(la)
     out = []
+    coils = set(build.coils.values())
     for k in build.contacts:
+        if k.com in SUPPLY_NETS:
+            continue   # a pole whose common is the rail: its sides float, not the rail
         coil = build.coils.get(k.part_ref)
         typ, transfer, bounce = sw.get(k.part_ref, (0.0, 0.0, 0.0))
         start = early.get(coil, 0.0)
@@ -84,7 +87,7 @@ def relay_transfers(build: Build) -> list:
         out.append({"net": k.com, "part": k.part_ref, "pole": k.pole, "coil": coil,
                     "floating_s": [round(start, 9), round(end, 9)],
                     "settled_s": round(end + bounce, 9),
-                    "loaded": k.com in loaded})
+                    "loaded": k.com in loaded or k.com in coils})
     return out
 
 
@@ -108,6 +111,11 @@ def relay_glitches(build: Build, max_inputs: int = RELAY_MAX_INPUTS) -> dict:
     held relay -- common practice).  Every single-input change from every
     state of the inputs and storage outputs is examined (bit-parallel, up to
     ``max_inputs`` free variables).
+
+    The control nets of the storage sequencers are watched as well: a
+    dropout there reaches the sequencer's coils, and relays in any order may
+    step the storage on it, so such a hazard is an error (``reaches`` names
+    the control's relays; ``output`` is the net's name for a net that is no output).
 
     Returns ``hazards`` (as :func:`find_glitches`: ``output``, ``net``,
     ``kind``, ``inputs_changed``, ``directions``, ``when``, ``width_s`` =
@@ -136,6 +144,17 @@ def relay_glitches(build: Build, max_inputs: int = RELAY_MAX_INPUTS) -> dict:
     out_ports: dict = {}
     for o in build.outputs:
         out_ports.setdefault(build.output_nets.get(o, o), []).append(o)
+    # the control nets of the sequencers: a dropout there steps storage (its relays follow any gap)
+    watch: dict = {}
+    for seq in build.sequencers:
+        if seq.control in n.nodes and not isinstance(n.nodes[seq.control], Storage) \
+                and seq.control not in build.inputs:
+            watch.setdefault(seq.control, []).extend(
+                {"part": p.ref, "cell": "relay", "slot": None, "pin": "coil", "pin_number": None,
+                 "role": "clock" if seq.edge else "enable"}
+                for p in build.parts if build.coils.get(p.ref) == seq.control)
+    for net in watch:
+        out_ports.setdefault(net, []).append(None)
     hazards = []
     for j, x in enumerate(free):
         sh = 1 << j
@@ -177,15 +196,17 @@ def relay_glitches(build: Build, max_inputs: int = RELAY_MAX_INPUTS) -> dict:
             pole = cause.get(net)
             transfer = sw.get(pole.part_ref, (0, 0, 0))[1] if pole is not None else 0.0
             names = [free[i] for i in range(k) if i != j]
+            reaches = watch.get(net, [])
             for port in ports:
                 hazards.append({
-                    "output": port, "net": net, "kind": "static-1", "inputs_changed": [x],
+                    "output": port if port is not None else net, "net": net, "kind": "static-1",
+                    "inputs_changed": [x],
                     "directions": sorted(dirs), "when": conditions(conds, names, True),
                     "width_s": [0.0, sec(transfer)], "width_example_s": sec(transfer),
                     "racing_paths": [{"from": x, "break_before_make": {
                         "part": pole.part_ref, "pole": pole.pole, "coil": build.coils.get(pole.part_ref),
                         "net": pole.com, "loaded": pole.com in loaded} if pole is not None else None}],
-                    "races": 1, "reaches": [], "error": False,
+                    "races": 1, "reaches": reaches if port is None else [], "error": bool(reaches) and port is None,
                 })
     search["checked"] = k * npat
     search["exhaustive"] = True

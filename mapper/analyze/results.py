@@ -49,6 +49,9 @@ class ClockFigures:
     requested_period_s: float | None = None
     high_min_s: float | None = None
     low_min_s: float | None = None
+    #: relay builds: how long data inputs must stay after the active change; storage coil change after it
+    input_hold_s: float | None = None
+    clock_to_q_s: float = 0.0
 
     @property
     def violations(self) -> int:
@@ -69,6 +72,7 @@ class ClockFigures:
         if self.high_min_s is not None:
             out["clock_high_min_s"] = self.high_min_s
             out["clock_low_min_s"] = self.low_min_s
+            out["input_hold_s"] = self.input_hold_s
         return out
 
 
@@ -272,6 +276,13 @@ class Analysis:
             s["coil_current_a"] = self.supply.coil_current_a
             s["coil_voltage_v"] = self.supply.coil_voltage_v
         s["ties"] = len(build.ties)
+        s["supply_current_static_a"] = self.supply.static_a
+        s["supply_basis"] = self.supply.basis
+        s["hazards_total"] = self.glitches.total
+        s["glitch_errors"] = self.glitches.errors
+        ck = self.timing.clock
+        s["clock_max_hz"] = ck.max_hz if ck is not None else None
+        s["timing_violations"] = ck.violations if ck is not None else 0
         s["cautions"] = list(self.cautions)
         s["notes"] = self.all_notes(build)
         if self.hazard_free is not None:

@@ -50,7 +50,9 @@ class TimedCircuit:
     ``inputs`` are the free variables (primary inputs and storage outputs),
     ``outputs`` maps output names to nets, ``watch`` maps nets that reach a
     storage cell's clock/enable/preset/clear to descriptions of those pins,
-    ``constants`` maps rail nets to 0/1.
+    ``constants`` maps rail nets to 0/1.  ``clock_groups`` lists the
+    edge-triggered storage of one clock net and edge as ``(q net, d net)``
+    pairs: those bits change together on the edge (each to its data value).
     """
 
     name: str
@@ -59,6 +61,42 @@ class TimedCircuit:
     outputs: dict
     watch: dict = field(default_factory=dict)
     constants: dict = field(default_factory=dict)
+    clock_groups: list = field(default_factory=list)
+
+    def cone(self, nets) -> TimedCircuit:
+        """The circuit cut down to the fan-in of ``nets`` (no outputs; ``watch`` kept for those nets).
+
+        The data nets of clock groups whose bits feed the cone come along,
+        so bits that change together can be changed together in it.
+        """
+        driver = {g.out: g for g in self.gates}
+        keep: dict = {}
+        used_inputs: set = set()
+
+        def pull(roots):
+            stack = list(roots)
+            while stack:
+                n = stack.pop()
+                g = driver.get(n)
+                if g is None:
+                    used_inputs.add(n)
+                    continue
+                if id(g) in keep:
+                    continue
+                keep[id(g)] = g
+                stack.extend(g.ins)
+
+        pull(nets)
+        groups = []
+        for grp in self.clock_groups:
+            mine = [(q, d) for q, d in grp if q in used_inputs]
+            if len(mine) >= 2:
+                pull([d for _, d in mine])
+                groups.append(mine)
+        gates = [g for g in self.gates if id(g) in keep]
+        inputs = [i for i in self.inputs if i in used_inputs]
+        watch = {n: w for n, w in self.watch.items() if n in set(nets)}
+        return TimedCircuit(self.name, inputs, gates, {}, watch, dict(self.constants), groups)
 
     @classmethod
     def from_build(cls, build: Build, min_fraction: float | None = None) -> TimedCircuit:
@@ -70,6 +108,7 @@ class TimedCircuit:
         """
         circ = cls(build.design, list(build.inputs), [], {o: build.output_nets.get(o, o) for o in build.outputs},
                    {}, {"VCC": 1, "GND": 0})
+        groups: dict = {}
         ix = PartIndex(build)
         loads = net_loads(build, ix)
         taken = set(circ.inputs)
@@ -81,6 +120,10 @@ class TimedCircuit:
             cd = build.cell_def(c)
             if cd.storage is not None:
                 circ._add_storage_cell(c, cd, ix, taken)
+                if cd.storage in ("re", "fe") and c.pins.get(cd.output) and len(cd.inputs) > 1:
+                    ctl = next((c.pins.get(p) for p in cd.inputs if cd.roles.get(p) == "clock"),
+                               c.pins.get(cd.inputs[1]))
+                    groups.setdefault((ctl, cd.storage), []).append((c.pins[cd.output], c.pins.get(cd.inputs[0])))
                 continue
             pins = c.pins
             t, m = ix.cell_delay(c, loads.get(pins.get(cd.output), 0.0))
@@ -94,6 +137,10 @@ class TimedCircuit:
             circ.gates.append(Gate(
                 pins[cd.output], tuple([pins[p] for p in cd.inputs]), shape[2],
                 min(lo, m), m, c.part_ref, c.cell, c.slot, shape[0], shape[1]))
+        for grp in build.storage_groups.values():
+            if grp.kind in ("re", "fe") and grp.control:
+                groups.setdefault((grp.control, grp.kind), []).append((grp.q, grp.d))
+        circ.clock_groups = [g for g in groups.values() if len(g) >= 2 and all(d is not None for _, d in g)]
         return circ
 
     def _add_input(self, net: str, taken: set) -> None:
@@ -147,9 +194,12 @@ class TimedCircuit:
         gates = []
         watch: dict = {}
         consts = {}
+        groups: dict = {}
         for name, node in netlist.nodes.items():
             if isinstance(node, Storage):
                 inputs.append(name)
+                if node.kind in ("re", "fe") and node.control is not None:
+                    groups.setdefault((node.control, node.kind), []).append((name, node.d))
                 if node.control is not None:
                     watch.setdefault(node.control, []).append({
                         "part": None, "cell": f"storage {name}", "slot": None, "pin": "control",
@@ -159,4 +209,5 @@ class TimedCircuit:
                     consts[name] = node.func.constant_value()
                     continue
                 gates.append(Gate(name, tuple(node.fanins), node.func.table(), dmin, dmax))
-        return cls(netlist.name, inputs, gates, {o: o for o in netlist.outputs}, watch, consts)
+        return cls(netlist.name, inputs, gates, {o: o for o in netlist.outputs}, watch, consts,
+                   [g for g in groups.values() if len(g) >= 2])

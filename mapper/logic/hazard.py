@@ -64,6 +64,7 @@ __all__ = [
     "design_hazards",
     "add_consensus",
     "collapse_hazardous_cones",
+    "control_cones",
     "MAX_CONSENSUS_CUBES",
     "COLLAPSE_INPUTS",
 ]
@@ -367,7 +368,28 @@ def _fresh(base: str, taken) -> str:
     return f"{base}{k}"
 
 
-def add_consensus(netlist: Netlist, collapse_inputs: int = 0, collapse_cubes: int = 32) -> tuple:
+def control_cones(netlist: Netlist) -> tuple[list, set]:
+    """``(control nets, logic nodes)``: the clocks and enables of a design's storage, and their logic cones.
+
+    The cones stop at inputs and storage outputs.  These are the nets where
+    a glitch stores a wrong value, so netfit builds them free of hazards by
+    default (:func:`mapper.flow.fit`).
+    """
+    controls = list(dict.fromkeys(st.control for st in netlist.nodes.values()
+                                  if isinstance(st, Storage) and st.control is not None and st.kind != "as"))
+    nodes: set = set()
+    stack = list(controls)
+    while stack:
+        n = stack.pop()
+        node = netlist.nodes.get(n)
+        if not isinstance(node, Logic) or n in nodes:
+            continue
+        nodes.add(n)
+        stack.extend(node.fanins)
+    return [c for c in controls if isinstance(netlist.nodes.get(c), Logic)], nodes
+
+
+def add_consensus(netlist: Netlist, collapse_inputs: int = 0, collapse_cubes: int = 32, only=None) -> tuple:
     """``(netlist', kept_nets, report)``: the design with hazard-free two-level covers.
 
     Every logic node whose cover has two cubes opposed in one input gets the
@@ -400,10 +422,18 @@ def add_consensus(netlist: Netlist, collapse_inputs: int = 0, collapse_cubes: in
     ``terms_added``, ``nodes_split``, ``collapsed`` (one dict per collapsed
     cone: ``node``, ``inputs``, ``cubes``, ``added`` consensus terms) and
     ``skipped`` (nodes too big to fix).
+
+    ``only`` (a set of node names) limits the rewriting to those nodes, and
+    the collapsing to those of them that are outputs or storage inputs.
     """
     collapsed = []
     if collapse_inputs > 0:
-        netlist, collapsed = collapse_hazardous_cones(netlist, collapse_inputs, collapse_cubes)
+        roots = None
+        if only is not None:
+            roots = [x for st in netlist.nodes.values() if isinstance(st, Storage) for x in (st.d, st.control)
+                     if x in only] + [o for o in netlist.outputs if o in only]
+            roots = list(dict.fromkeys(roots))
+        netlist, collapsed = collapse_hazardous_cones(netlist, collapse_inputs, collapse_cubes, roots)
     new = Netlist(netlist.name)
     taken = set(netlist.nodes)
     kept: list = []
@@ -416,7 +446,7 @@ def add_consensus(netlist: Netlist, collapse_inputs: int = 0, collapse_cubes: in
         where = netlist.origin.get(name)
         if name in inputs:
             continue
-        if not isinstance(node, Logic) or node.func.n < 2:
+        if not isinstance(node, Logic) or node.func.n < 2 or (only is not None and name not in only):
             new.nodes[name] = node
             if where is not None:
                 new.origin[name] = where
@@ -553,15 +583,17 @@ def _cone(netlist: Netlist, root: str, limit: int):
     return support, nodes
 
 
-def collapse_hazardous_cones(netlist: Netlist, max_inputs: int = 8, max_cubes: int = 32) -> tuple:
+def collapse_hazardous_cones(netlist: Netlist, max_inputs: int = 8, max_cubes: int = 32, roots=None) -> tuple:
     """``(netlist', rows)``: outputs and storage inputs whose small cones can glitch, made two-level.
 
-    See :func:`add_consensus` (``collapse_inputs``).  Nodes left driving
-    nothing are dropped.  ``rows`` has one dict per collapsed root.
+    See :func:`add_consensus` (``collapse_inputs``).  ``roots`` limits the
+    nets looked at (default: every output and storage input).  Nodes left
+    driving nothing are dropped.  ``rows`` has one dict per collapsed root.
     """
-    roots = list(dict.fromkeys(
-        list(netlist.outputs)
-        + [x for st in netlist.nodes.values() if isinstance(st, Storage) for x in (st.d, st.control) if x]))
+    if roots is None:
+        roots = list(dict.fromkeys(
+            list(netlist.outputs)
+            + [x for st in netlist.nodes.values() if isinstance(st, Storage) for x in (st.d, st.control) if x]))
     replace: dict = {}
     rows = []
     for root in roots:

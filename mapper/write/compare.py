@@ -3,7 +3,8 @@
 The data comes from :func:`mapper.flow.compare`: one build summary per
 target, or an error for a target the design cannot be built on.  The table
 has one column per target and one row per figure (parts, support parts,
-spare slots, cost, worst delay, supply current, proof); a target that
+spare slots, cost, worst delay, supply current, safe clock rate, glitches
+found and how many reach storage, proof); a target that
 failed shows its error, wrapped, in its own column.
 """
 from __future__ import annotations
@@ -25,6 +26,9 @@ ROWS = (
     ("cost", lambda s: f"{money(s['cost'])} {s['currency']}".strip()),
     ("worst delay", lambda s: si(s.get("delay_s"), "s")),
     ("supply current", lambda s: si(s.get("supply_current_a"), "A")),
+    ("safe clock", lambda s: si(s.get("clock_max_hz"), "Hz") if s.get("clock_max_hz") else "-"),
+    ("glitches", lambda s: str(s.get("hazards_total", 0))
+        + (f" ({s['glitch_errors']} reach storage)" if s.get("glitch_errors") else "")),
     ("proof", lambda s: s["verified"]),
 )
 
