@@ -439,8 +439,10 @@ def _print_glitches(r, detail: bool) -> None:
         return
     for h in r["hazards"]:
         when = "; ".join(_cube_text(w) for w in h["when"])
+        when = when if when == "in any state" else "with " + when
         print(f"\n  {h['output']}: {h['kind']} pulse {_pulse_text(h['width_s'])} when "
-              f"{', '.join(h['inputs_changed'])} changes ({'; '.join(h['directions'])}) with {when}")
+              f"{', '.join(h['inputs_changed'])} change{'s' if len(h['inputs_changed']) == 1 else ''} "
+              f"({'; '.join(h['directions'])}) {when}")
         for p in h["racing_paths"]:
             if p and "hops" in p:
                 print(f"      {p['from']} → " + " → ".join(_hop_text(x) for x in p["hops"]))

@@ -187,3 +187,51 @@ class WiredRelays:
     def shorted(self, pos: tuple, inputs: dict) -> bool:
         """Whether the supply reaches ``GND`` (a dead short) in this state."""
         return "GND" in self.powered(pos, {i for i, v in inputs.items() if v})
+
+
+class TimedRelays(WiredRelays):
+    """The same wiring with time: each relay lands a fixed time after its feed changes.
+
+    A relay whose coil feed changes starts to move and lands ``operate``
+    (or ``release``) seconds later; its contacts stay where they were until
+    it lands and then change at once.  A feed that changes back before the
+    relay lands cancels the move.  Which relay is how fast is given per
+    relay (``times``: ref -> (operate, release)), so the model knows nothing
+    of sequencers or storage: it is the bench with a stopwatch.
+    """
+
+    def __init__(self, path: Path, times: dict):
+        super().__init__(path)
+        self.times = [times[ref] for ref, _, _ in self.relays]
+
+    def run(self, pos: tuple, on_inputs: set, until: float, t0: float = 0.0) -> tuple:
+        """Let the relays move from ``pos`` with ``on_inputs`` held, from ``t0`` to ``until``.
+
+        Returns ``(pos at until, moving)`` where ``moving`` maps a relay still
+        in motion to ``(target, landing time)``; pass it back with the next
+        call through :meth:`run_on` to go on.
+        """
+        return self.run_on(pos, {}, on_inputs, t0, until)
+
+    def run_on(self, pos: tuple, moving: dict, on_inputs: set, t0: float, until: float) -> tuple:
+        pos = list(pos)
+        moving = dict(moving)
+        t = t0
+        while True:
+            live = self.powered(tuple(pos), on_inputs)
+            for r, (_, coil, _) in enumerate(self.relays):
+                want = OP if coil in live else REL
+                if r in moving:
+                    if moving[r][0] != want:
+                        del moving[r]          # the feed came back before it landed
+                elif pos[r] != want:
+                    op, rel = self.times[r]
+                    moving[r] = (want, t + (op if want == OP else rel))
+            if not moving:
+                return tuple(pos), moving
+            nxt = min(land for _, land in moving.values())
+            if nxt > until:
+                return tuple(pos), moving
+            t = nxt
+            for r in [r for r, (_, land) in moving.items() if land <= t + 1e-12]:
+                pos[r] = moving.pop(r)[0]

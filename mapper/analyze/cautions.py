@@ -48,9 +48,10 @@ def glitch_cautions(glitches: Glitches) -> list:
         if rp:
             path = "; racing paths from " + " and ".join(
                 f"{p['from']} through {len(p['hops'])} gate(s)" for p in rp[:2])
-        more = f" ({len(hs)} input changes in all)" if len(hs) > 1 else ""
+        more = f" (and {len(hs) - 1} more kind(s) of change)" if len(hs) > 1 else ""
+        moved = widest["inputs_changed"]
         out.append(f"glitch on {net} reaches {pins}: a {widest['kind']} pulse up to "
-                   f"{si(widest['width_s'][1], 's')} when {', '.join(widest['inputs_changed'])} changes "
+                   f"{si(widest['width_s'][1], 's')} when {', '.join(moved)} change{'s' if len(moved) == 1 else ''} "
                    f"({when}){path}{more}; it can store a wrong bit. Build with --hazard-free, or drive it from "
                    "one input or one storage bit")
     return out

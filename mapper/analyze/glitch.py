@@ -151,6 +151,8 @@ def _change_kinds(circ: TimedCircuit, multi: bool, together) -> tuple[list, list
     if multi:
         fixed += list(combinations(range(n), 2))
     index = {name: i for i, name in enumerate(circ.inputs)}
+    for i, name in enumerate(circ.inputs):
+        index.setdefault(circ.label(name), i)   # a storage bit by its own name
     seen = set(fixed)
     for grp in together or ():
         ids = sorted({index[x] for x in grp if x in index})
@@ -197,7 +199,7 @@ def _hop_list(eng: Engine, mask: int, src: int) -> list:
             if eng.ids[n] == prev:
                 pin = (p, num)
                 break
-        hop = {"net_in": eng.names[prev], "net": g.out, "delay_s": [sec(g.dmin), sec(g.dmax)]}
+        hop = {"net_in": eng.circ.label(eng.names[prev]), "net": g.out, "delay_s": [sec(g.dmin), sec(g.dmax)]}
         if g.part is not None:
             hop.update({"part": g.part, "cell": g.cell, "slot": g.slot})
             if pin:
@@ -359,19 +361,20 @@ def _hazards(eng: Engine, circ: TimedCircuit, groups: dict, exhaustive: bool) ->
         port_of.setdefault(net, []).append(o)
     for g in sorted(groups.values(), key=lambda g: (eng.names[g["net"]], g["kind"], g["changed"])):
         net = eng.names[g["net"]]
-        names = [circ.inputs[i] for i in g["cond_bits"]]
+        names = [circ.label(circ.inputs[i]) for i in g["cond_bits"]]
         when = conditions(sorted(g["conds"]), names, exhaustive)
         reaches = circ.watch.get(net, [])
         paths = []
         for f, s in g["paths"]:
             lo, hi = eng.span(f)
-            paths.append({"from": eng.names[s], "delay_s": [sec(lo), sec(hi)], "hops": _hop_list(eng, f, s)})
+            paths.append({"from": circ.label(eng.names[s]), "delay_s": [sec(lo), sec(hi)],
+                          "hops": _hop_list(eng, f, s)})
         for port in port_of.get(net, [None]):
             hazards.append({
                 "output": port if port is not None else net,
                 "net": net,
                 "kind": g["kind"],
-                "inputs_changed": [circ.inputs[i] for i in g["changed"]],
+                "inputs_changed": [circ.label(circ.inputs[i]) for i in g["changed"]],
                 "directions": sorted(", ".join(d) for d in g["dirs"]),
                 "when": when,
                 "width_s": [sec(g["width"][0]), sec(g["width"][1])],
@@ -410,7 +413,7 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
                 continue
             together_n += 1
         found = search.change(state, changed, paths_per_net, max_paths)
-        search.group(found, state, changed, circ.inputs)
+        search.group(found, state, changed, [circ.label(x) for x in circ.inputs])
     hazards = _hazards(eng, circ, search.groups, exhaustive)
     sizes = sorted({len(c) for c in fixed} | ({2} if clocked else set()))
     return {

@@ -53,6 +53,10 @@ class TimedCircuit:
     ``constants`` maps rail nets to 0/1.  ``clock_groups`` lists the
     edge-triggered storage of one clock net and edge as ``(q net, d net)``
     pairs: those bits change together on the edge (each to its data value).
+    A storage cell's output is an input of its own (named ``Q^``, shown as
+    ``Q`` through ``labels``) feeding a buffer gate with the cell's
+    clock-to-output delay range, so bits that change on one edge still
+    arrive at their own times.
     """
 
     name: str
@@ -62,6 +66,11 @@ class TimedCircuit:
     watch: dict = field(default_factory=dict)
     constants: dict = field(default_factory=dict)
     clock_groups: list = field(default_factory=list)
+    labels: dict = field(default_factory=dict)
+
+    def label(self, net: str) -> str:
+        """The name a builder knows a net by (a storage output's raw input is shown as the output)."""
+        return self.labels.get(net, net)
 
     def cone(self, nets) -> TimedCircuit:
         """The circuit cut down to the fan-in of ``nets`` (no outputs; ``watch`` kept for those nets).
@@ -96,7 +105,7 @@ class TimedCircuit:
         gates = [g for g in self.gates if id(g) in keep]
         inputs = [i for i in self.inputs if i in used_inputs]
         watch = {n: w for n, w in self.watch.items() if n in set(nets)}
-        return TimedCircuit(self.name, inputs, gates, {}, watch, dict(self.constants), groups)
+        return TimedCircuit(self.name, inputs, gates, {}, watch, dict(self.constants), groups, dict(self.labels))
 
     @classmethod
     def from_build(cls, build: Build, min_fraction: float | None = None) -> TimedCircuit:
@@ -119,11 +128,12 @@ class TimedCircuit:
                 continue
             cd = build.cell_def(c)
             if cd.storage is not None:
-                circ._add_storage_cell(c, cd, ix, taken)
-                if cd.storage in ("re", "fe") and c.pins.get(cd.output) and len(cd.inputs) > 1:
+                t, m = ix.cell_delay(c, loads.get(c.pins.get(cd.output), 0.0))
+                raw = circ._add_storage_cell(c, cd, ix, taken, (t if min_fraction is None else min_fraction * m, m))
+                if cd.storage in ("re", "fe") and raw and len(cd.inputs) > 1:
                     ctl = next((c.pins.get(p) for p in cd.inputs if cd.roles.get(p) == "clock"),
                                c.pins.get(cd.inputs[1]))
-                    groups.setdefault((ctl, cd.storage), []).append((c.pins[cd.output], c.pins.get(cd.inputs[0])))
+                    groups.setdefault((ctl, cd.storage), []).append((raw, c.pins.get(cd.inputs[0])))
                 continue
             pins = c.pins
             t, m = ix.cell_delay(c, loads.get(pins.get(cd.output), 0.0))
@@ -163,11 +173,24 @@ class TimedCircuit:
                     "pin": "control", "pin_number": None,
                     "role": "clock" if grp.kind in ("re", "fe") else "enable"})
 
-    def _add_storage_cell(self, c, cd, ix: PartIndex, taken: set) -> None:
-        """A storage cell: its output is free, its inverted output a zero-delay inverter, its control watched."""
+    def _add_storage_cell(self, c, cd, ix: PartIndex, taken: set, delay=(0.0, 0.0)) -> str | None:
+        """A storage cell: its output a buffer of a raw input, its inverted output an inverter, its control watched.
+
+        Returns the raw input's name.
+        """
         q = c.pins.get(cd.output)
+        raw = None
         if q:
-            self._add_input(q, taken)
+            raw = q + "^"
+            while raw in taken:
+                raw += "^"
+            self._add_input(raw, taken)
+            self.labels[raw] = q
+            ctl = next((p for p in cd.inputs if cd.roles.get(p) in ("clock", "enable")),
+                       cd.inputs[1] if len(cd.inputs) > 1 else None)
+            # the change starts at the clock pin and leaves at Q after the clock-to-output delay
+            self.gates.append(Gate(q, (raw,), 0b10, delay[0], delay[1], c.part_ref, c.cell, c.slot,
+                                   ((ctl, ix.pin_of(c, ctl)),) if ctl else (), (cd.output, ix.pin_of(c, cd.output))))
         for extra in cd.extra_outputs:
             if c.pins.get(extra) and q:
                 self.gates.append(Gate(c.pins[extra], (q,), 0b01, 0.0, 0.0, c.part_ref, c.cell, c.slot,
@@ -182,6 +205,7 @@ class TimedCircuit:
                 self.watch.setdefault(net, []).append({
                     "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
                     "pin_number": ix.pin_of(c, p), "role": role})
+        return raw
 
     @classmethod
     def from_netlist(cls, netlist: Netlist, dmin: float, dmax: float) -> TimedCircuit:
