@@ -93,7 +93,7 @@ def _read_design(src, top):
     inst = info.top_instance(top)
     if inst is not None and info.recursive:
         info.report_recursion(inst)
-    for d in res.diags:
+    for d in info.res.diags:
         if code_name(d) in info.handled:
             continue
         out = translate(d, rep, info)
@@ -102,7 +102,8 @@ def _read_design(src, top):
     info.report_includes()
     if inst is None:
         _raise(rep)
-    check(rep, res.comp, res.tree, inst)
+    check(rep, info.res.comp, info.res.tree, inst,
+          twice=any(code_name(d) == "Redefinition" for d in info.res.diags))
     if rep.errors:
         _raise(rep)
     store = BitStore(rep)

@@ -63,8 +63,18 @@ T_MAJ = _table(3, lambda b: (b[0] + b[1] + b[2]) >= 2)
 T_BORROW = _table(3, lambda b: ((1 - b[0]) + b[1] + b[2]) >= 2)  # borrow out of a - b - bin
 
 
+_GATE_TABLES: dict = {}
+
+
 def gate_table(kind: str, n: int) -> int:
     """Truth table of an ``n``-input gate primitive (``and``, ``nand``, ``or``, ...)."""
+    t = _GATE_TABLES.get((kind, n))
+    if t is None:
+        t = _GATE_TABLES[(kind, n)] = _make_gate_table(kind, n)
+    return t
+
+
+def _make_gate_table(kind: str, n: int) -> int:
     full = (1 << (1 << n)) - 1
     if kind in ("and", "nand"):
         t = 1 << ((1 << n) - 1)

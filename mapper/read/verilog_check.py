@@ -91,8 +91,10 @@ def loop_variables(root) -> set:
     return out
 
 
-def check(rep, comp, tree, top) -> None:
-    """Report everything outside the subset in the design under ``top``."""
+def check(rep, comp, tree, top, twice=True) -> None:
+    """Report everything outside the subset in the design under ``top``.
+    ``twice``: look for names declared twice (pyslang flags them as redefinitions;
+    without one the look is skipped, it costs a pass over every name)."""
     _design_level(rep, comp, tree)
     stack = [(top, frozenset())]
     while stack:
@@ -101,32 +103,92 @@ def check(rep, comp, tree, top) -> None:
         if module in above:
             continue  # a module inside itself (pyslang reports it)
         above = above | {module}
-        scopes = _scopes(inst.body)
-        loops = set()
-        for sc in scopes:
-            for m in sc:
-                if m.kind == SK.ProceduralBlock:
-                    loops |= loop_variables(m.body)
-                elif m.kind == SK.Subroutine and m.body is not None:
-                    loops |= loop_variables(m.body)
-        children: list = []
-        for sc in scopes:
-            _members(rep, sc, module, loops, children)
-        stack.extend((c, above) for c in children)
+        walk = _Walk(rep, module, twice)
+        scopes = [inst.body]
+        while scopes:
+            walk.members(scopes.pop(), scopes)
+        for v in walk.integers:
+            if v not in walk.loops:
+                rep.error(_decl_start(v), f"an '{v.type}' variable" + _OUTSIDE + " (except as a 'for' loop's variable)")
+        stack.extend((c, above) for c in walk.instances)
 
 
-def _scopes(body) -> list:
-    """The body of an instance and its generate blocks that exist."""
-    out, stack = [], [body]
-    while stack:
-        sc = stack.pop()
-        out.append(sc)
-        for m in sc:
-            if m.kind == SK.GenerateBlock and not m.isUninstantiated:
-                stack.append(m)
-            elif m.kind == SK.GenerateBlockArray:
-                stack.extend(e for e in m.entries if not e.isUninstantiated)
-    return out
+class _Walk:
+    """One instance's declarations (its body and generate blocks), in one pass."""
+
+    def __init__(self, rep, module, twice):
+        self.rep, self.module, self.twice = rep, module, twice
+        self.instances: list = []
+        self.integers: list = []  # checked at the end, against every for loop's variable
+        self.loops: set = set()
+        self.fine: set = set()  # (net type, type) pairs and primitives found inside the subset
+
+    def members(self, scope, scopes) -> None:
+        rep = self.rep
+        first: dict = {}
+        fine = self.fine
+        for m in scope:
+            k = m.kind
+            if self.twice and k in _NAMED:
+                name = m.name
+                if name:
+                    prev = first.setdefault(name, m)
+                    if prev is not m:
+                        _twice(rep, m, prev, self.module)
+            if k == SK.Net:
+                key = (m.netType, m.type)
+                if key not in fine and _net(rep, m):
+                    fine.add(key)
+            elif k == SK.ContinuousAssign:
+                continue
+            elif k == SK.PrimitiveInstance:
+                p = m.primitiveType
+                if p not in fine and _primitive(rep, m, p):
+                    fine.add(p)
+            elif k == SK.Instance:
+                self.instances.append(m)
+            elif k == SK.GenerateBlock:
+                if not m.isUninstantiated:
+                    scopes.append(m)
+            elif k == SK.GenerateBlockArray:
+                scopes.extend(e for e in m.entries if not e.isUninstantiated)
+            elif k == SK.Port:
+                _port(rep, m)
+            elif k == SK.Variable:
+                if m.type.isPredefinedInteger:
+                    self.integers.append(m)
+                else:
+                    _variable(rep, m)
+            elif k == SK.ProceduralBlock:
+                self.loops |= loop_variables(m.body)
+                _procedure(rep, m)
+            elif k == SK.Subroutine:
+                if m.body is not None:
+                    self.loops |= loop_variables(m.body)
+                _subroutine(rep, m)
+            else:
+                _other(rep, m, k)
+
+
+def _primitive(rep, m, p) -> bool:
+    if p.name in GATES:
+        return True
+    what = ("a user-defined primitive" if p.kind == SK.Primitive and p.primitiveKind ==
+            ast.PrimitiveSymbol.PrimitiveKind.UserDefined else "the switch-level or tristate primitive")
+    rep.error(m.syntax.parent.sourceRange.start, f"{what} '{p.name}'" + _OUTSIDE)
+    return False
+
+
+def _other(rep, m, k) -> None:
+    if k == SK.SpecifyBlock:
+        rep.error(m.location, "a specify block ('specify')" + _OUTSIDE)
+    elif k == SK.DefParam:
+        rep.error(m.syntax.parent.sourceRange.start,
+                  "'defparam' (override parameters with #( ) on the instance)" + _OUTSIDE)
+    elif k == SK.InstanceArray:
+        rep.error(m.location, f"an array of instances ('{m.name}[...]')" + _OUTSIDE)
+    elif k not in _FINE:
+        rep.error(m.location, f"this declaration ({str(k).split('.')[-1]})" + _OUTSIDE)
 
 
 def _design_level(rep, comp, tree) -> None:
@@ -146,44 +208,6 @@ def _design_level(rep, comp, tree) -> None:
         if syn.parent is not None and syn.parent.kind == syntax.SyntaxKind.ModuleDeclaration:
             rep.error(syn.sourceRange.start, "a module cannot be declared inside another; "
                                              "is 'endmodule' missing before this line?")
-
-
-def _members(rep, scope, module, loops, stack) -> None:
-    first: dict = {}
-    for m in scope:
-        k = m.kind
-        if k in _NAMED and m.name:
-            prev = first.setdefault(m.name, m)
-            if prev is not m:
-                _twice(rep, m, prev, module)
-        if k == SK.Instance:
-            stack.append(m)
-        elif k == SK.Port:
-            _port(rep, m)
-        elif k == SK.Net:
-            _net(rep, m)
-        elif k == SK.Variable:
-            _variable(rep, m, loops)
-        elif k == SK.ProceduralBlock:
-            _procedure(rep, m)
-        elif k == SK.PrimitiveInstance:
-            p = m.primitiveType
-            if p.name not in GATES:
-                what = ("a user-defined primitive" if p.kind == SK.Primitive and p.primitiveKind ==
-                        ast.PrimitiveSymbol.PrimitiveKind.UserDefined else
-                        "the switch-level or tristate primitive")
-                rep.error(m.syntax.parent.sourceRange.start, f"{what} '{p.name}'" + _OUTSIDE)
-        elif k == SK.Subroutine:
-            _subroutine(rep, m, loops)
-        elif k == SK.SpecifyBlock:
-            rep.error(m.location, "a specify block ('specify')" + _OUTSIDE)
-        elif k == SK.DefParam:
-            rep.error(m.syntax.parent.sourceRange.start,
-                      "'defparam' (override parameters with #( ) on the instance)" + _OUTSIDE)
-        elif k == SK.InstanceArray:
-            rep.error(m.location, f"an array of instances ('{m.name}[...]')" + _OUTSIDE)
-        elif k not in _FINE:
-            rep.error(m.location, f"this declaration ({str(k).split('.')[-1]})" + _OUTSIDE)
 
 
 def _twice(rep, m, prev, module) -> None:
@@ -232,12 +256,13 @@ def _signed_at(rep, m):
     return _decl_start(m)
 
 
-def _net(rep, m) -> None:
+def _net(rep, m) -> bool:
+    """Report a net outside the subset; True when it is inside."""
     nt = m.netType.name
     if nt not in _NET_TYPES:
         rep.error(m.location if m.isImplicit else _decl_start(m), f"a '{nt}' net" + _OUTSIDE)
-        return
-    _data_type(rep, m)
+        return False
+    return _data_type(rep, m)
 
 
 def _data_type(rep, m) -> bool:
@@ -257,19 +282,15 @@ def _data_type(rep, m) -> bool:
     return True
 
 
-def _variable(rep, m, loops) -> None:
+def _variable(rep, m) -> None:
     t = m.type
-    if t.isPredefinedInteger:
-        if m not in loops:
-            rep.error(_decl_start(m), f"an '{t}' variable" + _OUTSIDE + " (except as a 'for' loop's variable)")
-        return
     if not t.isIntegral and not t.isUnpackedArray:
         rep.error(_decl_start(m), f"a '{t}' variable" + _OUTSIDE)
         return
     _data_type(rep, m)
 
 
-def _subroutine(rep, m, loops) -> None:
+def _subroutine(rep, m) -> None:
     if m.subroutineKind == ast.SubroutineKind.Task:
         rep.error(m.syntax.sourceRange.start, "a task ('task')" + _OUTSIDE)
         return

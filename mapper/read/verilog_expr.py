@@ -53,17 +53,18 @@ _COMPARE = (BO.LessThan, BO.LessThanEqual, BO.GreaterThan, BO.GreaterThanEqual)
 class Net:
     """A declared net or variable of one module instance."""
 
-    __slots__ = ("name", "bits", "sym", "is_reg", "at", "init")
+    __slots__ = ("name", "bits", "sym", "is_reg", "at", "init", "msb", "lsb")
 
-    def __init__(self, name, bits, sym, is_reg, at):
+    def __init__(self, name, bits, sym, is_reg, at, msb=None, lsb=None):
         self.name, self.bits, self.sym, self.is_reg, self.at = name, bits, sym, is_reg, at
+        self.msb, self.lsb = msb, lsb
         self.init = None
 
 
 class Scope:
     """One module instance: its nets by pyslang symbol."""
 
-    __slots__ = ("prefix", "nets", "body", "module", "items", "inits")
+    __slots__ = ("prefix", "nets", "body", "module", "items", "inits", "ctx")
 
     def __init__(self, prefix, body):
         self.prefix, self.body = prefix, body
@@ -71,6 +72,8 @@ class Scope:
         self.nets: dict = {}
         self.items: list = []
         self.inits = None
+        #: the context of its continuous assignments and gates (one, reused)
+        self.ctx = Ctx(self, prefix)
 
 
 class Ctx:
@@ -148,27 +151,48 @@ class ExprLowerer:
     # -- the walk ------------------------------------------------------------------
     def value(self, e, ctx) -> list:
         """Bits of expression ``e`` (as wide as its type)."""
-        if e.kind == EK.NamedValue and ctx.reader is None:
-            net = ctx.scope.nets.get(e.symbol)
-            if net is not None:
-                return list(net.bits)
+        if ctx.reader is None:
+            k = e.kind
+            if k == EK.NamedValue:
+                net = ctx.scope.nets.get(e.symbol)
+                if net is not None:
+                    return list(net.bits)
+            elif k == EK.ElementSelect:
+                bit = self._bit_of_net(e, ctx)
+                if bit is not None:
+                    return [bit]
+        # post-order on an explicit stack: an expression is visited, a tuple
+        # (node, children) combines the values its children left on ``vals``
         vals: list = []
-        stack = [(e, None)]
+        stack = [e]
+        plain = ctx.reader is None
+        nets = ctx.scope.nets
         while stack:
-            x, kids = stack.pop()
-            if kids is None:
-                kids = self._kids(x, ctx)
-                if kids is _LEAF:
-                    vals.append(self._leaf(x, ctx))
-                    continue
-                stack.append((x, kids))
-                for c in reversed(kids):
-                    stack.append((c, None))
+            x = stack.pop()
+            if type(x) is tuple:
+                x, n = x
+                args = vals[len(vals) - n:]
+                del vals[len(vals) - n:]
+                vals.append(self._node(x, args, ctx))
                 continue
-            n = len(kids)
-            args = vals[len(vals) - n:]
-            del vals[len(vals) - n:]
-            vals.append(self._node(x, args, ctx))
+            if plain:
+                k = x.kind
+                if k == EK.NamedValue:
+                    net = nets.get(x.symbol)
+                    if net is not None:
+                        vals.append(list(net.bits))
+                        continue
+                elif k == EK.ElementSelect:
+                    bit = self._bit_of_net(x, ctx)
+                    if bit is not None:
+                        vals.append([bit])
+                        continue
+            kids = self._kids(x, ctx)
+            if kids is _LEAF:
+                vals.append(self._leaf(x, ctx))
+                continue
+            stack.append((x, len(kids)))
+            stack.extend(reversed(kids))
         return vals[0]
 
     def const_int(self, e, ctx, what) -> int:
@@ -182,6 +206,23 @@ class ExprLowerer:
         if v.kind == EK.NamedValue:
             return ctx.scope.nets.get(v.symbol)
         return None
+
+    def _bit_of_net(self, e, ctx):
+        """The slot of ``net[literal]`` read outside always blocks, else None (the
+        common case of netlists, taken without the general walk)."""
+        v, sel = e.value, e.selector
+        if v.kind != EK.NamedValue or sel.kind != EK.IntegerLiteral:
+            return None
+        net = ctx.scope.nets.get(v.symbol)
+        if net is None or net.msb is None:
+            return None
+        sv = sel.value
+        if sv.hasUnknown:
+            return None
+        text = sv.toString(_HEX, False)
+        i = -int(text[1:], 16) if text.startswith("-") else int(text, 16)
+        p = i - net.lsb if net.msb >= net.lsb else net.lsb - i
+        return net.bits[p] if 0 <= p < len(net.bits) else None
 
     def _kids(self, e, ctx):
         k = e.kind
@@ -358,14 +399,17 @@ class ExprLowerer:
     def _binary(self, e, a, b, ctx):
         op = e.op
         w = e.type.bitWidth
-        lt, rt = e.left.type, e.right.type
         if _const(a) and _const(b):
-            return int_bits(self._fold_binary(e, op, a, b, lt.isSigned, rt.isSigned), w)
+            return int_bits(self._fold_binary(e, op, a, b, e.left.type.isSigned, e.right.type.isSigned), w)
         st = self.store
         at, hint = ctx.at, ctx.hint
         t = _BIT_OPS.get(op)
         if t is not None:
-            return [st.node(2, t, [x, y], at, hint) for x, y in zip(_fit(a, w), _fit(b, w))]
+            if len(a) != w or len(b) != w:
+                a, b = _fit(a, w), _fit(b, w)
+            node = st.node
+            return [node(2, t, [x, y], at, hint) for x, y in zip(a, b)]
+        lt, rt = e.left.type, e.right.type
         if op == BO.Add:
             return st.add(_fit(a, w), _fit(b, w), at, hint)
         if op == BO.Subtract:

@@ -99,6 +99,8 @@ class _Lowerer(ExprLowerer):
         self.depth = 0
         self._key = -1
         self._loops: dict = {}
+        self._shapes: dict = {}
+        self._net_types: dict = {}
 
     # -- hierarchy -------------------------------------------------------------------
     def run(self, top):
@@ -131,10 +133,12 @@ class _Lowerer(ExprLowerer):
             sc, pre = stack.pop()
             for m in sc:
                 k = m.kind
-                if k == SK.Net or k == SK.Variable:
-                    if k == SK.Variable and (m.type.isPredefinedInteger or not m.type.isIntegral):
+                if k == SK.Net:
+                    self.declare(scope, m, pre, m.initializer or port_inits.get(m), True)
+                elif k == SK.Variable:
+                    if m.type.isPredefinedInteger or not m.type.isIntegral:
                         continue  # a loop variable (others are refused by the check)
-                    self.declare(scope, m, pre, m.initializer or port_inits.get(m))
+                    self.declare(scope, m, pre, m.initializer or port_inits.get(m), False)
                 elif k == SK.Port and m.initializer is not None:
                     port_inits[m.internalSymbol] = m.initializer
                 elif k == SK.GenerateBlock:
@@ -148,22 +152,27 @@ class _Lowerer(ExprLowerer):
                     scope.items.append((m, pre))
         return scope
 
-    def declare(self, scope, m, pre, init):
+    def declare(self, scope, m, pre, init, is_net):
         t = m.type
+        shape = self._shapes.get(t)
+        if shape is None:  # types are shared between declarations: look each up once
+            rng = t.fixedRange if t.isPackedArray else None
+            shape = self._shapes[t] = (rng.left, rng.right) if rng is not None else (None, None)
+        msb, lsb = shape
         name = pre + m.name
         at = m.location
         st = self.store
-        if t.isPackedArray:
-            rng = t.fixedRange
-            msb, lsb = rng.left, rng.right
+        if msb is not None:
             step = 1 if msb >= lsb else -1
             bits = [st.new_slot(f"{name}[{i}]", at, False) for i in range(lsb, msb + step, step)]
         else:
             bits = [st.new_slot(name, at, False)]
-        net = Net(name, bits, m, m.kind == SK.Variable, at)
+        net = Net(name, bits, m, not is_net, at, msb, lsb)
         scope.nets[m] = net
-        if m.kind == SK.Net:
-            nt = m.netType.name
+        if is_net:
+            nt = self._net_types.get(m.netType)
+            if nt is None:
+                nt = self._net_types[m.netType] = m.netType.name
             if nt in ("supply0", "supply1"):
                 for b in bits:
                     st.drv[b] = ("a", 1 if nt == "supply1" else 0)
@@ -216,32 +225,62 @@ class _Lowerer(ExprLowerer):
             self.fail(m.location, "this assignment cannot be read")
         if m.delay is not None:
             self.note_delay(m.delay.sourceRange.start)
-        at = _operator(e)
-        ctx = Ctx(scope, pre + target_name(e.left), at)
-        keys, _ = self.lvalue(e.left, ctx, False)
-        bits = _fit(self.value(e.right, ctx), len(keys))
+        left = e.left
+        net = scope.nets.get(left.symbol) if left.kind == EK.NamedValue else None
+        # the assignment stands for its position (its operator), found only for a message
+        ctx = scope.ctx
+        ctx.at = e
+        if net is not None and not net.is_reg:
+            keys = net.bits
+            ctx.hint = net.name
+        else:
+            ctx.hint = pre + target_name(left)
+            keys, _ = self.lvalue(left, ctx, False)
+        bits = self.value(e.right, ctx)
+        if len(bits) != len(keys):
+            bits = _fit(bits, len(keys))
         drive = self.store.drive
         for s, b in zip(keys, bits):
-            drive(s, ("a", b), at)
+            drive(s, ("a", b), e)
 
     def gate(self, scope, m, pre):
         kind = m.primitiveType.name
-        conns = list(m.portConnections)
-        at = m.syntax.parent.sourceRange.start
+        conns = m.portConnections
+        at = m  # the gate stands for its position (its keyword), found only for a message
         if m.delay is not None:
             self.note_delay(m.delay.sourceRange.start)
         if len(conns) < 2:
             self.fail(at, f"a '{kind}' gate needs an output and at least one input")
         outs, ins = (conns[:-1], conns[-1:]) if kind in ("not", "buf") else (conns[:1], conns[1:])
-        ctx = Ctx(scope, pre + (m.name or target_name(outs[0].left)), at)
+        ctx = scope.ctx
+        ctx.at = at
+        name = m.name
+        ctx.hint = pre + name if name else pre + target_name(outs[0].left)
         out_slots = []
+        nets = scope.nets
         for c in outs:
-            keys, _ = self.lvalue(c.left, ctx, False)
+            left = c.left
+            net = nets.get(left.symbol) if left.kind == EK.NamedValue else None
+            if net is not None and not net.is_reg:
+                keys = net.bits
+            else:
+                keys, _ = self.lvalue(left, ctx, False)
             if len(keys) != 1:
-                self.fail(c.left.sourceRange.start, f"a gate terminal must be 1 bit wide; this one is {len(keys)} bits")
+                self.fail(left.sourceRange.start, f"a gate terminal must be 1 bit wide; this one is {len(keys)} bits")
             out_slots.append(keys[0])
         in_bits = []
         for c in ins:
+            k = c.kind
+            if k == EK.NamedValue:  # the common terminals first, without the general walk
+                net = nets.get(c.symbol)
+                if net is not None and len(net.bits) == 1:
+                    in_bits.append(net.bits[0])
+                    continue
+            elif k == EK.ElementSelect:
+                bit = self._bit_of_net(c, ctx)
+                if bit is not None:
+                    in_bits.append(bit)
+                    continue
             while c.kind == EK.Conversion:
                 c = c.operand
             bits = self.value(c, ctx)

@@ -88,14 +88,14 @@ def _read(path: str):
     try:
         st = os.stat(path)
     except OSError as exc:
-        return None, f"cannot read it: {exc.strerror or exc}"
+        return None, exc.strerror or str(exc)
     if not stat.S_ISREG(st.st_mode):
-        return None, "it is not a regular file"
+        return None, "not a regular file"
     try:
         with open(path, "rb") as fh:
             raw = fh.read()
     except OSError as exc:
-        return None, f"cannot read it: {exc.strerror or exc}"
+        return None, exc.strerror or str(exc)
     return raw.decode("utf-8", errors="replace"), None
 
 
@@ -154,7 +154,8 @@ def _add_includes(src: Sources) -> None:
                     continue
                 text, why = _read(cand)
                 if text is None:
-                    src.refused[cand] = why
+                    src.refused[cand] = ("is not a regular file" if why == "not a regular file"
+                                         else f"cannot be read ({why})")
                     continue
                 shown = name if os.path.isabs(name) else os.path.join(os.path.dirname(g.display), name)
                 nf = SourceFile(shown, cand, text)
@@ -243,6 +244,18 @@ def _on_big_stack(fn):
     return box.get("value")
 
 
+_LOCATION = pyslang.SourceLocation
+
+#: how to find the position of objects kept as positions until a message needs them
+POSITIONS: dict = {
+    # an assignment: its operator
+    pyslang.ast.AssignmentExpression: lambda e: (e.syntax.operatorToken.location
+                                                 if e.syntax is not None else e.sourceRange.start),
+    # a gate: its keyword
+    pyslang.ast.PrimitiveInstanceSymbol: lambda m: m.syntax.parent.sourceRange.start,
+}
+
+
 class Report:
     """Positions of pyslang locations, and the diagnostics found."""
 
@@ -271,11 +284,15 @@ class Report:
         return f, loc.offset
 
     def where(self, at):
-        """``(file, line, col)`` of a position: a tuple, a pyslang location or None."""
+        """``(file, line, col)`` of a position: a tuple, a pyslang location, an
+        object with a resolver in :data:`POSITIONS` (looked at only now), or None."""
         if at is None:
             return (self.src.main.display, None, None)
-        if isinstance(at, tuple):
+        kind = type(at)
+        if kind is tuple:
             return at
+        if kind is not _LOCATION:
+            at = POSITIONS[kind](at)
         f, off = self.file_of(at)
         if f is None:
             return (self.src.main.display, None, None)
