@@ -14,7 +14,7 @@ from .verilog_lower import lower
 from .verilog_messages import code_name, translate
 from .verilog_source import MAX_NESTING, Report, compile_design, load, load_text
 
-__all__ = ["VerilogError", "read", "read_text", "MAX_ERRORS"]
+__all__ = ["MAX_ERRORS", "VerilogError", "read", "read_text"]
 
 log = logging.getLogger(__name__)
 
@@ -156,9 +156,13 @@ class _Design:
         instantiates itself), compiled again as the top."""
         used = set()
         for d in self.modules:
-            names = []
-            d.syntax.visit(lambda n: names.append(n.type.valueText)
-                           if getattr(n, "kind", None) == syntax.SyntaxKind.HierarchyInstantiation else None)
+            names: list = []
+
+            def note(n, names=names):
+                if getattr(n, "kind", None) == syntax.SyntaxKind.HierarchyInstantiation:
+                    names.append(n.type.valueText)
+
+            d.syntax.visit(note)
             used.update(n for n in names if n != d.name)
         cands = [d for d in self.modules if d.name not in used]
         if len(cands) != 1:

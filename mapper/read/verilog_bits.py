@@ -20,8 +20,22 @@ from __future__ import annotations
 from ..logic.function import MAX_TABLE_INPUTS, Function, var_mask
 from ..netlist import Netlist
 
-__all__ = ["BitStore", "Fail", "HOLD", "T_INV", "T_AND2", "T_OR2", "T_XOR2", "T_XNOR2", "T_NAND2",
-           "T_NOR2", "gate_table", "shape", "simplify"]
+__all__ = [
+    "HOLD",
+    "T_AND2",
+    "T_INV",
+    "T_NAND2",
+    "T_NOR2",
+    "T_OR2",
+    "T_XNOR2",
+    "T_XOR2",
+    "BitStore",
+    "Fail",
+    "Template",
+    "gate_table",
+    "shape",
+    "simplify",
+]
 
 #: a bit not assigned on this path of a level-sensitive block (it keeps its value)
 HOLD = -1
@@ -139,6 +153,91 @@ class BitStore:
             self.report.fail(at, f"net '{name}' has two drivers{where}")
         self.drv[slot] = driver
         self.drv_at[slot] = at
+
+    # -- instances lowered once, copied for the others ------------------------------
+    def record(self, prefix, r0, declared, connected, r1_start, clocks_from, ports):
+        """A :class:`Template` of an instance whose whole subtree is lowered: its
+        own nets are the slots ``r0`` (a range) with drivers ``declared`` when
+        made and ``connected`` once its parent connected them; everything its
+        subtree made is from ``r1_start`` on.  ``None`` when a slot there is
+        not named under ``prefix`` or a driver reaches outside (then it is not
+        copied)."""
+        s0, e0 = r0
+        s1, e1 = r1_start, len(self.name)
+        n0, n = e0 - s0, len(prefix)
+
+        def local(x):
+            if x < 2:
+                return -1 - x
+            if s0 <= x < e0:
+                return x - s0
+            if s1 <= x < e1:
+                return n0 + x - s1
+            raise LookupError
+
+        tpl = Template()
+        try:
+            for x in list(range(s0, e0)) + list(range(s1, e1)):
+                name = self.name[x]
+                if not name.startswith(prefix):
+                    return None
+                d = self.drv[x]
+                if s0 <= x < e0:
+                    i = x - s0
+                    made = d is not connected[i]
+                    d = d if made else declared[i]
+                    tpl.names.append((name[n:], False, self.at[x], d is not None and made))
+                else:
+                    tpl.names.append((name[n:], self.gen[x], self.at[x], False))
+                tpl.drivers.append(None if d is None else _relocate(d, local))
+                tpl.drv_at.append(self.drv_at[x])
+            for x, (at, port, path) in self.unconnected.items():
+                if s0 <= x < e0 or s1 <= x < e1:
+                    tpl.unconnected.append((local(x), at, port, path[n:]))
+            tpl.clocks = [local(c) for c in self.clock_slots[clocks_from:]]
+        except LookupError:
+            return None
+        tpl.n0 = n0
+        tpl.ports = ports
+        return tpl
+
+    def make_nets(self, tpl, prefix):
+        """The slots of a copy's own nets, with the drivers they get when made;
+        returns the first one."""
+        b0 = len(self.name)
+        new_slot = self.new_slot
+        for (name, gen, at, made), d, dat in zip(tpl.names[:tpl.n0], tpl.drivers, tpl.drv_at):
+            s = new_slot(prefix + name, at, gen)
+            if d is not None and not made:  # a supply net: tied to its constant
+                self.drv[s], self.drv_at[s] = ("a", -1 - d[1]), dat
+        return b0
+
+    def copy(self, tpl, prefix, b0):
+        """Everything a copy's subtree makes, its own nets at ``b0`` on."""
+        n0 = tpl.n0
+        b1 = len(self.name)
+        new_slot = self.new_slot
+        for name, gen, at, _ in tpl.names[n0:]:
+            new_slot(prefix + name, at, gen)
+
+        def place(x):
+            return -1 - x if x < 0 else b0 + x if x < n0 else b1 + x - n0
+
+        drv, drv_at = self.drv, self.drv_at
+        for x, (d, dat) in enumerate(zip(tpl.drivers, tpl.drv_at)):
+            if d is None or (x < n0 and not tpl.names[x][3]):
+                continue
+            s = place(x)
+            nd = _relocate(d, place)
+            if drv[s] is not None:
+                self.drive(s, nd, dat)  # reports the second driver
+            drv[s], drv_at[s] = nd, dat
+        for x, at, port, path in tpl.unconnected:
+            self.unconnected[place(x)] = (at, port, prefix + path)
+        for c in tpl.clocks:
+            c = place(c)
+            if c not in self.clock_slots:
+                self.clock_slots.append(c)
 
     # -- logic nodes ------------------------------------------------------
     def node(self, k, table, ops, at, hint):
@@ -466,6 +565,33 @@ class BitStore:
             used_names.add(cand)
             net_name[r] = cand
         return best, net_name
+
+
+class Template:
+    """An instance's subtree as lowered once, in slot numbers of its own
+    (its nets first, then what its subtree made); see :meth:`BitStore.record`."""
+
+    __slots__ = ("clocks", "drivers", "drv_at", "n0", "names", "ports", "unconnected")
+
+    def __init__(self):
+        self.names: list = []  # (name under the instance, made here, position, body-made driver)
+        self.drivers: list = []
+        self.drv_at: list = []
+        self.unconnected: list = []
+        self.clocks: list = []
+        self.n0 = 0
+        self.ports: list = []  # (name, is an input, slots of its own) per port, in order
+
+
+def _relocate(d, place):
+    k = d[0]
+    if k == "a":
+        return ("a", place(d[1]))
+    if k == "l":
+        return ("l", tuple(place(f) for f in d[1]), d[2])
+    if k == "s":
+        return ("s", place(d[1]), d[2], place(d[3]), d[4])
+    raise LookupError  # an input or a constant slot cannot be inside an instance
 
 
 def shape(v):

@@ -21,7 +21,7 @@ import re
 
 from pyslang import ast, syntax
 
-__all__ = ["check", "GATES", "statements", "position"]
+__all__ = ["GATES", "check", "position", "statements"]
 
 SK = ast.SymbolKind
 EK = ast.ExpressionKind
@@ -97,11 +97,18 @@ def check(rep, comp, tree, top, twice=True) -> None:
     without one the look is skipped, it costs a pass over every name)."""
     _design_level(rep, comp, tree)
     stack = [(top, frozenset())]
+    seen: set = set()
     while stack:
         inst, above = stack.pop()
-        module = inst.body.definition.name
+        body = inst.body
+        module = body.definition.name
         if module in above:
             continue  # a module inside itself (pyslang reports it)
+        params = body.parameters
+        key = (body.definition, tuple(str(getattr(p, "value", p)) for p in params) if params else ())
+        if key in seen:
+            continue  # the same module with the same parameters: the same findings
+        seen.add(key)
         above = above | {module}
         walk = _Walk(rep, module, twice)
         scopes = [inst.body]

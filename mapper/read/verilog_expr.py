@@ -27,7 +27,7 @@ from pyslang import ast
 from .verilog_bits import HOLD, T_AND2, T_NAND2, T_NOR2, T_OR2, T_XNOR2, T_XOR2
 from .verilog_check import position
 
-__all__ = ["ExprLowerer", "Ctx", "Net", "Scope", "int_bits", "bits_int", "constant_bits"]
+__all__ = ["Ctx", "ExprLowerer", "Net", "Scope", "bits_int", "constant_bits", "int_bits"]
 
 EK = ast.ExpressionKind
 SK = ast.SymbolKind
@@ -53,7 +53,7 @@ _COMPARE = (BO.LessThan, BO.LessThanEqual, BO.GreaterThan, BO.GreaterThanEqual)
 class Net:
     """A declared net or variable of one module instance."""
 
-    __slots__ = ("name", "bits", "sym", "is_reg", "at", "init", "msb", "lsb")
+    __slots__ = ("at", "bits", "init", "is_reg", "lsb", "msb", "name", "sym")
 
     def __init__(self, name, bits, sym, is_reg, at, msb=None, lsb=None):
         self.name, self.bits, self.sym, self.is_reg, self.at = name, bits, sym, is_reg, at
@@ -64,10 +64,13 @@ class Net:
 class Scope:
     """One module instance: its nets by pyslang symbol."""
 
-    __slots__ = ("prefix", "nets", "body", "module", "items", "inits", "ctx")
+    __slots__ = ("body", "ctx", "declared", "inits", "items", "key", "module", "nets", "prefix", "r0")
 
     def __init__(self, prefix, body):
         self.prefix, self.body = prefix, body
+        self.key = None  # set for instances below the top (see the lowerer's templates)
+        self.r0 = (0, 0)  # the slots of its own nets
+        self.declared: list = []  # their drivers when made (supply nets)
         self.module = body.definition.name
         self.nets: dict = {}
         self.items: list = []
@@ -82,7 +85,7 @@ class Ctx:
     variables (``consts``) and, inside a function, its local variables
     (``locals``: symbol -> keys into ``env``)."""
 
-    __slots__ = ("scope", "reader", "consts", "locals", "env", "hint", "depth", "func", "at")
+    __slots__ = ("at", "consts", "depth", "env", "func", "hint", "locals", "reader", "scope")
 
     def __init__(self, scope, hint, at=None, reader=None, consts=None):
         self.scope, self.hint, self.at, self.reader = scope, hint, at, reader
@@ -621,7 +624,7 @@ def _fold_unary(op, a, signed, e, low):
         elif red[0] == T_OR2:
             r = int(u != 0)
         else:
-            r = bin(u).count("1") & 1
+            r = u.bit_count() & 1
         return r ^ 1 if red[1] is not None else r
     low.fail(position(e), "an increment or decrement" + _OUTSIDE)
 

@@ -38,7 +38,7 @@ from .verilog_bits import HOLD, T_OR2, Fail, shape
 from .verilog_check import loop_variables, position
 from .verilog_expr import Ctx, ExprLowerer, Net, Scope, _fit, target_name
 
-__all__ = ["lower", "MAX_LOOP", "MAX_NESTING"]
+__all__ = ["MAX_LOOP", "MAX_NESTING", "lower"]
 
 SK = ast.SymbolKind
 EK = ast.ExpressionKind
@@ -46,6 +46,14 @@ ST = ast.StatementKind
 TK = ast.TimingControlKind
 _OUTSIDE = " is outside the structural subset"
 _BIN = pyslang.LiteralBase.Binary
+# enumeration members compared with ``is`` in the loops that visit every declaration
+_NET, _VARIABLE, _PORT, _INSTANCE = SK.Net, SK.Variable, SK.Port, SK.Instance
+_ASSIGN, _GATE = SK.ContinuousAssign, SK.PrimitiveInstance
+_GENERATE_BLOCK, _GENERATE_ARRAY = SK.GenerateBlock, SK.GenerateBlockArray
+_ITEMS = (SK.ContinuousAssign, SK.PrimitiveInstance, SK.ProceduralBlock, SK.Instance)
+_NAMED_VALUE, _ELEMENT_SELECT, _CONVERSION, _ASSIGNMENT = (EK.NamedValue, EK.ElementSelect, EK.Conversion,
+                                                           EK.Assignment)
+_IN = ast.ArgumentDirection.In
 #: iterations of one ``for`` loop, at most
 MAX_LOOP = 1 << 16
 #: statements nested in statements (and function calls), at most
@@ -73,7 +81,7 @@ def lower(rep, store, top):
 class _Proc:
     """One always block or function body being run."""
 
-    __slots__ = ("mode", "env", "consts", "ctx", "reads", "nonblocking")
+    __slots__ = ("consts", "ctx", "env", "mode", "nonblocking", "reads")
 
     def __init__(self, mode, ctx):
         self.mode = mode  # "clocked", "level" or "function"
@@ -101,6 +109,7 @@ class _Lowerer(ExprLowerer):
         self._loops: dict = {}
         self._shapes: dict = {}
         self._net_types: dict = {}
+        self._templates: dict = {}
 
     # -- hierarchy -------------------------------------------------------------------
     def run(self, top):
@@ -119,37 +128,69 @@ class _Lowerer(ExprLowerer):
                 st.top_outputs.extend(net.bits)
         todo = [scope]
         while todo:
-            self.body(todo.pop(), todo)
+            item = todo.pop()
+            if type(item) is Scope:
+                # the mark is taken once the whole subtree is done (it sits under the children)
+                todo.append(("done", item, len(self.store.name), len(self.store.clock_slots),
+                             self.rep.errors, list(self.store.drv[item.r0[0]:item.r0[1]])))
+                self.body(item, todo)
+            elif item[0] == "done":
+                self.subtree_done(*item[1:])
+            else:
+                try:
+                    self.store.copy(*item[1:])
+                except Fail:
+                    pass
             if self.rep.errors >= 50:
                 break
+
+    def subtree_done(self, scope, r1_start, clocks_from, errors, connected):
+        """The first instance of a module (with its parameters) is lowered with all
+        below it: keep it as a template for the other instances."""
+        if scope.key is None or scope.key in self._templates or self.rep.errors != errors:
+            return
+        ports = [(name, is_in, [b - scope.r0[0] for b in bits]) for name, is_in, bits in _port_nets(scope)]
+        self._templates[scope.key] = self.store.record(scope.prefix, scope.r0, scope.declared, connected,
+                                                       r1_start, clocks_from, ports)
+
+    def key(self, body):
+        """What makes two instances lower alike: the module and its parameters' values."""
+        params = body.parameters
+        return (body.definition, tuple(str(getattr(p, "value", p)) for p in params) if params else ())
 
     def make_scope(self, body, prefix):
         """A new instance: slots for its nets; its items listed (with the path
         prefix of the generate block each stands in)."""
         scope = Scope(prefix, body)
+        r0 = len(self.store.name)
         port_inits = {}  # ``output reg q = 1'b0``: the value sits on the port
+        items = scope.items
         stack = [(body, prefix)]
         while stack:
             sc, pre = stack.pop()
             for m in sc:
                 k = m.kind
-                if k == SK.Net:
+                if k is _NET:
                     self.declare(scope, m, pre, m.initializer or port_inits.get(m), True)
-                elif k == SK.Variable:
-                    if m.type.isPredefinedInteger or not m.type.isIntegral:
+                elif k in _ITEMS:
+                    items.append((m, pre))
+                elif k is _PORT:
+                    if m.initializer is not None:
+                        port_inits[m.internalSymbol] = m.initializer
+                elif k is _VARIABLE:
+                    t = m.type
+                    if t.isPredefinedInteger or not t.isIntegral:
                         continue  # a loop variable (others are refused by the check)
                     self.declare(scope, m, pre, m.initializer or port_inits.get(m), False)
-                elif k == SK.Port and m.initializer is not None:
-                    port_inits[m.internalSymbol] = m.initializer
-                elif k == SK.GenerateBlock:
+                elif k is _GENERATE_BLOCK:
                     if not m.isUninstantiated:
                         stack.append((m, f"{pre}{m.name or m.externalName}/"))
-                elif k == SK.GenerateBlockArray:
+                elif k is _GENERATE_ARRAY:
                     for e in m.entries:
                         if not e.isUninstantiated:
                             stack.append((e, f"{pre}{m.name}[{e.arrayIndex}]/"))
-                elif k in (SK.ContinuousAssign, SK.PrimitiveInstance, SK.ProceduralBlock, SK.Instance):
-                    scope.items.append((m, pre))
+        scope.r0 = (r0, len(self.store.name))
+        scope.declared = list(self.store.drv[r0:])
         return scope
 
     def declare(self, scope, m, pre, init, is_net):
@@ -161,19 +202,20 @@ class _Lowerer(ExprLowerer):
         msb, lsb = shape
         name = pre + m.name
         at = m.location
-        st = self.store
+        new_slot = self.store.new_slot
         if msb is not None:
             step = 1 if msb >= lsb else -1
-            bits = [st.new_slot(f"{name}[{i}]", at, False) for i in range(lsb, msb + step, step)]
+            bits = [new_slot(f"{name}[{i}]", at, False) for i in range(lsb, msb + step, step)]
         else:
-            bits = [st.new_slot(name, at, False)]
+            bits = [new_slot(name, at, False)]
         net = Net(name, bits, m, not is_net, at, msb, lsb)
         scope.nets[m] = net
         if is_net:
             nt = self._net_types.get(m.netType)
             if nt is None:
                 nt = self._net_types[m.netType] = m.netType.name
-            if nt in ("supply0", "supply1"):
+            if nt == "supply0" or nt == "supply1":
+                st = self.store
                 for b in bits:
                     st.drv[b] = ("a", 1 if nt == "supply1" else 0)
                     st.drv_at[b] = at
@@ -183,22 +225,24 @@ class _Lowerer(ExprLowerer):
             scope.items.append((("reg", net, init), pre))
 
     def body(self, scope, todo):
-        # initial values of regs first: the always blocks that assign them need them
-        items = sorted(scope.items, key=lambda it: not (isinstance(it[0], tuple) and it[0][0] == "reg"))
+        items = scope.items
+        if any(type(it[0]) is tuple and it[0][0] == "reg" for it in items):
+            # initial values of regs first: the always blocks that assign them need them
+            items = sorted(items, key=lambda it: not (type(it[0]) is tuple and it[0][0] == "reg"))
         for m, pre in items:
             try:
-                if isinstance(m, tuple):
+                if type(m) is tuple:
                     self.initial_value(scope, *m, pre)
                     continue
                 k = m.kind
-                if k == SK.ContinuousAssign:
+                if k is _ASSIGN:
                     self.assign(scope, m, pre)
-                elif k == SK.PrimitiveInstance:
+                elif k is _GATE:
                     self.gate(scope, m, pre)
-                elif k == SK.ProceduralBlock:
-                    self.always(scope, m, pre)
-                else:
+                elif k is _INSTANCE:
                     todo.append(self.instance(scope, m, pre))
+                else:
+                    self.always(scope, m, pre)
             except Fail:
                 pass
 
@@ -298,43 +342,79 @@ class _Lowerer(ExprLowerer):
             st.drive(s, ("a", b), at)
 
     def instance(self, scope, m, pre):
-        child = self.make_scope(m.body, f"{pre}{m.name}/")
-        path = child.prefix[:-1]
+        """The nets of an instance, joined to the parent's through its ports; returns
+        the work still to do for it (its scope, or a copy of a template)."""
+        prefix = f"{pre}{m.name}/"
+        key = self.key(m.body)
+        tpl = self._templates.get(key)
+        if tpl is not None:
+            b0 = self.store.make_nets(tpl, prefix)
+            ports = [(name, is_in, [b0 + i for i in idx]) for name, is_in, idx in tpl.ports]
+            todo = ("copy", tpl, prefix, b0)
+        else:
+            child = self.make_scope(m.body, prefix)
+            child.key = key
+            ports = [(name, is_in, bits) for name, is_in, bits in _port_nets(child)]
+            todo = child
+        conns = m.portConnections
+        if len(conns) != len(ports) or any(pc.port.name != p[0] for pc, p in zip(conns, ports)):
+            by_name = {p[0]: p for p in ports}  # (never seen: connections follow the ports' order)
+            ports = [by_name.get(pc.port.name, (pc.port.name, True, None)) for pc in conns]
         st = self.store
-        for pc in m.portConnections:
-            port, e = pc.port, pc.expression
-            net = child.nets.get(getattr(port, "internalSymbol", None))
-            if net is None:
+        ctx = scope.ctx
+        for (name, is_in, bits), pc in zip(ports, conns):
+            e = pc.expression
+            if bits is None:
                 continue
             try:
-                if e is None:
-                    if port.direction == ast.ArgumentDirection.In:
-                        for s in net.bits:
-                            st.unconnected[s] = (m.location, port.name, path)
+                if not is_in:
+                    self.connect_output(ctx, m, prefix, name, e, bits)
                     continue
-                at = e.sourceRange.start
-                ctx = Ctx(scope, child.prefix + port.name, at)
-                if port.direction == ast.ArgumentDirection.In:
-                    x = e
-                    while x.kind == EK.Conversion:
-                        x = x.operand
-                    if x.type.bitWidth != len(net.bits):
-                        self.rep.warn(at, f"port '{port.name}' of '{m.name}' is {len(net.bits)} bit(s) wide "
-                                          f"but is connected to {x.type.bitWidth} bit(s)")
-                    bits = _fit(self.value(e, ctx), len(net.bits))
-                    for s, b in zip(net.bits, bits):
-                        st.drive(s, ("a", b), at)
+                if e is None:
+                    for s in bits:
+                        st.unconnected[s] = (m.location, name, prefix[:-1])
+                    continue
+                k = e.kind  # the common connections first, without the general walk
+                if k is _NAMED_VALUE:
+                    src = scope.nets.get(e.symbol)
+                    got = src.bits if src is not None and len(src.bits) == len(bits) else None
+                elif k is _ELEMENT_SELECT and len(bits) == 1:
+                    bit = self._bit_of_net(e, ctx)
+                    got = [bit] if bit is not None else None
                 else:
-                    lhs = e.left if e.kind == EK.Assignment else e
-                    keys, _ = self.lvalue(lhs, ctx, False)
-                    if len(keys) != len(net.bits):
-                        self.rep.warn(at, f"port '{port.name}' of '{m.name}' is {len(net.bits)} bit(s) wide "
-                                          f"but is connected to {len(keys)} bit(s)")
-                    for k, s in enumerate(keys):
-                        st.drive(s, ("a", net.bits[k] if k < len(net.bits) else 0), at)
+                    got = None
+                if got is None:
+                    got = self.connect_input(ctx, m, prefix, name, e, bits)
+                for s, b in zip(bits, got):
+                    st.drive(s, ("a", b), e)
             except Fail:
                 pass
-        return child
+        return todo
+
+    def connect_input(self, ctx, m, prefix, port, e, bits):
+        """Bits input ``port`` (its slots ``bits``) gets from the expression connected to it."""
+        ctx.at, ctx.hint = e, prefix + port
+        x = e
+        while x.kind is _CONVERSION:
+            x = x.operand
+        if x.type.bitWidth != len(bits):
+            self.rep.warn(e, f"port '{port}' of '{m.name}' is {len(bits)} bit(s) wide "
+                             f"but is connected to {x.type.bitWidth} bit(s)")
+        return _fit(self.value(e, ctx), len(bits))
+
+    def connect_output(self, ctx, m, prefix, port, e, bits):
+        """Join the nets output ``port`` (its slots ``bits``) is connected to with it."""
+        if e is None:
+            return
+        ctx.at, ctx.hint = e, prefix + port
+        lhs = e.left if e.kind is _ASSIGNMENT else e
+        keys, _ = self.lvalue(lhs, ctx, False)
+        if len(keys) != len(bits):
+            self.rep.warn(e, f"port '{port}' of '{m.name}' is {len(bits)} bit(s) wide "
+                             f"but is connected to {len(keys)} bit(s)")
+        drive = self.store.drive
+        for k, s in enumerate(keys):
+            drive(s, ("a", bits[k] if k < len(bits) else 0), e)
 
     # -- always blocks ---------------------------------------------------------------
     def always(self, scope, m, pre):
@@ -750,6 +830,16 @@ class _Lowerer(ExprLowerer):
     def _new_key(self):
         self._key -= 1
         return self._key
+
+
+def _port_nets(scope):
+    """(name, is an input, slots) of each port of an instance, in order."""
+    out = []
+    nets = scope.nets
+    for port in scope.body.portList:
+        net = nets.get(port.internalSymbol)
+        out.append((port.name, port.direction is _IN, net.bits if net is not None else None))
+    return out
 
 
 def _operator(e):

@@ -17,7 +17,7 @@ __all__ = ["translate"]
 #: pyslang warnings that are errors for netfit
 _WARNINGS_AS_ERRORS = {"ParameterDoesNotExist", "RangeSelectReversed"}
 
-_NEXT = re.compile(rb"(?:\s+|//[^\n]*|/\*.*?\*/)*(\w+|`\w+|\S)", re.S)
+_NEXT = re.compile(rb"(?:\s+|//[^\n]*|/\*.*?\*/)*(\w+|`\w+|\S)", re.DOTALL)
 _WORD = re.compile(rb"[`\\]?[\w$.]+")
 
 
@@ -88,7 +88,7 @@ def _undeclared(d, args, rep, ctx):
 
 
 def _unterminated_comment(d, args, rep, ctx):
-    f, off = rep.file_of(d.location)
+    f, _ = rep.file_of(d.location)
     if f is not None:
         # the first /* that no */ closes (comments, strings and closed comments skipped)
         for m in _COMMENTS.finditer(f.data):
@@ -98,7 +98,7 @@ def _unterminated_comment(d, args, rep, ctx):
     return d.location, "unterminated /* comment"
 
 
-_COMMENTS = re.compile(rb'//[^\n]*|"(?:\\.|[^"\\\n])*"|/\*.*?\*/|(/\*)', re.S)
+_COMMENTS = re.compile(rb'//[^\n]*|"(?:\\.|[^"\\\n])*"|/\*.*?\*/|(/\*)', re.DOTALL)
 
 
 def _reversed_select(d, args, rep, ctx):

@@ -30,7 +30,7 @@ import pyslang
 from ..errors import Diagnostic
 from .verilog_bits import Fail
 
-__all__ = ["MAX_NESTING", "SourceFile", "Sources", "Report", "load", "load_text", "compile_design"]
+__all__ = ["MAX_NESTING", "Report", "SourceFile", "Sources", "compile_design", "load", "load_text"]
 
 #: nesting of the text (parentheses, ?: chains, statements) pyslang's parser accepts
 MAX_NESTING = 4096
@@ -42,13 +42,17 @@ _STACK_BYTES = 256 << 20
 # comments and strings (skipped) and `include with what follows it; a macro
 # quote `" is taken whole so that the text after it is scanned
 _SCAN = re.compile(r'//[^\n]*|/\*.*?(?:\*/|\Z)|`"|"(?:\\.|[^"\\\n])*"|\\\S+'
-                   r'|`include\b[ \t]*(?:"([^"\n]*)"|(<)|(\S?))', re.S)
+                   r'|`include\b[ \t]*(?:"([^"\n]*)"|(<)|(\S?))', re.DOTALL)
+
+
+_MACRO_INCLUDE = ("an `include whose file name comes from a macro is outside the structural subset; "
+                  "write the name in quotes")
 
 
 class SourceFile:
     """One file's text, with what positions need."""
 
-    __slots__ = ("display", "path", "text", "data", "_starts", "_ascii")
+    __slots__ = ("_ascii", "_starts", "data", "display", "path", "text")
 
     def __init__(self, display: str, path: str, text: str):
         self.display, self.path, self.text = display, path, text
@@ -139,8 +143,7 @@ def _add_includes(src: Sources) -> None:
                 if name is not None:
                     names.setdefault(name, (f, m.start()))
                 elif system is None and other == "`":
-                    src.early.append((f, m.start(), "an `include whose file name comes from a macro is "
-                                                    "outside the structural subset; write the name in quotes"))
+                    src.early.append((f, m.start(), _MACRO_INCLUDE))
         # a name may be taken relative to any file's folder (macros move text between files)
         for name, (g, _) in list(names.items()):
             for d in sorted(dirs):
@@ -292,7 +295,8 @@ class Report:
         if kind is tuple:
             return at
         if kind is not _LOCATION:
-            at = POSITIONS[kind](at)
+            find = POSITIONS.get(kind)
+            at = find(at) if find is not None else at.sourceRange.start  # an expression: its start
         f, off = self.file_of(at)
         if f is None:
             return (self.src.main.display, None, None)
