@@ -1,4 +1,92 @@
-"""Structural Verilog reader (placeholder docstring, rewritten below)."""
+"""Structural Verilog reader: a design in IEEE 1364-2005 → :class:`~mapper.netlist.Netlist`.
+
+How it reads
+------------
+pyslang (the Python package of the slang front end) preprocesses, parses
+and elaborates the file: macros (with or without arguments), `` `ifdef ``
+and friends, `` `default_nettype ``, parameters and their overrides,
+constant expressions and constant functions, generate loops and
+conditions are all resolved by it.  netfit then checks the elaborated
+design against the structural subset (:mod:`.verilog_check`) and lowers it
+to bits (:mod:`.verilog_expr`, :mod:`.verilog_lower`, :mod:`.verilog_bits`).
+pyslang's diagnostics are reported in netfit's own words
+(:mod:`.verilog_messages`); the files it sees are read and checked by netfit
+first (:mod:`.verilog_source`).  ``.v`` files use the IEEE 1364-2005
+keywords, ``.sv`` files SystemVerilog's.
+
+What is read
+------------
+* Modules with ANSI and non-ANSI port lists; ``input``, ``output``,
+  ``wire``, ``reg``, ``supply0``/``supply1``; scalars and vectors with either
+  range direction.  The top is the one module no other instantiates, or the
+  one named by ``top``; several candidates without ``top`` is an error.
+* ``assign`` and net declaration assignments with ``~ & | ^ ~^ ! && ||``,
+  reductions, ``?:``, concatenation, replication, constant bit- and
+  part-selects (``[7:4]``, ``[i+:4]``, ``[i-:4]``), ``== != < <= > >=``,
+  ``+ -`` (ripple-carry, modulo the expression's width) and shifts by a
+  constant; ``* / % **`` between constants.  Widths follow the standard
+  (pyslang applies them).
+* Gate primitives ``and or nand nor xor xnor not buf``; delays on them and
+  elsewhere are **ignored with one warning**: a build is timed from its
+  parts' own propagation delays.
+* Module instances with named or positional connections; an unconnected
+  input is an error only if the instance reads it.  A port connected to
+  another width is widened with zeros or cut, with a warning.
+* Generate loops, ``if`` and ``case`` (constant bounds and conditions), as
+  pyslang elaborates them; their blocks are steps of the instance path
+  (``stage[2]/u/...``, ``genblk1/...``).
+* ``always @(posedge c)`` / ``@(negedge c)`` blocks with non-blocking
+  assignments become storage ``re``/``fe``; ``always @*`` / ``@(a or b)``
+  blocks become logic where they assign on every path, else latches
+  ``ah``/``al``.  In both: ``begin``/``end``, ``if``/``else``, ``case``,
+  ``casez`` and ``casex`` with constant items (z digits, and in casex also x
+  digits, match anything), ``for`` loops whose start, condition and step are
+  constant (unrolled; the loop variable an ``integer``) and calls of
+  functions without side effects (inlined).  A reg declared with a value
+  (``reg q = 1'b0``) starts with it, else its initial value is unknown (3).
+
+A net has one driver: two drivers is an error naming the net and both
+lines.  Outside the subset, each reported where it stands with a message
+of netfit's own: ``initial``, tasks, functions with side effects or output
+arguments, ``while``/``repeat``/``forever``, ``inout``, tristate and switch
+primitives, ``tri``/``wand``/... nets, ``x``/``z`` values, ``signed``,
+memories, ``integer`` variables other than a loop's, ``=== !==``, shifts and
+bit-selects by a net, hierarchical names, system tasks, ``defparam``,
+asynchronous set/reset (two edges in one event list), gated clocks,
+SystemVerilog's ``always_ff``/``always_comb``, user-defined primitives,
+`` `include `` outside the design's folder (unless ``allow_outside``) or of
+anything but a regular file.  Errors are reported in the order of the
+text, each once, at most 50; positions are 1-based, a column counting
+characters (a tab is one column).
+
+Names
+-----
+Bus bits are named ``name[i]`` with the declared index (so a design read
+from Verilog and its BLIF twin match port by port); a scalar keeps its
+name.  Hierarchy is flattened: a net inside instance ``u1`` of instance
+``top_adder`` is ``top_adder/u1/name``.  Connected nets are one net, named
+after the top port, else the net highest in the hierarchy; logic made for
+an operator gets a name ``<target>$<k>``.
+
+Why pyslang, with numbers
+-------------------------
+netfit used to carry its own lexer and parser (3.4 k lines), because a
+reader that walked pyslang's *syntax tree* token by token from Python was
+quadratic along long comma-separated lists (39 s for a 100 k-gate file).
+Walking the *elaborated* design instead is linear: on that 100 k-gate file
+pyslang preprocesses, parses and elaborates in 0.37 s, iterating the
+instance's 200 k members takes 0.08 s and reading every assignment's and
+gate's expression tree with its symbols 0.52 s (10 k gates: 0.05 s).
+Measured with ``bench/bench_verilog.py`` (CPU seconds, pyslang 12.1, a
+shared 2-core machine under load), the whole read before (netfit's own
+front end) and now:
+
+%TABLE%
+
+pyslang also resolves what the old reader refused or never could (generate,
+functions, macros with arguments, constant functions), and the tests
+already used it as their second opinion.
+"""
 from __future__ import annotations
 
 import gc

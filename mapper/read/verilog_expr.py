@@ -27,7 +27,7 @@ from pyslang import ast
 from .verilog_bits import HOLD, T_AND2, T_NAND2, T_NOR2, T_OR2, T_XNOR2, T_XOR2
 from .verilog_check import position
 
-__all__ = ["Ctx", "ExprLowerer", "Net", "Scope", "bits_int", "constant_bits", "int_bits"]
+__all__ = ["Ctx", "ExprLowerer", "Net", "Scope", "bits_int", "constant_bits", "fit_width", "int_bits"]
 
 EK = ast.ExpressionKind
 SK = ast.SymbolKind
@@ -112,7 +112,8 @@ def bits_int(bits, signed=False) -> int:
     return v
 
 
-def _fit(bits, width, signed=False):
+def fit_width(bits, width, signed=False):
+    """``bits`` cut or widened to ``width`` (with the sign bit when ``signed``, else zeros)."""
     n = len(bits)
     if n == width:
         return bits
@@ -342,7 +343,7 @@ class ExprLowerer:
         if k == EK.BinaryOp:
             return self._binary(e, args[0], args[1], ctx)
         if k == EK.Conversion:
-            return _fit(args[0], e.type.bitWidth, e.operand.type.isSigned)
+            return fit_width(args[0], e.type.bitWidth, e.operand.type.isSigned)
         if k == EK.UnaryOp:
             return self._unary(e, args[0], ctx)
         if k == EK.ElementSelect or k == EK.RangeSelect:
@@ -350,7 +351,7 @@ class ExprLowerer:
         if k == EK.ConditionalOp:
             c, t, f = args
             w = e.type.bitWidth
-            t, f = _fit(t, w), _fit(f, w)
+            t, f = fit_width(t, w), fit_width(f, w)
             st = self.store
             cb = st.tree(c, T_OR2, ctx.at, ctx.hint)
             if cb < 2:
@@ -391,7 +392,7 @@ class ExprLowerer:
         if op == UO.Plus:
             return a
         if op == UO.Minus:
-            return st.subtract([0] * w, _fit(a, w), at, hint)
+            return st.subtract([0] * w, fit_width(a, w), at, hint)
         if op == UO.LogicalNot:
             return [st.tree(a, T_OR2, at, hint, T_NOR2)]
         red = _REDUCE.get(op)
@@ -409,22 +410,22 @@ class ExprLowerer:
         t = _BIT_OPS.get(op)
         if t is not None:
             if len(a) != w or len(b) != w:
-                a, b = _fit(a, w), _fit(b, w)
+                a, b = fit_width(a, w), fit_width(b, w)
             node = st.node
             return [node(2, t, [x, y], at, hint) for x, y in zip(a, b)]
         lt, rt = e.left.type, e.right.type
         if op == BO.Add:
-            return st.add(_fit(a, w), _fit(b, w), at, hint)
+            return st.add(fit_width(a, w), fit_width(b, w), at, hint)
         if op == BO.Subtract:
-            return st.subtract(_fit(a, w), _fit(b, w), at, hint)
+            return st.subtract(fit_width(a, w), fit_width(b, w), at, hint)
         if op in (BO.Equality, BO.Inequality):
             n = max(len(a), len(b))
-            eq = [st.node(2, T_XNOR2, [x, y], at, hint) for x, y in zip(_fit(a, n), _fit(b, n))]
+            eq = [st.node(2, T_XNOR2, [x, y], at, hint) for x, y in zip(fit_width(a, n), fit_width(b, n))]
             return [st.tree(eq, T_AND2, at, hint, T_NAND2 if op == BO.Inequality else None)]
         if op in _COMPARE:
             n = max(len(a), len(b))
             signed = lt.isSigned and rt.isSigned
-            a, b = _fit(a, n, signed), _fit(b, n, signed)
+            a, b = fit_width(a, n, signed), fit_width(b, n, signed)
             if signed:  # flipping the sign bits turns a signed order into an unsigned one
                 a = a[:-1] + [st.inv(a[-1], at, hint)]
                 b = b[:-1] + [st.inv(b[-1], at, hint)]
@@ -440,7 +441,7 @@ class ExprLowerer:
             if not _const(b):
                 self.fail(position(e), f"a shift by a net ('{_OP_TEXT[op]}' needs a constant amount)" + _OUTSIDE)
             n = bits_int(b)
-            a = _fit(a, w, lt.isSigned)
+            a = fit_width(a, w, lt.isSigned)
             if op in (BO.LogicalShiftLeft, BO.ArithmeticShiftLeft):
                 return ([0] * n + a)[:w] if n < w else [0] * w
             fill = a[-1] if op == BO.ArithmeticShiftRight and lt.isSigned else 0

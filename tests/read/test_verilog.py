@@ -22,12 +22,12 @@ import subprocess
 import sys
 from pathlib import Path
 
+import generated
 import pyslang
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import generated
 from mapper.errors import InputError, NetlistError
 from mapper.netlist import Storage
 from mapper.read import read_design
@@ -107,7 +107,7 @@ def test_invalid_file(path, netfit):
     first = exc.value.first
     assert (first.file, first.line, first.col) == (str(path), line, col), str(exc.value)
     assert msg in first.message, str(exc.value)
-    code, out, err = netfit("inspect", path)
+    code, _, err = netfit("inspect", path)
     assert code == 2
     assert err.startswith(f"{path}:{line}:{col}: error: ")
     assert "Traceback" not in err and "internal error" not in err
@@ -118,7 +118,7 @@ def test_bad_input_gives_no_traceback_in_a_real_process(tmp_path):
     path = INVALID / "multiply.v"
     line, col, msg = _expect(path)
     res = subprocess.run([sys.executable, "-m", "mapper", "inspect", str(path)],
-                         capture_output=True, text=True, timeout=120)
+                         capture_output=True, text=True, timeout=120, check=False)
     assert res.returncode == 2
     assert res.stderr.startswith(f"{path}:{line}:{col}: error: {msg}")
     assert "Traceback" not in res.stderr
@@ -329,7 +329,7 @@ def test_directives_macros_and_conditionals():
 
 
 def test_parameters_and_overrides():
-    n, v, P = _sim("params.v")
+    _, v, P = _sim("params.v")
     for k in range(0, P, 7):
         assert bus(v, "y", 8, k) == (~k) & 255
 
@@ -374,7 +374,7 @@ def test_choosing_the_top(netfit):
     path = INVALID / "several_tops.v"
     n = read(path, top="second")
     assert n.name == "second"
-    code, out, err = netfit("inspect", path, "--top", "first", "--json", as_json=True)
+    code, out, _ = netfit("inspect", path, "--top", "first", "--json", as_json=True)
     assert code == 0 and out["design"] == "first"
     with pytest.raises(VerilogError) as exc:
         read(path, top="third")
@@ -671,7 +671,7 @@ def _expr_strategy():
             st.tuples(inner, st.sampled_from(binary), inner).map(lambda t: f"({t[0]} {t[1]} {t[2]})"),
             st.tuples(inner, inner, inner).map(lambda t: f"({t[0]} ? {t[1]} : {t[2]})"),
             st.lists(inner, min_size=1, max_size=3).map(lambda xs: "{" + ", ".join(map(_sized, xs)) + "}"),
-            st.tuples(st.integers(1, 3), inner).map(lambda t: "{%d{%s}}" % (t[0], _sized(t[1]))),
+            st.tuples(st.integers(1, 3), inner).map(lambda t: f"{{{t[0]}{{{_sized(t[1])}}}}}"),
             st.tuples(inner, st.sampled_from(["<<", ">>"]), st.integers(0, 5)).map(
                 lambda t: f"({t[0]} {t[1]} {t[2]})"),
         )
@@ -879,7 +879,7 @@ def test_primitives_wider_than_a_table(gate):
     v = simulate(n, words, mask)
     for k, p in enumerate(pats):
         base = {"and": "and", "nand": "and", "or": "or", "nor": "or", "xor": "xor", "xnor": "xor"}[gate]
-        val = {"and": p == (1 << 20) - 1, "or": p != 0, "xor": bin(p).count("1") & 1}[base]
+        val = {"and": p == (1 << 20) - 1, "or": p != 0, "xor": p.bit_count() & 1}[base]
         if gate in ("nand", "nor", "xnor"):
             val = not val
         assert bit(v["y"], k) == int(val), (gate, p)
@@ -937,9 +937,9 @@ def iverilog_cycles(tmp_path, path, top, ins, outs, vectors, clock=None, before=
     bench.write_text("\n".join(lines))
     sim = tmp_path / "tb.vvp"
     r = subprocess.run(["iverilog", "-g2005", "-o", str(sim), str(bench), str(path)],
-                       capture_output=True, text=True, timeout=120)
+                       capture_output=True, text=True, timeout=120, check=False)
     assert r.returncode == 0, r.stderr
-    r = subprocess.run(["vvp", "-n", str(sim)], capture_output=True, text=True, timeout=120)
+    r = subprocess.run(["vvp", "-n", str(sim)], capture_output=True, text=True, timeout=120, check=False)
     assert r.returncode == 0, r.stderr
     rows = [ln.split() for ln in r.stdout.splitlines() if ln and not ln.startswith(("VCD", "tb.v"))]
     out = []
@@ -977,6 +977,7 @@ SIMULATED = [
     ("case_clocked.v", "case_clocked", "clk", False),
     ("for_loops.v", "for_loops", "clk", False),
     ("case_latch.v", "case_latch", None, True),
+    ("hier_registers.v", "hier_registers", "clk", False),
 ]
 
 
@@ -1001,3 +1002,23 @@ def test_new_constructs_simulate_like_iverilog(tmp_path, name, top, clock, latch
         assert {s.kind for s in n.storage().values()} == {"ah"}
     if clock:
         assert {s.kind for s in n.storage().values()} == {"re"} and n.clocks == [clock]
+
+
+def test_copied_instances_keep_their_own_paths_drivers_and_open_inputs():
+    # netfit lowers the first instance of a module and copies it for the others; each copy
+    # still answers for itself: an open input a copy reads is reported with that copy's path
+    text = ("module and2(input a, b, output y);\n  assign y = a & b;\nendmodule\n"
+            "module m(input p, q, output y1, y2, y3);\n"
+            "  and2 u1 (.a(p), .b(q), .y(y1));\n  and2 u2 (.a(q), .b(p), .y(y2));\n"
+            "  and2 u3 (.a(p), .y(y3));\nendmodule\n")
+    with pytest.raises(VerilogError) as exc:
+        read_text(text, "m.v")
+    d = exc.value.first
+    assert (d.line, d.col) == (7, 8) and "input 'b' of instance 'u3' is not connected" in d.message
+    # IEEE 1364-2005 12.3: each instance is a copy of the module; the three AND gates
+    # compute their own products (checked exhaustively)
+    n = read_text(text.replace("  and2 u3 (.a(p), .y(y3));", "  and2 u3 (.a(p), .b(p), .y(y3));"), "m.v")
+    n.check()
+    words, mask = exhaustive(n.inputs)
+    v = simulate(n, words, mask)
+    assert v["y1"] == v["y2"] == words["p"] & words["q"] and v["y3"] == words["p"]
