@@ -32,7 +32,7 @@ from .verilog_bits import HOLD, T_OR2, shape
 from .verilog_check import loop_variables, position
 from .verilog_expr import Ctx, ExprLowerer, fit_width, target_name
 
-__all__ = ["MAX_LOOP", "MAX_NESTING", "ProcLowerer"]
+__all__ = ["MAX_LOOP", "MAX_LOOPS_TOTAL", "MAX_NESTING", "ProcLowerer"]
 
 EK = ast.ExpressionKind
 SK = ast.SymbolKind
@@ -41,7 +41,9 @@ TK = ast.TimingControlKind
 _OUTSIDE = " is outside the structural subset"
 _BIN = pyslang.LiteralBase.Binary
 #: iterations of one ``for`` loop, at most
-MAX_LOOP = 1 << 16
+MAX_LOOP = 1 << 13
+#: iterations of all ``for`` loops of a design, at most (nested loops multiply)
+MAX_LOOPS_TOTAL = 1 << 16
 #: statements nested in statements (and function calls), at most
 MAX_NESTING = 100
 _LOOP_MSG = ("is read in the always block that assigns it before it is assigned on every path; "
@@ -87,6 +89,7 @@ class ProcLowerer(ExprLowerer):
         self.depth = 0
         self._key = -1
         self._loops: dict = {}
+        self.iterations = 0
 
     def note_delay(self, at):
         if not self.delay_noted:
@@ -450,6 +453,10 @@ class ProcLowerer(ExprLowerer):
             count += 1
             if count > MAX_LOOP:
                 self.fail(st.sourceRange.start, f"a 'for' loop that runs more than {MAX_LOOP} times" + _OUTSIDE)
+            self.iterations += 1
+            if self.iterations > MAX_LOOPS_TOTAL:
+                self.fail(st.sourceRange.start, f"'for' loops that run more than {MAX_LOOPS_TOTAL} times in "
+                                                "all" + _OUTSIDE)
             self.statement(st.body, p)
             for s in st.steps:
                 if s.kind == EK.Assignment:

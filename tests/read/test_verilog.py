@@ -460,7 +460,11 @@ _SNIPPETS = [";", ",", "(", ")", "[", "]", "{", "}", "begin", "end", "if", "else
              "posedge", "module", "endmodule", "assign", "=", "<=", "wire", "reg", "input", "output", "1'b1",
              "4'hx", "a", "q", "`define X 1\n", "`ifdef X\n", "`endif\n", "#1", ".", "?", ":", "~",
              "parameter", "#(", "'", '"', "/*", "//", "\\", "3", "-1", "[-1:0]", "[3:0]", "0", "**", "<<",
-             "{2{", "$x", "initial", "u1 (", ".a(", "not", "nand"]
+             "{2{", "$x", "initial", "u1 (", ".a(", "not", "nand",
+             # what netfit reads since pyslang is its front end
+             "case (a)", "endcase", "casez", "casex", "default:", "for (i = 0; i < 4; i = i + 1)", "integer i;",
+             "function f; input x; f = x; endfunction", "f(a)", "generate", "endgenerate", "genvar g;",
+             "for (g = 0; g < 2; g = g + 1) begin : gg", "2'b1?", "`define M(x) x\n", "`M(a)"]
 
 
 @pytest.mark.parametrize("seed", range(3))
@@ -1022,3 +1026,38 @@ def test_copied_instances_keep_their_own_paths_drivers_and_open_inputs():
     words, mask = exhaustive(n.inputs)
     v = simulate(n, words, mask)
     assert v["y1"] == v["y2"] == words["p"] & words["q"] and v["y3"] == words["p"]
+
+
+def test_columns_count_characters_not_bytes():
+    # pyslang counts bytes; netfit's columns count characters (a tab is one column):
+    # 'bb' stands after 'é' (two bytes in UTF-8) and a tab
+    text = "module m(input a, output y);\n\t/* é */ assign y = a & bb;\nendmodule\n"
+    with pytest.raises(VerilogError) as exc:
+        read_text(text, "cols.v")
+    d = exc.value.first
+    assert (d.line, d.col) == (2, text.splitlines()[1].index("bb") + 1) == (2, 25)
+    assert d.message == "'bb' is not declared"
+
+
+def test_deep_statements_do_not_exhaust_the_stack():
+    # a 3000-long chain of 'else if' is walked in a loop (IEEE 1364-2005 9.4: the first
+    # condition that holds picks its branch); nesting 'if' in 'if' stops with a message
+    N = 3000
+    chain = "\n    else ".join(f"if (s == 12'd{k}) y = a[{k % 8}];" for k in range(N))
+    text = (f"module deep(input [11:0] s, input [7:0] a, output reg y);\n  always @* begin\n    y = 1'b0;\n"
+            f"    {chain}\n  end\nendmodule\n")
+    n = read_text(text, "chain.v")
+    n.check()
+    rng = random.Random(4)
+    vecs = [{**{f"s[{i}]": (k >> i) & 1 for i in range(12)}, **{f"a[{i}]": rng.getrandbits(1) for i in range(8)}}
+            for k in [0, 1, 7, 2999, 3000, 4095] + [rng.randrange(4096) for _ in range(40)]]
+    words, mask = words_for(vecs, n.inputs)
+    v = simulate(n, words, mask)
+    for k, vec in enumerate(vecs):
+        s = sum(vec[f"s[{i}]"] << i for i in range(12))
+        assert bit(v["y"], k) == (vec[f"a[{s % 8}]"] if s < N else 0)
+    nested = "if (a[0]) " * 150 + "y = 1'b1;"
+    with pytest.raises(VerilogError) as exc:
+        read_text("module n(input [7:0] a, output reg y);\n  always @* begin y = 1'b0; "
+                  f"{nested} end\nendmodule\n", "nested.v")
+    assert "statements nest more than 100 levels deep" in exc.value.first.message

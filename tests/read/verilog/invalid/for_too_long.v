@@ -1,4 +1,4 @@
-// expect: 5:5: a 'for' loop that runs more than 65536 times is outside the structural subset
+// expect: 5:5: a 'for' loop that runs more than 8192 times is outside the structural subset
 module for_too_long(input a, output reg y);
   integer i;
   always @* begin
