@@ -192,11 +192,16 @@ def _read_design(src, top):
         rep.error(None, f"the text is nested more than {MAX_NESTING} levels deep (parentheses, "
                         "conditional operators or statements)")
         _raise(rep)
-    rep.sm = res.sm
+    if type(res) is tuple:
+        f, off = res
+        line, col = f.line_col(off)
+        rep.error((f.display, line, col), "cannot make sure this `include reads only what netfit "
+                                          "checked; it is refused")
+        _raise(rep)
     info = _Design(res, rep)
     inst = info.top_instance(top)
-    if inst is not None and info.recursive:
-        info.report_recursion(inst)
+    if inst is not None and info.recursive and info.report_recursion(inst):
+        info.handled.add("InfinitelyRecursiveHierarchy")
     for d in info.res.diags:
         if code_name(d) in info.handled:
             continue
@@ -228,7 +233,12 @@ class _Design:
 
     def __init__(self, res, rep):
         self.res, self.rep = res, rep
-        self.handled = {"InfinitelyRecursiveHierarchy", "InvalidTopModule"}
+        self.handled = {"InvalidTopModule"}
+        self._use(res)
+
+    def _use(self, res):
+        self.res = res
+        self.rep.sm = res.sm
         self.recursive = any(code_name(d) == "InfinitelyRecursiveHierarchy" for d in res.diags)
         self.modules = [d for d in res.comp.getDefinitions() if d.kind == ast.SymbolKind.Definition
                         and d.definitionKind == ast.DefinitionKind.Module and d.syntax is not None]
@@ -275,16 +285,16 @@ class _Design:
                            if not cands else "several modules could be the top; choose one with --top NAME")
             return None
         res = compile_design(self.rep.src, cands[0].name)
-        if res is None:
+        if res is None or type(res) is tuple:  # (it read the same text a moment ago)
+            self.rep.error(cands[0].location, f"module '{cands[0].name}' cannot be read as the top")
             return None
-        self.res = res
-        self.rep.sm = res.sm
-        self.recursive = True
+        self._use(res)
         tops = list(res.comp.getRoot().topInstances)
         return tops[0] if tops else None
 
-    def report_recursion(self, top):
-        """The instance that brings a module into itself, with the chain of modules."""
+    def report_recursion(self, top) -> bool:
+        """Report the instance that brings a module into itself, with the chain of
+        modules; False when there is none under ``top``."""
         stack = [(top, [top.body.definition.name])]
         while stack:
             inst, chain = stack.pop()
@@ -295,8 +305,9 @@ class _Design:
                 if name in chain:
                     loop = " → ".join(chain[chain.index(name):] + [name])
                     self.rep.error(m.syntax.parent.type.location, f"module '{name}' instantiates itself ({loop})")
-                    return
+                    return True
                 stack.append((m, chain + [name]))
+        return False
 
     def report_includes(self):
         """Includes pyslang took that netfit refuses (outside the folder, missing, not a file)."""
@@ -332,6 +343,8 @@ class _Design:
 def _raise(rep):
     # a module used several times repeats its messages: keep each once
     errors = list(dict.fromkeys(d for d in rep.diags if d.severity == "error"))
+    if not errors:  # (every path that stops has reported why; this keeps the promise of a message)
+        errors = [Diagnostic("no top module could be elaborated", rep.src.main.display)]
     errors.sort(key=lambda d: (d.file or "", d.line or 0, d.col or 0))
     if len(errors) > MAX_ERRORS:
         extra = len(errors) - MAX_ERRORS

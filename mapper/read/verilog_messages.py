@@ -12,7 +12,9 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["translate"]
+from .verilog_source import MAX_INCLUDE_DEPTH
+
+__all__ = ["code_name", "translate"]
 
 #: pyslang warnings that are errors for netfit
 _WARNINGS_AS_ERRORS = {"ParameterDoesNotExist", "RangeSelectReversed"}
@@ -177,7 +179,7 @@ _HANDLERS = {
     "MissingEndIfDirective": _directive_without("`endif"),
     "CouldNotOpenIncludeFile": lambda d, a, r, c: (d.location, f"cannot find the included file '{a[0]}'"),
     "ExceededMaxIncludeDepth": lambda d, a, r, c: (
-        d.location, "`include nests files more than 16 deep (does a file include itself?)"),
+        d.location, f"`include nests files more than {MAX_INCLUDE_DEPTH} deep (does a file include itself?)"),
     "RecursiveMacro": lambda d, a, r, c: (d.location, f"macro '{a[0] if a else '?'}' expands into itself"),
     "MixingOrderedAndNamedPorts": lambda d, a, r, c: (d.location, "named and positional port connections are mixed"),
     "PortDoesNotExist": lambda d, a, r, c: (d.location, f"module '{a[1]}' has no port '{a[0]}'"),

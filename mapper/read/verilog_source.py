@@ -85,6 +85,8 @@ class Sources:
         self.refused: dict = {}
         #: (file, offset, message) of includes refused before pyslang runs
         self.early: list = []
+        #: (folder joined with a name as written, canonical path, where the name is written)
+        self.lookups: list = []
 
 
 def _read(path: str):
@@ -145,9 +147,10 @@ def _add_includes(src: Sources) -> None:
                 elif system is None and other == "`":
                     src.early.append((f, m.start(), _MACRO_INCLUDE))
         # a name may be taken relative to any file's folder (macros move text between files)
-        for name, (g, _) in list(names.items()):
+        for name, (g, off) in list(names.items()):
             for d in sorted(dirs):
                 cand = os.path.realpath(os.path.join(d, name))
+                src.lookups.append((os.path.join(d, name), cand, (g, off)))
                 if cand in done:
                     continue
                 done.add(cand)
@@ -207,7 +210,8 @@ class Compiled:
 
 def compile_design(src: Sources, top=None):
     """Preprocess, parse and elaborate with pyslang; ``None`` when its parser
-    gives up (the text nests deeper than :data:`MAX_NESTING`)."""
+    gives up (the text nests deeper than :data:`MAX_NESTING`), ``(file, offset)``
+    of an include it could have read from disk itself (then it did not run)."""
     def work():
         sm = pyslang.SourceManager()
         for path, f in src.files.items():
@@ -215,6 +219,11 @@ def compile_design(src: Sources, top=None):
                 sm.assignText(path, f.text)
         for path in src.refused:
             sm.assignText(path, "")
+        # pyslang must find every refused file among the texts given, never on disk: its
+        # own way of naming a path has to agree with ours (it always has; this makes sure)
+        for joined, cand, where in src.lookups:
+            if cand in src.refused and not sm.isCached(joined):
+                return where
         bag = _options(src.sv, top)
         tree = pyslang.syntax.SyntaxTree.fromText(src.main.text, sm, src.main.display, src.main.path, bag)
         comp = pyslang.ast.Compilation(bag)

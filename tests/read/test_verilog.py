@@ -1061,3 +1061,11 @@ def test_deep_statements_do_not_exhaust_the_stack():
         read_text("module n(input [7:0] a, output reg y);\n  always @* begin y = 1'b0; "
                   f"{nested} end\nendmodule\n", "nested.v")
     assert "statements nest more than 100 levels deep" in exc.value.first.message
+
+
+def test_generate_blocks_are_steps_of_the_instance_path():
+    # IEEE 1364-2005 12.4.2: a generate loop's blocks are named block[i] in the hierarchy;
+    # netfit joins hierarchy steps with '/', so the full adder of stage 2 is stage[2]/u
+    n = read_design(VALID / "generate_loops.v")
+    inner = {x.rsplit("/", 1)[0] for x in n.nodes if "/" in x}
+    assert inner == {f"stage[{i}]/u" for i in range(4)}
