@@ -258,7 +258,8 @@ class ExprLowerer:
             return self._named(e, ctx)
         if k == EK.IntegerLiteral or k == EK.UnbasedUnsizedIntegerLiteral:
             if k == EK.IntegerLiteral and e.type.isSigned and not e.isDeclaredUnsized:
-                self.fail(e.sourceRange.start, f"signed literal '{self.rep.text(e.sourceRange)}'" + _OUTSIDE)
+                self.fail(e.sourceRange.start, f"signed literal '{self.rep.text(e.sourceRange)}'" + _OUTSIDE
+                          + " (netfit reads unsigned values only)")
             bits = constant_bits(e.value, e.type.bitWidth)
             if bits is None:
                 self._unknown_digits(e)

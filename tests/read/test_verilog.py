@@ -8,10 +8,15 @@ Outside sources used here, named beside each check:
 * circuits written by the ariths-gen generator library (flat and
   hierarchical Verilog of adders and multipliers), checked against Python's
   integer arithmetic and proven equal to the BLIF the same library writes;
-* pyslang, an independent Verilog/SystemVerilog front end: it must accept
-  every valid file of the corpus, and its constant evaluation gives the
-  value of random vector expressions (IEEE 1364-2005 width rules) that our
-  reading must reproduce;
+* pyslang, a Verilog/SystemVerilog front end (since issue 12 also the
+  reader's own: it preprocesses, parses and elaborates, netfit lowers the
+  result to gates): it must accept every valid file of the corpus, and its
+  constant evaluation gives the value of random vector expressions (IEEE
+  1364-2005 width rules) that netfit's gates must reproduce;
+* Icarus Verilog (iverilog/vvp), a simulator that shares no code with the
+  reader: it runs every file whose construct pyslang made readable (case,
+  for loops, generate, functions, macros with arguments) and the width cases
+  on the same inputs as netfit's simulator;
 * IEEE 1364-2005 for the meaning of constructs (sections named beside checks).
 """
 from __future__ import annotations
@@ -716,6 +721,35 @@ def test_width_rules_agree_with_pyslang(expr, width):
                for _ in range(24)]
     samples += [(0, 0, 0, 0), (255, 15, 1, 63)]
     assert _our_eval(samples, expr, width) == _slang_eval(samples, expr, width)
+
+
+def test_width_rules_agree_with_iverilog(tmp_path):
+    # source: Icarus Verilog simulates every case of WIDTH_CASES at the same inputs (one
+    # testbench for all); pyslang is also netfit's front end now, so this is the check of
+    # the width rules by a tool that shares no code with the reader
+    rng = random.Random(5)
+    samples = [(rng.getrandbits(8), rng.getrandbits(4), rng.getrandbits(1), rng.getrandbits(6))
+               for _ in range(24)] + [(0, 0, 0, 0), (255, 15, 1, 63)]
+    lines = ["module tb;", "  reg [7:0] a; reg [3:0] b; reg c; reg [0:5] d;"]
+    for k, (expr, width) in enumerate(WIDTH_CASES):
+        lines.append(f"  wire [{width - 1}:0] y{k} = {expr};")
+    shows = " ".join("%0d" for _ in WIDTH_CASES)
+    lines.append("  initial begin")
+    for a, b, c, d in samples:
+        lines.append(f"    a = 8'd{a}; b = 4'd{b}; c = 1'd{c}; d = 6'd{d}; #1;")
+        lines.append(f'    $display("{shows}", ' + ", ".join(f"y{k}" for k in range(len(WIDTH_CASES))) + ");")
+    lines += ["  end", "endmodule", ""]
+    bench = tmp_path / "widths.v"
+    bench.write_text("\n".join(lines))
+    sim = tmp_path / "widths.vvp"
+    r = subprocess.run(["iverilog", "-g2005", "-o", str(sim), str(bench)], capture_output=True, text=True,
+                       timeout=120, check=False)
+    assert r.returncode == 0, r.stderr
+    r = subprocess.run(["vvp", "-n", str(sim)], capture_output=True, text=True, timeout=120, check=False)
+    rows = [[int(x) for x in ln.split()] for ln in r.stdout.splitlines() if ln and ln[0].isdigit()]
+    assert len(rows) == len(samples)
+    for k, (expr, width) in enumerate(WIDTH_CASES):
+        assert _our_eval(samples, expr, width) == [row[k] for row in rows], expr
 
 
 def test_operators_file_agrees_with_pyslang():
