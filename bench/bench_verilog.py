@@ -1,23 +1,23 @@
-"""Speed of the structural Verilog reader, and of the front end we did not build on.
+"""Speed of the structural Verilog reader (pyslang's front end + netfit's lowering).
 
-Why this bench exists: the reader could have been built on pyslang (an
-existing Verilog front end, fast C++) walked from Python for the subset, or
-written from scratch.  This prints, per design, what each way costs:
+Prints, per design:
 
-* ``slang parse``  -- pyslang's C++ parse of the file into a syntax tree;
-* ``slang walk``   -- visiting every node and token of that tree from Python
-  and reading each token's text, line and column: the least any reader on
-  top of it must do (it still knows nothing of the subset);
-* ``lex``, ``parse`` -- our tokens (with directives) and syntax tree;
-* ``read``         -- our whole read: text to flattened Netlist;
-* ``check``        -- Netlist.check() of the result;
-* ``peak MiB``     -- peak Python memory of our read (tracemalloc).
+* ``slang``  -- pyslang's preprocessing, parsing and elaboration of the file
+  (C++; all of it: every expression bound, every diagnostic collected);
+* ``lower``  -- netfit's part: the subset check and the lowering of the
+  elaborated design to a flat Netlist (Python, walking pyslang's objects);
+* ``read``   -- the whole read, text to Netlist (``slang`` + ``lower``);
+* ``check``  -- Netlist.check() of the result;
+* ``peak MiB`` -- peak Python memory of the read (tracemalloc; pyslang's C++
+  memory is not counted).
 
-and, once, the import time of each in a fresh interpreter.  All times are CPU
-seconds of the process (``time.process_time``), so other work on a shared
-machine does not inflate them much.  Designs: random
-gate-level Verilog of our own (primitives and assigns mixed) at about 10k and
-100k gates, and ariths-gen array multipliers as flat and hierarchical Verilog.
+and, once, the import time of pyslang and of the reader in a fresh
+interpreter.  All times are CPU seconds of the process
+(``time.process_time``, which counts pyslang's thread too), so other work on
+a shared machine does not inflate them much.  Designs: random gate-level
+Verilog of our own (primitives and assigns mixed, the wires declared in one
+long list) at about 1k, 10k and 100k gates, and ariths-gen array
+multipliers as flat and hierarchical Verilog.
 
 Run: ``.venv/bin/python bench/bench_verilog.py [--quick]``
 """
@@ -36,8 +36,8 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))
 
-from mapper.read import verilog_lex, verilog_parse  # noqa: E402
 from mapper.read.verilog import read  # noqa: E402
+from mapper.read.verilog_source import compile_design, load  # noqa: E402
 
 GATES = ["and", "or", "nand", "nor", "xor", "xnor"]
 OPS = ["&", "|", "^", "~^"]
@@ -79,67 +79,34 @@ def import_time(stmt: str, before: str = "pass") -> float:
     return best
 
 
-def slang_times(path: Path):
-    try:
-        import pyslang
-    except ImportError:
-        return None, None
-    t0 = time.process_time()
-    tree = pyslang.syntax.SyntaxTree.fromFile(str(path))
-    t1 = time.process_time()
-    sm = tree.sourceManager
-    Token = pyslang.parsing.Token
-    sink = []
-
-    def visit(x):
-        if isinstance(x, Token):
-            loc = x.location
-            sink.append((x.kind, x.valueText, sm.getLineNumber(loc), sm.getColumnNumber(loc)))
-        else:
-            sink.append(x.kind)
-
-    was = gc.isenabled()
-    gc.disable()
-    try:
-        tree.root.visit(visit)
-    finally:
-        if was:
-            gc.enable()
-    t2 = time.process_time()
-    return t1 - t0, t2 - t1
-
-
 def measure(path: Path) -> dict:
-    slang_parse, slang_walk = slang_times(path)
     gc.disable()
     try:
-        diags: list = []
         t0 = time.process_time()
-        toks = verilog_lex.lex_file(path, diags)
+        src, _ = load(path)
+        compile_design(src)
         t1 = time.process_time()
-        verilog_parse.parse(toks, diags)
-        t2 = time.process_time()
     finally:
         gc.enable()
-    t3 = time.process_time()
+    t2 = time.process_time()
     n = read(path)
-    t4 = time.process_time()
+    t3 = time.process_time()
     n.check()
-    t5 = time.process_time()
+    t4 = time.process_time()
     tracemalloc.start()
     read(path)
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
     return {"nodes": len(n.nodes) - len(n.inputs), "kib": path.stat().st_size // 1024,
-            "slang_parse": slang_parse, "slang_walk": slang_walk, "lex": t1 - t0, "parse": t2 - t1,
-            "read": t4 - t3, "check": t5 - t4, "peak_mib": peak / 2 ** 20}
+            "slang": t1 - t0, "lower": (t3 - t2) - (t1 - t0), "read": t3 - t2, "check": t4 - t3,
+            "peak_mib": peak / 2 ** 20}
 
 
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--quick", action="store_true", help="only the small designs")
     args = ap.parse_args(argv)
-    sizes = [10_000] if args.quick else [10_000, 100_000]
+    sizes = [1_000, 10_000] if args.quick else [1_000, 10_000, 100_000]
     mults = [16] if args.quick else [32, 64]
     print(f"import pyslang: {import_time('import pyslang'):.3f} s   "
           f"import mapper.read.verilog: {import_time('import mapper.read.verilog'):.3f} s "
@@ -159,8 +126,8 @@ def main(argv=None) -> int:
                 for hier in (False, True):
                     p = generated.make("arr", w, folder, fmt="v", hier=hier)
                     rows.append((f"ariths-gen arr{w} {'hier' if hier else 'flat'}", measure(p)))
-    cols = ["nodes", "kib", "slang_parse", "slang_walk", "lex", "parse", "read", "check", "peak_mib"]
-    heads = ["nodes", "KiB", "slang parse", "slang walk", "lex", "parse", "read", "check", "peak MiB"]
+    cols = ["nodes", "kib", "slang", "lower", "read", "check", "peak_mib"]
+    heads = ["nodes", "KiB", "slang", "lower", "read", "check", "peak MiB"]
     print(f"{'design':<24}" + "".join(f"{h:>12}" for h in heads))
     for name, r in rows:
         cells = []
@@ -173,7 +140,7 @@ def main(argv=None) -> int:
             else:
                 cells.append(f"{v:>12.2f}")
         print(f"{name:<24}" + "".join(cells))
-    print("CPU seconds; 'read' includes lex and parse")
+    print("CPU seconds; 'read' is 'slang' + 'lower'")
     return 0
 
 

@@ -1,4 +1,4 @@
-// expect: 4:3: expected ';' after the assignment, found 'assign'
+// expect: 4:3: expected ';', found 'assign'
 module missing_semicolon(input a, output y, z);
   assign y = a
   assign z = ~a;

@@ -1,4 +1,4 @@
-// expect: 4:5: a 'case' statement is outside the structural subset
+// A 'case' in a level-sensitive block with a default: plain logic (y = a when s is 0, else b).
 module case_statement(input [1:0] s, input a, b, output reg y);
   always @* begin
     case (s)
