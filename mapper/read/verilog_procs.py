@@ -291,7 +291,8 @@ class ProcLowerer(ExprLowerer):
         open while ``en`` is low)."""
         inverted = False
         UO = ast.UnaryOperator
-        while e.kind == EK.UnaryOp and (e.op == UO.LogicalNot or (e.op == UO.BitwiseNot and e.operand.type.bitWidth == 1)):
+        while e.kind == EK.UnaryOp and (e.op == UO.LogicalNot
+                                        or (e.op == UO.BitwiseNot and e.operand.type.bitWidth == 1)):
             inverted = not inverted
             e = e.operand
             while e.kind == EK.Conversion:

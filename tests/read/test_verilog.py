@@ -27,12 +27,12 @@ import subprocess
 import sys
 from pathlib import Path
 
-import generated
 import pyslang
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+import generated
 from mapper.errors import InputError, NetlistError
 from mapper.netlist import Storage
 from mapper.read import read_design
@@ -239,8 +239,8 @@ def _latch_reference(seq, init=0, low=False):
     return out
 
 
-@pytest.mark.parametrize("name,kind", [("d_latch_star.v", "ah"), ("d_latch_paren_star.v", "ah"), ("d_latch_list.v", "ah"),
-                                       ("d_latch_low.v", "al")])
+@pytest.mark.parametrize("name,kind", [("d_latch_star.v", "ah"), ("d_latch_paren_star.v", "ah"),
+                                       ("d_latch_list.v", "ah"), ("d_latch_low.v", "al")])
 def test_d_latch(name, kind):
     n = read_design(VALID / name)
     st_ = n.storage()
