@@ -85,8 +85,14 @@ def test_a_target_that_cannot_build_shows_its_error(netfit, tmp_path):
 def test_compare_table_and_bar_chart(c17_compare, tmp_path):
     from mapper.write.compare import compare_svg, compare_table
     text = compare_table(c17_compare)
-    for label in ("parts", "support parts", "spare slots", "cost", "worst delay", "supply current", "proof"):
+    for label in ("parts", "support parts", "spare slots", "cost", "worst delay", "supply current", "safe clock",
+                  "glitches", "proof"):
         assert any(ln.startswith(label) for ln in text.splitlines()), label
+    # the glitch row shows each target's count of glitches found (c17 is combinational: no clock)
+    row = next(ln for ln in text.splitlines() if ln.startswith("glitches")).split()[1:]
+    assert row == [str(t["hazards_total"]) for t in c17_compare["targets"] if "error" not in t]
+    clock = next(ln for ln in text.splitlines() if ln.startswith("safe clock")).split()[2:]
+    assert set(clock) == {"-"}
     svg = etree.fromstring(compare_svg(c17_compare).encode())
     assert svg.tag == "{http://www.w3.org/2000/svg}svg"
     bars = svg.findall(".//{http://www.w3.org/2000/svg}rect")

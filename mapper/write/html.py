@@ -55,27 +55,35 @@ def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: 
     figures = []
     for key, label in (("delay_s", "worst path, maximum delays"), ("delay_typ_s", "worst path, typical delays"),
                        ("levels", "logic levels on the worst path"),
+                       ("clock_max_hz", "safe clock rate, at most"),
+                       ("clock_period_min_s", "shortest clock period"),
+                       ("clock_high_min_s", "clock high at least"), ("clock_low_min_s", "clock low at least"),
+                       ("hold_slack_s", "smallest hold margin"),
                        ("supply_current_a", "supply current, worst case"),
                        ("supply_current_typ_a", "supply current, typical"),
+                       ("supply_current_static_a", "supply current, nothing switching"),
                        ("coil_current_a", "coil current, every coil energized"),
                        ("operate_s", "relay operate time"), ("release_s", "relay release time"),
                        ("bounce_s", "contact bounce")):
         if timing.get(key) is not None:
-            unit = {"_s": "s", "_a": "A"}.get(key[-2:], "")
+            unit = {"_s": "s", "_a": "A", "hz": "Hz"}.get(key[-2:], "")
             figures.append({"label": label, "value": timing[key], "unit": unit})
     glitches = []
     for h in (timing.get("hazards") or [])[:50]:
         when = h.get("when") or []
         widths = h.get("width_s") or []
+        reaches = ", ".join(f"the {w['role']} of {w['part']}" + (f" (pin {w['pin_number']})" if w.get("pin_number")
+                                                                  else "") for w in h.get("reaches") or [])
         glitches.append({"output": h.get("output", ""), "kind": h.get("kind", ""),
                          "inputs": ", ".join(h.get("directions") or h.get("inputs_changed") or []),
-                         "when": " ".join(f"{k}={v}" for k, v in (when[0] if when else {}).items()) or "any",
-                         "width": widths})
+                         "when": " ".join(f"{k}={v}" for k, v in (when[0] if when else {}).items())
+                         or "in any state", "width": widths, "reaches": reaches})
     sheets = [Markup(etree.tostring(e, encoding="unicode")) for e in page_elements(b, analysis, shapes)]
     return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b, copies, sockets, spares),
                   w=wiring(b, analysis), sheets=sheets, board=board_data(b, plan),
                   board_svg=Markup(board_svg(b, analysis, plan, declaration=False)), outputs=outputs, path=path,
-                  figures=figures, glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)))
+                  figures=figures, glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)),
+                  glitch_errors=timing.get("glitch_errors", 0), supply_basis=timing.get("supply_basis", ""))
 
 
 def write_build(b: Build, analysis: Analysis, path, protect=(), plan: Plan | None = None, shapes: str = "distinctive",

@@ -584,3 +584,85 @@ def test_build_report_budget_grows_with_the_build(tmp_path):
     assert f"{g['timed_runs']:,} timed simulations" in g["sample"]
     r = glitch_report(b, max_work=None, max_transitions=4096)
     assert r.search["sample"].startswith(f"all {r.search['total']:,} input changes")
+
+
+DECODED_CLOCK = """\
+# a flip-flop clocked by decoded logic of our own: clk = a·b + b'·c (the textbook hazard when b changes
+# with a = c = 1, Huffman 1957)
+.model dclk
+.inputs a b c d
+.outputs q
+.names a b c clk
+11- 1
+-01 1
+.latch d q re clk 0
+.end
+"""
+
+COUNTER_CLOCK = """\
+# a flip-flop clocked by q0 xor q1 of a 2-bit counter of our own: on 01 -> 10 and 11 -> 00 both bits change
+# on one edge, and whichever arrives first makes a pulse no consensus term can remove (a function hazard)
+.model xclk
+.inputs clk d
+.outputs q
+.latch n0 q0 re clk 0
+.latch n1 q1 re clk 0
+.names q0 n0
+0 1
+.names q0 q1 n1
+10 1
+01 1
+.names q0 q1 g
+10 1
+01 1
+.latch d q re g 0
+.end
+"""
+
+
+@pytest.mark.parametrize("target", ["gates-74", "nand-only", "nor-only"])
+def test_decoded_clock_is_flagged_and_built_clean(tmp_path, netfit, target):
+    p = tmp_path / "dclk.blif"
+    p.write_text(DECODED_CLOCK)
+    design = read_design(p)
+    # mapped as it comes, a glitch reaches the flip-flop's clock: the build says so, naming the net and change
+    raw = flow.fit(design, load_target(target), clean_controls=False).analysis
+    assert raw.glitches.errors >= 1
+    bad = [h for h in raw.glitches.hazards if h["error"]]
+    assert all(h["net"] == "clk" and h["reaches"][0]["role"] == "clock" for h in bad)
+    assert any(h["inputs_changed"] == ["b"] for h in bad)
+    assert any(c.startswith("glitch on clk reaches the clock") and "when b changes" in c for c in raw.cautions)
+    # by default the clock's cone is built hazard-free: no glitch reaches storage, on every gate target, and
+    # the build notes that the design's own cover glitched there and the term that cures it (a·c)
+    code, s, _ = netfit("build", p, "--target", target, "--json", as_json=True)
+    assert code == 0 and s["glitch_errors"] == 0
+    note = next(n for n in s["notes"] if "built free of glitches" in n)
+    assert "cured by the term a·c" in note
+    code, r, _ = netfit("timing", p, "--target", target, "--json", as_json=True)
+    assert r["glitch_errors"] == 0 and r["glitch_search"]["control_search"]["exhaustive"]
+
+
+@pytest.mark.parametrize("target", ["relay-spdt", "relay-dpdt"])
+def test_decoded_clock_is_refused_on_relays(tmp_path, netfit, target):
+    # a contact network built as changeover trees drops the clock while b's contact transfers, and relays
+    # moving in any order would step the storage on it: refused with the reason, not built
+    p = tmp_path / "dclk.blif"
+    p.write_text(DECODED_CLOCK)
+    code, _, err = netfit("build", p, "--target", target)
+    assert code == 2 and "clock clk" in err and "b changes" in err
+
+
+@pytest.mark.parametrize("target", ["gates-74", "nand-only", "nor-only"])
+def test_clock_from_bits_changing_together_is_an_error(tmp_path, netfit, target):
+    p = tmp_path / "xclk.blif"
+    p.write_text(COUNTER_CLOCK)
+    code, r, err = netfit("timing", p, "--target", target, "--json", as_json=True)
+    assert code == 1 and r["glitch_errors"] >= 1
+    # found by changing the counter's two bits together, as its clock edge does
+    both = [h for h in r["hazards"] if h["error"] and sorted(h["inputs_changed"]) == ["q0", "q1"]]
+    assert both and r["glitch_search"]["bits_changed_together"] > 0
+    assert any(c.startswith("glitch on g reaches the clock") for c in r["cautions"])
+    # no consensus term cures it: the build keeps the caution
+    code, s, _ = netfit("build", p, "--target", target, "--json", as_json=True)
+    assert code == 0 and s["glitch_errors"] >= 1
+    assert any(c.startswith("glitch on g") for c in s["cautions"])

@@ -105,3 +105,13 @@ def test_relay_critical_path_starts_where_it_starts(data):
     assert a.timing.critical_path[-1]["net"] in {b.output_nets.get(o, o) for o in b.outputs}
     b, a = flow.fit(read_design(data / "textbook" / "counter4.blif"), load_target("relay-dpdt"))
     assert a.timing.critical_start["kind"] == "storage"
+
+
+def test_two_phase_latches_are_refused_on_relays(tmp_path, netfit):
+    # latches open on opposite levels of one enable, one feeding the other: as the enable changes one opens
+    # while the other closes, and relays moving in any order let the data run through both
+    p = tmp_path / "lat2.blif"
+    p.write_text(".model lat2\n.inputs d e clk\n.outputs y\n.latch d q1 ah clk 0\n.names q1 e n1\n10 1\n01 1\n"
+                 ".latch n1 q2 al clk 0\n.names q2 e y\n11 1\n.end\n")
+    code, _, err = netfit("build", p, "--target", "relay-dpdt")
+    assert code == 2 and "latch q2 is fed from latch q1" in err and "opposite levels of clk" in err

@@ -224,3 +224,147 @@ def test_part_index_gives_the_builds_own_pins(target, tmp_path):
             c = by_out[h["net"]]
             assert h["from_pin_number"] == b.pin_of(c, h["from_pin"])
             assert h["to_pin_number"] == b.pin_of(c, h["to_pin"])
+
+
+# -- storage figures, latches, hold margins, clock verdicts (issue: timing verdicts) ---------------------------
+#: setup, hold and shortest clock/enable pulse, seconds: the generic datasheets of each family as recalled
+#: (from memory; the catalog marks them so) -- 74HC at 4.5 V up to 85 °C, 74LS at 5 V, 25 °C
+STORAGE_FIGURES = {
+    ("74hc", "74HC74"): (25e-9, 0.0, 25e-9),
+    ("74hc", "74HC75"): (25e-9, 5e-9, 25e-9),
+    ("74ls", "74LS74"): (20e-9, 5e-9, 25e-9),
+    ("74ls", "74LS75"): (20e-9, 5e-9, 20e-9),
+}
+
+
+@pytest.mark.parametrize("lib,part", sorted(STORAGE_FIGURES))
+def test_storage_parts_carry_setup_hold_and_pulse_figures(lib, part):
+    from pathlib import Path
+
+    from mapper.catalog import load_catalog
+    parts, _ = load_catalog(Path(__file__).resolve().parents[2] / "libraries" / f"{lib}.xml")
+    pd = parts[part]
+    setup, hold, pulse = STORAGE_FIGURES[(lib, part)]
+    assert pd.rating("setup-time") == pytest.approx(setup)
+    assert pd.rating("hold-time") == pytest.approx(hold, abs=1e-15)
+    assert pd.rating("pulse-width") == pytest.approx(pulse)
+    for name in ("setup-time", "hold-time", "pulse-width"):
+        f = pd.ratings[name]
+        family = f"generic {part} datasheets" if part[-2:] != "74" or lib == "74hc" else "generic 74LS74A datasheets"
+        assert f.source == "from memory" and family in f.conditions
+
+
+LAT2 = """\
+# two-phase latch pipeline of our own: q1 open while clk is high, q2 open while it is low
+.model lat2
+.inputs d e clk
+.outputs y
+.latch d q1 ah clk 0
+.names q1 e n1
+10 1
+01 1
+.latch n1 q2 al clk 0
+.names q2 e y
+11 1
+.end
+"""
+
+
+def _cell_driving(b, net):
+    return next(c for c in b.cells if c.pins.get(b.target.cells[c.cell].output) == net)
+
+
+def test_two_phase_latches_are_timed_as_latches(tmp_path, netfit):
+    # latch timing (Sakallah, Mudge and Olukotun, DAC 1990, for one clock and its inverse): q2 opens when clk
+    # falls (its enable comes through an inverting gate) and closes when clk rises; the data q1 launches when
+    # it opens on a rising edge must be in q2 a setup time before q2 closes, on the next rising edge:
+    #     T >= D-to-Q(q1) + logic + setup(q2) - earliest enable of q2
+    p = tmp_path / "lat2.blif"
+    p.write_text(LAT2)
+    t = load_target("gates-74")
+    b, a = flow.fit(read_design(p), t)
+    hc75 = t.parts["74HC75"]
+    d2q_max, d2q_typ = hc75.delay_max["latch"].value, hc75.delay_typ["latch"].value
+    n1 = cell_delay(b, _cell_driving(b, "n1"))
+    inv = cell_delay(b, _cell_driving(b, next(c.pins["EN"] for c in b.cells if c.pins.get("Q") == "q2")))
+    ck = a.timing.clock
+    assert ck.period_min_s == pytest.approx(d2q_max + n1[1] + hc75.rating("setup-time") - inv[0], rel=1e-5)
+    assert ck.path["to"]["net"] == "n1" and ck.path["latch"] and ck.path["half_cycle"]
+    # hold: as clk rises q1 opens while q2 closes late (its enable passes the inverting gate), so the new data
+    # reaches q2 too soon unless  D-to-Q(q1, typ) + logic (typ) >= inverter (max) + hold(q2)
+    slack = d2q_typ + n1[0] - (inv[1] + hc75.rating("hold-time"))
+    assert slack < 0
+    assert [v["to"]["net"] for v in ck.hold_violations] == ["n1"]
+    assert ck.hold_violations[0]["slack_s"] == pytest.approx(slack)
+    assert any(c.startswith("hold margin missed") for c in a.cautions)
+    code, r, _ = netfit("timing", p, "--target", "gates-74", "--json", as_json=True)
+    assert code == 1 and r["timing_violations"] == 1
+
+
+def test_latches_open_together_pass_data_through_in_one_window(tmp_path):
+    # two latches on one enable, the second fed from the first through a gate: while the enable is high the
+    # data runs through both, so all of it must fit in the half period before they close
+    p = tmp_path / "flow.blif"
+    p.write_text(".model flow\n.inputs d e en\n.outputs q2\n.latch d q1 ah en 0\n"
+                 ".names q1 e n1\n11 1\n.latch n1 q2 ah en 0\n.end\n")
+    t = load_target("gates-74")
+    b, a = flow.fit(read_design(p), t)
+    hc75 = t.parts["74HC75"]
+    n1 = cell_delay(b, _cell_driving(b, "n1"))
+    ck = a.timing.clock
+    want = 2 * (hc75.delay_max["latch"].value + n1[1] + hc75.rating("setup-time"))
+    assert ck.period_min_s == pytest.approx(max(want, 2 * hc75.rating("pulse-width")), rel=1e-5)
+    # q2 takes its data after it opened: time borrowed from the next stage
+    assert [x["net"] for x in ck.latches] == ["n1"]
+    assert ck.latches[0]["borrowed_s"] == pytest.approx(hc75.delay_max["latch"].value + n1[1], rel=1e-5)
+
+
+def test_a_latch_feeding_itself_has_no_clock_rate(tmp_path, netfit):
+    # a transparent latch whose data is its own output inverted oscillates while open: no rate works
+    p = tmp_path / "ring.blif"
+    p.write_text(".model ring\n.inputs en\n.outputs q\n.latch n q ah en 0\n.names q n\n0 1\n.end\n")
+    b, a = flow.fit(read_design(p), load_target("gates-74"))
+    assert a.timing.clock.period_min_s == float("inf") and a.timing.clock.max_hz is None
+    assert any("no clock rate" in c for c in a.cautions)
+    # relays moving in any order cannot build it either: refused with the reason (exit 2)
+    code, _, err = netfit("build", p, "--target", "relay-spdt")
+    assert code == 2 and "no stable value" in err
+
+
+def test_a_clock_asked_for_is_checked(tmp_path, netfit, data):
+    # the synchronous counter's shortest period (above) against a clock asked for with --clock
+    p = data / "textbook" / "counter4.blif"
+    code, r, _ = netfit("timing", p, "--target", "gates-74", "--json", as_json=True)
+    assert code == 0
+    fast = 1.01 / r["clock_period_min_s"]
+    slow = 0.99 / r["clock_period_min_s"]
+    code, r2, _ = netfit("timing", p, "--target", "gates-74", "--clock", f"{fast}Hz", "--json", as_json=True)
+    assert code == 1 and r2["timing_violations"] == 1
+    assert any(c.startswith("the clock asked for") for c in r2["cautions"])
+    code, r3, _ = netfit("timing", p, "--target", "gates-74", "--clock", f"{1 / slow * 1e9:.3f}ns", "--json",
+                         as_json=True)
+    assert code == 0 and r3["timing_violations"] == 0
+    assert r3["clock_requested_period_s"] == pytest.approx(1 / slow, rel=1e-6)
+    code, out, _ = netfit("timing", p, "--target", "gates-74", "--clock", f"{slow}Hz")
+    assert "meets it with" in out
+    with pytest.raises(SystemExit) as exc:   # argparse refuses a clock it cannot read: usage error, exit 2
+        netfit("timing", p, "--target", "gates-74", "--clock", "fast")
+    assert exc.value.code == 2
+
+
+def test_supply_current_follows_the_clock_rate(data):
+    # CMOS draws in step with how often it switches (I = C_pd V f, generic 74HC datasheets): the catalog's
+    # per-section figure is at 1 MHz, so at 10 MHz the switching part is ten times as much; the static
+    # figure (quiescent only) stays
+    from mapper.analyze.supply import gate_supply
+    b, a = flow.fit(read_design(data / "textbook" / "counter4.blif"), load_target("gates-74"))
+    one = gate_supply(b)
+    ten = gate_supply(b, 10e6)
+    assert one.static_a == ten.static_a > 0
+    assert ten.current_a - ten.static_a == pytest.approx(10 * (one.current_a - one.static_a))
+    assert "1 MHz" in one.basis and "10 MHz" in ten.basis
+
+
+def test_multi_is_refused_on_relay_targets(netfit, data):
+    code, _, err = netfit("timing", data / "textbook" / "full_adder.blif", "--target", "relay-spdt", "--multi")
+    assert code == 2 and "relay" in err and "--multi" in err
