@@ -18,10 +18,11 @@ Expressions and statements are checked where they are lowered
 from __future__ import annotations
 
 import re
+from typing import Any
 
 from pyslang import ast, syntax
 
-__all__ = ["GATES", "check", "position", "statements"]
+__all__ = ["EDGE_NONE", "GATES", "check", "position", "statements"]
 
 SK = ast.SymbolKind
 EK = ast.ExpressionKind
@@ -36,7 +37,9 @@ _FINE = {SK.Port, SK.Net, SK.Variable, SK.Parameter, SK.Genvar, SK.ContinuousAss
          SK.GenerateBlockArray, SK.EmptyMember, SK.TransparentMember}
 _NAMED = (SK.Net, SK.Variable, SK.Instance, SK.PrimitiveInstance, SK.Parameter, SK.GenerateBlock,
           SK.GenerateBlockArray, SK.Subroutine, SK.InstanceArray)
-_EDGE_NONE = ast.EdgeKind.None_
+#: the edge of a level-sensitive event (``@(a or b)``).  pyslang 12.1 has this member, but the
+#: stubs it ships leave it out of ``EdgeKind`` (they list only the three edges), hence the ignore
+EDGE_NONE = ast.EdgeKind.None_  # type: ignore[attr-defined]
 _OUTSIDE = " is outside the structural subset"
 
 
@@ -96,7 +99,7 @@ def check(rep, comp, tree, top, twice=True) -> None:
     ``twice``: look for names declared twice (pyslang flags them as redefinitions;
     without one the look is skipped, it costs a pass over every name)."""
     _design_level(rep, comp, tree)
-    stack = [(top, frozenset())]
+    stack: list[tuple[Any, frozenset[str]]] = [(top, frozenset())]  # (instance, modules above it)
     seen: set = set()
     while stack:
         inst, above = stack.pop()
@@ -341,16 +344,16 @@ def _procedure(rep, m) -> None:
         if ev.edge == ast.EdgeKind.BothEdges:
             rep.error(ev.sourceRange.start, "an 'edge' event (both edges)" + _OUTSIDE)
             return
-    edges = [ev for ev in events if ev.edge != _EDGE_NONE]
+    edges = [ev for ev in events if ev.edge != EDGE_NONE]
     if edges and len(events) > 1:
         second = events[1]
-        what = ("a second edge in one event list (an asynchronous set or reset)" if second.edge != _EDGE_NONE
+        what = ("a second edge in one event list (an asynchronous set or reset)" if second.edge != EDGE_NONE
                 else "an event list that mixes an edge and a level")
         rep.error(second.sourceRange.start, what + _OUTSIDE)
         return
     for ev in events:
         e = ev.expr
-        if ev.edge != _EDGE_NONE:
+        if ev.edge != EDGE_NONE:
             if e.kind not in (EK.NamedValue, EK.ElementSelect):
                 rep.error(position(e), "a clock that is an expression (gated clock)" + _OUTSIDE)
         elif e.kind not in (EK.NamedValue, EK.ElementSelect, EK.RangeSelect):
