@@ -50,10 +50,10 @@ lines.  Outside the subset, each reported where it stands with a message
 of netfit's own: ``initial``, tasks, functions with side effects or output
 arguments, ``while``/``repeat``/``forever``, ``inout``, tristate and switch
 primitives, ``tri``/``wand``/... nets, ``x``/``z`` values, ``signed``,
-memories, ``integer`` variables other than a loop's, ``=== !==``, shifts and
-bit-selects by a net, hierarchical names, system tasks, ``defparam``,
-asynchronous set/reset (two edges in one event list), gated clocks,
-SystemVerilog's ``always_ff``/``always_comb``, user-defined primitives,
+memories, ``integer`` variables other than a loop's, ``integer`` ports,
+``=== !==``, shifts and bit-selects by a net, hierarchical names, system
+tasks, ``defparam``, asynchronous set/reset (two edges in one event list),
+gated clocks, SystemVerilog's ``always_ff``/``always_comb``, user-defined primitives,
 `` `include `` outside the design's folder (unless ``allow_outside``) or of
 anything but a regular file.  Errors are reported in the order of the
 text, each once, at most 50; positions are 1-based, a column counting

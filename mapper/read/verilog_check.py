@@ -6,6 +6,7 @@ instance the top reaches (and the design's top-level declarations) and
 reports, at the construct's first token, what is outside that part:
 ``inout`` ports, ``tri``/``wand``/... nets, ``signed`` nets, memories,
 ``real`` variables, ``integer`` variables other than a ``for`` loop's,
+``integer`` ports (even a loop's variable: a port is part of the design),
 ``initial`` blocks, SystemVerilog ``always_ff``/``always_comb``, an
 ``always`` without an event list, an event list with a second edge (an
 asynchronous set or reset) or with a gated clock, tasks, functions with
@@ -118,7 +119,11 @@ def check(rep, comp, tree, top, twice=True) -> None:
         while scopes:
             walk.members(scopes.pop(), scopes)
         for v in walk.integers:
-            if v not in walk.loops:
+            if v in walk.port_vars:  # a port is part of the design, never a loop constant
+                w = v.type.bitWidth
+                rep.error(_decl_start(v), f"port '{v.name}' of type '{v.type}'" + _OUTSIDE
+                          + f" (declare it as a vector: [{w - 1}:0] {v.name})")
+            elif v not in walk.loops:
                 rep.error(_decl_start(v), f"an '{v.type}' variable" + _OUTSIDE + " (except as a 'for' loop's variable)")
         stack.extend((c, above) for c in walk.instances)
 
@@ -131,6 +136,7 @@ class _Walk:
         self.instances: list = []
         self.integers: list = []  # checked at the end, against every for loop's variable
         self.loops: set = set()
+        self.port_vars: set = set()  # the variables that ports stand for
         self.fine: set = set()  # (net type, type) pairs and primitives found inside the subset
 
     def members(self, scope, scopes) -> None:
@@ -163,6 +169,8 @@ class _Walk:
             elif k == SK.GenerateBlockArray:
                 scopes.extend(e for e in m.entries if not e.isUninstantiated)
             elif k == SK.Port:
+                if m.internalSymbol is not None:
+                    self.port_vars.add(m.internalSymbol)
                 _port(rep, m)
             elif k == SK.Variable:
                 if m.type.isPredefinedInteger:
