@@ -151,7 +151,7 @@ def test_several_errors_are_collected():
 
 
 # -- the valid corpus ----------------------------------------------------------
-VALID_FILES = sorted(VALID.glob("*.v"))
+VALID_FILES = sorted(list(VALID.glob("*.v")) + list(VALID.glob("*.sv")))
 
 
 @pytest.mark.parametrize("path", VALID_FILES, ids=lambda p: p.name)
@@ -987,7 +987,9 @@ def iverilog_cycles(tmp_path, path, top, ins, outs, vectors, clock=None, before=
     bench = tmp_path / "tb.v"
     bench.write_text("\n".join(lines))
     sim = tmp_path / "tb.vvp"
-    r = subprocess.run(["iverilog", "-g2005", "-o", str(sim), str(bench), str(path)],
+    # a .sv file is read with SystemVerilog's keywords and operators (as netfit reads it)
+    gen = "-g2012" if Path(path).suffix == ".sv" else "-g2005"
+    r = subprocess.run(["iverilog", gen, "-o", str(sim), str(bench), str(path)],
                        capture_output=True, text=True, timeout=120, check=False)
     assert r.returncode == 0, r.stderr
     r = subprocess.run(["vvp", "-n", str(sim)], capture_output=True, text=True, timeout=120, check=False)
@@ -1029,6 +1031,7 @@ SIMULATED = [
     ("for_loops.v", "for_loops", "clk", False),
     ("case_latch.v", "case_latch", None, True),
     ("hier_registers.v", "hier_registers", "clk", False),
+    ("loop_steps.sv", "loop_steps", "clk", False),
 ]
 
 
