@@ -50,10 +50,10 @@ lines.  Outside the subset, each reported where it stands with a message
 of netfit's own: ``initial``, tasks, functions with side effects or output
 arguments, ``while``/``repeat``/``forever``, ``inout``, tristate and switch
 primitives, ``tri``/``wand``/... nets, ``x``/``z`` values, ``signed``,
-memories, ``integer`` variables other than a loop's, ``=== !==``, shifts and
-bit-selects by a net, hierarchical names, system tasks, ``defparam``,
-asynchronous set/reset (two edges in one event list), gated clocks,
-SystemVerilog's ``always_ff``/``always_comb``, user-defined primitives,
+memories, ``integer`` variables other than a loop's, ``integer`` ports,
+``=== !==``, shifts and bit-selects by a net, hierarchical names, system
+tasks, ``defparam``, asynchronous set/reset (two edges in one event list),
+gated clocks, SystemVerilog's ``always_ff``/``always_comb``, user-defined primitives,
 `` `include `` outside the design's folder (unless ``allow_outside``) or of
 anything but a regular file.  Errors are reported in the order of the
 text, each once, at most 50; positions are 1-based, a column counting
@@ -107,6 +107,7 @@ from __future__ import annotations
 
 import gc
 import logging
+from typing import NoReturn
 
 from pyslang import ast, syntax
 
@@ -116,7 +117,7 @@ from .verilog_bits import BitStore
 from .verilog_check import check
 from .verilog_lower import lower
 from .verilog_messages import code_name, translate
-from .verilog_source import MAX_NESTING, Report, compile_design, load, load_text
+from .verilog_source import MAX_NESTING, Report, Sources, compile_design, load, load_text
 
 __all__ = ["MAX_ERRORS", "VerilogError", "read", "read_text"]
 
@@ -168,7 +169,7 @@ def read_text(text: str, file: str = "<text>", top: str | None = None,
     return _read(load_text(text, file, allow_outside), top)
 
 
-def _read(src, top):
+def _read(src: Sources, top: str | None) -> Netlist:
     # the reader makes many small objects and no cycles: the cycle collector
     # would only rescan them over and over
     was_enabled = gc.isenabled()
@@ -180,7 +181,7 @@ def _read(src, top):
             gc.enable()
 
 
-def _read_design(src, top):
+def _read_design(src: Sources, top: str | None) -> Netlist:
     rep = Report(src)
     for f, off, msg in src.early:
         line, col = f.line_col(off)
@@ -268,7 +269,7 @@ class _Design:
     def _top_of_a_loop(self):
         """No module is free: the one no *other* module instantiates (it
         instantiates itself), compiled again as the top."""
-        used = set()
+        used: set[str] = set()
         for d in self.modules:
             names: list = []
 
@@ -340,7 +341,7 @@ class _Design:
         return None
 
 
-def _raise(rep):
+def _raise(rep: Report) -> NoReturn:
     # a module used several times repeats its messages: keep each once
     errors = list(dict.fromkeys(d for d in rep.diags if d.severity == "error"))
     if not errors:  # (every path that stops has reported why; this keeps the promise of a message)

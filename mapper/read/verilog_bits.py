@@ -17,8 +17,14 @@ the depth of the logic: deep designs are read with loops and explicit stacks.
 """
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Any
+
 from ..logic.function import MAX_TABLE_INPUTS, Function, var_mask
 from ..netlist import Netlist
+
+if TYPE_CHECKING:
+    from .verilog_source import Report, Where
 
 __all__ = [
     "HOLD",
@@ -36,6 +42,10 @@ __all__ = [
     "shape",
     "simplify",
 ]
+
+#: a slot's driver: one of the tuples of the module's docstring, told apart by its first item
+#: (the items' types differ by kind, and a type checker cannot narrow a tuple by a tag item)
+Driver = tuple[Any, ...]
 
 #: a bit not assigned on this path of a level-sensitive block (it keeps its value)
 HOLD = -1
@@ -111,18 +121,20 @@ class BitStore:
     when a message or the netlist needs them.
     """
 
-    def __init__(self, report):
+    def __init__(self, report: Report):
         self.report = report
-        self.name = ["$const0", "$const1"]
-        self.gen = [True, True]
-        self.at = [None, None]
-        self.drv = [("c", 0), ("c", 1)]
-        self.drv_at = [None, None]
-        self.user_names: dict = {}
-        self.unconnected: dict = {}  # slot -> (instance position, port, instance path)
-        self.top_inputs: list = []
-        self.top_outputs: list = []
-        self.clock_slots: list = []
+        # per slot: its name, whether netfit made it up, its position, its driver and where
+        # the driver was given (positions as ``report`` understands them)
+        self.name: list[str] = ["$const0", "$const1"]
+        self.gen: list[bool] = [True, True]
+        self.at: list[Any] = [None, None]
+        self.drv: list[Driver | None] = [("c", 0), ("c", 1)]
+        self.drv_at: list[Any] = [None, None]
+        self.user_names: dict[str, int] = {}
+        self.unconnected: dict[int, tuple[Any, str, str]] = {}  # slot -> (instance position, port, instance path)
+        self.top_inputs: list[int] = []
+        self.top_outputs: list[int] = []
+        self.clock_slots: list[int] = []
 
     # -- slots ------------------------------------------------------------
     def new_slot(self, name, at, gen):
@@ -393,13 +405,13 @@ class BitStore:
         return self.fold_tree(v, lambda x: None if x == HOLD else x, at, hint)
 
     # -- the netlist ---------------------------------------------------------------
-    def finish(self, design_name, where):
+    def finish(self, design_name: str, where: Callable[[Any], Where]) -> Netlist | None:
         """The Netlist of everything driven; ``where(at)`` gives ``(file, line, col)``.
         Returns ``None`` when an error was found on the way."""
         nslots = len(self.name)
         root_of = self._classes()
         drv = self.drv
-        real = {}
+        real: dict[int, int] = {}  # net (its root slot) -> the slot that drives it
         for s in range(nslots):
             d = drv[s]
             if d is not None and d[0] != "a":
@@ -421,12 +433,13 @@ class BitStore:
         nl = Netlist(design_name)
         for s in self.top_inputs:
             nl.add_input(self.name[s], where=where(self.at[s]))
-        needed_consts = set()
+        needed_consts: set[int] = set()
         for r in sorted(real):
             if r in dead or r < 2:
                 continue
             s = real[r]
             d = drv[s]
+            assert d is not None  # (``real`` holds driven slots only)
             if d[0] == "i":
                 continue
             name = net_name[r]
@@ -625,8 +638,8 @@ def _const_net(v):
 def simplify(k, table, ops):
     """Fold constant and repeated inputs out of a small function and drop
     the inputs it does not depend on.  Returns ``(k, table, ops)``."""
-    uniq = []
-    where = {}
+    uniq: list[int] = []
+    where: dict[int, int] = {}
     for b in ops:
         if b >= 2 and b not in where:
             where[b] = len(uniq)

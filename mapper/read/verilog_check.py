@@ -6,6 +6,7 @@ instance the top reaches (and the design's top-level declarations) and
 reports, at the construct's first token, what is outside that part:
 ``inout`` ports, ``tri``/``wand``/... nets, ``signed`` nets, memories,
 ``real`` variables, ``integer`` variables other than a ``for`` loop's,
+``integer`` ports (even a loop's variable: a port is part of the design),
 ``initial`` blocks, SystemVerilog ``always_ff``/``always_comb``, an
 ``always`` without an event list, an event list with a second edge (an
 asynchronous set or reset) or with a gated clock, tasks, functions with
@@ -18,10 +19,11 @@ Expressions and statements are checked where they are lowered
 from __future__ import annotations
 
 import re
+from typing import Any
 
 from pyslang import ast, syntax
 
-__all__ = ["GATES", "check", "position", "statements"]
+__all__ = ["EDGE_NONE", "GATES", "check", "position", "statements"]
 
 SK = ast.SymbolKind
 EK = ast.ExpressionKind
@@ -36,7 +38,9 @@ _FINE = {SK.Port, SK.Net, SK.Variable, SK.Parameter, SK.Genvar, SK.ContinuousAss
          SK.GenerateBlockArray, SK.EmptyMember, SK.TransparentMember}
 _NAMED = (SK.Net, SK.Variable, SK.Instance, SK.PrimitiveInstance, SK.Parameter, SK.GenerateBlock,
           SK.GenerateBlockArray, SK.Subroutine, SK.InstanceArray)
-_EDGE_NONE = ast.EdgeKind.None_
+#: the edge of a level-sensitive event (``@(a or b)``).  pyslang 12.1 has this member, but the
+#: stubs it ships leave it out of ``EdgeKind`` (they list only the three edges), hence the ignore
+EDGE_NONE = ast.EdgeKind.None_  # type: ignore[attr-defined]
 _OUTSIDE = " is outside the structural subset"
 
 
@@ -96,7 +100,7 @@ def check(rep, comp, tree, top, twice=True) -> None:
     ``twice``: look for names declared twice (pyslang flags them as redefinitions;
     without one the look is skipped, it costs a pass over every name)."""
     _design_level(rep, comp, tree)
-    stack = [(top, frozenset())]
+    stack: list[tuple[Any, frozenset[str]]] = [(top, frozenset())]  # (instance, modules above it)
     seen: set = set()
     while stack:
         inst, above = stack.pop()
@@ -115,7 +119,11 @@ def check(rep, comp, tree, top, twice=True) -> None:
         while scopes:
             walk.members(scopes.pop(), scopes)
         for v in walk.integers:
-            if v not in walk.loops:
+            if v in walk.port_vars:  # a port is part of the design, never a loop constant
+                w = v.type.bitWidth
+                rep.error(_decl_start(v), f"port '{v.name}' of type '{v.type}'" + _OUTSIDE
+                          + f" (declare it as a vector: [{w - 1}:0] {v.name})")
+            elif v not in walk.loops:
                 rep.error(_decl_start(v), f"an '{v.type}' variable" + _OUTSIDE + " (except as a 'for' loop's variable)")
         stack.extend((c, above) for c in walk.instances)
 
@@ -128,6 +136,7 @@ class _Walk:
         self.instances: list = []
         self.integers: list = []  # checked at the end, against every for loop's variable
         self.loops: set = set()
+        self.port_vars: set = set()  # the variables that ports stand for
         self.fine: set = set()  # (net type, type) pairs and primitives found inside the subset
 
     def members(self, scope, scopes) -> None:
@@ -160,6 +169,8 @@ class _Walk:
             elif k == SK.GenerateBlockArray:
                 scopes.extend(e for e in m.entries if not e.isUninstantiated)
             elif k == SK.Port:
+                if m.internalSymbol is not None:
+                    self.port_vars.add(m.internalSymbol)
                 _port(rep, m)
             elif k == SK.Variable:
                 if m.type.isPredefinedInteger:
@@ -341,16 +352,16 @@ def _procedure(rep, m) -> None:
         if ev.edge == ast.EdgeKind.BothEdges:
             rep.error(ev.sourceRange.start, "an 'edge' event (both edges)" + _OUTSIDE)
             return
-    edges = [ev for ev in events if ev.edge != _EDGE_NONE]
+    edges = [ev for ev in events if ev.edge != EDGE_NONE]
     if edges and len(events) > 1:
         second = events[1]
-        what = ("a second edge in one event list (an asynchronous set or reset)" if second.edge != _EDGE_NONE
+        what = ("a second edge in one event list (an asynchronous set or reset)" if second.edge != EDGE_NONE
                 else "an event list that mixes an edge and a level")
         rep.error(second.sourceRange.start, what + _OUTSIDE)
         return
     for ev in events:
         e = ev.expr
-        if ev.edge != _EDGE_NONE:
+        if ev.edge != EDGE_NONE:
             if e.kind not in (EK.NamedValue, EK.ElementSelect):
                 rep.error(position(e), "a clock that is an expression (gated clock)" + _OUTSIDE)
         elif e.kind not in (EK.NamedValue, EK.ElementSelect, EK.RangeSelect):

@@ -21,11 +21,16 @@ least significant first; slots 0 and 1 are the constants.
 """
 from __future__ import annotations
 
+from typing import TYPE_CHECKING, Any, NoReturn
+
 import pyslang
 from pyslang import ast
 
-from .verilog_bits import HOLD, T_AND2, T_NAND2, T_NOR2, T_OR2, T_XNOR2, T_XOR2
+from .verilog_bits import HOLD, T_AND2, T_NAND2, T_NOR2, T_OR2, T_XNOR2, T_XOR2, BitStore
 from .verilog_check import position
+
+if TYPE_CHECKING:
+    from .verilog_source import Report
 
 __all__ = ["Ctx", "ExprLowerer", "Net", "Scope", "bits_int", "constant_bits", "fit_width", "int_bits"]
 
@@ -145,11 +150,11 @@ class ExprLowerer:
     """Lowers expressions into a :class:`~.verilog_bits.BitStore` (``store``),
     recording problems in ``rep`` (a :class:`~.verilog_source.Report`)."""
 
-    def __init__(self, rep, store):
+    def __init__(self, rep: Report, store: BitStore):
         self.rep = rep
         self.store = store
 
-    def fail(self, at, msg):
+    def fail(self, at: Any, msg: str) -> NoReturn:
         self.rep.fail(at, msg)
 
     # -- the walk ------------------------------------------------------------------
@@ -285,7 +290,7 @@ class ExprLowerer:
             self.fail(ctx.at, "this expression cannot be read")
         self.fail(e.sourceRange.start, f"this expression ({str(k).split('.')[-1]})" + _OUTSIDE)
 
-    def _unknown_digits(self, e):
+    def _unknown_digits(self, e) -> NoReturn:
         text = self.rep.text(e.sourceRange)
         tail = text.split("'", 1)[-1]
         bad = next((c for c in tail[1:] if c in "xXzZ?"), "x").lower()

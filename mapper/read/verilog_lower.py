@@ -14,6 +14,8 @@ walking pyslang's objects again.
 """
 from __future__ import annotations
 
+from typing import Any
+
 from pyslang import ast
 
 from .verilog_bits import Fail
@@ -46,7 +48,7 @@ def lower(rep, store, top):
 class _Lowerer(ProcLowerer):
     def __init__(self, rep, store):
         super().__init__(rep, store)
-        self._shapes: dict = {}
+        self._shapes: dict[Any, tuple[int, int] | tuple[None, None]] = {}  # type -> (msb, lsb) of a vector
         self._net_types: dict = {}
         self._templates: dict = {}
 
@@ -88,7 +90,11 @@ class _Lowerer(ProcLowerer):
         below it: keep it as a template for the other instances."""
         if scope.key is None or scope.key in self._templates or self.rep.errors != errors:
             return
-        ports = [(name, is_in, [b - scope.r0[0] for b in bits]) for name, is_in, bits in _port_nets(scope)]
+        ports = []
+        for name, is_in, bits in _port_nets(scope):
+            if bits is None:  # a port without a net (the check refuses those): lower each instance anew
+                return
+            ports.append((name, is_in, [b - scope.r0[0] for b in bits]))
         self._templates[scope.key] = self.store.record(scope.prefix, scope.r0, scope.declared, connected,
                                                        r1_start, clocks_from, ports)
 
@@ -102,7 +108,7 @@ class _Lowerer(ProcLowerer):
         prefix of the generate block each stands in)."""
         scope = Scope(prefix, body)
         r0 = len(self.store.name)
-        port_inits = {}  # ``output reg q = 1'b0``: the value sits on the port
+        port_inits: dict[ast.Symbol, ast.Expression] = {}  # ``output reg q = 1'b0``: the value sits on the port
         items = scope.items
         stack = [(body, prefix)]
         while stack:
@@ -142,7 +148,7 @@ class _Lowerer(ProcLowerer):
         name = pre + m.name
         at = m.location
         new_slot = self.store.new_slot
-        if msb is not None:
+        if msb is not None and lsb is not None:  # (both are, or neither)
             step = 1 if msb >= lsb else -1
             bits = [new_slot(f"{name}[{i}]", at, False) for i in range(lsb, msb + step, step)]
         else:
@@ -175,7 +181,8 @@ class _Lowerer(ProcLowerer):
             m, pre = items[i]
             try:
                 if type(m) is tuple:
-                    self.initial_value(scope, *m, pre)
+                    kind, net, e = m
+                    self.initial_value(scope, kind, net, e, pre)
                     continue
                 k = m.kind
                 if k is _ASSIGN:
@@ -289,6 +296,7 @@ class _Lowerer(ProcLowerer):
         prefix = f"{pre}{m.name}/"
         key = self.key(m.body)
         tpl = self._templates.get(key)
+        ports: list[PortNets]
         if tpl is not None:
             b0 = self.store.make_nets(tpl, prefix)
             ports = [(name, is_in, [b0 + i for i in idx]) for name, is_in, idx in tpl.ports]
@@ -300,7 +308,7 @@ class _Lowerer(ProcLowerer):
             todo = child
         conns = m.portConnections
         if len(conns) != len(ports) or any(pc.port.name != p[0] for pc, p in zip(conns, ports)):
-            by_name = {p[0]: p for p in ports}  # (never seen: connections follow the ports' order)
+            by_name: dict[str, PortNets] = {p[0]: p for p in ports}  # (never seen: connections follow the ports' order)
             ports = [by_name.get(pc.port.name, (pc.port.name, True, None)) for pc in conns]
         st = self.store
         ctx = scope.ctx
@@ -361,7 +369,11 @@ class _Lowerer(ProcLowerer):
             drive(s, ("a", bits[k] if k < len(bits) else 0), e)
 
 
-def _port_nets(scope):
+#: a port of an instance: its name, whether it is an input, its slots (None: it has no net)
+PortNets = tuple[str, bool, list[int] | None]
+
+
+def _port_nets(scope: Scope) -> list[PortNets]:
     """(name, is an input, slots) of each port of an instance, in order."""
     out = []
     nets = scope.nets

@@ -29,7 +29,7 @@ from pyslang import ast
 
 from ..netlist import INIT_UNKNOWN
 from .verilog_bits import HOLD, T_OR2, shape
-from .verilog_check import loop_variables, position
+from .verilog_check import EDGE_NONE, loop_variables, position
 from .verilog_expr import Ctx, ExprLowerer, fit_width, target_name
 
 __all__ = ["MAX_LOOP", "MAX_LOOPS_TOTAL", "MAX_NESTING", "ProcLowerer"]
@@ -101,7 +101,7 @@ class ProcLowerer(ExprLowerer):
     def always(self, scope, m, pre):
         body = m.body
         t, stmt = body.timing, body.stmt
-        if t.kind == TK.SignalEvent and t.edge != ast.EdgeKind.None_:
+        if t.kind == TK.SignalEvent and t.edge != EDGE_NONE:
             self.clocked(scope, m, pre, t, stmt)
         else:
             self.level(scope, m, pre, t, stmt)

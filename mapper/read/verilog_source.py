@@ -24,6 +24,7 @@ import re
 import stat
 import threading
 from pathlib import Path
+from typing import Any, NoReturn
 
 import pyslang
 
@@ -57,10 +58,10 @@ class SourceFile:
     def __init__(self, display: str, path: str, text: str):
         self.display, self.path, self.text = display, path, text
         self.data = text.encode("utf-8")
-        self._starts = None
+        self._starts: list[int] | None = None  # byte offset of each line's start, made when first asked
         self._ascii = self.data.isascii()
 
-    def line_col(self, offset: int):
+    def line_col(self, offset: int) -> tuple[int, int]:
         """1-based line and column (in characters) of a byte offset."""
         starts = self._starts
         if starts is None:
@@ -258,6 +259,9 @@ def _on_big_stack(fn):
 
 _LOCATION = pyslang.SourceLocation
 
+#: a position resolved: (file as shown, 1-based line, 1-based column in characters)
+Where = tuple[str, int | None, int | None]
+
 #: how to find the position of objects kept as positions until a message needs them
 POSITIONS: dict = {
     # an assignment: its operator
@@ -279,7 +283,7 @@ class Report:
         self._by_buffer: dict = {}
 
     # -- positions ---------------------------------------------------------------
-    def file_of(self, loc):
+    def file_of(self, loc) -> tuple[SourceFile | None, int]:
         """(SourceFile, byte offset) of a pyslang location, macros expanded."""
         buf = loc.buffer
         f = self._by_buffer.get(buf.id)
@@ -295,7 +299,7 @@ class Report:
             self._by_buffer[buf.id] = f
         return f, loc.offset
 
-    def where(self, at):
+    def where(self, at: Any) -> Where:
         """``(file, line, col)`` of a position: a tuple, a pyslang location, an
         object with a resolver in :data:`POSITIONS` (looked at only now), or None."""
         if at is None:
@@ -312,7 +316,7 @@ class Report:
         line, col = f.line_col(off)
         return (f.display, line, col)
 
-    def line(self, at):
+    def line(self, at: Any) -> int | None:
         return self.where(at)[1]
 
     def text(self, rng) -> str:
@@ -324,16 +328,16 @@ class Report:
         return f.data[a:b].decode("utf-8", errors="replace")
 
     # -- diagnostics -------------------------------------------------------------
-    def error(self, at, msg):
+    def error(self, at: Any, msg: str) -> None:
         self.errors += 1
         self.diags.append(Diagnostic(msg, *self.where(at)))
 
-    def fail(self, at, msg):
+    def fail(self, at: Any, msg: str) -> NoReturn:
         self.error(at, msg)
         raise Fail()
 
-    def warn(self, at, msg):
+    def warn(self, at: Any, msg: str) -> None:
         self.diags.append(Diagnostic(msg, *self.where(at), severity="warning"))
 
-    def warnings(self) -> list:
+    def warnings(self) -> list[Diagnostic]:
         return [d for d in self.diags if d.severity != "error"]
