@@ -37,13 +37,14 @@ log = logging.getLogger(__name__)
 
 def inspect(path, **read_options) -> dict:
     """Facts about one design: ports, storage, node counts, depth, fan-out, warnings."""
-    n = read_design(path, **read_options)
+    n = read_design(path, quiet=True, **read_options)
     fanouts = n.fanouts()
     for o in n.outputs:
-        fanouts.setdefault(o, [])
-    counts = {name: len(v) + n.outputs.count(name) for name, v in fanouts.items()}
+        fanouts.setdefault(o, []).append(o)  # an output port is one more load of its net
+    counts = {name: len(v) for name, v in fanouts.items()}
     widest = max(counts.items(), key=lambda kv: kv[1], default=(None, 0))
     storage = n.storage()
+    inputs = set(n.inputs)
     return {
         "design": n.name,
         "file": str(path),
@@ -51,12 +52,13 @@ def inspect(path, **read_options) -> dict:
         "outputs": list(n.outputs),
         "storage": len(storage),
         "storage_kinds": _count(s.kind for s in storage.values()),
-        "nodes": sum(1 for k in n.nodes if k not in set(n.inputs)),
+        "nodes": sum(1 for k in n.nodes if k not in inputs),
         "kinds": dict(sorted(n.kind_counts().items())),
         "depth": n.depth(),
         "max_fanout": widest[1],
         "max_fanout_net": widest[0],
         "warnings": [str(w) for w in n.warnings],
+        "notes": [str(d) for d in n.notes],
     }
 
 
@@ -213,7 +215,7 @@ def parts(path, target_name, effort: int = 1, copies: int = 1, **read_options) -
 def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -> dict:
     """Build one target for :func:`compare` (runs in a worker process); never raises."""
     try:
-        design = read_design(path, **read_options)
+        design = read_design(path, quiet=True, **read_options)
         r = fit(design, load_target(target_name), effort=effort)
         return r.analysis.summary(r.build)
     except InputError as exc:

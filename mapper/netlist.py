@@ -110,6 +110,10 @@ class Netlist:
     #: external don't-care network (BLIF ``.exdc``): outputs named like ours;
     #: where it is 1 the output value does not matter
     exdc: Netlist | None = None
+    #: what a reader decided for the user to know (severity ``note``), such as a clock it added
+    notes: list = field(default_factory=list)
+    #: the outputs as a set, for :meth:`add_output` (kept in step with ``outputs`` there)
+    _output_set: set = field(default_factory=set, init=False, repr=False, compare=False)
 
     # -- building ---------------------------------------------------------
     def _drive(self, name: str, node, where) -> None:
@@ -128,9 +132,14 @@ class Netlist:
 
     def add_output(self, name: str, where=None) -> None:
         """Declare a primary output net (order is kept; may be any driven net)."""
-        if name in self.outputs:
+        seen = self._output_set
+        if len(seen) != len(self.outputs):   # the list was changed directly: catch up once
+            seen.clear()
+            seen.update(self.outputs)
+        if name in seen:
             raise NetlistError(Diagnostic(f"output '{name}' is declared twice", *(where or (None, None, None))))
         self.outputs.append(name)
+        seen.add(name)
         if where is not None and name not in self.origin:
             self.origin[name] = where
 
@@ -223,6 +232,13 @@ class Netlist:
     def _where(self, net) -> tuple[str | None, int | None, int | None]:
         return self.origin.get(net) or (None, None, None)
 
+    def _first_where(self) -> tuple[str | None, int | None, int | None]:
+        """The first known position in the design (``(None, None, None)`` when none is known)."""
+        for w in self.origin.values():
+            if w and w[0]:
+                return w
+        return (None, None, None)
+
     def _loop_diagnostics(self) -> list:
         g = self.combinational_graph()
         diags = []
@@ -240,8 +256,8 @@ class Netlist:
 
         Errors: undriven nets (used or declared as output but never driven),
         combinational loops.  Warnings (returned, and appended to
-        ``self.warnings``): unused inputs, dangling logic (nodes that reach no
-        output or storage element).
+        ``self.warnings``): a design with no outputs, unused inputs, dangling
+        logic (nodes that reach no output or storage element).
         """
         errors = []
         reported = set()
@@ -260,6 +276,9 @@ class Netlist:
             raise NetlistError(errors)
 
         warnings = []
+        if not self.outputs:
+            warnings.append(Diagnostic(f"design {self.name} has no outputs: a build of it does nothing",
+                                       *self._first_where(), severity="warning"))
         used = set()
         for node in self.nodes.values():
             used.update(node.fanins)
@@ -292,7 +311,7 @@ class Netlist:
 
     def copy(self) -> Netlist:
         n = Netlist(self.name, list(self.inputs), list(self.outputs), dict(self.nodes),
-                    list(self.clocks), dict(self.origin), list(self.warnings), self.exdc)
+                    list(self.clocks), dict(self.origin), list(self.warnings), self.exdc, list(self.notes))
         return n
 
     def __len__(self) -> int:

@@ -220,10 +220,12 @@ def test_latches_all_kinds_and_initial_values():
         "q_ah": ("d", "ah", "en", 2),
         "q_al": ("d", "al", "en", 3),
         "q_as": ("d", "as", None, 3),
-        "q_plain": ("d", "re", None, 3),
-        "q_nil": ("d", "re", None, 1),
+        # no type, and NIL control: the design's global clock, here the model's one .clock
+        "q_plain": ("d", "re", "clk", 3),
+        "q_nil": ("d", "re", "clk", 1),
     }
     assert n.clocks == ["clk"] and n.inputs == ["d", "en", "clk"]
+    assert len(n.notes) == 1 and "global clock" in n.notes[0].message and "'clk'" in n.notes[0].message
 
 
 def test_asynchronous_latch_with_control_warns(tmp_path):
