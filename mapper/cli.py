@@ -48,7 +48,8 @@ def _add_read_args(p):
 
 
 def _print_json(obj) -> None:
-    json.dump(obj, sys.stdout, indent=2, sort_keys=False)
+    from .write.json import finite  # standard JSON only: never Infinity or NaN
+    json.dump(finite(obj), sys.stdout, indent=2, sort_keys=False, allow_nan=False)
     sys.stdout.write("\n")
 
 

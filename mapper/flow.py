@@ -27,6 +27,7 @@ from .read import read_design
 from .verify import check_equivalence
 from .write import BUILD_WRITERS, atomic_write, writer_for
 from .write.compare import compare_svg, compare_table
+from .write.files import check_out_dir, check_out_file, write_folder
 from .write.parts import order_rows, parts_csv, parts_json, parts_table
 
 __all__ = ["Result", "inspect", "verify", "convert", "load_target", "targets", "target_info", "fit", "build",
@@ -81,8 +82,9 @@ def verify(path_a, path_b, **read_options) -> dict:
 
 def convert(src, dst, **read_options) -> dict:
     """Read ``src`` and write it as the format of ``dst``'s suffix."""
-    n = read_design(src, **read_options)
     writer = writer_for(dst)
+    check_out_file(dst, protect=(src,))  # before any work: a folder, an unwritable place, the design itself
+    n = read_design(src, **read_options)
     writer.write_netlist(n, Path(dst), protect=(src,))
     return {"from": str(src), "to": str(dst), "inputs": len(n.inputs), "outputs": len(n.outputs),
             "storage": len(n.storage()), "nodes": len(n.nodes) - len(n.inputs)}
@@ -158,8 +160,12 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
 def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, hazard_free: bool = False,
           **read_options) -> Result:
     """``netfit build``: read, fit, prove, analyze, and write the build's files when ``out_dir`` is given."""
+    if out_dir is not None:
+        check_out_dir(out_dir, protect=(path,))  # before any work: a file, an unwritable place
     with progress.stage("reading the design"):
         design = read_design(path, **read_options)
+    if out_dir is not None:
+        check_out_dir(out_dir, protect=(path,), names=_build_names(design.name))
     target = load_target(target_name)
     with progress.stage(f"fitting {design.name} onto {target.name} and proving it"):
         r = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
@@ -179,6 +185,12 @@ def _file_stem(design: str) -> str:
     return stem + "_build" if stem == "cells" else stem
 
 
+def _build_names(design: str) -> list:
+    """The file names :data:`BUILD_WRITERS` give a build of ``design``."""
+    stem = _file_stem(design)
+    return [stem + name if name.startswith(".") else name for name, _ in BUILD_WRITERS]
+
+
 def write_build(r: Result, out_dir, protect=(), copies: int = 1) -> list:
     """Write the build's files into ``out_dir``; returns their paths.
 
@@ -186,19 +198,20 @@ def write_build(r: Result, out_dir, protect=(), copies: int = 1) -> list:
     ``<design>.blif``, ``<design>.json`` (the whole build), ``parts.csv``
     (the ordering list for ``copies`` copies), ``wiring.txt``,
     ``schematic.svg`` and ``report.html`` (:data:`mapper.write.BUILD_WRITERS`).
-    Each file is written through a temporary file and a rename; the wiring is
-    checked (every pin on at most one net) before any file is written.
+    The wiring is checked (every pin on at most one net) before any file is
+    written; the files are written into a temporary folder and swapped in
+    whole (:func:`mapper.write.files.write_folder`).
     """
     from .write import wiring
 
     wiring.wiring(r.build, r.analysis)  # raises before anything is written if a pin would join two nets
-    out = Path(out_dir)
-    stem = _file_stem(r.build.design)
-    written = []
-    for name, module in BUILD_WRITERS:
-        p = out / (stem + name if name.startswith(".") else name)
-        written += module.write_build(r.build, r.analysis, p, protect=protect, copies=copies)
-        log.info("wrote %s", p)
+
+    def job(module):
+        return lambda p: module.write_build(r.build, r.analysis, p, protect=protect, copies=copies)
+
+    jobs = [(name, job(module)) for name, (_, module) in zip(_build_names(r.build.design), BUILD_WRITERS)]
+    written = write_folder(out_dir, jobs, protect=protect)
+    log.info("wrote %d files into %s", len(written), out_dir)
     return written
 
 

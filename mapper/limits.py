@@ -21,6 +21,7 @@ True
 """
 from __future__ import annotations
 
+import math
 import os
 from dataclasses import dataclass
 
@@ -75,7 +76,8 @@ def shown(count: int) -> str:
     """A count for a message: exact up to 15 digits, else its order of magnitude (``about 10^301``)."""
     if count < 10 ** 15:
         return str(count)
-    return f"about 10^{len(str(count)) - 1}"
+    # math.log10 takes integers of any size: a count of thousands of digits is never turned into text
+    return f"about 10^{int(math.log10(count))}"
 
 
 def exceeded(name: str, found: int | None = None) -> str:
