@@ -85,6 +85,7 @@ def convert(src, dst, **read_options) -> dict:
     writer = writer_for(dst)
     check_out_file(dst, protect=(src,))  # before any work: a folder, an unwritable place, the design itself
     n = read_design(src, **read_options)
+    getattr(writer, "check_design", lambda d: None)(n)
     writer.write_netlist(n, Path(dst), protect=(src,))
     return {"from": str(src), "to": str(dst), "inputs": len(n.inputs), "outputs": len(n.outputs),
             "storage": len(n.storage()), "nodes": len(n.nodes) - len(n.inputs)}
@@ -166,6 +167,8 @@ def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, haz
         design = read_design(path, **read_options)
     if out_dir is not None:
         check_out_dir(out_dir, protect=(path,), names=_build_names(design.name))
+        for _, module in BUILD_WRITERS:  # what a writer cannot write is said before the work
+            getattr(module, "check_design", lambda d: None)(design)
     target = load_target(target_name)
     with progress.stage(f"fitting {design.name} onto {target.name} and proving it"):
         r = fit_hazard_free(design, target, effort) if hazard_free else fit(design, target, effort=effort)
