@@ -7,10 +7,12 @@ part, the support parts of a rule ...), and words its error with
 can be raised (or lowered) for one run with its environment variable, for
 example ``NETFIT_MAX_NODES=5000000 netfit build big.blif -t nand-only``.
 
-The defaults keep a run on a small mutated or hostile file within about a
-gigabyte of memory and a few seconds, and are far above every published
-benchmark netlist netfit is tested on (the largest combinational EPFL
-designs have about 215,000 nodes; ISCAS-89 s38584 about 20,000).
+The defaults keep reading a small mutated or hostile file within a few
+hundred megabytes of memory and a few seconds of processor time, and are
+above every published benchmark netlist netfit is meant for (the largest
+combinational EPFL design, hyp, has about 214,000 nodes; ISCAS-89 s38584
+about 20,000); the EPFL designs of more than ten million gates need
+``NETFIT_MAX_NODES`` and ``NETFIT_MAX_FILE_BYTES`` raised.
 
 Examples
 --------
@@ -42,7 +44,7 @@ class Limit:
 
 LIMITS = {lim.name: lim for lim in (
     Limit("file_bytes", 64 * 1024 * 1024, "NETFIT_MAX_FILE_BYTES", "bytes in one design file"),
-    Limit("nodes", 1_000_000, "NETFIT_MAX_NODES", "nodes of a design after flattening its hierarchy"),
+    Limit("nodes", 250_000, "NETFIT_MAX_NODES", "nodes of a design after flattening its hierarchy"),
     Limit("hierarchy_depth", 5_000, "NETFIT_MAX_DEPTH", "levels of nested models or modules"),
     Limit("search_files", 1_000, "NETFIT_MAX_FILES", "files one design reads through .search or include"),
     Limit("errors", 50, "NETFIT_MAX_ERRORS", "errors reported before reading stops"),

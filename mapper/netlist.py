@@ -39,6 +39,7 @@ from dataclasses import dataclass, field
 
 import networkx as nx
 
+from . import limits
 from .errors import Diagnostic, NetlistError
 from .logic.function import Function
 from .order import topological_order
@@ -240,15 +241,32 @@ class Netlist:
         return (None, None, None)
 
     def _loop_diagnostics(self) -> list:
-        g = self.combinational_graph()
+        """One error per combinational loop (up to the error limit of :mod:`mapper.limits`).
+
+        A topological sort finds the logic on or behind a loop first; only
+        that part is handed to the search for strongly connected components,
+        so a design without loops costs one pass over its nodes.
+        """
+        nodes = self.nodes
+        _, left = topological_order(nodes, lambda n: nodes[n].fanins if isinstance(nodes[n], Logic) else None)
+        if not left:
+            return []
+        on = set(left)
+        g = nx.DiGraph()
+        g.add_nodes_from(left)
+        g.add_edges_from((f, n) for n in left for f in nodes[n].fanins if f in on)
         diags = []
-        for comp in nx.strongly_connected_components(g):
-            if len(comp) > 1 or any(g.has_edge(n, n) for n in comp):
-                nets = sorted(comp)
-                shown = ", ".join(nets[:12]) + (f", … ({len(nets)} nets)" if len(nets) > 12 else "")
-                diags.append(Diagnostic(
-                    f"combinational loop not broken by a storage element through nets: {shown}",
-                    *self._where(nets[0])))
+        most = limits.value("errors")
+        loops = [c for c in nx.strongly_connected_components(g) if len(c) > 1 or any(g.has_edge(n, n) for n in c)]
+        for comp in sorted(loops, key=lambda c: min(c))[:most]:
+            nets = sorted(comp)
+            shown = ", ".join(nets[:12]) + (f", … ({len(nets)} nets)" if len(nets) > 12 else "")
+            diags.append(Diagnostic(
+                f"combinational loop not broken by a storage element through nets: {shown}",
+                *self._where(nets[0])))
+        if len(loops) > most:
+            diags.append(Diagnostic(f"… and {len(loops) - most} more combinational loops not shown: "
+                                    f"{limits.exceeded('errors')}", *self._where(nets[0])))
         return diags
 
     def check(self) -> list:
@@ -273,7 +291,7 @@ class Netlist:
         if not errors:
             errors.extend(self._loop_diagnostics())
         if errors:
-            raise NetlistError(errors)
+            raise NetlistError(_at_most(errors, "error"))
 
         warnings = []
         if not self.outputs:
@@ -284,8 +302,8 @@ class Netlist:
             used.update(node.fanins)
         used.update(self.outputs)
         unused = [i for i in self.inputs if i not in used]
-        for i in unused:
-            warnings.append(Diagnostic(f"input '{i}' is not used", *self._where(i), severity="warning"))
+        warnings.extend(_at_most([Diagnostic(f"input '{i}' is not used", *self._where(i), severity="warning")
+                                  for i in unused], "warning"))
         # dangling: not in the transitive fan-in of any output or storage element
         live = set(self.outputs)
         stack = list(self.outputs)
@@ -316,6 +334,17 @@ class Netlist:
 
     def __len__(self) -> int:
         return len(self.nodes)
+
+
+def _at_most(diags: list, severity: str) -> list:
+    """The first diagnostics up to the error limit, and one more saying how many were left out."""
+    most = limits.value("errors")
+    if len(diags) <= most:
+        return diags
+    last = diags[most - 1]
+    return diags[:most] + [Diagnostic(f"… and {len(diags) - most} more like these not shown: "
+                                      f"{limits.exceeded('errors')}", last.file, last.line, last.col,
+                                      severity=severity)]
 
 
 _NAMED = {
