@@ -218,10 +218,11 @@ def validate(root, package: str, schema_name: str, display: str, what: str) -> l
     by_line: dict = {}
     looked: set = set()
     for e in schema.error_log:
-        msgs = by_line.setdefault(e.line or None, [])
+        found = _element_at(root, e.path) if e.path else _element_named(root, e.message, rules)
+        line = e.line or (found.sourceline if found is not None else None)
+        msgs = by_line.setdefault(line, [])
         if e.type_name in ("RELAXNG_ERR_ATTRVALID", "RELAXNG_ERR_TYPEVAL", "RELAXNG_ERR_INVALIDATTR",
-                           "RELAXNG_ERR_NOTELEM", "RELAXNG_ERR_DATATYPE", "RELAXNG_ERR_VALUE") and e.path:
-            found = _element_at(root, e.path)
+                           "RELAXNG_ERR_NOTELEM", "RELAXNG_ERR_DATATYPE", "RELAXNG_ERR_VALUE"):
             if found is not None and id(found) not in looked:
                 looked.add(id(found))
                 faults = _attribute_faults(found, rules)
@@ -236,6 +237,20 @@ def validate(root, package: str, schema_name: str, display: str, what: str) -> l
         by_line.pop(None, None)
     return [Diagnostic(f"does not fit the {what} schema: {'; '.join(msgs)}", display, line)
             for line, msgs in sorted(by_line.items(), key=lambda kv: kv[0] or 0) if msgs]
+
+
+def _element_named(root, message: str, rules: dict):
+    """For an error libxml2 gave without line or path ("Element typ failed ..."): the first element of
+    that name whose attributes break the schema, else the first of that name, else ``None``."""
+    m = re.search(r"[Ee]lement (\S+)", message or "")
+    if not m:
+        return None
+    first = None
+    for el in root.iter(m.group(1)):
+        if _attribute_faults(el, rules):
+            return el
+        first = first if first is not None else el
+    return first
 
 
 def _element_at(root, path: str):

@@ -341,6 +341,7 @@ class _Reader:
             self.search_failed = True
             self.err(f"'.search': the file name holds the control character {bad!r}", where)
             return
+        shown = name if len(name) <= 60 else name[:60] + "…"
         try:
             p = Path(name)
             if not p.is_absolute():
@@ -351,16 +352,16 @@ class _Reader:
             found = p.is_file()
         except OSError as exc:
             self.search_failed = True
-            self.err(f"'.search {name}': {exc.strerror or exc}", where)
+            self.err(f"'.search {shown}': {exc.strerror or exc}", where)
             return
         if not inside:
             self.search_failed = True
-            self.err(f"'.search {name}' leads outside the design's folder {self.root} "
+            self.err(f"'.search {shown}' leads outside the design's folder {self.root} "
                      "(allow it with --allow-outside)", where)
             return
         if not found:
             self.search_failed = True
-            self.err(f"'.search {name}': no such file ({p})", where)
+            self.err(f"'.search {shown}': no such file ({p})", where)
             return
         self.queue.append((p, where))
 
