@@ -34,6 +34,7 @@ from __future__ import annotations
 import contextlib
 import multiprocessing
 import multiprocessing.connection
+import os
 import random
 import re
 import resource
@@ -208,6 +209,8 @@ def hostile_xml(rng: random.Random, fmt: Format) -> bytes:
 
 def make_input(fmt_name: str, seed: int, case: int) -> bytes:
     """The input number ``case`` of format ``fmt_name`` in the run started with ``seed``."""
+    if fmt_name == "selftest":
+        return SELFTEST_INPUTS[case % len(SELFTEST_INPUTS)]
     fmt = FORMATS[fmt_name]
     rng = random.Random(f"{fmt_name}:{seed}:{case}")
     if rng.random() < 0.04:
@@ -309,7 +312,28 @@ def _run_target(path: Path, data: bytes) -> str:
     return "read"
 
 
-_RUNNERS = {"blif": _run_blif, "catalog": _run_catalog, "target": _run_target}
+#: the harness's own check: inputs that plant each kind of defect (tests/fuzz/test_fuzz.py)
+SELFTEST_INPUTS = (b"fine", b"crash", b"spin", b"allocate", b"no-line", b"exit")
+
+
+def _run_selftest(path: Path, data: bytes) -> str:
+    from mapper.errors import Diagnostic, InputError
+
+    if data == b"crash":
+        raise ValueError("planted")
+    if data == b"spin":
+        while True:
+            pass
+    if data == b"allocate":
+        _ = bytearray(4 * MEMORY_BYTES)
+    if data == b"no-line":
+        _positions_ok(InputError(Diagnostic("planted", str(path))))
+    if data == b"exit":
+        os._exit(3)
+    return "read"
+
+
+_RUNNERS = {"blif": _run_blif, "catalog": _run_catalog, "target": _run_target, "selftest": _run_selftest}
 
 
 def _on_prof(signum, frame):
@@ -318,7 +342,7 @@ def _on_prof(signum, frame):
 
 def run_one(fmt_name: str, data: bytes, folder: Path, cpu_seconds: float = CPU_SECONDS) -> tuple:
     """``(outcome, detail)`` of one input: outcome ``read``, ``refused`` or a defect kind."""
-    path = folder / f"input{FORMATS[fmt_name].suffix}"
+    path = folder / f"input{FORMATS[fmt_name].suffix if fmt_name in FORMATS else ''}"
     old = signal.signal(signal.SIGPROF, _on_prof)
     signal.setitimer(signal.ITIMER_PROF, cpu_seconds)
     try:
