@@ -288,10 +288,9 @@ class Netlist:
             if o not in self.nodes and o not in reported:
                 reported.add(o)
                 errors.append(Diagnostic(f"output '{o}' is never driven", *self._where(o)))
-        if not errors:
-            errors.extend(self._loop_diagnostics())
+        errors = _at_most(errors, "error") if errors else self._loop_diagnostics()
         if errors:
-            raise NetlistError(_at_most(errors, "error"))
+            raise NetlistError(errors)
 
         warnings = []
         if not self.outputs:
