@@ -77,14 +77,15 @@ class Collector:
         an integer of it).  ``None`` (with an error recorded) when it is too big.
         """
         text = (el.get(attr) or "").strip()
+        digits = text.lstrip("+").lstrip("0") or "0"   # the schema's positiveInteger allows "+0014"
         cap = limits.value(limit) if limit else 10 ** 9
-        if len(text) > 12 or int(text) > cap:
+        if len(digits) > 12 or int(digits) > cap:
             if limit:
-                self.err(el, f"{label}: {attr}=\"{_clip(text)}\": {limits.exceeded(limit, _whole(text))}")
+                self.err(el, f"{label}: {attr}=\"{_clip(text)}\": {limits.exceeded(limit, _whole(digits))}")
             else:
                 self.err(el, f"{label}: {attr}=\"{_clip(text)}\" is larger than {cap}")
             return None
-        return int(text)
+        return int(digits)
 
 
 def _whole(text: str) -> int:

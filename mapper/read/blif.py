@@ -574,7 +574,7 @@ class _Reader:
         self.items += 1
         if self.items > self.max_nodes:
             where = (fname, *_positions(ln, src)[0])
-            self.errors.append(Diagnostic(f"the design holds more nodes than this: "
+            self.errors.append(Diagnostic(f"too many nodes in the files of this design: "
                                           f"{limits.exceeded('nodes', self.items)}", *where))
             self.stopped = Diagnostic("reading stopped at the node limit", fname)
             raise _Stop
