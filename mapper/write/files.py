@@ -73,7 +73,8 @@ class _Held:
     def __enter__(self) -> _Held:
         if threading.current_thread() is threading.main_thread():
             for s in _HELD:
-                self.old[s] = signal.signal(s, self._note)
+                if signal.getsignal(s) is not signal.SIG_IGN:  # an ignored signal (nohup) stays ignored
+                    self.old[s] = signal.signal(s, self._note)
         return self
 
     def check(self) -> None:

@@ -84,8 +84,9 @@ XML_TOKENS = (b"<", b">", b"/>", b"&amp;", b"&lt;", b"<!DOCTYPE x>", b"<!ENTITY 
               b'count="100000000"', b'pins="20000000"', b'function="Y = ~A"', "µ".encode(), b"9" * 5000)
 
 FORMATS = {
-    "blif": Format("blif", ".blif", ("tests/read/blif/valid/*.blif", "tests/data/*.blif", "tests/data/textbook/*.blif",
-                                     "tests/data/published/*.blif", "examples/*/*.blif"), BLIF_TOKENS),
+    "blif": Format("blif", ".blif", ("tests/read/blif/valid/*.blif", "tests/read/blif/invalid/*.blif",
+                                     "tests/data/*.blif", "tests/data/textbook/*.blif", "tests/data/published/*.blif",
+                                     "examples/*/*.blif"), BLIF_TOKENS),
     "catalog": Format("catalog", ".xml", ("libraries/*.xml", "tests/catalog/catalogs/invalid/*.xml"), XML_TOKENS),
     "target": Format("target", ".xml", ("targets/*.xml", "tests/catalog/targets/invalid/*.xml"), XML_TOKENS),
 }

@@ -78,3 +78,14 @@ def test_output_that_is_an_input_is_refused_before_any_work(tmp_path, netfit):
     assert code == 0, err
     code, _, err = netfit("convert", src, tmp_path / "pass.json")  # JSON carries both ports; only Verilog refuses
     assert code == 0 and (tmp_path / "pass.json").exists(), err
+
+
+def test_a_design_without_model_line_keeps_its_ports_in_verilog(tmp_path, netfit):
+    # reported from outside: a BLIF without .model lost its ports on the way through Verilog
+    src = Path(__file__).parent.parent / "read" / "blif" / "valid" / "no_model_line.blif"
+    out = tmp_path / "nomodel.v"
+    code, _, err = netfit("convert", src, out)
+    assert code == 0, err
+    design = read_design(src, quiet=True)
+    assert design.inputs and design.outputs
+    assert _slang_port_names([out]) == _design_ports(design)   # source: pyslang's reading of the file
