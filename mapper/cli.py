@@ -48,7 +48,8 @@ def _add_read_args(p):
 
 
 def _print_json(obj) -> None:
-    json.dump(obj, sys.stdout, indent=2, sort_keys=False)
+    from .write.json import finite  # standard JSON only: never Infinity or NaN
+    json.dump(finite(obj), sys.stdout, indent=2, sort_keys=False, allow_nan=False)
     sys.stdout.write("\n")
 
 
@@ -77,6 +78,10 @@ def cmd_inspect(args):
     print(f"depth    {info['depth']} logic levels")
     if info["max_fanout_net"] is not None:
         print(f"fan-out  largest {info['max_fanout']} (net {info['max_fanout_net']})")
+    if info.get("notes"):
+        print(f"notes    {len(info['notes'])}")
+        for note in info["notes"]:
+            print(f"  {note}")
     print(f"warnings {len(info['warnings'])}")
     for w in info["warnings"]:
         print(f"  {w}")
@@ -648,6 +653,15 @@ def _print_target(t) -> None:
         print(f"  {n:>4}  {src}")
 
 
+class _LogFormat(logging.Formatter):
+    """``LEVEL: message``, except for a design's diagnostics, which already read ``file:line:col: warning: ...``."""
+
+    def format(self, record: logging.LogRecord) -> str:
+        if getattr(record, "diagnostic", False):
+            return record.getMessage()
+        return super().format(record)
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="netfit", description=(
         "Fit a gate-level design onto parts you can buy (chips or relays), with the fewest parts, "
@@ -669,7 +683,12 @@ def main(argv=None) -> int:
     level = logging.WARNING if not args.verbose else logging.INFO
     if args.quiet:
         level = logging.ERROR
-    logging.basicConfig(level=level, format="%(levelname)s: %(message)s", stream=sys.stderr)
+    root = logging.getLogger()
+    if not root.handlers:  # as logging.basicConfig, with the design's own diagnostics printed as they are
+        handler = logging.StreamHandler(sys.stderr)
+        handler.setFormatter(_LogFormat("%(levelname)s: %(message)s"))
+        root.addHandler(handler)
+        root.setLevel(level)
     if not args.command:
         parser.print_help(sys.stderr)
         return 2

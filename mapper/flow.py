@@ -29,6 +29,7 @@ from .read import read_design
 from .verify import check_equivalence
 from .write import BUILD_WRITERS, atomic_write, writer_for
 from .write.compare import compare_svg, compare_table
+from .write.files import check_out_dir, check_out_file, write_folder
 from .write.parts import order_rows, parts_csv, parts_json, parts_table, spares_from_text
 
 __all__ = ["Result", "inspect", "verify", "convert", "load_target", "targets", "target_info", "fit", "build",
@@ -39,13 +40,14 @@ log = logging.getLogger(__name__)
 
 def inspect(path, **read_options) -> dict:
     """Facts about one design: ports, storage, node counts, depth, fan-out, warnings."""
-    n = read_design(path, **read_options)
+    n = read_design(path, quiet=True, **read_options)
     fanouts = n.fanouts()
     for o in n.outputs:
-        fanouts.setdefault(o, [])
-    counts = {name: len(v) + n.outputs.count(name) for name, v in fanouts.items()}
+        fanouts.setdefault(o, []).append(o)  # an output port is one more load of its net
+    counts = {name: len(v) for name, v in fanouts.items()}
     widest = max(counts.items(), key=lambda kv: kv[1], default=(None, 0))
     storage = n.storage()
+    inputs = set(n.inputs)
     return {
         "design": n.name,
         "file": str(path),
@@ -53,12 +55,13 @@ def inspect(path, **read_options) -> dict:
         "outputs": list(n.outputs),
         "storage": len(storage),
         "storage_kinds": _count(s.kind for s in storage.values()),
-        "nodes": sum(1 for k in n.nodes if k not in set(n.inputs)),
+        "nodes": sum(1 for k in n.nodes if k not in inputs),
         "kinds": dict(sorted(n.kind_counts().items())),
         "depth": n.depth(),
         "max_fanout": widest[1],
         "max_fanout_net": widest[0],
         "warnings": [str(w) for w in n.warnings],
+        "notes": [str(d) for d in n.notes],
     }
 
 
@@ -81,8 +84,10 @@ def verify(path_a, path_b, **read_options) -> dict:
 
 def convert(src, dst, **read_options) -> dict:
     """Read ``src`` and write it as the format of ``dst``'s suffix."""
-    n = read_design(src, **read_options)
     writer = writer_for(dst)
+    check_out_file(dst, protect=(src,))  # before any work: a folder, an unwritable place, the design itself
+    n = read_design(src, **read_options)
+    getattr(writer, "check_design", lambda d: None)(n)
     writer.write_netlist(n, Path(dst), protect=(src,))
     return {"from": str(src), "to": str(dst), "inputs": len(n.inputs), "outputs": len(n.outputs),
             "storage": len(n.storage()), "nodes": len(n.nodes) - len(n.inputs)}
@@ -289,8 +294,14 @@ def build(path, target_name, out_dir=None, effort: int = 1, copies: int = 1, haz
     documents = dict(documents or {})
     board_from_spec(documents.get("board"))  # a bad --board is refused before the fit
     spares_from_text(documents.get("spares"))
+    if out_dir is not None:
+        check_out_dir(out_dir, protect=(path,))  # before any work: a file, an unwritable place
     with progress.stage("reading the design"):
         design = read_design(path, **read_options)
+    if out_dir is not None:
+        check_out_dir(out_dir, protect=(path,), names=_build_names(design.name))
+        for _, module in BUILD_WRITERS:  # what a writer cannot write is said before the work
+            getattr(module, "check_design", lambda d: None)(design)
     target = load_target(target_name)
     with progress.stage(f"fitting {design.name} onto {target.name} and proving it"):
         if hazard_free:
@@ -313,6 +324,12 @@ def _file_stem(design: str) -> str:
     return stem + "_build" if stem == "cells" else stem
 
 
+def _build_names(design: str) -> list:
+    """The file names :data:`BUILD_WRITERS` give a build of ``design``."""
+    stem = _file_stem(design)
+    return [stem + name if name.startswith(".") else name for name, _ in BUILD_WRITERS]
+
+
 def write_build(r: Result, out_dir, protect=(), copies: int = 1, **options) -> list:
     """Write the build's files into ``out_dir``; returns their paths.
 
@@ -320,23 +337,24 @@ def write_build(r: Result, out_dir, protect=(), copies: int = 1, **options) -> l
     ``<design>.blif``, ``<design>.json`` (the whole build), ``parts.csv``
     (the ordering list for ``copies`` copies), ``wiring.txt``,
     ``schematic.svg`` and ``report.html`` (:data:`mapper.write.BUILD_WRITERS`).
-    Each file is written through a temporary file and a rename; the wiring is
-    checked (every pin on at most one net) before any file is written.
-    ``options``: ``board`` (as ``--board``: where the parts are placed and
-    wired, :mod:`mapper.place`), ``sockets`` and ``spares`` (the ordering
-    list), ``shapes`` (the schematic's gate shapes).
+    The wiring is checked (every pin on at most one net) before any file is
+    written; the files are written into a temporary folder and swapped in
+    whole (:func:`mapper.write.files.write_folder`).  ``options``: ``board``
+    (as ``--board``: where the parts are placed and wired, :mod:`mapper.place`),
+    ``sockets`` and ``spares`` (the ordering list), ``shapes`` (the
+    schematic's gate shapes).
     """
     from .write import wiring
 
     wiring.wiring(r.build, r.analysis)  # raises before anything is written if a pin would join two nets
     options["plan"] = plan_board(r.build, options.pop("board", None))
-    out = Path(out_dir)
-    stem = _file_stem(r.build.design)
-    written = []
-    for name, module in BUILD_WRITERS:
-        p = out / (stem + name if name.startswith(".") else name)
-        written += module.write_build(r.build, r.analysis, p, protect=protect, copies=copies, **options)
-        log.info("wrote %s", p)
+
+    def job(module):
+        return lambda p: module.write_build(r.build, r.analysis, p, protect=protect, copies=copies, **options)
+
+    jobs = [(name, job(module)) for name, (_, module) in zip(_build_names(r.build.design), BUILD_WRITERS)]
+    written = write_folder(out_dir, jobs, protect=protect)
+    log.info("wrote %d files into %s", len(written), out_dir)
     return written
 
 
@@ -358,7 +376,7 @@ def parts(path, target_name, effort: int = 1, copies: int = 1, sockets: bool = F
 def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -> dict:
     """Build one target for :func:`compare` (runs in a worker process); never raises."""
     try:
-        design = read_design(path, **read_options)
+        design = read_design(path, quiet=True, **read_options)
         r = fit(design, load_target(target_name), effort=effort)
         return r.analysis.summary(r.build)
     except InputError as exc:

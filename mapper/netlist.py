@@ -39,6 +39,7 @@ from dataclasses import dataclass, field
 
 import networkx as nx
 
+from . import limits
 from .errors import Diagnostic, NetlistError
 from .logic.function import Function
 from .order import topological_order
@@ -110,6 +111,10 @@ class Netlist:
     #: external don't-care network (BLIF ``.exdc``): outputs named like ours;
     #: where it is 1 the output value does not matter
     exdc: Netlist | None = None
+    #: what a reader decided for the user to know (severity ``note``), such as a clock it added
+    notes: list = field(default_factory=list)
+    #: the outputs as a set, for :meth:`add_output` (kept in step with ``outputs`` there)
+    _output_set: set = field(default_factory=set, init=False, repr=False, compare=False)
 
     # -- building ---------------------------------------------------------
     def _drive(self, name: str, node, where) -> None:
@@ -128,9 +133,14 @@ class Netlist:
 
     def add_output(self, name: str, where=None) -> None:
         """Declare a primary output net (order is kept; may be any driven net)."""
-        if name in self.outputs:
+        seen = self._output_set
+        if len(seen) != len(self.outputs):   # the list was changed directly: catch up once
+            seen.clear()
+            seen.update(self.outputs)
+        if name in seen:
             raise NetlistError(Diagnostic(f"output '{name}' is declared twice", *(where or (None, None, None))))
         self.outputs.append(name)
+        seen.add(name)
         if where is not None and name not in self.origin:
             self.origin[name] = where
 
@@ -223,16 +233,40 @@ class Netlist:
     def _where(self, net) -> tuple[str | None, int | None, int | None]:
         return self.origin.get(net) or (None, None, None)
 
+    def _first_where(self) -> tuple[str | None, int | None, int | None]:
+        """The first known position in the design (``(None, None, None)`` when none is known)."""
+        for w in self.origin.values():
+            if w and w[0]:
+                return w
+        return (None, None, None)
+
     def _loop_diagnostics(self) -> list:
-        g = self.combinational_graph()
+        """One error per combinational loop (up to the error limit of :mod:`mapper.limits`).
+
+        A topological sort finds the logic on or behind a loop first; only
+        that part is handed to the search for strongly connected components,
+        so a design without loops costs one pass over its nodes.
+        """
+        nodes = self.nodes
+        _, left = topological_order(nodes, lambda n: nodes[n].fanins if isinstance(nodes[n], Logic) else None)
+        if not left:
+            return []
+        on = set(left)
+        g = nx.DiGraph()
+        g.add_nodes_from(left)
+        g.add_edges_from((f, n) for n in left for f in nodes[n].fanins if f in on)
         diags = []
-        for comp in nx.strongly_connected_components(g):
-            if len(comp) > 1 or any(g.has_edge(n, n) for n in comp):
-                nets = sorted(comp)
-                shown = ", ".join(nets[:12]) + (f", … ({len(nets)} nets)" if len(nets) > 12 else "")
-                diags.append(Diagnostic(
-                    f"combinational loop not broken by a storage element through nets: {shown}",
-                    *self._where(nets[0])))
+        most = limits.value("errors")
+        loops = [c for c in nx.strongly_connected_components(g) if len(c) > 1 or any(g.has_edge(n, n) for n in c)]
+        for comp in sorted(loops, key=lambda c: min(c))[:most]:
+            nets = sorted(comp)
+            shown = ", ".join(nets[:12]) + (f", … ({len(nets)} nets)" if len(nets) > 12 else "")
+            diags.append(Diagnostic(
+                f"combinational loop not broken by a storage element through nets: {shown}",
+                *self._where(nets[0])))
+        if len(loops) > most:
+            diags.append(Diagnostic(f"… and {len(loops) - most} more combinational loops not shown: "
+                                    f"{limits.exceeded('errors')}", *self._where(nets[0])))
         return diags
 
     def check(self) -> list:
@@ -240,8 +274,8 @@ class Netlist:
 
         Errors: undriven nets (used or declared as output but never driven),
         combinational loops.  Warnings (returned, and appended to
-        ``self.warnings``): unused inputs, dangling logic (nodes that reach no
-        output or storage element).
+        ``self.warnings``): a design with no outputs, unused inputs, dangling
+        logic (nodes that reach no output or storage element).
         """
         errors = []
         reported = set()
@@ -254,19 +288,21 @@ class Netlist:
             if o not in self.nodes and o not in reported:
                 reported.add(o)
                 errors.append(Diagnostic(f"output '{o}' is never driven", *self._where(o)))
-        if not errors:
-            errors.extend(self._loop_diagnostics())
+        errors = _at_most(errors, "error") if errors else self._loop_diagnostics()
         if errors:
             raise NetlistError(errors)
 
         warnings = []
+        if not self.outputs:
+            warnings.append(Diagnostic(f"design {self.name} has no outputs: a build of it does nothing",
+                                       *self._first_where(), severity="warning"))
         used = set()
         for node in self.nodes.values():
             used.update(node.fanins)
         used.update(self.outputs)
         unused = [i for i in self.inputs if i not in used]
-        for i in unused:
-            warnings.append(Diagnostic(f"input '{i}' is not used", *self._where(i), severity="warning"))
+        warnings.extend(_at_most([Diagnostic(f"input '{i}' is not used", *self._where(i), severity="warning")
+                                  for i in unused], "warning"))
         # dangling: not in the transitive fan-in of any output or storage element
         live = set(self.outputs)
         stack = list(self.outputs)
@@ -292,11 +328,22 @@ class Netlist:
 
     def copy(self) -> Netlist:
         n = Netlist(self.name, list(self.inputs), list(self.outputs), dict(self.nodes),
-                    list(self.clocks), dict(self.origin), list(self.warnings), self.exdc)
+                    list(self.clocks), dict(self.origin), list(self.warnings), self.exdc, list(self.notes))
         return n
 
     def __len__(self) -> int:
         return len(self.nodes)
+
+
+def _at_most(diags: list, severity: str) -> list:
+    """The first diagnostics up to the error limit, and one more saying how many were left out."""
+    most = limits.value("errors")
+    if len(diags) <= most:
+        return diags
+    last = diags[most - 1]
+    return diags[:most] + [Diagnostic(f"… and {len(diags) - most} more like these not shown: "
+                                      f"{limits.exceeded('errors')}", last.file, last.line, last.col,
+                                      severity=severity)]
 
 
 _NAMED = {

@@ -20,6 +20,10 @@ Examples
 '1.5 kohm'
 >>> si(0, "s"), si(None, "s")
 ('0 s', '-')
+>>> parse_quantity("1e99")
+Traceback (most recent call last):
+...
+ValueError: '1e99' is out of range: a figure must lie between 1e-18 and 1e+12 in SI units (or be 0)
 """
 from __future__ import annotations
 
@@ -35,13 +39,23 @@ UNIT_WORDS = {"s": "a time (s)", "A": "a current (A)", "V": "a voltage (V)", "oh
 _PREFIX = {"": 0, "p": -12, "n": -9, "u": -6, "µ": -6, "m": -3, "k": 3, "M": 6, "G": 9}  # powers of ten
 _QTY = re.compile(r"^\s*([0-9]+(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?)\s?(p|n|u|µ|m|k|M|G)?(s|A|V|W|F|ohm|Ω|UL|Hz)?\s*$")
 _SCALES = ((1e6, "M"), (1e3, "k"), (1, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p"))
+#: the figures a catalog may give, in SI units: nothing a part is sold or measured by lies outside
+#: (a price of 10^12, a delay of a picosecond's millionth are typing errors, or hostile)
+FIGURE_MIN, FIGURE_MAX = 1e-18, 1e12
+#: longest quantity text and largest decimal exponent read (checked before any number is made of them)
+_MAX_TEXT, _MAX_EXP = 64, 100
 
 
 def parse_quantity(text: str) -> tuple[float, str]:
     """``"7 ns"`` -> ``(7e-09, "s")``; ``"10 kohm"`` -> ``(10000.0, "ohm")``; ``"0.30"`` -> ``(0.3, "")``.
 
-    Raises ``ValueError`` for anything else (including a prefix without a unit).
+    Raises ``ValueError`` for anything else: a prefix without a unit, text
+    longer than 64 characters, an exponent beyond 100, or a value outside
+    :data:`FIGURE_MIN` .. :data:`FIGURE_MAX` other than 0 (so every figure
+    is finite).
     """
+    if text is None or len(text) > _MAX_TEXT:
+        raise ValueError(f"{_clip(text)!r} is not a number with an SI unit")
     m = _QTY.match(text)
     if not m:
         raise ValueError(f"{text!r} is not a number with an SI unit")
@@ -50,8 +64,20 @@ def parse_quantity(text: str) -> tuple[float, str]:
         unit = "ohm"
     if prefix and not unit:
         raise ValueError(f"{text!r} has a prefix {prefix!r} but no unit")
+    mantissa, _, exp = num.lower().partition("e")
+    if exp and abs(int(exp)) > _MAX_EXP:
+        raise ValueError(f"{text!r} is out of range: its exponent is beyond {_MAX_EXP}")
     # scaled in decimal so "7 ns" is exactly the float nearest 7e-9
-    return float(Decimal(num).scaleb(_PREFIX[prefix])), unit
+    value = float(Decimal(num).scaleb(_PREFIX[prefix]))
+    if value != 0 and not (FIGURE_MIN <= value <= FIGURE_MAX):
+        raise ValueError(f"{text!r} is out of range: a figure must lie between {FIGURE_MIN:g} and "
+                         f"{FIGURE_MAX:g} in SI units (or be 0)")
+    return value, unit
+
+
+def _clip(text, n: int = 24) -> str:
+    text = "" if text is None else str(text)
+    return text if len(text) <= n else text[:n] + "…"
 
 
 def si(value, unit: str = "") -> str:

@@ -15,8 +15,9 @@ import logging
 from dataclasses import dataclass
 from pathlib import Path
 
+from .. import limits
 from ..errors import Diagnostic, InputError
-from ..logic.function import Function
+from ..logic.function import MAX_TABLE_INPUTS, Function
 from ..units import UNIT_WORDS, parse_quantity
 from .expr import ExprError, parse_assignment
 from .model import SUPPORT_ROLES, CellDef, Figure, PartDef, RelayData, SlotDef
@@ -44,16 +45,56 @@ class Catalog:
     lines: dict  # part id / "cell:<name>" -> line
 
 
+#: the longest cell function read (the functions of real cells fit on a line)
+MAX_FUNCTION_CHARS = 4096
+
+
+class TooManyErrors(Exception):
+    """Raised by :meth:`Collector.err` at the error limit; the loader reports what it collected."""
+
+
 class Collector:
-    """Diagnostics of one file, gathered while reading goes on."""
+    """Diagnostics of one file, gathered while reading goes on (up to the error limit)."""
 
     def __init__(self, display: str):
         self.display = display
         self.diags: list = []
+        self.max_errors = limits.value("errors")
 
     def err(self, where, msg: str, col=None) -> None:
         line = where if isinstance(where, int) or where is None else where.sourceline
         self.diags.append(Diagnostic(msg, self.display, line, col))
+        if sum(d is not None for d in self.diags) >= self.max_errors:
+            self.diags.append(Diagnostic(f"reading stopped after {self.max_errors} errors: "
+                                         f"{limits.exceeded('errors')}", self.display))
+            raise TooManyErrors
+
+    def count(self, el, attr: str, label: str, limit: str | None = None) -> int | None:
+        """Attribute ``attr`` of ``el`` as a whole number, checked against ``limit`` before any use.
+
+        The schema has made sure it is a positive integer; its size is what
+        is checked here (a 5,000-digit number is refused before Python makes
+        an integer of it).  ``None`` (with an error recorded) when it is too big.
+        """
+        text = (el.get(attr) or "").strip()
+        digits = text.lstrip("+").lstrip("0") or "0"   # the schema's positiveInteger allows "+0014"
+        cap = limits.value(limit) if limit else 10 ** 9
+        if len(digits) > 12 or int(digits) > cap:
+            if limit:
+                self.err(el, f"{label}: {attr}=\"{_clip(text)}\": {limits.exceeded(limit, _whole(digits))}")
+            else:
+                self.err(el, f"{label}: {attr}=\"{_clip(text)}\" is larger than {cap}")
+            return None
+        return int(digits)
+
+
+def _whole(text: str) -> int:
+    """A digit string as a number for a message (its order of magnitude when very long)."""
+    return int(text) if len(text) <= 15 else 10 ** min(len(text) - 1, 10 ** 6)
+
+
+def _clip(text: str, n: int = 24) -> str:
+    return text if len(text) <= n else text[:n] + "…"
 
 
 def figure(el, c: Collector, label: str, unit: str | None, extra: str = "") -> Figure | None:
@@ -64,10 +105,10 @@ def figure(el, c: Collector, label: str, unit: str | None, extra: str = "") -> F
     try:
         value, got = parse_quantity(text)
     except ValueError as exc:
-        c.err(el, f"{label}: {exc}")
+        c.err(el, f"{label}: <{el.tag} value=\"{_clip(text or '')}\">: {exc}")
         return None
     if unit is not None and got != unit:
-        c.err(el, f"{label}: {text!r} is not {UNIT_WORDS.get(unit, unit)}")
+        c.err(el, f"{label}: <{el.tag} value=\"{_clip(text)}\">: {text!r} is not {UNIT_WORDS.get(unit, unit)}")
         return None
     conds = [x for x in (extra, el.get("conditions") or "") if x]
     return Figure(value, el.get("source").strip(), "; ".join(conds))
@@ -86,7 +127,7 @@ def _delay_figure(el, c: Collector, label: str, path: str, need_load: bool) -> F
         try:
             _, u = parse_quantity(text)
         except ValueError as exc:
-            c.err(el, f"{label}: {attr}: {exc}")
+            c.err(el, f"{label}: {attr}=\"{_clip(text)}\": {exc}")
             continue
         if u != unit:
             c.err(el, f"{label}: {attr} {text!r} is not {UNIT_WORDS[unit]}")
@@ -117,6 +158,14 @@ def _cell_from(el, c: Collector) -> CellDef | None:
     roles = {i.get("name"): i.get("role") for i in el.findall("input") if i.get("role")}
     active_low = tuple(i.get("name") for i in el.findall("input") if i.get("active") == "low")
     text = el.get("function")
+    if len(inputs) > MAX_TABLE_INPUTS:
+        c.err(el, f"cell {name}: {len(inputs)} inputs; a cell has at most {MAX_TABLE_INPUTS} (its truth table "
+                  "is kept whole)")
+        return None
+    if len(text) > MAX_FUNCTION_CHARS:
+        c.err(el, f"cell {name}: function=\"{_clip(text)}\" is {len(text)} characters long; a cell's function "
+                  f"may be at most {MAX_FUNCTION_CHARS}")
+        return None
     try:
         a = parse_assignment(text)
     except ExprError as exc:
@@ -201,7 +250,9 @@ def _named_pins(pinout, pid: str, claims: _PinClaims, c: Collector) -> tuple[dic
     names_seen: set = set()
     for tag, into, what in (("supply", supply, "supply "), ("pin", shared, "pin ")):
         for s in pinout.findall(tag):
-            n, num = s.get("name"), int(s.get("number"))
+            n, num = s.get("name"), c.count(s, "number", f"part {pid} {what}{s.get('name')}")
+            if num is None:
+                continue
             if n in names_seen:
                 c.err(s, f"part {pid}: pin name {n} is declared twice")
             names_seen.add(n)
@@ -215,7 +266,9 @@ def _slots(pinout, pid: str, cells: dict, shared: dict, claims: _PinClaims, c: C
     slots = []
     indices = set()
     for s in pinout.findall("slot"):
-        idx, cname = int(s.get("index")), s.get("cell")
+        idx, cname = c.count(s, "index", f"part {pid} slot"), s.get("cell")
+        if idx is None:
+            continue
         if idx in indices:
             c.err(s, f"part {pid}: slot {idx} is declared twice")
         indices.add(idx)
@@ -227,8 +280,9 @@ def _slots(pinout, pid: str, cells: dict, shared: dict, claims: _PinClaims, c: C
             else:
                 c.diags.append(None)  # the part is not usable, but say nothing more
             for p in s.findall("pin"):  # still account for its pins, so they are not reported unassigned
-                if p.get("number") is not None:
-                    claims.claim(p, int(p.get("number")), f"slot {idx} {p.get('name')}")
+                num = c.count(p, "number", f"part {pid} slot {idx}") if p.get("number") is not None else None
+                if num is not None:
+                    claims.claim(p, num, f"slot {idx} {p.get('name')}")
             continue
         pins = _slot_pins(s, pid, idx, cell, shared, claims, c)
         missing = [pn for pn in cell.pins if pn not in pins and pn not in
@@ -261,7 +315,9 @@ def _slot_pins(s, pid: str, idx: int, cell: CellDef, shared: dict, claims: _PinC
                 continue
             pins[pn] = shared[ref]
         else:
-            num = int(p.get("number"))
+            num = c.count(p, "number", f"part {pid} slot {idx} pin {pn}")
+            if num is None:
+                continue
             claims.claim(p, num, f"slot {idx} {pn}")
             pins[pn] = num
     return pins
@@ -272,6 +328,9 @@ def _nc_pins(pinout, pid: str, claims: _PinClaims, c: Collector) -> tuple:
     nc_el = pinout.find("nc")
     if nc_el is not None:
         for tok in nc_el.get("numbers").split():
+            if len(tok) > 12:
+                c.err(nc_el, f"part {pid}: <nc numbers=...> holds \"{_clip(tok)}\", no pin number of a part")
+                continue
             claims.claim(nc_el, int(tok), "not connected")
             nc.append(int(tok))
     unassigned = [k for k in range(1, claims.npins + 1) if k not in claims.used]
@@ -350,7 +409,9 @@ def _relay_data(relay_el, pid: str, nslots: int, c: Collector) -> RelayData | No
         cvol = Figure(vv, src, cr.get("type"))
     except ValueError as exc:
         c.err(cr, f"part {pid} contact rating: {exc}")
-    poles = int(relay_el.get("poles"))
+    poles = c.count(relay_el, "poles", f"part {pid} <relay>", "part_slots")
+    if poles is None:
+        return None
     if poles != nslots:
         c.err(relay_el, f"part {pid}: the relay has {poles} pole{'s' * (poles != 1)} but the pinout "
                         f"{nslots} slot{'s' * (nslots != 1)} (one slot per pole)")
@@ -372,7 +433,14 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
     n_before = len(c.diags)
     pkg = el.find("package")
     pinout = el.find("pinout")
-    claims = _PinClaims(pid, pkg.get("name"), int(pkg.get("pins")), c)
+    npins = c.count(pkg, "pins", f"part {pid} <package>", "part_pins")
+    if npins is None:
+        return None
+    nslots = len(pinout.findall("slot"))
+    if nslots > limits.value("part_slots"):
+        c.err(pinout, f"part {pid}: {nslots} slots: {limits.exceeded('part_slots', nslots)}")
+        return None
+    claims = _PinClaims(pid, pkg.get("name"), npins, c)
     supply, shared = _named_pins(pinout, pid, claims, c)
     slots = _slots(pinout, pid, cells, shared, claims, c, broken)
     nc = _nc_pins(pinout, pid, claims, c)
@@ -412,10 +480,18 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
 # ---------------------------------------------------------------------------
 # files
 def _read_bytes(path) -> bytes:
+    """The bytes of a catalog file, its size checked before it is read."""
     try:
-        return path.read_bytes() if hasattr(path, "read_bytes") else Path(path).read_bytes()
-    except OSError as exc:
-        raise CatalogError(Diagnostic(f"cannot read: {exc.strerror or exc}", str(path))) from exc
+        p = path if hasattr(path, "read_bytes") else Path(path)
+        if isinstance(p, Path):
+            size = p.stat().st_size
+            if size > limits.value("catalog_bytes"):
+                raise CatalogError(Diagnostic(f"the file is {size} bytes: "
+                                              f"{limits.exceeded('catalog_bytes', size)}", str(path)))
+        return p.read_bytes()
+    except (OSError, ValueError) as exc:
+        reason = exc.strerror if isinstance(exc, OSError) and exc.strerror else str(exc)
+        raise CatalogError(Diagnostic(f"cannot read: {reason}", str(path))) from exc
 
 
 def read_catalog(path, data: bytes | None = None) -> Catalog:
@@ -435,7 +511,21 @@ def read_catalog(path, data: bytes | None = None) -> Catalog:
         raise CatalogError(diags)
     c = Collector(display)
     cells: dict = {}
+    parts: dict = {}
     lines: dict = {}
+    try:
+        _entries(root, c, display, cells, parts, lines)
+    except TooManyErrors:
+        pass
+    if c.diags:
+        raise CatalogError([d for d in c.diags if d is not None])
+    log.debug("catalog %s: %d cells, %d parts", display, len(cells), len(parts))
+    return Catalog(root.get("name"), " ".join((root.findtext("description") or "").split()), display,
+                   parts, cells, lines)
+
+
+def _entries(root, c: Collector, display: str, cells: dict, parts: dict, lines: dict) -> None:
+    """Read the cells, then the parts, of a catalog into ``cells`` and ``parts`` (faults into ``c``)."""
     broken: set = set()
     for el in root.findall("cell"):
         name = el.get("name")
@@ -448,7 +538,6 @@ def read_catalog(path, data: bytes | None = None) -> Catalog:
             cells[name] = cell
         else:
             broken.add(name)
-    parts: dict = {}
     currency = root.get("currency") or ""
     for el in root.findall("part"):
         pid = el.get("id")
@@ -459,11 +548,6 @@ def read_catalog(path, data: bytes | None = None) -> Catalog:
         part = _part_from(el, cells, c, display, currency, frozenset(broken))
         if part is not None:
             parts[pid] = part
-    if c.diags:
-        raise CatalogError([d for d in c.diags if d is not None])
-    log.debug("catalog %s: %d cells, %d parts", display, len(cells), len(parts))
-    return Catalog(root.get("name"), " ".join((root.findtext("description") or "").split()), display,
-                   parts, cells, lines)
 
 
 def load_catalog(path) -> tuple[dict, dict]:

@@ -22,8 +22,9 @@ import importlib.resources
 from collections import Counter
 from pathlib import Path
 
+from .. import limits
 from ..errors import Diagnostic, InputError
-from .catalogs import CatalogError, Collector, builtin_catalogs, figure, read_catalog
+from .catalogs import CatalogError, Collector, TooManyErrors, builtin_catalogs, figure, read_catalog
 from .model import DEFAULT_OBJECTIVE, ROLE_FOR_PER, SupportRule, Target
 from .xmlfile import read_xml, validate
 
@@ -51,16 +52,26 @@ def _builtin_target_names() -> list:
     return sorted(p.name[:-4] for p in root.iterdir() if p.name.endswith(".xml"))
 
 
+def _is_file(path) -> bool:
+    """Whether ``path`` names a readable file; a name the system cannot take (too long, a NUL) is none."""
+    try:
+        return bool(path.is_file())
+    except (OSError, ValueError):
+        return False
+
+
 def _resolve_catalog(src: str, base: Path | None):
     """A target's ``<catalog src=...>``: relative to the target file first, then the built-ins."""
+    if "\x00" in src:
+        return None
     if base is not None:
         cand = base / src
-        if cand.is_file():
+        if _is_file(cand):
             return cand
     if "/" not in src and "\\" not in src:
         stem = src[:-4] if src.endswith(".xml") else src
         res = importlib.resources.files("mapper.libraries").joinpath(stem + ".xml")
-        if res.is_file():
+        if _is_file(res):
             return res
     return None
 
@@ -74,12 +85,16 @@ def load_target(name_or_path) -> Target:
     """
     text = str(name_or_path)
     p = Path(text)
-    looks_like_path = p.suffix.lower() == ".xml" or "/" in text or "\\" in text or p.is_file()
+    looks_like_path = p.suffix.lower() == ".xml" or "/" in text or "\\" in text or _is_file(p)
     if looks_like_path:
-        if not p.is_file():
+        if not _is_file(p):
             raise TargetError(Diagnostic(f"target file {text} does not exist"))
-        display, base = text, p.resolve().parent
         try:
+            display, base = text, p.resolve().parent
+            size = p.stat().st_size
+            if size > limits.value("catalog_bytes"):
+                raise TargetError(Diagnostic(f"the file is {size} bytes: "
+                                             f"{limits.exceeded('catalog_bytes', size)}", text))
             data = p.read_bytes()
         except OSError as exc:
             raise TargetError(Diagnostic(f"cannot read: {exc.strerror or exc}", text)) from exc
@@ -199,7 +214,10 @@ def _support_rules(root, all_parts: dict, parts: dict, c: Collector) -> list:
             c.err(s, f"support rule for {pid} per {per} is given twice")
             continue
         seen_rules.add((pid, per))
-        rules.append(SupportRule(pid, per, int(s.get("count") or 1), (s.get("source") or "").strip()))
+        count = c.count(s, "count", f"support rule for {pid}", "support_count") if s.get("count") else 1
+        if count is None:
+            continue
+        rules.append(SupportRule(pid, per, count, (s.get("source") or "").strip()))
         parts[pid] = part
     return rules
 
@@ -210,6 +228,13 @@ def _load_target(data: bytes, display: str, base: Path | None) -> Target:
     if diags:
         raise TargetError(diags)
     c = Collector(display)
+    try:
+        return _target_from(root, display, base, c)
+    except TooManyErrors:
+        raise TargetError([d for d in c.diags if d is not None]) from None
+
+
+def _target_from(root, display: str, base: Path | None, c: Collector) -> Target:
     kind = root.get("kind")
     cats = _catalogs(root, base, c)
     if c.diags:
@@ -236,7 +261,7 @@ def _load_target(data: bytes, display: str, base: Path | None) -> Target:
                               f"supply is {supply.value:g} V")
     rules = _support_rules(root, all_parts, parts, c)
     if c.diags:
-        raise TargetError(c.diags)
+        raise TargetError([d for d in c.diags if d is not None])
     return Target(name=root.get("name"), description=" ".join(root.findtext("description").split()),
                   path=display, kind=kind, cells=cells, parts=parts, carriers=carriers, objective=objective,
                   support_rules=rules, supply_voltage=supply, catalogs=[str(cat.path) for _, cat in cats],

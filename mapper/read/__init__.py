@@ -8,11 +8,15 @@ picks by suffix.  To add a format, write ``mapper/read/<fmt>.py`` with a
 from __future__ import annotations
 
 import importlib
+import logging
 from pathlib import Path
 
-from ..errors import UsageError
+from .. import limits
+from ..errors import Diagnostic, InputError, UsageError
 
-__all__ = ["READERS", "reader_for", "read_design"]
+__all__ = ["READERS", "reader_for", "read_design", "announce"]
+
+log = logging.getLogger(__name__)
 
 READERS = {
     ".blif": "mapper.read.blif",
@@ -31,11 +35,37 @@ def reader_for(path):
     return importlib.import_module(mod)
 
 
-def read_design(path, **options):
-    """Read and check a design file; returns a :class:`~mapper.netlist.Netlist`."""
+def read_design(path, quiet: bool = False, **options):
+    """Read and check a design file; returns a :class:`~mapper.netlist.Netlist`.
+
+    The file's size is checked against the limit ``file_bytes``
+    (:mod:`mapper.limits`) before any reader sees it.  Unless ``quiet``,
+    the design's notes and warnings are logged (see :func:`announce`).
+    """
     p = Path(path)
-    if not p.is_file():
-        raise UsageError(f"{path}: no such file")
+    try:
+        if p.is_dir():
+            raise UsageError(f"{path}: is a folder, not a design file")
+        if not p.is_file():
+            raise UsageError(f"{path}: no such file")
+        size = p.stat().st_size
+    except OSError as exc:
+        raise UsageError(f"{path}: {exc.strerror or exc}") from None
+    if size > limits.value("file_bytes"):
+        raise InputError(Diagnostic(f"the file is {size} bytes: {limits.exceeded('file_bytes', size)}",
+                                    str(path)))
     netlist = reader_for(p).read(p, **options)
     netlist.check()
+    if not quiet:
+        announce(netlist)
     return netlist
+
+
+def announce(netlist) -> None:
+    """Log the notes and warnings of a design read, each as ``file:line:col: note|warning: ...``.
+
+    The records carry ``diagnostic=True`` so the command line prints them as
+    they are, without a level prefix of its own.
+    """
+    for d in list(netlist.notes) + list(netlist.warnings):
+        log.warning("%s", d, extra={"diagnostic": True})

@@ -15,9 +15,14 @@ Berkeley logic tools.  What is read, and how:
   with no rows is the constant 0, a single row ``1`` the constant 1 (a row
   ``0`` is also the constant 0).  Covers wider than 16 inputs stay covers.
 * ``.latch input output [type control] [init]`` with the types ``re fe ah
-  al as``; ``control`` ``NIL`` means none.  Without a type the latch is
-  clocked by the model's global clock; it is read as kind ``re`` with no
-  control net.  Initial values 0, 1, 2 (don't care), 3 (unknown, the
+  al as``.  Without a type, or with the control ``NIL``, the latch is
+  clocked by the design's *global clock* (as the published ISCAS-89 and
+  MCNC sequential files write every latch: ``.latch G10 G5 0``): it is read
+  as kind ``re`` (or the type given) controlled by the one net the top model
+  names with ``.clock``, or, when it names none or several, by a clock
+  input the reader adds, ``clock`` (``clock_1`` ... when that name is
+  taken).  A note (:attr:`Netlist.notes`) says which.  An ``as`` latch has
+  no control.  Initial values 0, 1, 2 (don't care), 3 (unknown, the
   default).
 * ``.subckt model formal=actual ...``: ports are bound by name; every input
   (and clock) of the instantiated model must be bound, outputs may be left
@@ -30,25 +35,39 @@ Berkeley logic tools.  What is read, and how:
   relative to the file holding the ``.search``; a path leading outside the
   design's folder (the folder of the file given to :func:`read`) is refused
   unless ``allow_outside=True``.  Each file is read once, which also breaks
-  cycles of ``.search``.  A name without suffix that does not exist is tried
-  with ``.blif`` added.
+  cycles of ``.search`` (a file that searches itself, or two that search
+  each other, are read once each).  A name without suffix that does not
+  exist is tried with ``.blif`` added.
 * ``.exdc``: the external don't-care network of the **top** model is read
   into ``Netlist.exdc`` (a :class:`~mapper.netlist.Netlist` over the same
   inputs whose outputs are the top outputs it defines; where it is 1 the
   output value does not matter).  It may hold only ``.names``.  The
   don't-care network of any other model is skipped with a warning (it
-  cannot be carried through flattening).
+  cannot be carried through flattening).  ``netfit verify`` uses the top
+  model's network as don't-cares (differences where it is 1 do not count);
+  a build does the covers as written and uses no don't-cares, which a
+  warning says.
+* Limits (:mod:`mapper.limits`), each checked before the work it bounds:
+  the size of a file, the number of files ``.search`` reads, the nodes of
+  the flattened design (the expansion of the hierarchy is counted, with
+  exact integers, before anything is flattened), the depth of the
+  hierarchy, and the number of errors reported (reading stops after the
+  limit and says so).  Flattening keeps one name segment per level, so
+  its memory grows with the depth, not with its square.
 * ``\\`` at the end of a line joins the next line to it (plain
   concatenation, as the description says; positions still point at the
-  physical line of each token); ``#`` starts a comment.
+  physical line of each token); ``#`` starts a comment, anywhere (also
+  after a ``\\``, and a line holding only a comment inside a continued
+  line is passed over).  Lines end with LF, CR LF or a lone CR.
 * Dot-commands that only carry timing or load hints (``.area``, ``.delay``,
   ``.wire_load_slope``, ``.wire``, ``.input_arrival``, ``.output_required``,
   ``.input_drive``, ``.output_load``, ``.max_input_load``, their
   ``.default_*`` forms, ``.cycle``, ``.clock_event``) are skipped with one
   warning per command name.
-* Refused with an error: ``.gate`` and ``.mlatch`` (they need a cell library)
-  and state tables (``.start_kiss`` ... ``.end_kiss``, ``.latch_order``,
-  ``.code``).
+* Refused with an error: ``.gate`` and ``.mlatch`` (they need the cell
+  library the file was mapped with, which BLIF does not carry; the message
+  names the cell) and state tables (``.start_kiss`` ... ``.end_kiss``,
+  ``.latch_order``, ``.code``).
 
 Every problem is reported as ``file:line:col: error: ...`` (1-based, the
 column of the offending token); all errors found are raised together as one
@@ -73,9 +92,11 @@ import logging
 import re
 from pathlib import Path
 
+from .. import limits
 from ..errors import Diagnostic, InputError, NetlistError
 from ..logic.function import Function
-from ..netlist import STORAGE_KINDS, Netlist
+from ..netlist import STORAGE_KINDS, Netlist, Storage
+from ..order import topological_order
 
 __all__ = ["BlifError", "read", "read_text", "TIMING_COMMANDS"]
 
@@ -105,14 +126,30 @@ _REFUSED = {
 
 _LATCH_INITS = {"0": 0, "1": 1, "2": 2, "3": 3}
 
-#: refuse hierarchies that expand beyond this many nets
-MAX_FLAT_NETS = 20_000_000
+
+def _refusal(cmd: str, toks: list) -> str:
+    """The message for a refused command; for ``.gate``/``.mlatch`` it names the cell and its library."""
+    msg = _REFUSED[cmd]
+    if cmd in (".gate", ".mlatch") and len(toks) > 1:
+        msg += (f" (cell '{toks[1]}' comes from the gate library the file was mapped with; that library "
+                "is not part of the BLIF file and netfit reads none)")
+    return msg
 
 _TOKEN = re.compile(r"\S+")
+_LINE_END = re.compile(r"\r\n|\r|\n")
+#: the control of a latch clocked by the design's global clock until flattening names it (a BLIF
+#: token never holds a space, so no net of a file can be called this)
+GLOBAL_CLOCK = " global clock"
+#: the name of the clock input added for the global clock (``clock_1`` ... when taken)
+GLOBAL_CLOCK_NAME = "clock"
 
 
 class BlifError(InputError):
     """A BLIF file (or a file it searches) is malformed; carries every diagnostic found."""
+
+
+class _Stop(Exception):
+    """Reading stops: the error limit is reached (the errors so far are reported)."""
 
 
 # -- lines and positions -----------------------------------------------------
@@ -124,7 +161,7 @@ def _logical_lines(text: str):
     ``(lineno, text)`` parts for a continued line; :func:`_positions`
     turns it back into token positions.
     """
-    phys = text.split("\n")
+    phys = _LINE_END.split(text)
     n = len(phys)
     i = 0
     while i < n:
@@ -147,6 +184,8 @@ def _logical_lines(text: str):
             h = s.find("#")
             if h >= 0:
                 s = s[:h]
+                if not s.strip():
+                    continue  # a comment line inside a continued line: passed over
             s = s.rstrip()
             if s.endswith("\\"):
                 parts.append((i, s[:-1]))
@@ -229,7 +268,7 @@ _SKIP = _Cover("", (), None, 0, "", None, None)  # rows after a broken header ar
 class _Reader:
     def __init__(self, main: Path, allow_outside: bool):
         self.main = main
-        self.root = main.resolve().parent
+        self.root = _folder_of(main)
         self.allow_outside = allow_outside
         self.errors: list = []
         self.warnings: list = []
@@ -241,10 +280,19 @@ class _Reader:
         self.queue: list = []       # (path, where of the .search token)
         self.search_failed = False
         self.funcs: dict = {}       # (n, cubes, phase) -> Function (shared between nodes)
+        self.max_errors = limits.value("errors")
+        self.max_nodes = limits.value("nodes")
+        self.items = 0              # .names, .latch and .subckt lines read, in every file
+        self.stopped: Diagnostic | None = None   # why reading stopped early, if it did
 
     # -- diagnostics --
     def err(self, message, where):
+        """Record an error; stops reading (:class:`_Stop`) when the error limit is reached."""
         self.errors.append(Diagnostic(message, *where))
+        if len(self.errors) >= self.max_errors and self.stopped is None:
+            self.stopped = Diagnostic(f"reading stopped after {len(self.errors)} errors: "
+                                      f"{limits.exceeded('errors')}", str(self.main))
+            raise _Stop
 
     def warn(self, message, where):
         file, line, col = where
@@ -253,46 +301,67 @@ class _Reader:
     # -- files --
     def read_all(self) -> None:
         self.queue.append((self.main, None))
+        max_files, max_bytes = limits.value("search_files"), limits.value("file_bytes")
         while self.queue:
             path, where = self.queue.pop(0)
             try:
                 key = path.resolve()
-            except OSError:
+            except (OSError, ValueError):
                 key = path
             if key in self.files:
                 log.debug("%s: already read", path)
                 continue
+            at = where or (str(path), None, None)
+            if len(self.files) >= max_files:
+                self.search_failed = True
+                self.err(f"'{path}' would be file {len(self.files) + 1} of this design: "
+                         f"{limits.exceeded('search_files')}", at)
+                continue
             try:
+                size = path.stat().st_size
+                if size > max_bytes:
+                    self.search_failed = True
+                    self.err(f"'{path}' is {size} bytes: {limits.exceeded('file_bytes', size)}", at)
+                    continue
                 data = path.read_bytes()
             except OSError as exc:
                 reason = exc.strerror or str(exc)
                 self.search_failed = True
-                self.err(f"cannot read '{path}': {reason}", where or (str(path), None, None))
+                self.err(f"cannot read '{path}': {reason}", at)
                 continue
             self.files.add(key)
             self.file_rank[str(path)] = len(self.file_rank)
             text = data.decode("utf-8-sig", errors="replace")
+            del data
             self.parse(path, text, self.file_rank[str(path)])
 
     def search(self, including: Path, name: str, where) -> None:
-        p = Path(name)
-        if not p.is_absolute():
-            p = including.parent / p
-        if not p.exists() and not p.suffix and p.with_suffix(".blif").exists():
-            p = p.with_suffix(".blif")
-        if not self.allow_outside:
-            try:
-                inside = p.resolve().is_relative_to(self.root)
-            except OSError:
-                inside = False
-            if not inside:
-                self.search_failed = True
-                self.err(f"'.search {name}' leads outside the design's folder {self.root} "
-                         "(allow it with --allow-outside)", where)
-                return
-        if not p.is_file():
+        bad = next((ch for ch in name if ord(ch) < 32 or ord(ch) == 127), None)
+        if bad is not None:
             self.search_failed = True
-            self.err(f"'.search {name}': no such file ({p})", where)
+            self.err(f"'.search': the file name holds the control character {bad!r}", where)
+            return
+        shown = name if len(name) <= 60 else name[:60] + "…"
+        try:
+            p = Path(name)
+            if not p.is_absolute():
+                p = including.parent / p
+            if not p.exists() and not p.suffix and p.with_suffix(".blif").exists():
+                p = p.with_suffix(".blif")
+            inside = self.allow_outside or p.resolve().is_relative_to(self.root)
+            found = p.is_file()
+        except OSError as exc:
+            self.search_failed = True
+            self.err(f"'.search {shown}': {exc.strerror or exc}", where)
+            return
+        if not inside:
+            self.search_failed = True
+            self.err(f"'.search {shown}' leads outside the design's folder {self.root} "
+                     "(allow it with --allow-outside)", where)
+            return
+        if not found:
+            self.search_failed = True
+            self.err(f"'.search {shown}': no such file ({p})", where)
             return
         self.queue.append((p, where))
 
@@ -314,7 +383,8 @@ class _Reader:
                 c.model.broken.add(c.out)
                 return
             n = len(c.fanins)
-            key = (n, tuple(c.cubes), 0 if c.phase == "0" else 1)
+            # a row given twice adds nothing; dropping it first bounds the table work by the distinct rows
+            key = (n, tuple(dict.fromkeys(c.cubes)), 0 if c.phase == "0" else 1)
             f = funcs.get(key)
             if f is None:
                 f = Function.from_cover(n, key[1], key[2])
@@ -411,7 +481,7 @@ class _Reader:
                     self.search(path, toks[1], (fname, *pos[1]))
                 continue
             if cmd in _REFUSED:
-                err(_REFUSED[cmd], (fname, *_positions(ln, src)[0]))
+                err(_refusal(cmd, toks), (fname, *_positions(ln, src)[0]))
                 if model is not None:
                     model.blind = True
                 if cmd == ".start_kiss":
@@ -445,6 +515,8 @@ class _Reader:
                 dest = model.items
             in_exdc = dest is model.exdc and model.exdc is not None
 
+            if cmd in (".names", ".latch", ".subckt"):
+                self.count_item(fname, ln, src)
             if cmd == ".names":
                 if len(toks) < 2:
                     err("'.names' needs at least an output net", (fname, *_positions(ln, src)[0]))
@@ -497,6 +569,16 @@ class _Reader:
         if self.first_model is None:
             self.err("the file holds no model (no '.model' and no commands)", (fname, 1, 1))
 
+    def count_item(self, fname: str, ln: int, src) -> None:
+        """Count one node line; stop reading when the files hold more than the node limit."""
+        self.items += 1
+        if self.items > self.max_nodes:
+            where = (fname, *_positions(ln, src)[0])
+            self.errors.append(Diagnostic(f"too many nodes in the files of this design: "
+                                          f"{limits.exceeded('nodes', self.items)}", *where))
+            self.stopped = Diagnostic("reading stopped at the node limit", fname)
+            raise _Stop
+
     def _open_model(self, name, where, file_index, named):
         m = _Model(name, where, file_index)
         first = self.models.get(name)
@@ -518,7 +600,9 @@ class _Reader:
                 model.broken.add(toks[2])
             return
         d, q = toks[1], toks[2]
-        kind, control, init = "re", None, 3
+        # no type and no control: the latch is clocked by the design's global clock
+        kind, init = "re", 3
+        control: str | None = GLOBAL_CLOCK
         ok = True
         if n in (5, 6):
             kind = toks[3]
@@ -531,7 +615,7 @@ class _Reader:
                          "before the initial value", (fname, *pos[4]))
                 ok = False
             if control == "NIL":
-                control = None
+                control = None if kind == "as" else GLOBAL_CLOCK
             elif kind == "as":
                 self.warn(f"asynchronous latch '{q}' has no control; control net '{control}' ignored",
                           (fname, *pos[4]))
@@ -665,7 +749,7 @@ class _Reader:
                         use(f, it[5], it[6], j + 1)
             elif kind == "l":
                 use(it[2], it[7], it[8], 1)
-                if it[4] is not None:
+                if it[4] is not None and it[4] != GLOBAL_CLOCK:
                     use(it[4], it[7], it[8], 4)
             else:
                 child = self.models.get(it[1])
@@ -733,9 +817,39 @@ class _Reader:
                     stack.append((child, iter(child.items)))
 
     # -- flattening --
+    def check_size(self, top: _Model, order: list) -> bool:
+        """Refuse a hierarchy that would flatten beyond the node or depth limit, before flattening.
+
+        Each model's expansion is counted bottom-up with exact integers (a
+        hierarchy that doubles at each of 1,000 levels is counted, not
+        built).  Returns whether flattening may go on.
+        """
+        children = {m.name: [it[1] for it in m.items if it[0] == "s" and it[1] in self.models] for m in order}
+        ranked, _ = topological_order(list(children), lambda name: children[name])
+        size: dict = {}
+        depth: dict = {}
+        for name in ranked:
+            m = self.models[name]
+            own = sum(1 for it in m.items if it[0] != "s")
+            size[name] = own + sum(size[c] for c in children[name])
+            depth[name] = 1 + max((depth[c] for c in children[name]), default=0)
+        subs = [it for it in top.items if it[0] == "s" and it[1] in size]
+        biggest = max(subs, key=lambda it: (size[it[1]], depth[it[1]]), default=None)
+        where = biggest[3] if biggest is not None else top.where
+        ok = True
+        if size[top.name] > self.max_nodes:
+            self.err(f"the hierarchy of model '{top.name}' expands to {limits.shown(size[top.name])} nodes: "
+                     f"{limits.exceeded('nodes', size[top.name])}", where)
+            ok = False
+        if depth[top.name] > limits.value("hierarchy_depth"):
+            self.err(f"the hierarchy of model '{top.name}' is {depth[top.name]} levels deep: "
+                     f"{limits.exceeded('hierarchy_depth', depth[top.name])}", where)
+            ok = False
+        return ok
+
     def flatten(self, top: _Model) -> Netlist:
+        """The flat netlist of ``top`` (sizes already checked by :meth:`check_size`)."""
         nl = Netlist(top.name)
-        errors = self.errors
         for name, w in top.inputs:
             nl.add_input(name, where=w)
         for name, w in top.clocks:
@@ -748,49 +862,68 @@ class _Reader:
         add_logic = nl.add_logic
         add_storage = nl.add_storage
         models = self.models
-        # frame: (items iterator, rename function or None, prefix, instance counters)
-        stack: list = [(iter(top.items), None, "", {})]
-        count = 0
+        stack: list = [_Frame(top.items, None, None, "")]
         while stack:
-            it, rn, prefix, counters = stack[-1]
-            item = next(it, None)
+            frame = stack[-1]
+            item = next(frame.items, None)
             if item is None:
                 stack.pop()
                 continue
             kind = item[0]
+            rn = frame.rename
             try:
                 if kind == "n":
-                    if rn is None:
+                    if frame.ports is None:
                         add_logic(item[1], item[2], item[3], item[4])
                     else:
                         add_logic(rn(item[1]), tuple(map(rn, item[2])), item[3], item[4])
                 elif kind == "l":
                     _, q, d, k, c, init, w = item[:7]
-                    if rn is not None:
+                    if frame.ports is not None:
                         q, d = rn(q), rn(d)
-                        c = rn(c) if c is not None else None
+                        c = rn(c) if c is not None and c != GLOBAL_CLOCK else c
                     add_storage(q, d, k, c, init, where=w)
                 else:
                     child = models[item[1]]
-                    k = counters.get(child.name, 0)
-                    counters[child.name] = k + 1
-                    ports = {}
-                    for formal, actual, _ in item[2]:
-                        ports[formal] = actual if rn is None else rn(actual)
-                    cprefix = f"{prefix}{child.name}_{k}/"
-                    stack.append((iter(child.items), _renamer(ports, cprefix), cprefix, {}))
+                    n = frame.counters.get(child.name, 0)
+                    frame.counters[child.name] = n + 1
+                    ports = {formal: rn(actual) for formal, actual, _ in item[2]}
+                    stack.append(_Frame(child.items, ports, frame, f"{child.name}_{n}/"))
             except NetlistError as exc:
-                errors.extend(exc.diagnostics)
-                if len(errors) > 200:
-                    break
-            count += 1
-            if count > MAX_FLAT_NETS:
-                self.err(f"the hierarchy of model '{top.name}' expands to more than {MAX_FLAT_NETS} "
-                         "nodes", top.where)
-                break
+                for d in exc.diagnostics:
+                    self.err(d.message, (d.file, d.line, d.col))
+        self.name_global_clock(nl, top)
         if top.exdc is not None:
             nl.exdc = self.exdc_netlist(top)
         return nl
+
+    def name_global_clock(self, nl: Netlist, top: _Model) -> None:
+        """Give the latches clocked by the design's global clock a real clock net, and say so in a note."""
+        nodes = nl.nodes
+        uses = [q for q, node in nodes.items() if isinstance(node, Storage) and node.control == GLOBAL_CLOCK]
+        if not uses:
+            return
+        first: tuple = nl.origin.get(uses[0]) or top.where
+        if len(top.clocks) == 1:
+            clk = top.clocks[0][0]
+            how = f"the model's one clock '{clk}'"
+        else:
+            outs = set(nl.outputs)
+            clk, k = GLOBAL_CLOCK_NAME, 0
+            while clk in nodes or clk in outs:
+                k += 1
+                clk = f"{GLOBAL_CLOCK_NAME}_{k}"
+            nl.add_input(clk, where=first)
+            nl.clocks.append(clk)
+            how = f"an input netfit adds, '{clk}'"
+        for q in uses:
+            st = nodes[q]
+            nodes[q] = Storage(st.d, st.kind, clk, st.init)
+        shown = ", ".join(uses[:6]) + (f" … ({len(uses)} in all)" if len(uses) > 6 else "")
+        file, line, col = first
+        nl.notes.append(Diagnostic(
+            f"{len(uses)} latch(es) name no clock ({shown}): BLIF clocks them by the design's global "
+            f"clock, which is {how}", file, line, col, severity="note"))
 
     def exdc_netlist(self, top: _Model) -> Netlist:
         dc = Netlist(f"{top.name}/exdc")
@@ -809,12 +942,48 @@ class _Reader:
         return dc
 
 
-def _renamer(ports: dict, prefix: str):
-    get = ports.get
+def _folder_of(path: Path) -> Path:
+    """The folder of ``path`` as an absolute path (its resolved form when the system can give it)."""
+    try:
+        return path.resolve().parent
+    except (OSError, ValueError):
+        return path.absolute().parent
 
-    def rn(net):
-        return get(net) or prefix + net
-    return rn
+
+class _Frame:
+    """One model instance while flattening: its items, its port bindings, and its place in the path.
+
+    The instance path (``fa_1/xor_gate_0/``) is kept as one segment per
+    level and joined only when a net inside the instance needs its name, so
+    a hierarchy ``d`` levels deep holds ``d`` short segments, not ``d``
+    prefixes of growing length.
+    """
+
+    __slots__ = ("items", "ports", "parent", "segment", "text", "counters")
+
+    def __init__(self, items, ports, parent, segment):
+        self.items = iter(items)
+        self.ports = ports          # formal -> actual net in the flat design (None for the top)
+        self.parent = parent
+        self.segment = segment
+        self.text = "" if parent is None else None   # the joined prefix, once asked for
+        self.counters: dict = {}    # model -> instances of it made in this frame so far
+
+    def prefix(self) -> str:
+        if self.text is None:
+            segs = []
+            f = self
+            while f.text is None:
+                segs.append(f.segment)
+                f = f.parent
+            self.text = f.text + "".join(reversed(segs))
+        return self.text
+
+    def rename(self, net: str) -> str:
+        if self.ports is None:
+            return net
+        actual = self.ports.get(net)
+        return actual if actual is not None else self.prefix() + net
 
 
 def read(path, top: str | None = None, allow_outside: bool = False) -> Netlist:
@@ -842,7 +1011,10 @@ def read(path, top: str | None = None, allow_outside: bool = False) -> Netlist:
     """
     path = Path(path)
     r = _Reader(path, allow_outside)
-    r.read_all()
+    try:
+        r.read_all()
+    except _Stop:
+        r.queue.clear()
     return _finish(r, path, top)
 
 
@@ -855,32 +1027,23 @@ def read_text(text: str, name: str = "text.blif", top: str | None = None) -> Net
     path = Path(name)
     r = _Reader(path, allow_outside=False)
     r.file_rank[str(path)] = 0
-    r.parse(path, text, 0)
-    for _, where in r.queue:
-        r.err("'.search' cannot be used in BLIF text read from memory", where)
+    try:
+        r.parse(path, text, 0)
+        for _, where in r.queue:
+            r.err("'.search' cannot be used in BLIF text read from memory", where)
+    except _Stop:
+        pass
     r.queue.clear()
     return _finish(r, path, top)
 
 
 def _finish(r: _Reader, path: Path, top) -> Netlist:
     netlist = None
-    if r.first_model is not None:
-        top_model: _Model | None = r.first_model
-        if top is not None:
-            top_model = r.models.get(top)
-            if top_model is None:
-                known = ", ".join(sorted(r.models)[:20])
-                r.err(f"no model named '{top}' (models read: {known})", (str(path), None, None))
-        if top_model is not None:
-            order = r.reachable(top_model)
-            for m in order:
-                r.check_model(m)
-                if m is not top_model and m.exdc is not None:
-                    r.warn(f"the .exdc network of model '{m.name}' is skipped (only the top model's "
-                           "don't-care network is kept)", m.exdc_where)
-            r.find_cycles(order)
-            if not r.errors:
-                netlist = r.flatten(top_model)
+    if r.stopped is None:
+        try:
+            netlist = _flat_design(r, path, top)
+        except _Stop:
+            netlist = None
     for cmd, (where, count) in r.timing.items():
         times = f" ({count} lines)" if count > 1 else ""
         r.warn(f"'{cmd}' carries only timing or load hints; skipped{times}", where)
@@ -889,10 +1052,42 @@ def _finish(r: _Reader, path: Path, top) -> Netlist:
         return (r.file_rank.get(d.file, -1), d.line or 0, d.col or 0)
 
     if r.errors or netlist is None:
-        raise BlifError(_dedupe(sorted(r.errors, key=key)))
+        errors = _dedupe(sorted(r.errors, key=key))
+        if r.stopped is not None:
+            errors.append(r.stopped)
+        raise BlifError(errors)
     netlist.warnings.extend(sorted(r.warnings, key=key))
     log.debug("%s: %d nets from %d model(s) in %d file(s)", path, len(netlist.nodes), len(r.models),
               len(r.file_rank))
+    return netlist
+
+
+def _flat_design(r: _Reader, path: Path, top) -> Netlist | None:
+    """Check the models the top model uses, then flatten it (``None`` when errors were found)."""
+    if r.first_model is None:
+        return None
+    top_model: _Model | None = r.first_model
+    if top is not None:
+        top_model = r.models.get(top)
+        if top_model is None:
+            known = ", ".join(sorted(r.models)[:20])
+            r.err(f"no model named '{top}' (models read: {known})", (str(path), None, None))
+            return None
+    assert top_model is not None
+    order = r.reachable(top_model)
+    for m in order:
+        r.check_model(m)
+        if m is not top_model and m.exdc is not None:
+            r.warn(f"the .exdc network of model '{m.name}' is skipped (only the top model's "
+                   "don't-care network is kept)", m.exdc_where)
+    r.find_cycles(order)
+    if r.errors or not r.check_size(top_model, order):
+        return None
+    netlist = r.flatten(top_model)
+    if netlist.exdc is not None:
+        r.warn(f"the don't-care network (.exdc) of model '{top_model.name}' is kept for `netfit verify` "
+               "(output differences where it is 1 do not count); a build does the covers as written and "
+               "uses no don't-cares", top_model.exdc_where)
     return netlist
 
 

@@ -62,6 +62,8 @@ support`` (see :mod:`mapper.write.wiring`).
 from __future__ import annotations
 
 import json
+import logging
+import math
 
 from ..analyze.results import Analysis
 from ..build import Build
@@ -72,7 +74,9 @@ from .verilog import verilog_names
 from .wiring import PinLookup, wiring
 
 __all__ = ["FORMAT", "VERSION", "BUILD_FORMAT", "SUFFIXES", "netlist_dict", "write_netlist", "dumps",
-           "build_dict", "write_build"]
+           "build_dict", "write_build", "finite"]
+
+log = logging.getLogger(__name__)
 
 FORMAT = "netfit-netlist"
 VERSION = 1
@@ -116,17 +120,42 @@ def write_netlist(netlist: Netlist, path, protect=()) -> None:
 def dumps(data: dict) -> str:
     """JSON text of ``data``: one top-level key per line and, in the lists
     ``nodes`` and ``storage``, one entry per line (readable and diffable, and
-    several times faster than fully indented output on big netlists)."""
+    several times faster than fully indented output on big netlists).
+
+    Standard JSON only: a figure that is not finite is written ``null``
+    (see :func:`finite`), never ``Infinity`` or ``NaN``.
+    """
+    data = finite(data)
     parts = []
     for key, value in data.items():
         k = json.dumps(key)
         if key in ("nodes", "storage", "cells", "contacts", "nets", "support", "ties", "parts") and value \
                 and isinstance(value, list):
-            body = ",\n  ".join(json.dumps(e, ensure_ascii=False) for e in value)
+            body = ",\n  ".join(json.dumps(e, ensure_ascii=False, allow_nan=False) for e in value)
             parts.append(f" {k}: [\n  {body}\n ]")
         else:
-            parts.append(f" {k}: {json.dumps(value, ensure_ascii=False)}")
+            parts.append(f" {k}: {json.dumps(value, ensure_ascii=False, allow_nan=False)}")
     return "{\n" + ",\n".join(parts) + "\n}\n"
+
+
+def finite(value, where: str = ""):
+    """A copy of ``value`` (dicts, lists, tuples, numbers, text) with every float that is not finite
+    replaced by ``None``, each replacement logged with its key path.
+
+    Catalog figures are refused when they are not finite (:func:`mapper.units.parse_quantity`), so a
+    non-finite result is a fault upstream; it is said, and the file stays standard JSON.
+    """
+    # the data is a JSON document of our own making: a few levels deep, so recursion is bounded
+    if isinstance(value, float):
+        if math.isfinite(value):
+            return value
+        log.warning("a figure that is not finite (%r) at %s is written as null", value, where or "the top")
+        return None
+    if isinstance(value, dict):
+        return {k: finite(v, f"{where}.{k}" if where else str(k)) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [finite(v, f"{where}[{i}]") for i, v in enumerate(value)]
+    return value
 
 
 def _plain(value):

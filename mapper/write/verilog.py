@@ -20,13 +20,16 @@ Names
   then written ``a[3]``, the same text as the net name.  Any other name with
   brackets (an internal net ``t[2]``, a port bus with a hole) becomes an
   escaped identifier (``\\t[2] `` -- backslash, the name, a space).
-* Names with characters an escaped identifier cannot carry (spaces,
-  non-ASCII) have those characters replaced by ``_`` (made unique with a
-  numeric suffix); the header comment lists every such renaming.
+* **Ports keep the design's names exactly.**  An internal net whose name
+  has characters an escaped identifier cannot carry (spaces, control
+  characters, non-ASCII) has them replaced by ``_`` (made unique with a
+  numeric suffix), listed in the header comment; a *port* with such a name
+  is refused (:class:`~mapper.errors.UsageError`, or before any work by
+  :func:`check_design`), and so is an output that is also an input of the
+  design (a net passed straight through): a Verilog module cannot have two
+  ports of one name, and renaming one would make the export differ from
+  the design.
 * The supply rails are ``supply1 VCC`` and ``supply0 GND``.
-* An output that is also an input of the design (a net passed straight
-  through) cannot be two ports of one name: the output port is renamed
-  ``<name>_out``, listed in the header comment.
 * The module is named after the design; a name that is not a plain
   identifier has its other characters replaced by ``_``, and a keyword or a
   leading digit gets the prefix ``d_`` (``edge`` becomes ``d_edge``).
@@ -79,13 +82,13 @@ from pathlib import Path
 from .. import __version__
 from ..analyze.results import Analysis
 from ..build import Build, ref_key
-from ..errors import InternalError, UsageError
+from ..errors import Diagnostic, InputError, InternalError, UsageError
 from ..netlist import Logic, Netlist, Storage
 from .files import atomic_write
 from .layout import render
 
 __all__ = ["KEYWORDS", "VerilogNames", "verilog_names", "build_text", "cells_text", "write_build",
-           "write_cells", "CELLS_FILE", "netlist_text", "write_netlist"]
+           "write_cells", "CELLS_FILE", "netlist_text", "write_netlist", "check_design"]
 
 log = logging.getLogger(__name__)
 
@@ -281,12 +284,9 @@ class _Namer:
                     bits = groups[base][1]
                     self.ports.append(Port(direction, base, (max(bits), min(bits)), dict(bits)))
                     continue
-                if direction == "output" and n in inputs_set:
-                    # a net that is both input and output: the output port needs a name of its own
-                    v = self.fresh(f"{n}_out" if _ESCAPABLE.match(n) else "out")
-                    self.renamed[f"{n} (output)"] = v
-                    self.ports.append(Port(direction, identifier(v), None, {None: n}))
-                    continue
+                why = _port_fault(n, direction, inputs_set)
+                if why:
+                    raise UsageError(f"port '{n}' cannot be written in Verilog: {why}")
                 self.ports.append(Port(direction, self.ref[n], None, {None: n}))
         port_nets = set(inputs) | set(outputs)
         self.wires = [n for n in all_nets if n not in port_nets and n not in rails]
@@ -309,6 +309,34 @@ class _Namer:
             k += 1
         self.taken.add(cand)
         return cand
+
+
+def _port_fault(name: str, direction: str, inputs: set) -> str | None:
+    """Why port ``name`` cannot keep its name in Verilog (``None`` when it can)."""
+    if direction == "output" and name in inputs:
+        return ("it is both an input and an output of the design, and a Verilog module cannot have two "
+                "ports of one name; give the output a name of its own in the design (a buffer)")
+    if not _ESCAPABLE.match(name):
+        return "it holds characters a Verilog name cannot carry (spaces, control or non-ASCII characters)"
+    return None
+
+
+def check_design(netlist: Netlist) -> None:
+    """Refuse, before any work, a design whose ports Verilog cannot carry under their own names.
+
+    Raises :class:`~mapper.errors.InputError` with a diagnostic per port, at
+    the port's position in the design file.
+    """
+    inputs = set(netlist.inputs)
+    diags = []
+    for direction, names in (("input", netlist.inputs), ("output", netlist.outputs)):
+        for n in names:
+            why = _port_fault(n, direction, inputs)
+            if why:
+                diags.append(Diagnostic(f"port '{n}' cannot be written in Verilog: {why}",
+                                        *netlist.origin.get(n, (None, None, None))))
+    if diags:
+        raise InputError(diags)
 
 
 def _module_name(name: str, avoid=()) -> str:

@@ -299,7 +299,8 @@ def test_falling_edge_and_initial_one(tmp_path):
 
 
 def test_latch_without_control_is_refused(netfit, tmp_path):
-    p = blif(tmp_path, "free", ".model f\n.inputs d\n.outputs q\n.latch d q\n.end\n")
+    # an asynchronous latch has no control (a latch with no type at all takes the design's global clock)
+    p = blif(tmp_path, "free", ".model f\n.inputs d\n.outputs q\n.latch d q as NIL\n.end\n")
     code, out, err = netfit("build", p, "--target", "relay-spdt")
     assert code == 2 and "clock or enable" in err
 

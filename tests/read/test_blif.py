@@ -220,10 +220,12 @@ def test_latches_all_kinds_and_initial_values():
         "q_ah": ("d", "ah", "en", 2),
         "q_al": ("d", "al", "en", 3),
         "q_as": ("d", "as", None, 3),
-        "q_plain": ("d", "re", None, 3),
-        "q_nil": ("d", "re", None, 1),
+        # no type, and NIL control: the design's global clock, here the model's one .clock
+        "q_plain": ("d", "re", "clk", 3),
+        "q_nil": ("d", "re", "clk", 1),
     }
     assert n.clocks == ["clk"] and n.inputs == ["d", "en", "clk"]
+    assert len(n.notes) == 1 and "global clock" in n.notes[0].message and "'clk'" in n.notes[0].message
 
 
 def test_asynchronous_latch_with_control_warns(tmp_path):
@@ -469,3 +471,46 @@ def test_cli_subprocess_prints_positions_without_traceback():
     assert proc.returncode == 2
     assert proc.stderr.startswith(f"{bad}:7:4: error: ")
     assert "Traceback" not in proc.stderr and proc.stdout == ""
+
+
+# -- BLIF as written in the wild (the published files are in tests/read/test_published.py) ----------
+def test_global_clock_added_with_a_free_name():
+    # no .clock, a net already called "clock": the added input takes the next free name
+    n = read_text(".model m\n.inputs d clock\n.outputs q\n.latch d q 1\n.end\n")
+    assert n.inputs == ["d", "clock", "clock_1"] and n.clocks == ["clock_1"]
+    assert n.storage()["q"] == Storage("d", "re", "clock_1", 1)
+    assert n.notes[0].severity == "note" and "'clock_1'" in n.notes[0].message
+
+
+def test_nil_control_and_several_clocks_use_the_global_clock():
+    # BLIF description (1992): NIL means no control of its own; with two .clock nets neither is "the" clock
+    n = read_text(".model m\n.inputs d\n.clock c1 c2\n.outputs q r s\n.latch d q re NIL 0\n.latch d r fe c2 0\n"
+                  ".latch d s as NIL 0\n.end\n")
+    st = n.storage()
+    assert st["q"].control == "clock" and st["r"].control == "c2" and st["s"].control is None
+    assert n.clocks == ["c1", "c2", "clock"]
+
+
+def test_global_clock_inside_a_hierarchy_is_the_top_level_clock():
+    n = read_text(".model top\n.inputs d\n.outputs q\n.subckt reg d=d q=q\n.end\n"
+                  ".model reg\n.inputs d\n.outputs q\n.latch d m 0\n.latch m q 0\n.end\n")
+    assert {s.control for s in n.storage().values()} == {"clock"} and n.inputs == ["d", "clock"]
+
+
+def test_comment_lines_inside_continued_lines_and_old_line_ends():
+    n = read_text(".model m\r.inputs a \\\r# a comment between the parts of one line\r  b\r.outputs y\r"
+                  ".names a b y # a comment after the names\r11 1\r.end\r")
+    assert n.inputs == ["a", "b"] and n.nodes["y"].fanins == ("a", "b")
+    assert n.origin["b"][1] == 4   # the physical line of the token, lone CR line ends counted
+
+
+def test_exdc_of_the_top_model_warns_how_it_is_used():
+    n = read_design(VALID / "exdc.blif")
+    assert any(".exdc" in w.message and "netfit verify" in w.message and "no don't-cares" in w.message
+               for w in n.warnings)
+
+
+def test_mlatch_names_its_cell_and_the_missing_library():
+    with pytest.raises(BlifError) as exc:
+        read_text(".model m\n.inputs d c\n.outputs q\n.mlatch DFFX1 D=d Q=q c 0\n.end\n")
+    assert "cell 'DFFX1' comes from the gate library" in exc.value.first.message

@@ -625,10 +625,11 @@ def test_relay_wiring_names_coil_and_contact_terminals(target):
 
 
 PASS_THROUGH = """\
-# outputs that are an input, a copy of another output, and a constant (our own test input)
+# outputs that are a copy of another output, and a constant (our own test input); an output that is
+# also an input is refused for Verilog (tests/write/test_verilog_ports.py)
 .model edge
 .inputs a b
-.outputs y a z w k
+.outputs y z w k
 .names a b y
 11 1
 .names a b z
@@ -644,8 +645,8 @@ PASS_THROUGH = """\
 @needs_iverilog
 @pytest.mark.parametrize("target", ["relay-spdt", "nand-only", "gates-74"])
 def test_outputs_passed_through_copied_and_constant(tmp_path, target):
-    # a module named after a Verilog keyword, an output that is also an input (renamed, listed in the
-    # header), outputs carried by other nets and by VCC; simulated by Icarus Verilog against the design
+    # a module named after a Verilog keyword, outputs carried by other nets and by VCC; simulated by
+    # Icarus Verilog against the design
     src = tmp_path / "edge.blif"
     src.write_text(PASS_THROUGH)
     design = read_design(src)
