@@ -342,7 +342,10 @@ def _storage_contacts(build: Build) -> set:
             diode(d, f"storage {lt.net}")
         private |= lt.own_nets()
         if lt.inverted:
-            take((lt.net, lt.state, None, "VCC"), f"storage {lt.net} (its true value)")
+            true_pole = (lt.net, lt.state, None, "VCC")
+            if free.get(true_pole) or _reads(build, lt.net):
+                # the design's value itself is a net of the build only where something reads it
+                take(true_pole, f"storage {lt.net} (its true value)")
     extra = [d for d, n in diodes.items() if n]
     if extra:
         raise InternalError(f"steering diodes no storage element uses: {extra}")
@@ -353,6 +356,13 @@ def _storage_contacts(build: Build) -> set:
         if touched:
             raise InternalError(f"{k.part_ref} pole {k.pole} touches storage-internal net(s) {sorted(touched)}")
     return used
+
+
+def _reads(build: Build, net: str) -> bool:
+    """Whether a pole, a coil or an output of ``build`` reads ``net``."""
+    if any(build.output_nets.get(o, o) == net for o in build.outputs):
+        return True
+    return any(net in (k.no, k.nc, build.coils[k.part_ref]) for k in build.contacts)
 
 
 def _add_storage(netlist: Netlist, lt: RelayStorage, used_rails: set) -> None:

@@ -137,6 +137,8 @@ def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list, wi
                    "diode with its cathode towards the coil, as the wiring list says")
     if wired is not None:
         for net, amps in sorted(wired.inputs_a.items()):
+            if amps <= 0:
+                continue   # an input no coil hangs on
             out.append(f"input {net} carries up to {amps * 1000:.0f} mA when on (coils it feeds through contacts "
                        f"included, over {wired.states} settled states): use a switch rated for it")
         for text in wired.over:

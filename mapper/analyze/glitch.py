@@ -420,7 +420,9 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
         "hazards": hazards[:MAX_LISTED],
         "hazards_total": len(hazards),
         "errors": sum(1 for h in hazards if h["error"]),
-        "transitions": {"checked": search.checked, "total": total, "exhaustive": exhaustive and not search.stopped,
+        # a count of thousands of digits cannot be written as text (Python limits int-to-text): kept at 2^1000
+        "transitions": {"checked": search.checked, "total": min(total, 1 << 1000),
+                        "exhaustive": exhaustive and not search.stopped,
                         "stopped_early": search.stopped, "cell_evaluations": eng.work, "work_budget": max_work,
                         "last_change_partial": search.partial,
                         "sizes": sizes, "timed_runs": search.runs, "not_shown": search.not_shown,
@@ -433,7 +435,8 @@ def _find_glitches(circ, multi, max_transitions, seed, paths_per_net, max_work, 
 def _sample_text(tr: dict) -> str:
     """What a glitch search covered, in one sentence with its counts."""
     total = tr["total"]
-    total_s = f"{total:,}" if total < 10 ** 12 else f"{total:.3g}"
+    # an exact count past 10^12 reads as a power of two (a float of 2^1024 and more overflows)
+    total_s = f"{total:,}" if total < 10 ** 12 else f"about 2^{total.bit_length() - 1}"
     if tr["exhaustive"]:
         text = f"all {total_s} input changes"
     else:

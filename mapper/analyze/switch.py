@@ -552,9 +552,15 @@ def _combinational(b: Build, circ: SwitchCircuit, ex: _Explorer, report: SwitchR
     ends where its coil's final value puts it, in the order of the dependencies): check each assignment's."""
     n = len(circ.inputs)
     total = 1 << n
-    picks = range(total) if total <= MAX_ASSIGNMENTS else sorted(rng.sample(range(total), MAX_ASSIGNMENTS))
+    if total <= MAX_ASSIGNMENTS:
+        picks: list | range = range(total)
+    else:  # drawn as bits: range() of 2^n is too big for random.sample beyond some 60 inputs
+        drawn: set = set()
+        while len(drawn) < MAX_ASSIGNMENTS:
+            drawn.add(rng.getrandbits(n))
+        picks = sorted(drawn)
     beh = _Behaviour(b, circ, ex, report)
-    report.changes_total = total
+    report.changes_total = total if n <= 1000 else 0   # beyond, a number too long to print; the inputs say it
     for inputs in picks:
         pos = _settled(ex, inputs)
         report.stable_states += 1

@@ -26,6 +26,7 @@ analyses of the finished build (:mod:`mapper.analyze`).
 from __future__ import annotations
 
 import logging
+import random
 from collections import Counter
 from dataclasses import dataclass
 
@@ -33,13 +34,15 @@ from ..build import SUPPLY_NETS, Build, ContactInstance, PartInstance
 from ..catalog.model import Target
 from ..errors import InternalError, UsageError
 from ..logic.aig import AIG, from_netlist
-from ..netlist import Netlist
+from ..logic.function import Function, var_mask
+from ..netlist import Logic, Netlist
 from ..relay_logic import RelaySequencer, RelayStorage, sequencer_for, storage_nets
+from ..simulate import simulate
 from .contacts import OPEN, RAIL, synthesize
 from .support import add_support
 from .windows import Window, cone, dfs_order, lit_table, window_tables, windows
 
-__all__ = ["fit_relays", "relay_carriers", "redrive", "WINDOW_LEAVES"]
+__all__ = ["fit_relays", "relay_carriers", "redrive", "sweep_constants", "WINDOW_LEAVES"]
 
 log = logging.getLogger(__name__)
 
@@ -319,6 +322,79 @@ def _plan(ctx: _Context, wins: list, single: bool, names: _Names, bound) -> _Pla
 
 # ---------------------------------------------------------------------------
 # the build
+#: random patterns that pick the nodes that may be constant
+SWEEP_PATTERNS = 1024
+#: a node's cone must have at most this many inputs and storage outputs to be proved constant
+SWEEP_SUPPORT = 16
+
+
+def sweep_constants(design: Netlist) -> Netlist:
+    """``design`` with every logic node that is constant whatever its inputs hold replaced by that constant.
+
+    A node can be constant without looking it (``a·b`` and ``a'·c`` into an
+    AND); a window of contact networks would then have nothing to build for
+    it.  Random patterns over the inputs and storage outputs pick the
+    candidates; a candidate is replaced only when its cone has at most
+    :data:`SWEEP_SUPPORT` inputs and storage outputs and its truth table over
+    all of them is constant (so every replacement is proved; the proof of
+    the whole build checks it again).
+    """
+    nodes = design.nodes
+    storage = design.storage()
+    rng = random.Random(0)
+    mask = (1 << SWEEP_PATTERNS) - 1
+    vals = simulate(design, {i: rng.getrandbits(SWEEP_PATTERNS) for i in design.inputs}, mask,
+                    {q: rng.getrandbits(SWEEP_PATTERNS) for q in storage})
+    found: dict = {}
+    for name, node in nodes.items():
+        if not isinstance(node, Logic) or not node.fanins or vals.get(name, 1) not in (0, mask):
+            continue
+        cone = _cone_of(design, name)
+        if cone is None:
+            continue
+        support, order = cone
+        k = len(support)
+        full = (1 << (1 << k)) - 1
+        words = {x: var_mask(k, j) for j, x in enumerate(support)}
+        for n in order:
+            nd = nodes[n]
+            words[n] = nd.func.eval_words([words[f] for f in nd.fanins], full) if nd.fanins else \
+                (full if nd.func.constant_value() else 0)
+        if words[name] in (0, full):
+            found[name] = 1 if words[name] else 0
+    if not found:
+        return design
+    new = design.copy()
+    for name, v in found.items():
+        new.nodes[name] = Logic((), Function.constant(v))
+    return new
+
+
+def _cone_of(design: Netlist, root: str):
+    """``(support, logic nodes in topological order)`` of ``root``; ``None`` past :data:`SWEEP_SUPPORT`."""
+    support: list = []
+    order: list = []
+    seen: set = set()
+    stack = [(root, False)]
+    while stack:
+        n, done = stack.pop()
+        if done:
+            order.append(n)
+            continue
+        if n in seen:
+            continue
+        seen.add(n)
+        node = design.nodes.get(n)
+        if not isinstance(node, Logic):
+            support.append(n)
+            if len(support) > SWEEP_SUPPORT:
+                return None
+            continue
+        stack.append((n, True))
+        stack.extend((f, False) for f in node.fanins if f not in seen)
+    return support, order
+
+
 def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
     """Build ``design`` as relay contact networks on ``target``'s relays.
 
@@ -338,6 +414,7 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
         if st.control is None:
             raise UsageError(f"storage element {net} has no clock or enable net")
 
+    design = sweep_constants(design)
     g, litmap = from_netlist(design)
     names = _Names(list(design.inputs) + list(design.outputs) + list(design.storage()))
     design_name: dict = {}

@@ -497,3 +497,43 @@ def test_sequential_designs_over_many_cycles(tmp_path, target, text, data):
         got_before = outputs_of(bench, {data: v, "clk": 0})   # the outputs of this cycle, before its edge
         assert got_before == {o: want[k][o] & 1 for o in d.outputs}, (k, v)
         outputs_of(bench, {"clk": 1})
+
+
+REDUNDANT = """\
+# a node that is constant without looking it: u = (a b)(a' c) = 0 (found by the fuzzer of issue 23)
+.model redund
+.inputs a b c x0 x1
+.outputs y0 y1
+.names a b t1
+11 1
+.names a c t2
+01 1
+.names t1 t2 u
+11 1
+.names u x0 x1 y0
+1-- 1
+-11 1
+-00 1
+.names u x1 x0 y1
+1-- 1
+-11 1
+-00 1
+.end
+"""
+
+
+@pytest.mark.parametrize("target", ["relay-spdt", "relay-dpdt"])
+def test_a_node_constant_in_disguise_is_built(tmp_path, target):
+    # u is 0 for every input (a and a' meet): the windows once had nothing to build for it and stopped with
+    # an internal error; the sweep replaces it by its constant, proved over its 3-input cone, and the build is
+    # proved equal to the design (y0 = y1 = x0 xnor x1)
+    from mapper.fit.relay import sweep_constants
+    p = tmp_path / "redund.blif"
+    p.write_text(REDUNDANT)
+    design = read_design(p)
+    swept = sweep_constants(design)
+    assert swept.nodes["u"].fanins == () and swept.nodes["u"].func.constant_value() == 0
+    assert swept.nodes["t1"] is design.nodes["t1"]    # a node that is not constant stays
+    b, a = flow.fit(design, flow.load_target(target))
+    assert a.verified == "proved"
+    assert not any("carries up to 0 mA" in c for c in a.cautions)
