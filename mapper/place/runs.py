@@ -29,9 +29,10 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from ..build import SUPPLY_NETS, Build, ref_key
-from ..errors import UsageError
-from .boards import BOARD_GAP, BREADBOARD_ROWS, PITCH_M, RAIL_ROWS, STRIP_ROWS
-from .placement import Placement, rail_rows, strip_holes
+from ..errors import InternalError
+from .boards import BOARD_GAP, BREADBOARD_ROWS, PITCH_M, RAIL_ROWS, STRIP_ROWS, rail_rows, strip_holes
+from .legs import rail_hole
+from .placement import Placement
 
 __all__ = ["End", "Wire", "Runs", "wire_runs", "best_path", "mst_length", "EXACT_PINS", "ROLE_COLOUR",
            "hole_name"]
@@ -259,23 +260,17 @@ class _Holes:
 
     def strip(self, xy, toward) -> tuple:
         free = [h for h in strip_holes(xy) if h not in self.taken]
-        if not free:
-            raise UsageError(f"the breadboard strip of hole {hole_name(self.p, xy)} has no free hole left: "
-                             f"choose --board perf:WxH")
+        if not free:  # the placement keeps two holes free on every strip of a net (mapper.place.legs)
+            raise InternalError(f"the breadboard strip of hole {hole_name(self.p, xy)} has no free hole left "
+                                f"-- a bug in netfit")
         h = min(free, key=lambda h: (_d(h, toward), h[1]))
         self.taken.add(h)
         return h
 
     def rail(self, net, near) -> tuple:
-        span = BREADBOARD_ROWS + BOARD_GAP
-        k = max(0, near[1] // span)
-        row = min(rail_rows(k, net), key=lambda r: abs(r - near[1]))
-        for dx in sorted(range(-self.p.board.columns, self.p.board.columns), key=abs):
-            x = near[0] + dx
-            if 0 <= x < self.p.board.columns and (x, row) not in self.taken:
-                self.taken.add((x, row))
-                return x, row
-        raise UsageError(f"the {net} rail is full")
+        h = rail_hole(self.taken, self.p.board.columns, self.p.boards, net, near)
+        self.taken.add(h)
+        return h
 
 
 def _label(b: Build, ref: str, key) -> str:
