@@ -43,7 +43,7 @@ from dataclasses import dataclass, field
 
 from ..build import SUPPLY_NETS, Build, ref_key
 from ..errors import UsageError
-from .boards import BOARD_GAP, BREADBOARD_ROWS, Board, board_of
+from .boards import BOARD_GAP, BREADBOARD_ROWS, STRIP_HEADS, Board, board_of, rail_rows
 from .footprints import Footprint, footprint
 from .legs import Strips
 
@@ -222,7 +222,7 @@ def _signal_nets(b: Build, units: list, terminals: dict, board: Board) -> tuple[
         nets.setdefault(net, []).append(item)
 
     for i, u in enumerate(units):
-        pd = b.part_def(u.ref)
+        pd = _def_of(b, u.ref)
         keys = _pin_keys(b, u.ref, pd)
         mine: dict = {}
         for num, (dx, dy) in u.fp.pins.items():
@@ -432,7 +432,7 @@ def catalog_order(b: Build, board: Board) -> Placement:
 
 
 def _put(b: Build, p: Placement, u: _Unit, site: tuple) -> None:
-    pd = b.part_def(u.ref) if u.ref in {q.ref for q in b.parts} else b.target.parts[_support(b, u.ref).part_id]
+    pd = _def_of(b, u.ref)
     x0, y0 = site
     pins = {num: (x0 + dx, y0 + dy) for num, (dx, dy) in u.fp.pins.items()}
     p.parts[u.ref] = PlacedPart(u.ref, pd.id, pd.package, pd.kind, (x0, y0), pins, u.fp)
@@ -457,6 +457,12 @@ def _covered(fp: Footprint, origin: tuple) -> set:
     ox, oy = origin
     return {(ox + x, oy + y) for x in range(math.ceil(x0), math.floor(x1) + 1)
             for y in range(math.ceil(y0), math.floor(y1) + 1)}
+
+
+def _def_of(b: Build, ref: str):
+    """The part definition of logic part or support part ``ref``."""
+    sp = next((s for s in b.support if s.ref == ref), None)
+    return b.target.parts[sp.part_id] if sp is not None else b.part_def(ref)
 
 
 def _support(b: Build, ref: str):
@@ -503,21 +509,37 @@ def _breadboard_legs(b: Build, p: Placement, strips: Strips, sp, host: str) -> t
     anchor = next((by_net[n] for n in sp.nets if n not in SUPPLY_NETS and n in by_net), None)
     if anchor is None:
         anchor = by_net.get("VCC") or by_net.get("GND") or p.parts[host].origin
+    rails = [n for n in sp.nets if n in SUPPLY_NETS]
+    toward = None
+    near = anchor
+    if rails:
+        k = strips.rail_board(rails, anchor)
+        if k != board_of(anchor[1]):  # the host's board has no rail hole to spare: the part stands on board k
+            anchor, by_net = (anchor[0], k * (BREADBOARD_ROWS + BOARD_GAP) + STRIP_HEADS[0]), {}
+        # its signal leg measured from the rail hole it will likely go into, in the strip's hole nearest
+        # that rail (a short part)
+        near = toward = strips.rail_peek(rails[0], (anchor[0], min(rail_rows(k, rails[0]),
+                                                                      key=lambda r: abs(r - anchor[1]))))
     legs: list = [None] * len(sp.nets)
     words = [""] * len(sp.nets)
-    near = anchor
-    for j, net in enumerate(sp.nets):
-        if net in SUPPLY_NETS:
-            continue
-        pin = by_net.get(net)
-        xy, own = strips.leg(net, near, strips.key(pin) if pin is not None else None)
-        k = strips.key(xy)
+    signal = [j for j, net in enumerate(sp.nets) if net not in SUPPLY_NETS]
+    prefer = [strips.key(by_net[sp.nets[j]]) if sp.nets[j] in by_net else None for j in signal]
+    if len(signal) == 2:
+        placed = strips.pair([sp.nets[j] for j in signal], near, prefer)
+    else:
+        placed = []
+        for j, pref in zip(signal, prefer):
+            placed.append(strips.leg(sp.nets[j], near, pref, toward))
+            near = placed[-1][0]
+    for j, (xy, own) in zip(signal, placed):
+        net = sp.nets[j]
+        strip = strips.key(xy)
         if own:
-            strips.label[k] = f"{sp.ref}-{j + 1}"
+            strips.label[strip] = f"{sp.ref}-{j + 1}"
             words[j] = f"a strip of its own, wired into {net}"
         else:
-            words[j] = f"the strip of {strips.label[k]}"
-        legs[j] = near = xy
+            words[j] = f"the strip of {strips.label[strip]}"
+        legs[j] = xy
     first = next((xy for xy in legs if xy is not None), anchor)
     for j, net in enumerate(sp.nets):
         if net in SUPPLY_NETS:

@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 from ..build import SUPPLY_NETS, Build, ref_key
 from ..errors import InternalError
 from .boards import BOARD_GAP, BREADBOARD_ROWS, PITCH_M, RAIL_ROWS, STRIP_ROWS, rail_rows, strip_holes
-from .legs import rail_hole
+from .legs import rail_hole, rail_row_hole
 from .placement import Placement
 
 __all__ = ["End", "Wire", "Runs", "wire_runs", "best_path", "mst_length", "EXACT_PINS", "ROLE_COLOUR",
@@ -268,7 +268,17 @@ class _Holes:
         return h
 
     def rail(self, net, near) -> tuple:
+        """A hole for a wire from a strip to a rail of ``net`` (the rows' joint room left alone)."""
         h = rail_hole(self.taken, self.p.board.columns, self.p.boards, net, near)
+        return self._take(h, f"the {net} rails have no free hole left")
+
+    def rail_row(self, net, row: int) -> tuple:
+        """A hole of rail row ``row`` for a wire that feeds or joins it."""
+        return self._take(rail_row_hole(self.taken, self.p.board.columns, row, 0), f"a {net} rail row is full")
+
+    def _take(self, h, what: str) -> tuple:
+        if h is None:  # the placement keeps rail holes for every tap and joint (mapper.place.legs)
+            raise InternalError(f"{what} -- a bug in netfit")
         self.taken.add(h)
         return h
 
@@ -374,8 +384,8 @@ def _rail_net(b: Build, p: Placement, runs: Runs, holes: _Holes, net: str, stops
     # feed the first board's top rail, and join every rail row used, in order down the boards
     rows = sorted(used | {rail_rows(0, net)[0]})
     term = p.terminals[("supply", net)]
-    runs.wires.append(Wire(0, net, role, End(f"supply {net}", term), End(f"{net} rail", holes.rail(net, (0, rows[0])))))
+    runs.wires.append(Wire(0, net, role, End(f"supply {net}", term), End(f"{net} rail", holes.rail_row(net, rows[0]))))
     for r1, r2 in zip(rows, rows[1:]):
-        h1 = holes.rail(net, (0, r1))
-        h2 = holes.rail(net, (0, r2))
+        h1 = holes.rail_row(net, r1)
+        h2 = holes.rail_row(net, r2)
         runs.wires.append(Wire(0, net, role, End(f"{net} rail", h1), End(f"{net} rail", h2), jumper=True))
