@@ -88,6 +88,8 @@ class Placement:
     taken: set = field(default_factory=set)
     #: holes under a part's body that are not its pins
     covered: set = field(default_factory=set)
+    #: breadboards: support legs ``(ref, leg)`` standing in a strip of their own, joined to their net by a wire
+    own_strips: list = field(default_factory=list)
 
     def hole(self, ref: str, pin) -> tuple:
         return self.holes[(ref, pin)]
@@ -536,6 +538,7 @@ def _breadboard_legs(b: Build, p: Placement, strips: Strips, sp, host: str) -> t
         strip = strips.key(xy)
         if own:
             strips.label[strip] = f"{sp.ref}-{j + 1}"
+            p.own_strips.append((sp.ref, j + 1))
             words[j] = f"a strip of its own, wired into {net}"
         else:
             words[j] = f"the strip of {strips.label[strip]}"

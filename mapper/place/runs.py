@@ -11,11 +11,15 @@ shortened by reversing stretches (2-opt: Croes, Operations Research 6,
 1958).  Lengths are Manhattan distances between holes (wires laid along
 the grid).
 
-On a breadboard a chain's stops are the strips of its pins (a strip
-joins its five holes), each wire goes into a free hole of the strip, and
-supply pins are wired to the nearest rail of their kind; rails are joined
-by jumpers where a net uses more than one (top and bottom of a board, one
-board to the next) and fed from the supply terminals.  On perforated and
+On a breadboard a chain's stops are the strips of its pins and of the
+support legs standing in strips of their own (a strip joins its five
+holes), each wire goes into a free hole of the strip, and supply pins are
+wired to the nearest rail of their kind; rails are joined by jumpers where
+a net uses more than one (top and bottom of a board, one board to the
+next) and fed from the supply terminals.  The placement keeps two holes
+of every strip for the wires of its chain, a hole of the rails for each
+strip wired to them, and three holes of every rail row for its feed and
+jumpers (:mod:`mapper.place.legs`): the wires always find their holes.  On perforated and
 wire-wrap boards the supply nets are daisy chains like any other, starting
 at the supply terminal.
 
