@@ -20,7 +20,10 @@ the net with a wire.  The rules here, in that spirit (common practice):
 * otherwise it goes into the nearest strip that no pin and no other net
   uses; that strip then belongs to the net and is a stop of the net's
   chain like a pin (one more wire);
-* when the boards have no such strip, or no rail hole to spare, left, one
+* a part with both legs on signal nets (a steering diode) keeps them
+  within :data:`LEG_REACH` of each other: when the second leg finds no
+  strip that near the first, both go into two unused strips side by side;
+* when no such strip (or no rail hole to spare) is left on the boards, one
   more board is stacked below;
 * holes under a part's body (a relay covers the holes beside and between
   its pins) are never used.
@@ -136,12 +139,14 @@ class Strips:
         reach of the first, both go into two strips of their own side by
         side, the pair nearest ``near``.  Returns ``[(hole, opened), ...]``.
         """
+        boards = self.boards
         h1, new1 = self.leg(nets[0], near, prefer[0])
         h2, new2 = self.leg(nets[1], h1, prefer[1])
         if _d(h1, h2) <= LEG_REACH:
             return [(h1, new1), (h2, new2)]
         self._undo(h2, nets[1], new2)
         self._undo(h1, nets[0], new1)
+        self.boards = boards  # a board stacked for the legs just taken back is not needed yet
         s1, s2 = self._unused_pair(near)
         out = []
         for s, net, toward in ((s1, nets[0], s2), (s2, nets[1], s1)):

@@ -431,8 +431,6 @@ def catalog_order(b: Build, board: Board) -> Placement:
     return place(b, board, anneal=False)
 
 
-
-
 def _put(b: Build, p: Placement, u: _Unit, site: tuple) -> None:
     pd = _def_of(b, u.ref)
     x0, y0 = site

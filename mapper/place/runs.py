@@ -19,9 +19,9 @@ a net uses more than one (top and bottom of a board, one board to the
 next) and fed from the supply terminals.  The placement keeps two holes
 of every strip for the wires of its chain, a hole of the rails for each
 strip wired to them, and three holes of every rail row for its feed and
-jumpers (:mod:`mapper.place.legs`): the wires always find their holes.  On perforated and
-wire-wrap boards the supply nets are daisy chains like any other, starting
-at the supply terminal.
+jumpers (:mod:`mapper.place.legs`): the wires always find their holes.
+On perforated and wire-wrap boards the supply nets are daisy chains like
+any other, starting at the supply terminal.
 
 Each wire gets a suggested colour by its net's role: supply (red), ground
 (black), clock or enable (yellow), signal (blue) -- the usual habit of

@@ -211,12 +211,16 @@ def test_one_lead_to_a_hole_none_under_a_body_and_support_parts_at_hand(path, ta
 
 
 def test_crowded_strips_and_rails_spill_onto_a_board_of_their_own():
-    # Robustness, not a build a target would make: a relay build's load resistors copied a hundred and
-    # twenty times onto one net, far more than the strips and GND rails of one breadboard-400 hold.
-    # The checks are the breadboard rules above (common practice), read back by this module's reader.
+    # Robustness, not a build a target would make: a relay build's load resistor copied a hundred and
+    # twenty times onto its net, and forty times between two nets (both legs in strips, as a steering
+    # diode stands), far more than the strips and GND rails of one breadboard-400 hold.  The checks
+    # are the breadboard rules above (common practice), read back by this module's reader.
     b = _build(str(DATA / "textbook" / "half_adder.blif"), "relay-spdt")
     load = next(s for s in b.support if s.role == "pull-down")
+    other = next(n for s in b.support if s.role == "pull-down" for n in s.nets if n not in (*SUPPLY_NETS, *load.nets))
+    between = (next(n for n in load.nets if n not in SUPPLY_NETS), other)
     extra = [dataclasses.replace(load, ref=f"R{100 + i}") for i in range(120)]
+    extra += [dataclasses.replace(load, ref=f"R{300 + i}", nets=between) for i in range(40)]
     crowded = dataclasses.replace(b, support=list(b.support) + extra)
     alone = plan(b, "breadboard-400")
     pl = plan(crowded, "breadboard-400")
