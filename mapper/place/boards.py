@@ -25,7 +25,7 @@ from dataclasses import dataclass
 from ..errors import UsageError
 
 __all__ = ["Board", "board_from_spec", "BOARD_NAMES", "PITCH_M", "BREADBOARD_ROWS", "BOARD_GAP", "RAIL_ROWS",
-           "STRIP_ROWS", "DEFAULT_BOARD"]
+           "STRIP_ROWS", "DEFAULT_BOARD", "board_of", "strip_holes", "rail_rows", "STRIP_HEADS"]
 
 PITCH_M = 0.00254
 DEFAULT_BOARD = "breadboard-830"
@@ -37,6 +37,8 @@ BOARD_GAP = 2
 RAIL_ROWS = {0: ("GND", "top"), 1: ("VCC", "top"), 16: ("GND", "bottom"), 17: ("VCC", "bottom")}
 #: breadboard strip rows -> row letter
 STRIP_ROWS = {3: "a", 4: "b", 5: "c", 6: "d", 7: "e", 10: "f", 11: "g", 12: "h", 13: "i", 14: "j"}
+#: breadboard rows of the hole of each strip nearest the channel (the strip's name in code)
+STRIP_HEADS = (7, 10)
 _LIMIT = 400
 
 
@@ -78,3 +80,33 @@ def board_from_spec(spec: str | None) -> Board:
                                        f"({w * 2.54:.0f} × {h * 2.54:.0f} mm)")
     names = ", ".join(sorted(BOARD_NAMES))
     raise UsageError(f"--board {spec!r}: unknown board (known: {names}, perf:WxH, wrap:WxH in holes)")
+
+
+# -- breadboard geometry --------------------------------------------------------------------------------
+def board_of(y: int) -> int:
+    """Which of the stacked breadboards row ``y`` is on (0 for the first)."""
+    return y // (BREADBOARD_ROWS + BOARD_GAP)
+
+
+def strip_holes(xy) -> list:
+    """The holes of the breadboard strip ``xy`` is in, nearest the channel first; ``[]`` off the strips.
+
+    The first hole names the strip: two holes are in one strip exactly when
+    their lists start with the same hole.
+    """
+    x, y = xy
+    base = board_of(y) * (BREADBOARD_ROWS + BOARD_GAP)
+    row = y - base
+    if 3 <= row <= 7:
+        rows = [7, 6, 5, 4, 3]
+    elif 10 <= row <= 14:
+        rows = [10, 11, 12, 13, 14]
+    else:
+        return []
+    return [(x, base + r) for r in rows]
+
+
+def rail_rows(board_index: int, net: str) -> list:
+    """Rows of rail ``net`` on breadboard ``board_index`` (top one first)."""
+    base = board_index * (BREADBOARD_ROWS + BOARD_GAP)
+    return [base + r for r, (rail, _) in sorted(RAIL_ROWS.items()) if rail == net]

@@ -9,7 +9,8 @@
   the top row, normally-closed (4) and normally-open (5) 0.4 inch below.
   Relay pin layouts differ between makers: check the relay you buy.
 * two-pin support parts: ``radial-2.54mm`` 0.1 inch apart, ``DO-35`` and
-  ``axial-0.25W`` 0.4 inch apart (bent leads; common practice).
+  ``axial-0.25W`` 0.4 inch apart, ``DO-41`` (a longer body) 0.5 inch apart
+  (bent leads; common practice).
 * any other package: its pins in one row (a warning says so).
 """
 from __future__ import annotations
@@ -50,7 +51,7 @@ def _dip(n: int, package: str) -> Footprint:
     return Footprint(package, pins, (-0.45, 0.45, half - 0.55, 2.55), notch=True)
 
 
-_TWO_PIN = {"radial-2.54mm": 1, "do-35": 4, "axial-0.25w": 4}
+_TWO_PIN = {"radial-2.54mm": 1, "do-35": 4, "do-41": 5, "axial-0.25w": 4}
 
 
 def footprint(package: str, pin_count: int) -> Footprint:

@@ -13,16 +13,23 @@ parts of one stretch of logic together, and a hot start scatters them
 further than the move budget (:data:`MAX_MOVES`) can gather again.  The
 best placement met is kept, so the result is never longer than the start.  The
 length is the half-perimeter of the box around each signal net's pins
-(supply pins go to the rails, wherever the part stands).  The random
-sequence is seeded: the same build gives the same placement.
+(supply pins go to the rails, wherever the part stands; on a breadboard a
+support part's leg on a net its part has no pin on counts as a pin of that
+net at the part).  The random sequence is seeded: the same build gives the
+same placement.
 
 Every logic part (chip or relay) takes one *place*: on a breadboard a slot
 along the centre channel, straddling it; on a perforated or wire-wrap
-board a cell of a grid.  Support parts stand by the part they serve (the
-reference named in their purpose): on a breadboard a decoupling capacitor
-plugs across the rails beside its chip, and a coil diode or load resistor
-goes from its part's strip to the GND rail; on other boards they stand in
-a column left of their part.
+board a cell of a grid.  Holes under a part's body are never used (a
+relay covers holes beside its pins).  Support parts stand by the part they
+serve (the reference named in their purpose): on a breadboard a
+decoupling capacitor plugs across the rails beside its chip, a coil diode
+or load resistor goes from its part's strip to the GND rail, and a
+steering diode from its part's strip to a strip of the coil's net, each
+by the rules of :mod:`mapper.place.legs` (a strip keeps room for the
+wires of its net; a leg that finds none goes into a strip of its own,
+joined to its net by a wire); on other boards they stand in a column left
+of their part.
 
 :func:`catalog_order` places the parts in reference order instead: the
 yardstick the benchmark measures the annealing against.
@@ -36,8 +43,9 @@ from dataclasses import dataclass, field
 
 from ..build import SUPPLY_NETS, Build, ref_key
 from ..errors import UsageError
-from .boards import BOARD_GAP, BREADBOARD_ROWS, RAIL_ROWS, STRIP_ROWS, Board
+from .boards import BOARD_GAP, BREADBOARD_ROWS, STRIP_HEADS, Board, board_of, rail_rows
 from .footprints import Footprint, footprint
+from .legs import Strips
 
 __all__ = ["PlacedPart", "Placement", "place", "catalog_order", "hpwl"]
 
@@ -76,8 +84,12 @@ class Placement:
     length_start: float = 0.0
     length: float = 0.0
     moves: int = 0
-    #: holes a support part's leg or a pin takes (no wire may go there)
+    #: holes a support part's leg or a pin takes, or a part's body covers (no wire may go there)
     taken: set = field(default_factory=set)
+    #: holes under a part's body that are not its pins
+    covered: set = field(default_factory=set)
+    #: breadboards: support legs ``(ref, leg)`` standing in a strip of their own, joined to their net by a wire
+    own_strips: list = field(default_factory=list)
 
     def hole(self, ref: str, pin) -> tuple:
         return self.holes[(ref, pin)]
@@ -212,16 +224,26 @@ def _signal_nets(b: Build, units: list, terminals: dict, board: Board) -> tuple[
         nets.setdefault(net, []).append(item)
 
     for i, u in enumerate(units):
-        pd = b.part_def(u.ref)
+        pd = _def_of(b, u.ref)
         keys = _pin_keys(b, u.ref, pd)
+        mine: dict = {}
         for num, (dx, dy) in u.fp.pins.items():
             net = _net_at(b, u.ref, keys.get(num))
+            mine.setdefault(net, (dx, dy))
             add(net, (i, dx, dy))
         if not board.is_breadboard:
             for k, sp in enumerate(u.supports):
                 for j, net in enumerate(sp.nets):
                     dx, dy = _support_offset(b, sp, k, j)
                     add(net, (i, dx, dy))
+            continue
+        # a support part stands by its part: its leg on a net the part has no pin on (a steering
+        # diode's coil end) is a stop of that net there
+        for sp in u.supports:
+            at = next((mine[n] for n in sp.nets if n in mine and n not in SUPPLY_NETS), None)
+            for net in sp.nets:
+                if at is not None and net not in mine:
+                    add(net, (i, *at))
     for (kind, name), (x, y) in terminals.items():
         if kind == "input":
             add(name, (-1, x, y))
@@ -388,12 +410,19 @@ def place(b: Build, board: Board, anneal: bool = True) -> Placement:
     used_boards = set()
     for u, s in zip(units, assign):
         _put(b, p, u, sites[s])
-        used_boards.add(_board_of(sites[s][1]) if board.is_breadboard else 0)
-    if board.is_breadboard:
-        p.boards = max(used_boards, default=0) + 1
+        used_boards.add(board_of(sites[s][1]) if board.is_breadboard else 0)
+    if not board.is_breadboard:
+        for u in units:
+            for k, sp in enumerate(u.supports):
+                _put_support(b, p, sp, u.ref, _perf_legs(b, p, sp, u.ref, k), f"beside {u.ref}")
+        return p
+    p.boards = max(used_boards, default=0) + 1
+    strips = _strips(b, p)
     for u in units:
-        for k, sp in enumerate(u.supports):
-            _put_support(b, p, sp, u.ref, k)
+        for sp in u.supports:
+            legs, note = _breadboard_legs(b, p, strips, sp, u.ref)
+            _put_support(b, p, sp, u.ref, legs, note)
+    p.boards = strips.boards  # one more when the strips ran out (see mapper.place.legs)
     return p
 
 
@@ -402,12 +431,8 @@ def catalog_order(b: Build, board: Board) -> Placement:
     return place(b, board, anneal=False)
 
 
-def _board_of(y: int) -> int:
-    return y // (BREADBOARD_ROWS + BOARD_GAP)
-
-
 def _put(b: Build, p: Placement, u: _Unit, site: tuple) -> None:
-    pd = b.part_def(u.ref) if u.ref in {q.ref for q in b.parts} else b.target.parts[_support(b, u.ref).part_id]
+    pd = _def_of(b, u.ref)
     x0, y0 = site
     pins = {num: (x0 + dx, y0 + dy) for num, (dx, dy) in u.fp.pins.items()}
     p.parts[u.ref] = PlacedPart(u.ref, pd.id, pd.package, pd.kind, (x0, y0), pins, u.fp)
@@ -421,21 +446,31 @@ def _put(b: Build, p: Placement, u: _Unit, site: tuple) -> None:
         for num, xy in pins.items():
             p.holes[(u.ref, keys[num])] = xy
     p.taken.update(pins.values())
+    under = _covered(u.fp, site) - set(pins.values())
+    p.covered.update(under)
+    p.taken.update(under)
+
+
+def _covered(fp: Footprint, origin: tuple) -> set:
+    """Holes under the body of a part of footprint ``fp`` standing at ``origin`` (its pins among them)."""
+    x0, y0, x1, y1 = fp.outline
+    ox, oy = origin
+    return {(ox + x, oy + y) for x in range(math.ceil(x0), math.floor(x1) + 1)
+            for y in range(math.ceil(y0), math.floor(y1) + 1)}
+
+
+def _def_of(b: Build, ref: str):
+    """The part definition of logic part or support part ``ref``."""
+    sp = next((s for s in b.support if s.ref == ref), None)
+    return b.target.parts[sp.part_id] if sp is not None else b.part_def(ref)
 
 
 def _support(b: Build, ref: str):
     return next(s for s in b.support if s.ref == ref)
 
 
-def _put_support(b: Build, p: Placement, sp, host: str, k: int) -> None:
+def _put_support(b: Build, p: Placement, sp, host: str, legs: list, note: str) -> None:
     pd = b.target.parts[sp.part_id]
-    hp = p.parts[host]
-    if not p.board.is_breadboard:
-        x0, y0 = hp.origin
-        legs = [(x0 + dx, y0 + dy) for dx, dy in (_support_offset(b, sp, k, j) for j in range(len(sp.nets)))]
-        note = f"beside {host}"
-    else:
-        legs, note = _breadboard_legs(b, p, sp, host)
     pins = {}
     numbers = sorted(pd.pin_names()) or list(range(1, len(sp.nets) + 1))
     for i, xy in enumerate(legs, 1):
@@ -445,91 +480,70 @@ def _put_support(b: Build, p: Placement, sp, host: str, k: int) -> None:
     p.parts[sp.ref] = PlacedPart(sp.ref, pd.id, pd.package, "support", legs[0], pins, None, host, note)
 
 
-def _breadboard_legs(b: Build, p: Placement, sp, host: str) -> tuple[list, str]:
-    """Holes of a support part's legs on a breadboard: rails for rail nets, the host's strips otherwise."""
-    hp = p.parts[host]
+def _perf_legs(b: Build, p: Placement, sp, host: str, k: int) -> list:
+    x0, y0 = p.parts[host].origin
+    return [(x0 + dx, y0 + dy) for dx, dy in (_support_offset(b, sp, k, j) for j in range(len(sp.nets)))]
+
+
+def _strips(b: Build, p: Placement) -> Strips:
+    """The breadboard strips with the pins of the logic parts (and loose support parts) standing in them."""
+    strips = Strips(p.board.columns, p.boards, p.taken)
+    for (ref, key), xy in sorted(p.holes.items(), key=lambda kv: (ref_key(kv[0][0]), str(kv[0][1]))):
+        strips.own(xy, _net_at(b, ref, key), f"{ref}-{key}")
+    return strips
+
+
+def _host_pins(b: Build, p: Placement, host: str) -> dict:
+    """net -> the hole of the host's first pin on it."""
     by_net: dict = {}
     for (ref, key), xy in p.holes.items():
         if ref == host:
-            by_net.setdefault(_net_at(b, ref, key), []).append(xy)
-    # the column the part stands at: by the host's pin on its first signal net, else by its supply pin
-    anchor = None
-    for net in sp.nets:
-        if net not in SUPPLY_NETS and by_net.get(net):
-            anchor = by_net[net][0]
-            break
+            by_net.setdefault(_net_at(b, ref, key), xy)
+    return by_net
+
+
+def _breadboard_legs(b: Build, p: Placement, strips: Strips, sp, host: str) -> tuple[list, str]:
+    """Holes of a support part's legs on a breadboard (the rules of :mod:`mapper.place.legs`), and in words."""
+    by_net = _host_pins(b, p, host)
+    # measured from the host's pin on the part's first signal net, else from its supply pin
+    anchor = next((by_net[n] for n in sp.nets if n not in SUPPLY_NETS and n in by_net), None)
     if anchor is None:
-        anchor = (by_net.get("VCC") or by_net.get("GND") or [hp.origin])[0]
-    legs = []
-    words = []
-    for net in sp.nets:
-        if net in SUPPLY_NETS:
-            xy = _free_rail_hole(p, net, anchor)
-            words.append(f"{net} rail")
-        else:
-            strip_pin = (by_net.get(net) or [_nearest_pin(b, p, net, anchor)])[0]
-            xy = _free_strip_hole(p, strip_pin)
-            words.append(f"the strip of {_label_at(p, strip_pin)}")
-        legs.append(xy)
-    return legs, "from " + " to ".join(words)
-
-
-def _label_at(p: Placement, xy) -> str:
-    for (ref, key), h in p.holes.items():
-        if h == xy and p.parts.get(ref) is not None and p.parts[ref].kind != "support":
-            return f"{ref}-{key}"
-    return "a pin"
-
-
-def _nearest_pin(b: Build, p: Placement, net: str, anchor) -> tuple:
-    best = None
-    for ref, key in b.nets().get(net, []):
-        xy = p.holes.get((ref, key))
-        if xy is not None and (best is None or abs(xy[0] - anchor[0]) + abs(xy[1] - anchor[1]) <
-                               abs(best[0] - anchor[0]) + abs(best[1] - anchor[1])):
-            best = xy
-    return best if best is not None else anchor
-
-
-def strip_holes(xy) -> list:
-    """The holes of the breadboard strip ``xy`` is in, nearest the channel first."""
-    x, y = xy
-    base = y - (y // (BREADBOARD_ROWS + BOARD_GAP)) * (BREADBOARD_ROWS + BOARD_GAP)
-    off = y - base
-    if 3 <= base <= 7:
-        rows = [7, 6, 5, 4, 3]
-    elif 10 <= base <= 14:
-        rows = [10, 11, 12, 13, 14]
+        anchor = by_net.get("VCC") or by_net.get("GND") or p.parts[host].origin
+    rails = [n for n in sp.nets if n in SUPPLY_NETS]
+    toward = None
+    near = anchor
+    if rails:
+        k = strips.rail_board(rails, anchor)
+        if k != board_of(anchor[1]):  # the host's board has no rail hole to spare: the part stands on board k
+            anchor, by_net = (anchor[0], k * (BREADBOARD_ROWS + BOARD_GAP) + STRIP_HEADS[0]), {}
+        # its signal leg measured from the rail hole it will likely go into, in the strip's hole nearest
+        # that rail (a short part)
+        near = toward = strips.rail_peek(rails[0], (anchor[0], min(rail_rows(k, rails[0]),
+                                                                      key=lambda r: abs(r - anchor[1]))))
+    legs: list = [None] * len(sp.nets)
+    words = [""] * len(sp.nets)
+    signal = [j for j, net in enumerate(sp.nets) if net not in SUPPLY_NETS]
+    prefer = [strips.key(by_net[sp.nets[j]]) if sp.nets[j] in by_net else None for j in signal]
+    if len(signal) == 2:
+        placed = strips.pair([sp.nets[j] for j in signal], near, prefer)
     else:
-        return []
-    return [(x, r + off) for r in rows]
-
-
-def _free_strip_hole(p: Placement, xy) -> tuple:
-    for h in strip_holes(xy):
-        if h not in p.taken:
-            return h
-    raise UsageError(f"the breadboard strip at column {xy[0] + 1} is full: choose --board perf:WxH")
-
-
-def rail_rows(board_index: int, net: str) -> list:
-    """Rows of rail ``net`` on breadboard ``board_index`` (top one first)."""
-    base = board_index * (BREADBOARD_ROWS + BOARD_GAP)
-    return [base + r for r, (rail, _) in sorted(RAIL_ROWS.items()) if rail == net]
-
-
-def _free_rail_hole(p: Placement, net: str, anchor) -> tuple:
-    x, y = anchor
-    k = _board_of(y)
-    base = k * (BREADBOARD_ROWS + BOARD_GAP)
-    rows = rail_rows(k, net)
-    row = min(rows, key=lambda r: abs(r - y))
-    # the column nearest the anchor with a free hole (rails run the board's length)
-    for dx in sorted(range(-p.board.columns, p.board.columns), key=abs):
-        xx = x + dx
-        if 0 <= xx < p.board.columns and (xx, row) not in p.taken:
-            return xx, row
-    raise UsageError(f"the {net} rail of board {k + 1} is full (row {row - base})")
-
-
-__all__ += ["strip_holes", "rail_rows", "STRIP_ROWS"]
+        placed = []
+        for j, pref in zip(signal, prefer):
+            placed.append(strips.leg(sp.nets[j], near, pref, toward))
+            near = placed[-1][0]
+    for j, (xy, own) in zip(signal, placed):
+        net = sp.nets[j]
+        strip = strips.key(xy)
+        if own:
+            strips.label[strip] = f"{sp.ref}-{j + 1}"
+            p.own_strips.append((sp.ref, j + 1))
+            words[j] = f"a strip of its own, wired into {net}"
+        else:
+            words[j] = f"the strip of {strips.label[strip]}"
+        legs[j] = xy
+    first = next((xy for xy in legs if xy is not None), anchor)
+    for j, net in enumerate(sp.nets):
+        if net in SUPPLY_NETS:
+            legs[j] = strips.rail(net, first)
+            words[j] = f"{net} rail"
+    return legs, "from " + " to ".join(words)

@@ -11,13 +11,17 @@ shortened by reversing stretches (2-opt: Croes, Operations Research 6,
 1958).  Lengths are Manhattan distances between holes (wires laid along
 the grid).
 
-On a breadboard a chain's stops are the strips of its pins (a strip
-joins its five holes), each wire goes into a free hole of the strip, and
-supply pins are wired to the nearest rail of their kind; rails are joined
-by jumpers where a net uses more than one (top and bottom of a board, one
-board to the next) and fed from the supply terminals.  On perforated and
-wire-wrap boards the supply nets are daisy chains like any other, starting
-at the supply terminal.
+On a breadboard a chain's stops are the strips of its pins and of the
+support legs standing in strips of their own (a strip joins its five
+holes), each wire goes into a free hole of the strip, and supply pins are
+wired to the nearest rail of their kind; rails are joined by jumpers where
+a net uses more than one (top and bottom of a board, one board to the
+next) and fed from the supply terminals.  The placement keeps two holes
+of every strip for the wires of its chain, a hole of the rails for each
+strip wired to them, and three holes of every rail row for its feed and
+jumpers (:mod:`mapper.place.legs`): the wires always find their holes.
+On perforated and wire-wrap boards the supply nets are daisy chains like
+any other, starting at the supply terminal.
 
 Each wire gets a suggested colour by its net's role: supply (red), ground
 (black), clock or enable (yellow), signal (blue) -- the usual habit of
@@ -29,9 +33,10 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from ..build import SUPPLY_NETS, Build, ref_key
-from ..errors import UsageError
-from .boards import BOARD_GAP, BREADBOARD_ROWS, PITCH_M, RAIL_ROWS, STRIP_ROWS
-from .placement import Placement, rail_rows, strip_holes
+from ..errors import InternalError
+from .boards import BOARD_GAP, BREADBOARD_ROWS, PITCH_M, RAIL_ROWS, STRIP_ROWS, rail_rows, strip_holes
+from .legs import rail_hole, rail_row_hole
+from .placement import Placement
 
 __all__ = ["End", "Wire", "Runs", "wire_runs", "best_path", "mst_length", "EXACT_PINS", "ROLE_COLOUR",
            "hole_name"]
@@ -259,23 +264,27 @@ class _Holes:
 
     def strip(self, xy, toward) -> tuple:
         free = [h for h in strip_holes(xy) if h not in self.taken]
-        if not free:
-            raise UsageError(f"the breadboard strip of hole {hole_name(self.p, xy)} has no free hole left: "
-                             f"choose --board perf:WxH")
+        if not free:  # the placement keeps two holes free on every strip of a net (mapper.place.legs)
+            raise InternalError(f"the breadboard strip of hole {hole_name(self.p, xy)} has no free hole left "
+                                f"-- a bug in netfit")
         h = min(free, key=lambda h: (_d(h, toward), h[1]))
         self.taken.add(h)
         return h
 
     def rail(self, net, near) -> tuple:
-        span = BREADBOARD_ROWS + BOARD_GAP
-        k = max(0, near[1] // span)
-        row = min(rail_rows(k, net), key=lambda r: abs(r - near[1]))
-        for dx in sorted(range(-self.p.board.columns, self.p.board.columns), key=abs):
-            x = near[0] + dx
-            if 0 <= x < self.p.board.columns and (x, row) not in self.taken:
-                self.taken.add((x, row))
-                return x, row
-        raise UsageError(f"the {net} rail is full")
+        """A hole for a wire from a strip to a rail of ``net`` (the rows' joint room left alone)."""
+        h = rail_hole(self.taken, self.p.board.columns, self.p.boards, net, near)
+        return self._take(h, f"the {net} rails have no free hole left")
+
+    def rail_row(self, net, row: int) -> tuple:
+        """A hole of rail row ``row`` for a wire that feeds or joins it."""
+        return self._take(rail_row_hole(self.taken, self.p.board.columns, row, 0), f"a {net} rail row is full")
+
+    def _take(self, h, what: str) -> tuple:
+        if h is None:  # the placement keeps rail holes for every tap and joint (mapper.place.legs)
+            raise InternalError(f"{what} -- a bug in netfit")
+        self.taken.add(h)
+        return h
 
 
 def _label(b: Build, ref: str, key) -> str:
@@ -379,8 +388,8 @@ def _rail_net(b: Build, p: Placement, runs: Runs, holes: _Holes, net: str, stops
     # feed the first board's top rail, and join every rail row used, in order down the boards
     rows = sorted(used | {rail_rows(0, net)[0]})
     term = p.terminals[("supply", net)]
-    runs.wires.append(Wire(0, net, role, End(f"supply {net}", term), End(f"{net} rail", holes.rail(net, (0, rows[0])))))
+    runs.wires.append(Wire(0, net, role, End(f"supply {net}", term), End(f"{net} rail", holes.rail_row(net, rows[0]))))
     for r1, r2 in zip(rows, rows[1:]):
-        h1 = holes.rail(net, (0, r1))
-        h2 = holes.rail(net, (0, r2))
+        h1 = holes.rail_row(net, r1)
+        h2 = holes.rail_row(net, r2)
         runs.wires.append(Wire(0, net, role, End(f"{net} rail", h1), End(f"{net} rail", h2), jumper=True))

@@ -321,7 +321,7 @@ def board_data(b: Build, plan: Plan) -> dict:
     return {"board": p.board.title, "board_key": p.board.key, "boards": p.boards, "method": p.method,
             "length_start": p.length_start, "length": p.length, "parts": parts, "wires": wires,
             "totals": totals, "chains": runs.chains, "colours": ROLE_COLOUR,
-            "breadboard": p.board.is_breadboard}
+            "breadboard": p.board.is_breadboard, "own_strips": [f"{ref}-{leg}" for ref, leg in p.own_strips]}
 
 
 def wiring_text(b: Build, analysis: Analysis, plan: Plan | None = None) -> str:
