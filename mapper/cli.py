@@ -336,12 +336,20 @@ def _storage_text(d: dict) -> str:
 
 
 def _print_paths(r) -> None:
-    print(f"\n{'output':<16}{'fastest typ':>12}{'fastest max':>12}{'slowest typ':>12}{'slowest max':>12}")
-    for p in r["paths"]:
-        cells = [p.get(k) for k in ("best_s", "best_max_s", "worst_typ_s", "worst_s")]
-        if r["relay"]:
-            cells[1] = cells[2] = None   # relay builds give the fastest typical and the slowest worst only
-        print(f"{p['output']:<16}" + "".join(f"{si(v, 's') if v is not None else '':>12}" for v in cells))
+    if r["relay"]:   # relay builds: the fastest change (typical relays) and the slowest (worst figures)
+        print(f"\n{'output':<16}{'fastest':>15}{'slowest':>15}")
+        for p in r["paths"]:
+            cells = [("with the clock" if p.get("storage") else "at once") if not p[k] else si(p[k], "s")
+                     for k in ("best_s", "worst_s")]
+            print(f"{p['output']:<16}{cells[0]:>15}{cells[1]:>15}")
+        if "clock_to_output_s" in r:
+            print(f"{'':16}(outputs of storage change {si(r['clock_to_output_s'], 's')} after a clock edge at "
+                  "the latest)")
+    else:
+        print(f"\n{'output':<16}{'fastest typ':>12}{'fastest max':>12}{'slowest typ':>12}{'slowest max':>12}")
+        for p in r["paths"]:
+            print(f"{p['output']:<16}" + "".join(f"{si(p[k], 's'):>12}" for k in
+                                                  ("best_s", "best_max_s", "worst_typ_s", "worst_s")))
     if not r["critical_path"]:
         return
     st = r.get("critical_start") or {}
@@ -372,8 +380,11 @@ def _print_clock(r) -> None:
               f"{_storage_text(path['to'])}" + (" (launched on the other edge)" if path.get("half_cycle") else ""))
     if r.get("clock_high_min_s") is not None:
         print(f"        keep the clock high at least {si(r['clock_high_min_s'], 's')} and low at least "
-              f"{si(r['clock_low_min_s'], 's')}; data inputs steady {si(r.get('input_setup_s'), 's')} before "
-              f"the clock edge and {si(r.get('input_hold_s'), 's')} after it")
+              f"{si(r['clock_low_min_s'], 's')} (every relay of the storage lands in that time)")
+        hold = si(r.get("input_hold_s"), "s")
+        print("        data inputs: " + (f"steady {si(r['input_setup_s'], 's')} before the clock edge and held "
+                                         f"{hold} after it" if r.get("input_setup_s") else
+                                         f"held {hold} after the clock edge"))
     else:
         if r.get("hold_slack_s") is not None:
             print(f"        smallest hold margin {si(r['hold_slack_s'], 's')} (at one tick per "

@@ -523,7 +523,9 @@ def timing(path, target_name, hazard_free: bool = False, multi: bool = False, ef
                                     max_work=None if max_transitions else TIMING_MAX_WORK, together=together)
         a.cautions = cautions(b, a.timing, a.supply, a.loops, None, a.glitches)
     t = a.timing.as_dict()
-    paths = t.get("paths") or [{"output": o, "best_s": v[0], "worst_s": v[1]} for o, v in t["outputs"].items()]
+    bits = {x for lt in b.latches for x in (lt.net, lt.state)}
+    paths = t.get("paths") or [{"output": o, "best_s": v[0], "worst_s": v[1],
+                                "storage": b.output_nets.get(o, o) in bits} for o, v in t["outputs"].items()]
     out = {"design": b.design, "target": target.name, "parts": len(b.parts), "relay": b.is_relay,
            "delay_s": t["delay_s"], "delay_typ_s": t["delay_typ_s"], "levels": t["levels"],
            "outputs": t["outputs"], "paths": paths, "critical_path": t["critical_path"],

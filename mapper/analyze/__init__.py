@@ -87,6 +87,8 @@ def analyze_build(build: Build, proof: Proof, glitches: Glitches | None = None,
 def _wiring_note(r) -> str:
     """The switch-level checks in one sentence with their counts."""
     how = "all of them" if r.exhaustive else "a sample"
+    cut = (f"; {r.late_orders_cut} of those without the slowest-relay orders, their budget spent"
+           if r.late_orders_cut else "")
     return (f"checked as wired, relays moving in every order: {r.stable_states} settled states and "
             f"{r.changes_checked + r.changes_sampled} input changes ({how}; {r.changes_sampled} of the changes "
-            f"on sampled orders), {r.states_visited:,} states visited, {r.defects} defect(s)")
+            f"on sampled orders{cut}), {r.states_visited:,} states visited, {r.defects} defect(s)")

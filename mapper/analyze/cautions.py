@@ -116,7 +116,6 @@ def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list, wi
     if build.support_nets("coil-diode"):
         out.append("the diode across each coil lengthens its release time (figures in the timing assume "
                    "so); a zener in series with the diode restores most of it")
-    per_level = timing.relay.per_level_s if timing.relay is not None else 0.0
     for lt in build.latches:
         if lt.inverted:
             start = ("must start at 1: its relay holds the complement, so with every relay released "
@@ -127,11 +126,13 @@ def relay_cautions(build: Build, timing: Timing, supply: Supply, loops: list, wi
             start = ("powers up at 0 (its relay released); the design leaves the start open: add a "
                      "power-on reset if another start matters")
         out.append(f"{lt.net}: {start}")
+    ck = timing.clock
     for seq in build.sequencers:
-        steps = 4 if seq.edge else 3
-        out.append(f"the {'clock' if seq.edge else 'enable'} {seq.control} is stepped through its phases by "
-                   f"{steps} relays in turn: keep it in each state at least {steps * per_level * 1000:.0f} ms "
-                   f"({steps} coil levels of {per_level * 1000:.1f} ms) so every step lands")
+        what = "clock" if seq.edge else "enable"
+        if ck is not None and ck.high_min_s is not None:
+            out.append(f"the {what} {seq.control} is stepped through its phases by four relays in turn: keep it "
+                       f"high at least {si(ck.high_min_s, 's')} and low at least {si(ck.low_min_s, 's')} so every "
+                       "step lands (worst figures, coil diodes included)")
     if build.sequencers:
         out.append("storage coils are fed through steering diodes (a load path and a hold path each): fit each "
                    "diode with its cathode towards the coil, as the wiring list says")

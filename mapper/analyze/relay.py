@@ -309,9 +309,7 @@ def relay_clock(build: Build, worst: dict, period_s: float | None = None):
     period = max(2 * high, 2 * low, data_T)
     limited_by = "storage-to-storage path" if data_T >= 2 * max(high, low) else "relay steps of the clock"
     out_arr = max((worst.get(build.output_nets.get(o, o), 0.0) for o in build.outputs), default=0.0)
-    notes = ["relay storage cannot race: one changeover contact cuts each master's load before its slave loads",
-             f"keep the clock high at least {si(high, 's')} and low at least {si(low, 's')} (every relay of the "
-             "storage lands in that time; worst figures, coil diodes included)"]
+    notes = ["relay storage cannot race: one changeover contact cuts each master's load before its slave loads"]
     if any(lt.kind in ("ah", "al") for lt in build.latches):
         notes.append("latches: the data must have landed in the latch's relay before the enable closes; data "
                      "through open latches is counted in full each half period")

@@ -77,9 +77,12 @@ def relay_transfers(build: Build) -> list:
         late[net] = max(la)
     out = []
     coils = set(build.coils.values())
+    inner, _ = storage_nets(build)
     for k in build.contacts:
-        if k.com in SUPPLY_NETS:
-            continue   # a pole whose common is the rail: its sides float, not the rail
+        if k.com in SUPPLY_NETS or k.com in inner:
+            # a pole whose common is the rail (its sides float, not the rail); the poles of storage and its
+            # sequencer move on the clock, and the clock figures say how long they take
+            continue
         coil = build.coils.get(k.part_ref)
         typ, transfer, bounce = sw.get(k.part_ref, (0.0, 0.0, 0.0))
         start = early.get(coil, 0.0)

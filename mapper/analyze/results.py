@@ -120,9 +120,9 @@ class Timing:
         if self.paths is not None:
             out["paths"] = self.paths
         out["critical_path"] = self.critical_path
+        out.update({"critical_start": self.critical_start, "critical_end": self.critical_end})
         if self.relay is None:
-            out.update({"critical_start": self.critical_start, "critical_end": self.critical_end,
-                        "overloaded": self.overloaded if self.overloaded is not None else []})
+            out["overloaded"] = self.overloaded if self.overloaded is not None else []
         if self.clock is not None:
             out.update(self.clock.as_dict())
         if self.relay is not None:

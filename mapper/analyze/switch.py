@@ -77,6 +77,10 @@ MAX_TOTAL_STATES = 60_000
 SAMPLED_ORDERS = 32
 #: moves after which one order is taken to be oscillating
 MAX_MOVES = 20_000
+#: relays (of those that moved) each given an order that moves it as late as it can, per sampled change
+SAMPLED_LATE = 24
+#: moves all the sampled orders of one run of checks may take (beyond: random orders only)
+MAX_SAMPLED_MOVES = 150_000
 
 RELEASED, OPERATED, TO_OPERATED, TO_RELEASED = 0, 1, 2, 3
 
@@ -165,6 +169,8 @@ class SwitchReport:
     back_feeds: list = field(default_factory=list)
     floating: list = field(default_factory=list)
     behaviour: list = field(default_factory=list)
+    #: sampled changes that got random orders only (the late orders' move budget was spent)
+    late_orders_cut: int = 0
     #: the settled states examined, ``(positions, inputs)`` (for the figures of :mod:`mapper.analyze.wired`)
     settled: list = field(default_factory=list, repr=False)
 
@@ -181,7 +187,7 @@ class SwitchReport:
                 "defects": self.defects, "order_dependent": self.order_dependent[:20],
                 "oscillations": self.oscillations[:20], "shorts": self.shorts[:20],
                 "back_feeds": self.back_feeds[:20], "floating": self.floating[:20],
-                "behaviour": self.behaviour[:20]}
+                "behaviour": self.behaviour[:20], "late_orders_cut": self.late_orders_cut}
 
 
 class _Explorer:
@@ -195,6 +201,10 @@ class _Explorer:
         self.budget = budget
         self.per_change = per_change
         self.sampled = sampled
+        self.moves_left = MAX_SAMPLED_MOVES
+        #: relays whose coil is fed through a diode (storage and sequencer steps)
+        steered = {k for a, k in circ.diodes if a != circ.gnd}   # coil diodes run from GND: not a feed
+        self.diode_fed = {r for r, coil in enumerate(circ.coil) if coil in steered}
 
     def powered(self, pos: tuple, inputs: int) -> bytearray:
         """Which nets are powered with relays at ``pos`` and input ``i`` on where bit ``i`` of ``inputs`` is set."""
@@ -229,23 +239,24 @@ class _Explorer:
     def _moving(self, pos) -> list:
         return [self.c.refs[r] for r, p in enumerate(pos) if p >= TO_OPERATED]
 
-    def successors(self, pos: tuple, on: bytearray) -> list:
+    def movable(self, pos: tuple, on: bytearray) -> list:
+        """``(relay, its next position)`` for every relay that can take a step from ``pos``."""
         out = []
         coil = self.c.coil
         for r, p in enumerate(pos):
-            want = OPERATED if coil[r] >= 0 and on[coil[r]] else RELEASED
-            if p == RELEASED and want == OPERATED:
-                nxt = TO_OPERATED
-            elif p == OPERATED and want == RELEASED:
-                nxt = TO_RELEASED
-            elif p == TO_OPERATED:
-                nxt = OPERATED
+            if p == TO_OPERATED:
+                out.append((r, OPERATED))
             elif p == TO_RELEASED:
-                nxt = RELEASED
+                out.append((r, RELEASED))
             else:
-                continue
-            out.append(pos[:r] + (nxt,) + pos[r + 1:])
+                c = coil[r]
+                want = OPERATED if c >= 0 and on[c] else RELEASED
+                if p != want:
+                    out.append((r, TO_OPERATED if want == OPERATED else TO_RELEASED))
         return out
+
+    def successors(self, pos: tuple, on: bytearray) -> list:
+        return [pos[:r] + (nxt,) + pos[r + 1:] for r, nxt in self.movable(pos, on)]
 
     def settle(self, start: tuple, inputs: int, what: str) -> list | None:
         """The settled states every order of moves from ``start`` can end in (``None``: too many states)."""
@@ -288,28 +299,47 @@ class _Explorer:
         return finals
 
     def sample(self, start: tuple, inputs: int, what: str, rng: random.Random) -> list:
-        """Settled states of sampled orders: random ones, and each moving relay as late as it can go."""
+        """Settled states of sampled orders: random ones, and moving relays each as late as it can go.
+
+        The late orders are tried for at most :data:`SAMPLED_LATE` of the
+        relays that moved, those fed through diodes (storage and its
+        sequencer) first; all sampled orders of a run of checks share
+        :data:`MAX_SAMPLED_MOVES` moves, and once they are spent a change
+        gets its random orders only (``report.late_orders_cut`` counts those).
+        """
         finals: list = []
-        runs: list = [None] * self.sampled + list(range(len(self.c.refs)))
         movers: set = set()
-        for k, slow in enumerate(runs):
-            if k >= self.sampled and slow not in movers:
-                continue
+        k = 0
+        late: list = []
+        while True:
+            if k < self.sampled:
+                slow = None
+            else:
+                if k == self.sampled:
+                    fed = self.diode_fed
+                    late = sorted(movers, key=lambda r: (r not in fed, rng.random()))[:SAMPLED_LATE]
+                    if late and self.moves_left <= 0:
+                        self.report.late_orders_cut += 1
+                        late = []
+                if k - self.sampled >= len(late):
+                    break
+                slow = late[k - self.sampled]
+            k += 1
             pos = start
             for _ in range(MAX_MOVES):
+                self.moves_left -= 1
                 on = self.powered(pos, inputs)
                 self._check_state(pos, inputs, on, what)
-                succ = self.successors(pos, on)
-                if not succ:
+                steps = self.movable(pos, on)
+                if not steps:
                     if pos not in finals:
                         finals.append(pos)
                     break
                 if slow is not None:
-                    others = [q for q in succ if q[slow] == pos[slow]]
-                    succ = others or succ
-                nxt = succ[rng.randrange(len(succ))]
-                movers.update(r for r in range(len(pos)) if nxt[r] != pos[r])
-                pos = nxt
+                    steps = [st for st in steps if st[0] != slow] or steps
+                r, p = steps[rng.randrange(len(steps))]
+                movers.add(r)
+                pos = pos[:r] + (p,) + pos[r + 1:]
             else:
                 self.report.oscillations.append({"when": what, "relays": self._moving(pos)})
         return finals
