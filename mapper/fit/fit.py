@@ -7,6 +7,10 @@ returned is proved equal to the design by the caller (:mod:`mapper.flow`).
 Candidates tried, as long as the budget lasts (it shrinks with the design;
 a design of over 6,000 nodes gets one mapping):
 
+* always, the builds a careful builder makes by hand (:mod:`mapper.fit.plain`):
+  the design converted to NAND2 (and NOR2) forms with double inversions
+  cancelled and identical gates shared, and each gate plugged into the cell
+  that carries it -- so the answer never has more parts than either;
 * the mapping with every cell of the target;
 * for a target of one NAND2 or NOR2 cell, the mapping of the dual design with
   the dual cell (read back with the rails swapped);
@@ -31,9 +35,10 @@ from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary
 from .pack import pack
+from .plain import hand_mapping, plugin_mapping
 from .storage import gate_storage
 
-__all__ = ["fit_gates", "mapping_netlist"]
+__all__ = ["baseline_builds", "fit_gates", "mapping_netlist"]
 
 log = logging.getLogger(__name__)
 
@@ -130,6 +135,15 @@ class _PartSearch:
         except RuntimeError as exc:
             raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
 
+    def baselines(self) -> None:
+        """The careful builder's builds (:func:`baseline_mappings`), whatever the budget: the
+        search must never answer with more parts than a build made by hand.  Hazard-free
+        builds (``keep``, ``trees``) have their own covers and skip them."""
+        if self.keep or self.trees:
+            return
+        for label, m in baseline_mappings(self.design, self.target, self.lib).items():
+            self.consider(m, label)
+
     def variants(self) -> None:
         """Other cut budgets and numbers of area-flow passes: the cover heuristics land in
         different local optima, and whole parts are what counts."""
@@ -219,6 +233,7 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     """
     search = _PartSearch(design, target, effort, keep, trees)
     search.first_mappings()
+    search.baselines()
     subject = search.subjects[0][1]
     search.variants()
     if effort > 0 and not search.big:
@@ -230,6 +245,28 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
     best.notes.append("part search: " + "; ".join(f"{label} {n}" for label, n in search.tried))
     return best
+
+
+def baseline_mappings(design: Netlist, target: Target, lib: CellLibrary | None = None) -> dict:
+    """label -> :class:`Mapping` of each build a careful builder makes without a mapper
+    (:mod:`mapper.fit.plain`): by hand in each complete 2-input cell of the target
+    (NAND2, NOR2), and gate for gate into the cells that carry them."""
+    lib = lib or _library(target)
+    out: dict = {}
+    for cell in _complete_cells(lib):
+        out[f"by hand in {cell}"] = hand_mapping(design, lib, cell)
+    m = plugin_mapping(design, lib)
+    if m is not None:
+        out["gate for gate"] = m
+    return out
+
+
+def baseline_builds(design: Netlist, target: Target) -> dict:
+    """label -> packed :class:`Build` of each of :func:`baseline_mappings` (what the
+    benchmarks and tests measure the part search against)."""
+    storage_cells = _storage_cells(target)
+    return {label: _assemble(design, target, m, storage_cells)
+            for label, m in baseline_mappings(design, target).items()}
 
 
 def dual_netlist(design: Netlist):

@@ -7,8 +7,9 @@ The published methods this follows:
 * k-feasible priority cuts with truth tables (Mishchenko, Cho, Chatterjee,
   Brayton, ICCAD 2007) -- :mod:`mapper.fit.cuts`;
 * Boolean matching of each cut's function, in both output phases, against
-  the target's match table (:mod:`mapper.fit.library`: exact minimum NAND2 /
-  NOR2 chains, or supergates of the target's cells);
+  the target's match table (:mod:`mapper.fit.library`: exact NAND2 / NOR2
+  chains -- proved minima, or best known where a 4-input class is not yet
+  proved -- or supergates of the target's cells);
 * cover selection: a delay-oriented pass, then area-flow passes and exact
   local area recovery with reference counting (Mishchenko, Chatterjee,
   Brayton, "Improvements to technology mapping for LUT-based FPGAs", IEEE

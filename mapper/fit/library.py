@@ -8,8 +8,13 @@ quad package costs 1/4) and its depth in cell levels.
 Two sources fill it:
 
 * **Exact chains** for targets whose only logic cell is a 2-input NAND or NOR
-  (``nand-only``, ``nor-only``): the minimum-gate networks found by SAT-based
-  exact synthesis (:mod:`mapper.logic.exact`).
+  (``nand-only``, ``nor-only``): the shipped table of SAT-based exact
+  synthesis (:mod:`mapper.logic.exact`).  Every function of up to three
+  inputs has a proved minimum chain; a 4-input class has a proved minimum
+  or, where the proof is not done yet, the best chain known (an upper
+  bound, at least as good as a Shannon split on any input from the proved
+  3-input chains).  The cover still weighs every chain against covers made
+  of smaller cuts, so an upper bound that a split beats is never used.
 * **Supergates** for any other target: compositions of the target's cells
   enumerated bottom-up (published: S. Chatterjee, A. Mishchenko, R. Brayton et
   al., "Reducing structural bias in technology mapping", ICCAD 2005): every

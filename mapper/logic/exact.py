@@ -346,9 +346,10 @@ class _Encoder:
         single = len(self.tables) == 1
         self.o = None
         self.out = self.x[r - 1] if single else None
-        if single and not self.free:
+        if single:
+            # a free output (enumeration) is the last gate, its table left open
             f = self.tables[0]
-            for t in range(self.rows):
+            for t in range(0 if self.free else self.rows):
                 v = self.x[r - 1][t]
                 cl.append([v if (f >> t) & 1 else -v])
         else:
