@@ -141,7 +141,7 @@ class _PartSearch:
         builds (``keep``, ``trees``) have their own covers and skip them."""
         if self.keep or self.trees:
             return
-        for label, m in baseline_mappings(self.design, self.target, self.lib).items():
+        for label, m in baseline_mappings(self.design, self.target, self.lib, quick=self.big).items():
             self.consider(m, label)
 
     def variants(self) -> None:
@@ -247,14 +247,23 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     return best
 
 
-def baseline_mappings(design: Netlist, target: Target, lib: CellLibrary | None = None) -> dict:
+def baseline_mappings(design: Netlist, target: Target, lib: CellLibrary | None = None,
+                      quick: bool = False) -> dict:
     """label -> :class:`Mapping` of each build a careful builder makes without a mapper
     (:mod:`mapper.fit.plain`): by hand in each complete 2-input cell of the target
-    (NAND2, NOR2), and gate for gate into the cells that carry them."""
+    (NAND2, NOR2), and gate for gate into the cells that carry them.
+
+    ``quick`` leaves out gate for gate where it cannot win: on a target of one
+    NAND2 or NOR2 cell, a design drawn only in gates of at most two inputs
+    (each textbook form is the gate's own minimum chain, and the hand
+    conversion only shares and cancels)."""
     lib = lib or _library(target)
     out: dict = {}
     for cell in _complete_cells(lib):
         out[f"by hand in {cell}"] = hand_mapping(design, lib, cell)
+    if quick and len(lib.cells) == 1 and out and all(
+            node.func.n <= 2 for node in design.nodes.values() if isinstance(node, Logic)):
+        return out
     m = plugin_mapping(design, lib)
     if m is not None:
         out["gate for gate"] = m
