@@ -33,7 +33,7 @@ from ..logic.function import Function
 from ..netlist import Logic, Netlist
 from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
-from .library import CellLibrary
+from .library import CellLibrary, RecostedLibrary
 from .pack import pack
 from .plain import hand_mapping, plugin_mapping
 from .storage import gate_storage
@@ -95,10 +95,15 @@ class _PartSearch:
         self.budget -= 1
         return True
 
-    def consider(self, mapping: Mapping, label: str) -> tuple:
+    def consider(self, mapping: Mapping, label: str, floor: bool = False) -> tuple:
+        """Assemble ``mapping`` and keep it if it scores best so far; a ``floor``
+        candidate (a baseline) is kept only with fewer parts, so that ties between
+        builds of as many parts stay with the mapper's own."""
         b = _assemble(self.design, self.target, mapping, self.storage_cells)
         self.tried.append((label, len(b.parts)))
         score = _score(b, mapping)
+        if floor and self.best is not None and score[0] >= self.best_score[0]:
+            return score
         if self.best is None or score < self.best_score:
             self.best, self.best_mapping, self.best_score = b, mapping, score
         return score
@@ -142,7 +147,7 @@ class _PartSearch:
         if self.keep or self.trees:
             return
         for label, m in baseline_mappings(self.design, self.target, self.lib, quick=self.big).items():
-            self.consider(m, label)
+            self.consider(m, label, floor=True)
 
     def variants(self) -> None:
         """Other cut budgets and numbers of area-flow passes: the cover heuristics land in
@@ -154,6 +159,31 @@ class _PartSearch:
                     break
                 m = map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes)
                 self.consider(_undual(m) if label else m, f"{label}{limit} cuts, {passes} passes")
+
+    def package_costs(self) -> None:
+        """Map again with each cell's cost following how full its packages were in the
+        best build so far: a cell type whose last package is nearly empty costs more (its
+        cells moving elsewhere can empty that package), a type not used at all costs more
+        (it would need a package of its own), a type with spare slots keeps its price.
+        Repeated while the part count falls."""
+        base = self.lib
+        for _ in range(3):
+            if self.best_mapping is None or not self.spend():
+                return
+            counts: dict = {}
+            for c in self.best_mapping.cells:
+                counts[c.cell] = counts.get(c.cell, 0) + 1
+            costs = {}
+            for cell, cost in base.costs.items():
+                slots = max(1, round(1 / cost))
+                n = counts.get(cell, 0)
+                last = n % slots  # cells in a package not full (0: all full)
+                costs[cell] = cost * (2.0 if n == 0 else 1.0 + (slots - last) / slots if last else 1.0)
+            before = self.best_score
+            subj_design, subj, _, _ = self.subjects[0]
+            m = map_logic(subj_design, RecostedLibrary(base, costs), subject=subj)
+            if self.consider(m, "package costs") >= before:
+                return
 
     def remap(self) -> None:
         """Re-map the mapped logic: a second subject graph built from the best cover so far."""
@@ -238,6 +268,8 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     search.variants()
     if effort > 0 and not search.big:
         search.remap()
+        if len(search.lib.cells) > 1:
+            search.package_costs()
     if effort > 0 and len(search.lib.cells) > 1:
         search.seeds(subject)
         search.drop_types(subject)

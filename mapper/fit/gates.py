@@ -36,7 +36,7 @@ from .choices import structural_choices
 from .cuts import enumerate_cuts
 from .library import GND, VCC, CellLibrary, Impl
 
-__all__ = ["CellUse", "Mapping", "Subject", "map_logic", "subject_graph"]
+__all__ = ["CellUse", "Mapping", "Subject", "cell_depth", "map_logic", "subject_graph"]
 
 log = logging.getLogger(__name__)
 
@@ -610,7 +610,7 @@ class _Mapper:
                 cn = netof[(c >> 1, c & 1)] if c > 1 else ("VCC" if c else "GND")
             storage_nets[latch.name] = (dn, cn)
         area = sum(lib.costs[c.cell] for c in cells)
-        return Mapping(cells, outputs, storage_nets, area, _depth(cells, design.inputs))
+        return Mapping(cells, outputs, storage_nets, area, cell_depth(cells, design.inputs))
 
     def _inverter(self) -> Impl:
         """The library's inverter; a choice of an inverted phase is made only when there is one."""
@@ -698,7 +698,8 @@ def _symmetric(func) -> bool:
     return True
 
 
-def _depth(cells, inputs) -> int:
+def cell_depth(cells, inputs) -> int:
+    """Levels of cells on the longest path (cells in topological order)."""
     lev = {i: 0 for i in inputs}
     best = 0
     for c in cells:  # cells are emitted in topological order

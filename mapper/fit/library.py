@@ -334,3 +334,28 @@ def _exact_impl(cell: str, gate: str, n: int, table: int, cost: float) -> Impl |
         depth[n + i] = 1 + max(depth[a], depth[b])
     out = chain.outputs[0]
     return Impl(cost * len(gates), depth[out], gates, out)
+
+
+class RecostedLibrary(CellLibrary):
+    """``base``'s match table weighed with other costs per cell: the same
+    networks, each costed as the sum of its cells' new costs (the network
+    chosen per function stays the base table's; the cover's choices between
+    cuts and phases follow the new costs)."""
+
+    def __init__(self, base: CellLibrary, costs: dict):  # noqa: D107 -- no table of its own
+        self.base = base
+        self.target, self.k, self.cells = base.target, base.k, base.cells
+        self.costs = costs
+        self.exact_gate = base.exact_gate
+        self._tables = {}
+        self._memo: dict = {}
+
+    def lookup(self, n: int, table: int) -> Impl | None:
+        key = (n, table)
+        if key in self._memo:
+            return self._memo[key]
+        impl = self.base.lookup(n, table)
+        if impl is not None:
+            impl = Impl(sum(self.costs[c] for c, _ in impl.gates), impl.depth, impl.gates, impl.out)
+        self._memo[key] = impl
+        return impl

@@ -24,7 +24,7 @@ Storage elements are left to the caller, as in every mapping.
 from __future__ import annotations
 
 from ..netlist import Logic, Netlist, describe_function
-from .gates import CellUse, Mapping, _depth
+from .gates import CellUse, Mapping, cell_depth
 from .library import GND as LGND
 from .library import VCC as LVCC
 from .library import CellLibrary
@@ -231,7 +231,7 @@ def _convert(design: Netlist, lib: CellLibrary, cell: str, push_xor: bool) -> Ma
                for net, s in design.storage().items()}
     cells = _live(gates.cells, list(outputs.values()) + [n for pair in storage.values() for n in pair if n])
     area = lib.costs[cell] * len(cells)
-    return Mapping(cells, outputs, storage, area, _depth(cells, design.inputs))
+    return Mapping(cells, outputs, storage, area, cell_depth(cells, design.inputs))
 
 
 def _live(cells: list, roots: list) -> list:
@@ -295,7 +295,7 @@ def plugin_mapping(design: Netlist, lib: CellLibrary) -> Mapping | None:
                for net, s in design.storage().items()}
     cells = _live(cells, list(outputs.values()) + [n for pair in storage.values() for n in pair if n])
     area = sum(lib.costs[c.cell] for c in cells)
-    return Mapping(cells, outputs, storage, area, _depth(cells, design.inputs))
+    return Mapping(cells, outputs, storage, area, cell_depth(cells, design.inputs))
 
 
 def _plug(lib: CellLibrary, n: int, table: int, sig: list, emit):
