@@ -162,10 +162,11 @@ class _PartSearch:
 
     def package_costs(self) -> None:
         """Map again with each cell's cost following how full its packages were in the
-        best build so far: a cell type whose last package is nearly empty costs more (its
-        cells moving elsewhere can empty that package), a type not used at all costs more
-        (it would need a package of its own), a type with spare slots keeps its price.
-        Repeated while the part count falls."""
+        best build so far: the more of a cell type's last package stands empty, the more
+        the type costs, up to twice its slot price (its few cells there, moved to other
+        types, empty that package); a type with every package full keeps its price, and a
+        type not used at all costs twice (it would need a package of its own).  Repeated,
+        from the new best build, while the part count falls."""
         base = self.lib
         for _ in range(3):
             if self.best_mapping is None or not self.spend():

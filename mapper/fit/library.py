@@ -342,7 +342,7 @@ class RecostedLibrary(CellLibrary):
     chosen per function stays the base table's; the cover's choices between
     cuts and phases follow the new costs)."""
 
-    def __init__(self, base: CellLibrary, costs: dict):  # noqa: D107 -- no table of its own
+    def __init__(self, base: CellLibrary, costs: dict):  # no table of its own: base's, recosted
         self.base = base
         self.target, self.k, self.cells = base.target, base.k, base.cells
         self.costs = costs

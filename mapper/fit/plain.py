@@ -14,10 +14,14 @@ never worse than either):
   as exclusive-ORs, ANDs and an OR comes out as the 9-NAND full adder, and a
   half adder as the 5-NAND one: the gates that the textbook forms share are
   exactly the ones those circuits share.  NOR2 forms are the same with the
-  roles of AND and OR exchanged (De Morgan).
+  roles of AND and OR exchanged (De Morgan).  Complements at the inputs of
+  an exclusive-OR are either built or pushed to its output, whichever needs
+  fewer gates over the whole design.
 * :func:`plugin_mapping` -- each gate of the design into the cell that
   carries it; a gate no cell carries (an XNOR on a target without one) gets
-  the cheapest small network of the target's cells for its function.
+  the cheapest small network of the target's cells for its function (up to
+  four inputs), else its smallest two-level cover in AND, OR and inverter
+  cells.
 
 Storage elements are left to the caller, as in every mapping.
 """
