@@ -286,15 +286,14 @@ def baseline_mappings(design: Netlist, target: Target, lib: CellLibrary | None =
     (:mod:`mapper.fit.plain`): by hand in each complete 2-input cell of the target
     (NAND2, NOR2), and gate for gate into the cells that carry them.
 
-    ``quick`` (big designs) converts by hand one way only (see
-    :func:`mapper.fit.plain.hand_mapping`) and leaves out gate for gate where
-    it cannot win: on a target of one NAND2 or NOR2 cell, a design drawn only
-    in gates of at most two inputs (each textbook form is the gate's own
-    minimum chain, and the hand conversion only shares and cancels)."""
+    ``quick`` (big designs) leaves out gate for gate where it cannot win: on
+    a target of one NAND2 or NOR2 cell, a design drawn only in gates of at
+    most two inputs (each textbook form is the gate's own minimum chain, and
+    the hand conversion only shares and cancels)."""
     lib = lib or _library(target)
     out: dict = {}
     for cell in _complete_cells(lib):
-        out[f"by hand in {cell}"] = hand_mapping(design, lib, cell, quick)
+        out[f"by hand in {cell}"] = hand_mapping(design, lib, cell)
     if quick and len(lib.cells) == 1 and out and all(
             node.func.n <= 2 for node in design.nodes.values() if isinstance(node, Logic)):
         return out

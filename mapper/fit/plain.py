@@ -207,17 +207,15 @@ class _HandConversion:
         return self.cover(sigs, cubes, phase)
 
 
-def hand_mapping(design: Netlist, lib: CellLibrary, cell: str, quick: bool = False) -> Mapping:
+def hand_mapping(design: Netlist, lib: CellLibrary, cell: str) -> Mapping:
     """The careful hand conversion of ``design`` to ``cell`` (a NAND2 or NOR2
     cell of ``lib``'s target); see the module docstring.  Only gates that
     some output or storage input reads are kept.  Complements at the inputs
     of an exclusive-OR are either pushed to its output or built; both ways
-    are tried over the whole design and the one with fewer gates is kept.
-    ``quick`` (for big designs) tries only the way that usually wins: built
-    for NAND2, pushed for NOR2 (whose four-gate form makes an XNOR)."""
-    nor = lib.cells[cell].function.table() == 0b0001
-    ways = (nor,) if quick else (False, True)
-    got = [_convert(design, lib, cell, push) for push in ways]
+    are tried over the whole design and the one with fewer gates is kept
+    (neither wins always: on ariths-gen's 4-bit array multiplier building
+    them saves gates, on its 41-bit one pushing them does)."""
+    got = [_convert(design, lib, cell, push) for push in (False, True)]
     return min(got, key=lambda m: len(m.cells))
 
 
