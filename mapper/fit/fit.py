@@ -147,6 +147,14 @@ class _PartSearch:
         if self.keep or self.trees:
             return
         for label, m in baseline_mappings(self.design, self.target, self.lib, quick=self.big).items():
+            if len(self.lib.cells) == 1 and self.best is not None:
+                # one cell type: the slots alone bound the parts from below, and a floor
+                # candidate must have fewer parts; no need to pack one that cannot
+                (cost,) = self.lib.costs.values()
+                at_least = -(-len(m.cells) // max(1, round(1 / cost)))
+                if at_least >= self.best_score[0]:
+                    self.tried.append((label + " (at least)", at_least))
+                    continue
             self.consider(m, label, floor=True)
 
     def variants(self) -> None:

@@ -173,9 +173,8 @@ class _HandConversion:
         net, neg = prods[0] if len(prods) == 1 else self.or_(prods)
         return net, neg if phase else not neg
 
-    def node(self, node: Logic, sigs):
+    def node(self, node: Logic, sigs, kind: str):
         f = node.func
-        kind = describe_function(f)
         if kind == "const":
             return ("VCC" if f.constant_value() else "GND"), False
         if kind == "buf":
@@ -215,29 +214,33 @@ def hand_mapping(design: Netlist, lib: CellLibrary, cell: str) -> Mapping:
     are tried over the whole design and the one with fewer gates is kept
     (neither wins always: on ariths-gen's 4-bit array multiplier building
     them saves gates, on its 41-bit one pushing them does)."""
-    got = [_convert(design, lib, cell, push) for push in (False, True)]
-    return min(got, key=lambda m: len(m.cells))
+    order = design.topological_order()
+    kinds = {name: describe_function(node.func) for name, node in design.nodes.items() if isinstance(node, Logic)}
+    gate = {0b0111: "nand", 0b0001: "nor"}[lib.cells[cell].function.table()]
+    got = [_convert(design, order, kinds, cell, gate, push) for push in (False, True)]
+    cells, outputs, storage = min(got, key=lambda m: len(m[0]))
+    area = lib.costs[cell] * len(cells)
+    return Mapping(cells, outputs, storage, area, cell_depth(cells, design.inputs))
 
 
-def _convert(design: Netlist, lib: CellLibrary, cell: str, push_xor: bool) -> Mapping:
-    t = lib.cells[cell].function.table()
-    kind = {0b0111: "nand", 0b0001: "nor"}[t]
+def _convert(design: Netlist, order: list, kinds: dict, cell: str, kind: str, push_xor: bool) -> tuple:
+    """``(cells, outputs, storage nets)`` of one hand conversion to ``cell`` of gate ``kind``."""
     taken = set(design.nodes) | set(design.inputs) | {"VCC", "GND"}
     gates = _Gates(cell, kind, taken)
     conv = _HandConversion(gates, push_xor)
     sig: dict = {}
-    for name in design.topological_order():
-        node = design.nodes[name]
+    nodes = design.nodes
+    for name in order:
+        node = nodes[name]
         if not isinstance(node, Logic):
             sig[name] = (name, False)
             continue
-        sig[name] = conv.node(node, [sig[f] for f in node.fanins])
+        sig[name] = conv.node(node, [sig[f] for f in node.fanins], kinds[name])
     outputs = {o: conv.pos(sig[o]) for o in design.outputs}
     storage = {net: (conv.pos(sig[s.d]), conv.pos(sig[s.control]) if s.control is not None else None)
                for net, s in design.storage().items()}
     cells = _live(gates.cells, list(outputs.values()) + [n for pair in storage.values() for n in pair if n])
-    area = lib.costs[cell] * len(cells)
-    return Mapping(cells, outputs, storage, area, cell_depth(cells, design.inputs))
+    return cells, outputs, storage
 
 
 def _live(cells: list, roots: list) -> list:
