@@ -45,6 +45,23 @@ def _support(n: int, table: int):
     return r
 
 
+def _positions(sub: tuple, leaves: tuple) -> tuple:
+    """Where each leaf of ``sub`` sits in ``leaves``."""
+    return tuple([leaves.index(x) for x in sub])
+
+
+def _dominated(l: tuple, seen: dict) -> bool:
+    """Whether ``seen`` holds ``l`` less one of its leaves."""
+    if len(l) == 2:
+        return (l[1],) in seen or (l[0],) in seen
+    if len(l) == 3:
+        return (l[1], l[2]) in seen or (l[0], l[2]) in seen or (l[0], l[1]) in seen
+    for i in range(len(l)):
+        if l[:i] + l[i + 1:] in seen:
+            return True
+    return False
+
+
 def expand_table(table: int, positions: tuple, n: int) -> int:
     """Re-express a table over ``len(positions)`` inputs in an ``n``-input space.
 
@@ -158,8 +175,8 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
                     leaves = tuple(sorted(u))
                 n = len(leaves)
                 full = _FULL[n]
-                xa = ta if leaves == la else expand_table(ta, tuple(leaves.index(x) for x in la), n)
-                xb = tb if leaves == lb else expand_table(tb, tuple(leaves.index(x) for x in lb), n)
+                xa = ta if leaves == la else expand_table(ta, _positions(la, leaves), n)
+                xb = tb if leaves == lb else expand_table(tb, _positions(lb, leaves), n)
                 if ca_:
                     xa ^= full
                 if cb_:
@@ -182,13 +199,19 @@ def enumerate_cuts(aig, k: int = 4, limit: int = 8, cost=None, nodes=None, after
                     seen[leaves] = t
         # remove dominated cuts: another cut's leaves are this one's less one
         # leaf (smaller subsets are not checked; that keeps a few redundant cuts)
-        found = [(l, t) for l, t in seen.items()
-                 if len(l) < 2 or not any(l[:i] + l[i + 1:] in seen for i in range(len(l)))]
+        found = [(l, t) for l, t in seen.items() if len(l) < 2 or not _dominated(l, seen)]
         if cost is not None:
             found.sort(key=lambda lt: cost(v, lt[0], lt[1]))
         else:
             found.sort(key=lambda lt: len(lt[0]))
-        found = found[:limit]
+        if len(found) > limit:
+            # beyond the priority cuts, the best cut whose leaves are all inputs: area flow
+            # under-counts leaves shared by other cuts, which can push out the one cut
+            # whose match (an exact chain over the inputs) is the whole cone's best
+            extra = next((c for c in found[limit:] if all(f0[x] < 0 for x in c[0])), None)
+            found = found[:limit]
+            if extra is not None:
+                found.append(extra)
         found.append(triv)
         cuts[v] = found
         if after is not None:

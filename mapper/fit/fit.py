@@ -7,6 +7,10 @@ returned is proved equal to the design by the caller (:mod:`mapper.flow`).
 Candidates tried, as long as the budget lasts (it shrinks with the design;
 a design of over 6,000 nodes gets one mapping):
 
+* always, the builds a careful builder makes by hand (:mod:`mapper.fit.plain`):
+  the design converted to NAND2 (and NOR2) forms with double inversions
+  cancelled and identical gates shared, and each gate plugged into the cell
+  that carries it -- so the answer never has more parts than either;
 * the mapping with every cell of the target;
 * for a target of one NAND2 or NOR2 cell, the mapping of the dual design with
   the dual cell (read back with the rails swapped);
@@ -29,11 +33,12 @@ from ..logic.function import Function
 from ..netlist import Logic, Netlist
 from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
-from .library import CellLibrary
+from .library import CellLibrary, RecostedLibrary
 from .pack import pack
+from .plain import hand_mapping, plugin_mapping
 from .storage import gate_storage
 
-__all__ = ["fit_gates", "mapping_netlist"]
+__all__ = ["baseline_builds", "fit_gates", "mapping_netlist"]
 
 log = logging.getLogger(__name__)
 
@@ -90,10 +95,15 @@ class _PartSearch:
         self.budget -= 1
         return True
 
-    def consider(self, mapping: Mapping, label: str) -> tuple:
+    def consider(self, mapping: Mapping, label: str, floor: bool = False) -> tuple:
+        """Assemble ``mapping`` and keep it if it scores best so far; a ``floor``
+        candidate (a baseline) is kept only with fewer parts, so that ties between
+        builds of as many parts stay with the mapper's own."""
         b = _assemble(self.design, self.target, mapping, self.storage_cells)
         self.tried.append((label, len(b.parts)))
         score = _score(b, mapping)
+        if floor and self.best is not None and score[0] >= self.best_score[0]:
+            return score
         if self.best is None or score < self.best_score:
             self.best, self.best_mapping, self.best_score = b, mapping, score
         return score
@@ -130,6 +140,23 @@ class _PartSearch:
         except RuntimeError as exc:
             raise UsageError(f"target {target.name} cannot build this design's logic with its cells ({exc})") from None
 
+    def baselines(self) -> None:
+        """The careful builder's builds (:func:`baseline_mappings`), whatever the budget: the
+        search must never answer with more parts than a build made by hand.  Hazard-free
+        builds (``keep``, ``trees``) have their own covers and skip them."""
+        if self.keep or self.trees:
+            return
+        for label, m in baseline_mappings(self.design, self.target, self.lib, quick=self.big).items():
+            if len(self.lib.cells) == 1 and self.best is not None:
+                # one cell type: the slots alone bound the parts from below, and a floor
+                # candidate must have fewer parts; no need to pack one that cannot
+                (cost,) = self.lib.costs.values()
+                at_least = -(-len(m.cells) // max(1, round(1 / cost)))
+                if at_least >= self.best_score[0]:
+                    self.tried.append((label + " (at least)", at_least))
+                    continue
+            self.consider(m, label, floor=True)
+
     def variants(self) -> None:
         """Other cut budgets and numbers of area-flow passes: the cover heuristics land in
         different local optima, and whole parts are what counts."""
@@ -140,6 +167,32 @@ class _PartSearch:
                     break
                 m = map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes)
                 self.consider(_undual(m) if label else m, f"{label}{limit} cuts, {passes} passes")
+
+    def package_costs(self) -> None:
+        """Map again with each cell's cost following how full its packages were in the
+        best build so far: the more of a cell type's last package stands empty, the more
+        the type costs, up to twice its slot price (its few cells there, moved to other
+        types, empty that package); a type with every package full keeps its price, and a
+        type not used at all costs twice (it would need a package of its own).  Repeated,
+        from the new best build, while the part count falls."""
+        base = self.lib
+        for _ in range(3):
+            if self.best_mapping is None or not self.spend():
+                return
+            counts: dict = {}
+            for c in self.best_mapping.cells:
+                counts[c.cell] = counts.get(c.cell, 0) + 1
+            costs = {}
+            for cell, cost in base.costs.items():
+                slots = max(1, round(1 / cost))
+                n = counts.get(cell, 0)
+                last = n % slots  # cells in a package not full (0: all full)
+                costs[cell] = cost * (2.0 if n == 0 else 1.0 + (slots - last) / slots if last else 1.0)
+            before = self.best_score
+            subj_design, subj, _, _ = self.subjects[0]
+            m = map_logic(subj_design, RecostedLibrary(base, costs), subject=subj)
+            if self.consider(m, "package costs") >= before:
+                return
 
     def remap(self) -> None:
         """Re-map the mapped logic: a second subject graph built from the best cover so far."""
@@ -219,10 +272,13 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     """
     search = _PartSearch(design, target, effort, keep, trees)
     search.first_mappings()
+    search.baselines()
     subject = search.subjects[0][1]
     search.variants()
     if effort > 0 and not search.big:
         search.remap()
+        if len(search.lib.cells) > 1:
+            search.package_costs()
     if effort > 0 and len(search.lib.cells) > 1:
         search.seeds(subject)
         search.drop_types(subject)
@@ -230,6 +286,37 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
     best.notes.append("part search: " + "; ".join(f"{label} {n}" for label, n in search.tried))
     return best
+
+
+def baseline_mappings(design: Netlist, target: Target, lib: CellLibrary | None = None,
+                      quick: bool = False) -> dict:
+    """label -> :class:`Mapping` of each build a careful builder makes without a mapper
+    (:mod:`mapper.fit.plain`): by hand in each complete 2-input cell of the target
+    (NAND2, NOR2), and gate for gate into the cells that carry them.
+
+    ``quick`` (big designs) leaves out gate for gate where it cannot win: on
+    a target of one NAND2 or NOR2 cell, a design drawn only in gates of at
+    most two inputs (each textbook form is the gate's own minimum chain, and
+    the hand conversion only shares and cancels)."""
+    lib = lib or _library(target)
+    out: dict = {}
+    for cell in _complete_cells(lib):
+        out[f"by hand in {cell}"] = hand_mapping(design, lib, cell)
+    if quick and len(lib.cells) == 1 and out and all(
+            node.func.n <= 2 for node in design.nodes.values() if isinstance(node, Logic)):
+        return out
+    m = plugin_mapping(design, lib)
+    if m is not None:
+        out["gate for gate"] = m
+    return out
+
+
+def baseline_builds(design: Netlist, target: Target) -> dict:
+    """label -> packed :class:`Build` of each of :func:`baseline_mappings` (what the
+    benchmarks and tests measure the part search against)."""
+    storage_cells = _storage_cells(target)
+    return {label: _assemble(design, target, m, storage_cells)
+            for label, m in baseline_mappings(design, target).items()}
 
 
 def dual_netlist(design: Netlist):

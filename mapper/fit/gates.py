@@ -7,8 +7,9 @@ The published methods this follows:
 * k-feasible priority cuts with truth tables (Mishchenko, Cho, Chatterjee,
   Brayton, ICCAD 2007) -- :mod:`mapper.fit.cuts`;
 * Boolean matching of each cut's function, in both output phases, against
-  the target's match table (:mod:`mapper.fit.library`: exact minimum NAND2 /
-  NOR2 chains, or supergates of the target's cells);
+  the target's match table (:mod:`mapper.fit.library`: exact NAND2 / NOR2
+  chains -- proved minima, or best known where a 4-input class is not yet
+  proved -- or supergates of the target's cells);
 * cover selection: a delay-oriented pass, then area-flow passes and exact
   local area recovery with reference counting (Mishchenko, Chatterjee,
   Brayton, "Improvements to technology mapping for LUT-based FPGAs", IEEE
@@ -35,7 +36,7 @@ from .choices import structural_choices
 from .cuts import enumerate_cuts
 from .library import GND, VCC, CellLibrary, Impl
 
-__all__ = ["CellUse", "Mapping", "Subject", "map_logic", "subject_graph"]
+__all__ = ["CellUse", "Mapping", "Subject", "cell_depth", "map_logic", "subject_graph"]
 
 log = logging.getLogger(__name__)
 
@@ -609,7 +610,7 @@ class _Mapper:
                 cn = netof[(c >> 1, c & 1)] if c > 1 else ("VCC" if c else "GND")
             storage_nets[latch.name] = (dn, cn)
         area = sum(lib.costs[c.cell] for c in cells)
-        return Mapping(cells, outputs, storage_nets, area, _depth(cells, design.inputs))
+        return Mapping(cells, outputs, storage_nets, area, cell_depth(cells, design.inputs))
 
     def _inverter(self) -> Impl:
         """The library's inverter; a choice of an inverted phase is made only when there is one."""
@@ -697,7 +698,8 @@ def _symmetric(func) -> bool:
     return True
 
 
-def _depth(cells, inputs) -> int:
+def cell_depth(cells, inputs) -> int:
+    """Levels of cells on the longest path (cells in topological order)."""
     lev = {i: 0 for i in inputs}
     best = 0
     for c in cells:  # cells are emitted in topological order

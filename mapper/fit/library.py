@@ -8,8 +8,13 @@ quad package costs 1/4) and its depth in cell levels.
 Two sources fill it:
 
 * **Exact chains** for targets whose only logic cell is a 2-input NAND or NOR
-  (``nand-only``, ``nor-only``): the minimum-gate networks found by SAT-based
-  exact synthesis (:mod:`mapper.logic.exact`).
+  (``nand-only``, ``nor-only``): the shipped table of SAT-based exact
+  synthesis (:mod:`mapper.logic.exact`).  Every function of up to three
+  inputs has a proved minimum chain; a 4-input class has a proved minimum
+  or, where the proof is not done yet, the best chain known (an upper
+  bound, at least as good as a Shannon split on any input from the proved
+  3-input chains).  The cover still weighs every chain against covers made
+  of smaller cuts, so an upper bound that a split beats is never used.
 * **Supergates** for any other target: compositions of the target's cells
   enumerated bottom-up (published: S. Chatterjee, A. Mishchenko, R. Brayton et
   al., "Reducing structural bias in technology mapping", ICCAD 2005): every
@@ -329,3 +334,28 @@ def _exact_impl(cell: str, gate: str, n: int, table: int, cost: float) -> Impl |
         depth[n + i] = 1 + max(depth[a], depth[b])
     out = chain.outputs[0]
     return Impl(cost * len(gates), depth[out], gates, out)
+
+
+class RecostedLibrary(CellLibrary):
+    """``base``'s match table weighed with other costs per cell: the same
+    networks, each costed as the sum of its cells' new costs (the network
+    chosen per function stays the base table's; the cover's choices between
+    cuts and phases follow the new costs)."""
+
+    def __init__(self, base: CellLibrary, costs: dict):  # no table of its own: base's, recosted
+        self.base = base
+        self.target, self.k, self.cells = base.target, base.k, base.cells
+        self.costs = costs
+        self.exact_gate = base.exact_gate
+        self._tables = {}
+        self._memo: dict = {}
+
+    def lookup(self, n: int, table: int) -> Impl | None:
+        key = (n, table)
+        if key in self._memo:
+            return self._memo[key]
+        impl = self.base.lookup(n, table)
+        if impl is not None:
+            impl = Impl(sum(self.costs[c] for c, _ in impl.gates), impl.depth, impl.gates, impl.out)
+        self._memo[key] = impl
+        return impl

@@ -48,13 +48,18 @@ computes, so a minimum NOR2 chain for ``f`` is a minimum NAND2 chain for
 
 The table
 ---------
-``mapper/data/exact_nand2.json`` (made by ``scripts/make_exact_table.py``)
-holds a minimum NAND2 chain for every function of 1, 2 and 3 inputs and one
-chain per input-permutation class of 4-input functions (3984 classes; only
+``mapper/data/exact_nand2.json`` (made by ``scripts/make_exact_table.py``,
+then taken further by ``scripts/prove_exact_table.py``) holds a minimum NAND2
+chain for every function of 1, 2 and 3 inputs and one chain per
+input-permutation class of 4-input functions (3984 classes; only
 permutations are free in NAND2, so NPN classes would not do), each with a
-proved lower bound and marked proved minimum or only an upper bound (when
-the generator's budget ran out first).  :func:`lookup` applies the
+proved lower bound and marked proved minimum or only an upper bound: not
+every 4-input class is proved yet (``table_info()["proved_4"]`` says how
+many are).  An unproved chain is the best known: no longer than a Shannon
+split on any input from the proved 3-input chains, nor than the cut
+mapper's cover of the function alone.  :func:`lookup` applies the
 permutation and the duality; its ``meta`` block records how it was made.
+By duality the NOR2 table is proved exactly where the NAND2 one is.
 
 Examples
 --------
@@ -346,9 +351,10 @@ class _Encoder:
         single = len(self.tables) == 1
         self.o = None
         self.out = self.x[r - 1] if single else None
-        if single and not self.free:
+        if single:
+            # a free output (enumeration) is the last gate, its table left open
             f = self.tables[0]
-            for t in range(self.rows):
+            for t in range(0 if self.free else self.rows):
                 v = self.x[r - 1][t]
                 cl.append([v if (f >> t) & 1 else -v])
         else:
@@ -738,8 +744,9 @@ def lookup_entry(n: int, table: int, gate: str = "nand") -> tuple[Chain, bool, i
 
 
 def lookup(n: int, table: int, gate: str = "nand") -> Chain | None:
-    """A minimum (or best known, for unproved 4-input classes) chain from the
-    shipped table, without SAT; ``None`` if the table does not hold it."""
+    """A chain from the shipped table, without SAT: a proved minimum, or for
+    a 4-input class not yet proved the best chain known (an upper bound;
+    see :func:`lookup_entry`); ``None`` if the table does not hold it."""
     got = lookup_entry(n, table, gate)
     return None if got is None else got[0]
 
