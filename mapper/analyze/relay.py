@@ -47,7 +47,6 @@ import networkx as nx
 from ..build import SUPPLY_NETS, Build
 from ..order import topological_order
 from ..relay_logic import storage_nets
-from ..units import si
 from .results import ClockFigures, RelayFigures, Timing
 
 __all__ = ["relay_timing", "relay_clock", "sequencer_steps", "coil_moves", "feedback_loops", "switch_times",
