@@ -65,6 +65,10 @@ class CellInstance:
     init: int = 3
     #: storage built from gates: the key of :attr:`Build.storage_groups` this cell belongs to
     group: str | None = None
+    #: a block with registers inside (a counter, a shift register): register -> ``(net, init)``, the
+    #: design's storage element it holds and its initial value (the net is on the register's output
+    #: pin when that pin is wired)
+    state: dict = field(default_factory=dict)
 
 
 @dataclass
@@ -264,6 +268,9 @@ class Build:
             if c.group is not None:
                 continue
             cd = cells[c.cell]
+            if cd.block is not None:
+                _block_logic(n, c, cd)
+                continue
             if cd.storage is not None:
                 d = c.pins[cd.inputs[0]]
                 ctrl = c.pins.get(cd.inputs[1]) if len(cd.inputs) > 1 else None
@@ -309,6 +316,39 @@ class Build:
                 total += pd.price.value * count
                 currency = currency or pd.currency
         return round(total, 4), currency
+
+
+def _block_logic(n: Netlist, c: CellInstance, cd: CellDef) -> None:
+    """A block cell as logic: a node per assignment, and per register a storage element fed by a node of
+    its next value.  Signals no pin shows are named ``<cell>/<signal>``.  A register's clear must be held
+    inactive: the logic has no way to empty storage at once (the matcher never wires it)."""
+    blk = cd.block
+    assert blk is not None
+    net: dict = {p: c.pins.get(p) for p in cd.inputs}
+    for r in blk.registers:
+        if r.name not in c.state:
+            raise InternalError(f"{c.name}: register {r.name} of {cd.name} holds no storage element")
+        net[r.name] = c.state[r.name][0]
+        if r.clear is not None:
+            idle = "VCC" if r.clear in cd.active_low else "GND"
+            if net.get(r.clear) != idle:
+                raise InternalError(f"{c.name}: the clear {r.clear} of {cd.name} is not held at {idle}")
+    missing = [p for p in cd.inputs if net.get(p) is None]
+    if missing:
+        raise InternalError(f"{c.name}: input {', '.join(missing)} of {cd.name} is not wired")
+    for sig, expr in blk.assigns:
+        out = c.pins.get(sig) if sig in cd.outputs else None
+        net[sig] = out or f"{c.name}/{sig}"
+        names = list(expr.names)
+        n.add_logic(net[sig], [net[x] for x in names], Function.from_table(len(names), expr.table(names)))
+    for r in blk.registers:
+        names = list(r.next.names)
+        d = f"{c.name}/{r.name}.next"
+        n.add_logic(d, [net[x] for x in names], Function.from_table(len(names), r.next.table(names)))
+        n.add_storage(net[r.name], d, blk.kind or "re", net[r.clock], c.state[r.name][1])
+        pin_net = c.pins.get(r.name)
+        if pin_net is not None and pin_net != net[r.name]:
+            n.add_logic(pin_net, [net[r.name]], Function.from_table(1, 0b10))
 
 
 def ref_key(ref: str):

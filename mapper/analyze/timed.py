@@ -127,6 +127,9 @@ class TimedCircuit:
             if c.group is not None:
                 continue
             cd = build.cell_def(c)
+            if cd.block is not None:
+                circ._add_block(c, cd, ix, taken, groups, min_fraction)
+                continue
             if cd.storage is not None:
                 t, m = ix.cell_delay(c, loads.get(c.pins.get(cd.output), 0.0))
                 raw = circ._add_storage_cell(c, cd, ix, taken, (t if min_fraction is None else min_fraction * m, m))
@@ -206,6 +209,59 @@ class TimedCircuit:
                     "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
                     "pin_number": ix.pin_of(c, p), "role": role})
         return raw
+
+    def _add_block(self, c, cd, ix: PartIndex, taken: set, groups: dict, min_fraction) -> None:
+        """A medium-scale chip: each wired output a gate of its function over the inputs and registers it
+        reads (its delay range from the fastest to the slowest of its paths), each register a buffer of a
+        raw input (launched by its clock), each register's next value a gate the clock group reads, and
+        its clock pins watched."""
+        blk = cd.block
+        pd = ix.part_def(c.part_ref)
+        regnet: dict = {}
+        for r in blk.registers:
+            q = c.state.get(r.name, (None,))[0]
+            if q is None:
+                continue
+            regnet[r.name] = q
+            raw = q + "^"
+            while raw in taken:
+                raw += "^"
+            self._add_input(raw, taken)
+            self.labels[raw] = q
+            t, m = pd.path_delay(cd.name, r.clock, r.name) if r.name in cd.outputs else (0.0, 0.0)
+            lo = t if min_fraction is None else min_fraction * m
+            out_pin = (r.name, ix.pin_of(c, r.name)) if r.name in cd.pins else (r.name, None)
+            self.gates.append(Gate(q, (raw,), 0b10, min(lo, m), m, c.part_ref, c.cell, c.slot,
+                                   ((r.clock, ix.pin_of(c, r.clock)),), out_pin))
+            sup, f = blk.table(r.name, next_state=True)
+            nxt = f"{c.name}/{r.name}.next"
+            self.gates.append(Gate(nxt, tuple(self._net_of(c, x, regnet) for x in sup), f.table(), 0.0, 0.0,
+                                   c.part_ref, c.cell, c.slot, (), None))
+            groups.setdefault((c.pins.get(r.clock), blk.kind or "re"), []).append((raw, nxt))
+        for o in cd.outputs:
+            net = c.pins.get(o)
+            if not net or blk.is_register(o):
+                continue
+            sup, f = blk.table(o)
+            delays = [pd.path_delay(cd.name, x, o) for x in sup if x in cd.inputs] or [pd.path_delay(cd.name, "", o)]
+            m = max(d[1] for d in delays)
+            lo = min(d[0] for d in delays) if min_fraction is None else min_fraction * min(d[1] for d in delays)
+            self.gates.append(Gate(net, tuple(self._net_of(c, x, regnet) for x in sup), f.table(), min(lo, m), m,
+                                   c.part_ref, c.cell, c.slot,
+                                   tuple((x, ix.pin_of(c, x) if x in cd.pins else None) for x in sup),
+                                   (o, ix.pin_of(c, o))))
+        for p in cd.inputs:
+            role = cd.roles.get(p)
+            net = c.pins.get(p)
+            if role in WATCH_ROLES and net and net not in SUPPLY_NETS:
+                self.watch.setdefault(net, []).append({
+                    "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
+                    "pin_number": ix.pin_of(c, p), "role": role})
+
+    @staticmethod
+    def _net_of(c, name: str, regnet: dict) -> str:
+        """The net a block's input pin or register stands for in the circuit."""
+        return regnet[name] if name in regnet else c.pins[name]
 
     @classmethod
     def from_netlist(cls, netlist: Netlist, dmin: float, dmax: float) -> TimedCircuit:

@@ -208,9 +208,12 @@ class _Graph:
         self.sdriver = {}    # net -> storage point whose output it is
         cdefs = target.cells
         logic = []
+        blocks = []
         for c in build.cells:
             cd = cdefs[c.cell]
-            if cd.storage is None and c.group is None:
+            if cd.block is not None:
+                blocks.append((c, cd))
+            elif cd.storage is None and c.group is None:
                 logic.append((c, cd))
         driver = self.driver
         for c, cd in logic:
@@ -223,7 +226,8 @@ class _Graph:
             cd = cdefs[c.cell]
             delay[id(c)] = index.cell_delay(c, loads.get(c.pins.get(cd.output), 0.0))
         # the arcs of each logic cell, made once for every propagation:
-        # (cell, ((input pin, input net), ...) without rails, output net, (typical, maximum))
+        # (cell, ((input pin, input net), ...) without rails, output net, (typical, maximum), per input)
+        # where "per input" is None, or for a block's output its (typical, maximum) from each input
         recs: list = []
         pos: dict = {}  # output net -> position in recs
         for c, cd in logic:
@@ -231,7 +235,15 @@ class _Graph:
             ins = tuple((p, pins[p]) for p in cd.inputs if pins.get(p) is not None and pins[p] not in _RAILS)
             out = pins[cd.output]
             pos[out] = len(recs)
-            recs.append((c, ins, out, delay[id(c)]))
+            recs.append((c, ins, out, delay[id(c)], None))
+        self.block_arc: dict = {}   # output net of a block -> (output pin, {input pin or register: delays})
+        for c, cd in blocks:
+            for rec in _block_arcs(c, cd, index.part_def(c.part_ref)):
+                pos[rec[2]] = len(recs)
+                recs.append(rec)
+                driver[rec[2]] = c
+                self.block_arc[rec[2]] = (rec[5], dict(zip((p for p, _ in rec[1]), rec[4])))
+        recs = [r[:5] for r in recs]
         order, left = topological_order(range(len(recs)), lambda i: {pos[n] for _, n in recs[i][1] if n in pos},
                                         first_first=True)
         if left:
@@ -239,6 +251,11 @@ class _Graph:
         self.arcs = [recs[i] for i in order]
         self.comb = [a[0] for a in self.arcs]
         self._storage_points()
+        for c, cd in blocks:
+            self.points.extend(_block_points(c, cd, index))
+        for pt in self.points:
+            for net in pt["outs"]:
+                self.sdriver[net] = pt
 
     def _storage_points(self) -> None:
         b = self.build
@@ -316,18 +333,20 @@ def _propagate(g: _Graph, starts: dict, pick_late: bool, use_max: bool):
     prev: dict = {}
     k = 1 if use_max else 0
     get = arr.get
-    for c, ins, out, delay in g.arcs:
+    for c, ins, out, delay, per in g.arcs:
         best = None
         bt = 0.0
-        for p, n in ins:
+        for i, (p, n) in enumerate(ins):
             t = get(n)
             if t is None:
                 continue
+            if per is not None:
+                t += per[i][k]  # a block: each input its own delay
             if best is None or (t > bt if pick_late else t < bt):
                 best, bt = (p, n), t
         if best is None:
             continue  # a cell fed from rails only: a constant
-        arr[out] = bt + delay[k]
+        arr[out] = bt + (delay[k] if per is None else 0.0)
         prev[out] = (best[0], best[1], c)
     return arr, prev
 
@@ -351,9 +370,12 @@ def _propagate_all(g: _Graph, base_late: dict, base_typ: dict):
     lev: dict = {}
     lget = late.get
     vget = lev.get
-    for c, ins, out, (dt, dm) in g.arcs:
+    for c, ins, out, (dt, dm), per in g.arcs:
         if not ins:
             continue  # a cell fed from rails only: a constant
+        if per is not None:
+            _block_step(c, ins, out, per, (late, late_t, early, early_m, lprev, eprev, lev))
+            continue
         lv = 0
         bl = None
         for p, n in ins:
@@ -387,6 +409,97 @@ def _propagate_all(g: _Graph, base_late: dict, base_typ: dict):
     return late, late_t, early, early_m, lprev, eprev, lev
 
 
+def _block_step(c, ins, out, per, arrays) -> None:
+    """One block output in :func:`_propagate_all`: each input arrives with its own delay."""
+    late, late_t, early, early_m, lprev, eprev, lev = arrays
+    lev[out] = 1 + max((lev.get(n, 0) for _, n in ins), default=0)
+    got = [(p, n, d) for (p, n), d in zip(ins, per) if n in late]
+    if not got:
+        return
+    pl = max(got, key=lambda x: late[x[1]] + x[2][1])
+    pe = min(got, key=lambda x: early[x[1]] + x[2][0])
+    late[out] = late[pl[1]] + pl[2][1]
+    late_t[out] = max(late_t[n] + d[0] for _, n, d in got)
+    early[out] = early[pe[1]] + pe[2][0]
+    early_m[out] = min(early_m[n] + d[1] for _, n, d in got)
+    lprev[out] = (pl[0], pl[1], c)
+    eprev[out] = (pe[0], pe[1], c)
+
+
+def _launch(cd, pd, reg) -> tuple:
+    """``(typical, maximum)`` from a block register's clock edge to its value leaving the block: to its
+    own output pin, or (a register with no pin) to the first output that reads it."""
+    blk = cd.block
+    if reg.name in cd.outputs:
+        return pd.path_delay(cd.name, reg.clock, reg.name)
+    readers = [o for o in cd.outputs if reg.name in blk.support(o)]
+    return pd.path_delay(cd.name, reg.clock, readers[0]) if readers else (0.0, 0.0)
+
+
+def _block_arcs(c, cd, pd) -> list:
+    """The arcs of a block cell: one per wired output that is logic (not a register), each input with
+    its catalog path delay; a register it reads counts from the register's own launch."""
+    blk = cd.block
+    out = []
+    for o in cd.outputs:
+        net = c.pins.get(o)
+        if not net or blk.is_register(o):
+            continue
+        ins, per = [], []
+        for name in blk.support(o):
+            if blk.is_register(name):
+                reg = blk.register(name)
+                src = c.state.get(name, (None,))[0]
+                total = pd.path_delay(cd.name, reg.clock, o)
+                first = _launch(cd, pd, reg)
+                d = (max(0.0, total[0] - first[0]), max(0.0, total[1] - first[1]))
+            else:
+                src = c.pins.get(name)
+                d = pd.path_delay(cd.name, name, o)
+            if src is None or src in _RAILS:
+                continue
+            ins.append((name, src))
+            per.append(d)
+        worst = (max((d[0] for d in per), default=0.0), max((d[1] for d in per), default=0.0))
+        out.append((c, tuple(ins), net, worst, tuple(per), o))
+    return out
+
+
+def _block_points(c, cd, index) -> list:
+    """Storage points of a block's registers, one per clock and data input (every register of one clock
+    launches at once; each input that feeds a next value must meet the setup time)."""
+    blk = cd.block
+    pd = index.part_def(c.part_ref)
+    clocks: dict = {}
+    for r in blk.registers:
+        clocks.setdefault(r.clock, []).append(r)
+    pts = []
+    for clock, regs in clocks.items():
+        outs = {}
+        delay = (0.0, 0.0)
+        data: list = []
+        for r in regs:
+            net = c.state.get(r.name, (None,))[0]
+            if net is None:
+                continue
+            outs[net] = (r.name, index.pin_of(c, r.name)) if r.name in cd.pins else (r.name, None)
+            t, m = _launch(cd, pd, r)
+            delay = (max(delay[0], t), max(delay[1], m))
+            for x in blk.support(r.name, next_state=True):
+                d = c.pins.get(x)
+                if x in cd.inputs and d and d not in _RAILS and cd.roles.get(x) not in ("clock", "clear") \
+                        and d not in data:
+                    data.append(d)
+        if not outs:
+            continue
+        for d in data or [None]:
+            pts.append({"part": c.part_ref, "cell": c.cell, "part_id": pd.id, "kind": blk.kind or "re",
+                        "clock": c.pins.get(clock), "d": d, "outs": outs, "delay": delay,
+                        "setup": _rating(pd, SETUP_RATING), "hold": _rating(pd, HOLD_RATING),
+                        "pulse": _rating(pd, PULSE_RATING)})
+    return pts
+
+
 def _path(g: _Graph, prev: dict, end: str, arrivals: list, memo: dict | None = None) -> list:
     """The arcs from a start point to ``end``, first to last, with pins and arrivals.
 
@@ -410,10 +523,15 @@ def _path(g: _Graph, prev: dict, end: str, arrivals: list, memo: dict | None = N
         pin, n_in, c = prev[n]
         cd = target.cells[c.cell]
         t, m = g.delay[id(c)]
+        to_pin = cd.output
+        blk = g.block_arc.get(n)
+        if blk is not None:
+            to_pin, per = blk
+            t, m = per[pin]
         hop = {
             "cell": c.cell, "part": c.part_ref, "part_id": ix.part_id(c.part_ref), "slot": c.slot,
-            "from_pin": pin, "from_pin_number": ix.pin_of(c, pin),
-            "to_pin": cd.output, "to_pin_number": ix.pin_of(c, cd.output),
+            "from_pin": pin, "from_pin_number": ix.pin_of(c, pin) if pin in cd.pins else None,
+            "to_pin": to_pin, "to_pin_number": ix.pin_of(c, to_pin),
             "net_in": n_in, "net": n, "delay_s": m, "delay_typ_s": t,
         }
         for key, arr in arrivals:
@@ -455,6 +573,8 @@ def _clock_source(g: _Graph, net: str) -> tuple[str, int]:
         seen.add(net)
         c = g.driver[net]
         cd = target.cells[c.cell]
+        if cd.block is not None:
+            break  # a clock made by a medium-scale chip: traced no further
         nets = [c.pins[p] for p in cd.inputs]
         live = {n for n in nets if n not in _RAILS}
         if len(live) != 1:

@@ -19,6 +19,7 @@ from .. import limits
 from ..errors import Diagnostic, InputError
 from ..logic.function import MAX_TABLE_INPUTS, Function
 from ..units import UNIT_WORDS, parse_quantity
+from .blockload import block_from, is_block, path_delay
 from .expr import ExprError, parse_assignment
 from .model import SUPPORT_ROLES, CellDef, Figure, PartDef, RelayData, SlotDef
 from .xmlfile import read_xml, unsourced, validate
@@ -157,7 +158,7 @@ def _cell_from(el, c: Collector) -> CellDef | None:
     storage = el.get("storage")
     roles = {i.get("name"): i.get("role") for i in el.findall("input") if i.get("role")}
     active_low = tuple(i.get("name") for i in el.findall("input") if i.get("active") == "low")
-    text = el.get("function")
+    text = el.get("function") or ""
     if len(inputs) > MAX_TABLE_INPUTS:
         c.err(el, f"cell {name}: {len(inputs)} inputs; a cell has at most {MAX_TABLE_INPUTS} (its truth table "
                   "is kept whole)")
@@ -165,6 +166,13 @@ def _cell_from(el, c: Collector) -> CellDef | None:
     if len(text) > MAX_FUNCTION_CHARS:
         c.err(el, f"cell {name}: function=\"{_clip(text)}\" is {len(text)} characters long; a cell's function "
                   f"may be at most {MAX_FUNCTION_CHARS}")
+        return None
+    if not ok:
+        return None
+    if is_block(el):
+        return block_from(el, c, name, inputs, outputs, roles, active_low, storage)
+    if not text.strip():
+        c.err(el, f"cell {name}: a cell needs its function (function=\"{outputs[0]} = ...\")")
         return None
     try:
         a = parse_assignment(text)
@@ -190,7 +198,7 @@ def _cell_from(el, c: Collector) -> CellDef | None:
         return None
     return CellDef(name=name, inputs=tuple(inputs), output=outputs[0], function=func, expr=text,
                    storage=storage, extra_outputs=tuple(outputs[1:]), roles=roles, active_low=active_low,
-                   description=el.get("description") or "")
+                   description=el.get("description") or "", symbol=el.get("symbol") or "")
 
 
 def _logic_function(el, c: Collector, name, inputs, outputs, roles, a) -> Function | None:
@@ -284,7 +292,8 @@ def _slots(pinout, pid: str, cells: dict, shared: dict, claims: _PinClaims, c: C
                 if num is not None:
                     claims.claim(p, num, f"slot {idx} {p.get('name')}")
             continue
-        pins = _slot_pins(s, pid, idx, cell, shared, claims, c)
+        held = frozenset(p.get("name") for p in pinout.findall("pin") if p.get("tie"))
+        pins = _slot_pins(s, pid, idx, cell, shared, claims, c, held)
         missing = [pn for pn in cell.pins if pn not in pins and pn not in
                    {p.get("name") for p in s.findall("pin")}]
         if missing:
@@ -296,7 +305,8 @@ def _slots(pinout, pid: str, cells: dict, shared: dict, claims: _PinClaims, c: C
     return slots
 
 
-def _slot_pins(s, pid: str, idx: int, cell: CellDef, shared: dict, claims: _PinClaims, c: Collector) -> dict:
+def _slot_pins(s, pid: str, idx: int, cell: CellDef, shared: dict, claims: _PinClaims, c: Collector,
+               held: frozenset = frozenset()) -> dict:
     pins: dict = {}
     for p in s.findall("pin"):
         pn = p.get("name")
@@ -309,6 +319,10 @@ def _slot_pins(s, pid: str, idx: int, cell: CellDef, shared: dict, claims: _PinC
             continue
         if p.get("shared") is not None:
             ref = p.get("shared")
+            if ref in held:
+                c.err(p, f"part {pid}: slot {idx} pin {pn} is wired to {ref}, which every build holds at a rail "
+                         f"(tie=\"...\")")
+                continue
             if ref not in shared:
                 c.err(p, f"part {pid}: slot {idx} pin {pn} refers to shared pin {ref!r}, which the "
                          f"pinout does not declare (<pin name=\"{ref}\" number=\"...\"/>)")
@@ -363,9 +377,13 @@ def _kind_checks(el, pinout, pid: str, kind: str, slots: list, supply: dict, c: 
         c.err(relay_el, f"part {pid}: only a part of kind=\"relay\" has a <relay> element")
 
 
-def _delays(el, pid: str, kind: str, slots: list, c: Collector, broken: frozenset) -> tuple[dict, dict]:
+def _delays(el, pid: str, kind: str, slots: list, c: Collector, broken: frozenset,
+            cells: dict | None = None) -> tuple[dict, dict, dict]:
+    """``(typical, maximum, per path)``: a cell's one delay, or a block's delay per path (``from``/``to``),
+    where the cell's one figure is then its slowest path."""
     delay_typ: dict = {}
     delay_max: dict = {}
+    paths: dict = {}
     slot_cells = {s.cell for s in slots}
     for d in el.findall("delay"):
         cname = d.get("cell")
@@ -374,7 +392,8 @@ def _delays(el, pid: str, kind: str, slots: list, c: Collector, broken: frozense
         if cname not in slot_cells:
             c.err(d, f"part {pid}: delay for cell {cname!r}, which no slot of the part performs")
             continue
-        if cname in delay_typ:
+        per_path = d.get("from") is not None or d.get("to") is not None
+        if cname in delay_typ and not (per_path and cname in paths):
             c.err(d, f"part {pid}: delay for cell {cname} is given twice")
             continue
         path = d.get("path") or ""
@@ -384,12 +403,20 @@ def _delays(el, pid: str, kind: str, slots: list, c: Collector, broken: frozense
             if m.value < t.value:
                 c.err(d.find("max"), f"part {pid}: maximum delay {d.find('max').get('value')} is below the "
                                      f"typical {d.find('typ').get('value')}")
+            if per_path:
+                cell = (cells or {}).get(cname)
+                pd_ = path_delay(d, c, pid, cell, t, m) if cell is not None else None
+                if pd_ is None:
+                    continue
+                paths.setdefault(cname, []).append(pd_)
+                if cname in delay_max and delay_max[cname].value >= m.value:
+                    continue
             delay_typ[cname], delay_max[cname] = t, m
     if kind in ("chip", "relay"):
         for cname in sorted(slot_cells):
             if cname not in delay_typ and not any(d.get("cell") == cname for d in el.findall("delay")):
                 c.err(el, f"part {pid}: no delay given for cell {cname}")
-    return delay_typ, delay_max
+    return delay_typ, delay_max, paths
 
 
 def _relay_data(relay_el, pid: str, nslots: int, c: Collector) -> RelayData | None:
@@ -445,7 +472,7 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
     slots = _slots(pinout, pid, cells, shared, claims, c, broken)
     nc = _nc_pins(pinout, pid, claims, c)
     _kind_checks(el, pinout, pid, kind, slots, supply, c)
-    delay_typ, delay_max = _delays(el, pid, kind, slots, c, broken)
+    delay_typ, delay_max, paths = _delays(el, pid, kind, slots, c, broken, cells)
 
     sc = el.find("supply-current")
     q = figure(sc.find("quiescent") if sc is not None else None, c, f"part {pid} quiescent current", "A")
@@ -474,7 +501,8 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
         input_load=il, output_drive=od, price=price, currency=currency or "",
         price_source=price.source if price is not None else "", relay=relay, family=el.get("family") or "",
         source_file=display, pinout_source=pinout.get("source").strip(), nc_pins=nc,
-        ratings=ratings, roles=tuple((el.get("role") or "").split()))
+        ratings=ratings, roles=tuple((el.get("role") or "").split()), path_delays=paths,
+        held={n: p.get("tie") for p in pinout.findall("pin") if p.get("tie") for n in [p.get("name")]})
 
 
 # ---------------------------------------------------------------------------

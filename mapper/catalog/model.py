@@ -11,8 +11,9 @@ from collections import Counter
 from dataclasses import dataclass, field
 
 from ..logic.function import Function
+from .blockdef import BlockDef
 
-__all__ = ["Figure", "CellDef", "SlotDef", "RelayData", "PartDef", "SupportRule", "Target",
+__all__ = ["Figure", "CellDef", "SlotDef", "RelayData", "PartDef", "PathDelay", "SupportRule", "Target",
            "SUPPORT_ROLES", "ROLE_FOR_PER", "DEFAULT_OBJECTIVE"]
 
 #: what a support part does in a build -> the letter its references start with
@@ -49,6 +50,13 @@ class CellDef:
     ``roles`` maps input pins to their role (``data``, ``clock``, ``enable``,
     ``preset``, ``clear``, ``select``, ``coil``); ``active_low`` lists the
     inputs that act when low.
+
+    A *block* (a medium-scale chip: an adder, a decoder, a counter) has
+    several outputs, each with its own function, and maybe registers inside:
+    ``block`` holds them (:class:`~mapper.catalog.blockdef.BlockDef`), and
+    ``function`` and ``storage`` are ``None`` (its registers' kind is
+    ``block.kind``).  ``symbol`` is the qualifier its schematic block shows
+    (IEEE Std 91: ``Σ`` for an adder, ``COMP``, ``MUX``, ``CTR4``).
     """
 
     name: str
@@ -61,6 +69,13 @@ class CellDef:
     roles: dict = field(default_factory=dict)
     active_low: tuple = ()
     description: str = ""
+    block: BlockDef | None = None
+    symbol: str = ""
+
+    @property
+    def is_block(self) -> bool:
+        """Whether this cell is a block of several outputs or with registers inside."""
+        return self.block is not None
 
     @property
     def pins(self) -> tuple:
@@ -75,7 +90,8 @@ class CellDef:
     def logic_function(self) -> Function:
         """The function of a logic cell (``ValueError`` for a storage cell, which has none)."""
         if self.function is None:
-            raise ValueError(f"cell {self.name} is a storage cell: it has no logic function")
+            what = "a block of several outputs" if self.block is not None else "a storage cell"
+            raise ValueError(f"cell {self.name} is {what}: it has no single logic function")
         return self.function
 
 
@@ -86,6 +102,16 @@ class SlotDef:
     index: int
     cell: str
     pins: dict
+
+
+@dataclass(frozen=True)
+class PathDelay:
+    """The delay of one path through a block: from any of the inputs ``frm`` to any of the outputs ``to``."""
+
+    frm: tuple
+    to: tuple
+    typ: Figure
+    max: Figure
 
 
 @dataclass
@@ -113,6 +139,12 @@ class PartDef:
     ``roles`` it can play (keys of :data:`SUPPORT_ROLES`; a small diode is
     both a coil diode and a steering diode).  ``ratings`` holds further
     sourced figures by name (``resistance``, ``setup-time``, ...).
+
+    ``path_delays`` maps a block cell to its delays per path
+    (:class:`PathDelay`); ``delay_typ`` and ``delay_max`` then hold the
+    slowest path's figures.  ``held`` maps pins of the part that every build
+    holds at a rail to that rail (the output enable of a three-state part,
+    whose outputs then always drive).
     """
 
     id: str
@@ -139,6 +171,19 @@ class PartDef:
     nc_pins: tuple = ()
     ratings: dict = field(default_factory=dict)
     roles: tuple = ()
+    path_delays: dict = field(default_factory=dict)
+    held: dict = field(default_factory=dict)
+
+    def path_delay(self, cell: str, frm: str, to: str) -> tuple:
+        """``(typical, maximum)`` seconds from input ``frm`` to output ``to`` of ``cell``: the path's own
+        figures, or the cell's (slowest) figures when the catalog gives none for that path."""
+        for pd in self.path_delays.get(cell, ()):
+            if frm in pd.frm and to in pd.to:
+                return pd.typ.value, max(pd.max.value, pd.typ.value)
+        t = self.delay_typ.get(cell)
+        m = self.delay_max.get(cell)
+        tv = t.value if t is not None else 0.0
+        return tv, max(m.value if m is not None else tv, tv)
 
     @property
     def role(self) -> str:
@@ -179,16 +224,23 @@ class PartDef:
 
         Supply and shared pins keep their names (``VCC``, ``COIL+``); slot
         pins are the cell pin followed by the slot index (``A1``, ``Y3``,
-        ``NO1``), so a wiring list can say ``K2-NO1``.
+        ``NO1``), so a wiring list can say ``K2-NO1``.  Where a cell's pin
+        names hold digits themselves the slot index goes before them
+        (``1A0``, ``2Y3_N``, ``1E_N``, as datasheets of dual parts write
+        it), and a chip of one slot (a 4-bit adder) keeps the cell's pin
+        names as they are (``A1``, ``C4``).
         """
         names: dict = {}
         for n, num in self.supply_pins.items():
             names[num] = n
         for n, num in self.shared_pins.items():
             names[num] = n
+        alone = len(self.slots) == 1 and self.kind == "chip"
         for s in self.slots:
+            before = any(ch.isdigit() for pin in s.pins for ch in pin)
             for pin, num in s.pins.items():
-                names.setdefault(num, f"{pin}{s.index}")
+                name = pin if alone else f"{s.index}{pin}" if before else f"{pin}{s.index}"
+                names.setdefault(num, name)
         for num in self.nc_pins:
             names[num] = "NC"
         return dict(sorted(names.items()))
@@ -197,9 +249,16 @@ class PartDef:
         """``(label, Figure)`` for every sourced number of the part."""
         out = []
         for c, f in self.delay_typ.items():
-            out.append((f"delay typical {c}", f))
+            if c not in self.path_delays:
+                out.append((f"delay typical {c}", f))
         for c, f in self.delay_max.items():
-            out.append((f"delay maximum {c}", f))
+            if c not in self.path_delays:
+                out.append((f"delay maximum {c}", f))
+        for c, paths in self.path_delays.items():
+            for p in paths:
+                way = f"{'/'.join(p.frm)} to {'/'.join(p.to)}"
+                out.append((f"delay typical {c} {way}", p.typ))
+                out.append((f"delay maximum {c} {way}", p.max))
         for label, fig in (("quiescent current", self.current_quiescent),
                            ("current per unit", self.current_per_unit),
                            ("input load", self.input_load), ("output drive", self.output_drive),

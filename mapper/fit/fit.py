@@ -31,6 +31,7 @@ from ..catalog.model import Target
 from ..errors import UsageError
 from ..logic.function import Function
 from ..netlist import Logic, Netlist
+from .blocks import has_blocks, with_blocks, without_blocks
 from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary, RecostedLibrary
@@ -268,8 +269,12 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     ``trees`` asks for tree-shaped matches only, which keep hazard-free
     covers hazard-free (see :func:`mapper.fit.gates.map_logic`).  The
     candidates are those of the module docstring, in that order, as long as
-    the budget lasts.
+    the budget lasts.  On a target with medium-scale chips the design is
+    also built with them, and the build of fewer parts kept
+    (:func:`mapper.fit.blocks.with_blocks`).
     """
+    if not keep and not trees and has_blocks(target):
+        return with_blocks(design, target, lambda d: fit_gates(d, without_blocks(target), effort))
     search = _PartSearch(design, target, effort, keep, trees)
     search.first_mappings()
     search.baselines()

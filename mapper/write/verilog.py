@@ -404,6 +404,9 @@ def _instances(b: Build, nm: VerilogNames) -> list:
                     num = pin_of(it, pin)
                     placed.append((pin, nm.ref[net] if net is not None else "", num))
                 params = f" #(.INIT({_init_literal(it.init)}))" if cd.storage is not None else ""
+                if cd.block is not None and cd.block.registers:
+                    params = " #(" + ", ".join(f".INIT_{r}({_init_literal(it.state.get(r, (None, 3))[1])})"
+                                               for r in cd.block.register_names) + ")"
                 open_ = [pin for pin, c_, _ in placed if not c_]
                 lines.append({"module": cell_module(it.cell), "params": params,
                               "name": nm.instances[("cell", it.part_ref, it.slot)],
@@ -473,6 +476,31 @@ def _rhs(expr: str) -> str:
     return right.strip()
 
 
+def _block_model(cd, m: dict) -> dict:
+    """A block cell's model: a wire per internal signal, an assignment per signal, and one ``always``
+    per clock and clear for its registers (each with its own ``INIT_<register>`` parameter)."""
+    blk = cd.block
+    regs = blk.register_names
+    low = set(cd.active_low)
+    groups: dict = {}
+    for r in blk.registers:
+        groups.setdefault((r.clock, r.clear), []).append((r.name, r.next.text.strip()))
+    always = []
+    for (clock, clear), items in groups.items():
+        edge = ("negedge " if blk.kind == "fe" else "posedge ") + clock
+        sens, cond = edge, None
+        if clear is not None:
+            sens += f" or {'negedge' if clear in low else 'posedge'} {clear}"
+            cond = f"!{clear}" if clear in low else clear
+        always.append({"sensitivity": sens, "clear": cond, "items": items})
+    m.update(kind="block", wires=[n for n, _ in blk.assigns if n not in cd.outputs],
+             assigns=[(n, _rhs(e.text)) for n, e in blk.assigns],
+             out_regs=[o for o in cd.outputs if o in regs], inner_regs=[r for r in regs if r not in cd.outputs],
+             plain_outs=[o for o in cd.outputs if o not in regs], registers=list(regs), always=always,
+             expr=f"{len(cd.outputs)} outputs" + (f", {len(regs)} registers" if regs else ""))
+    return m
+
+
 def _model(cd) -> dict:
     """Plain data for the behavioural model of one cell (see ``cells.v.j2``)."""
     name = cell_module(cd.name)
@@ -480,6 +508,8 @@ def _model(cd) -> dict:
     outs = [cd.output] + list(cd.extra_outputs)
     m: dict = {"name": name, "description": cd.description or cd.name, "inputs": ins, "outputs": outs,
                "kind": "logic", "expr": cd.expr}
+    if cd.block is not None:
+        return _block_model(cd, m)
     coil = [p for p in ins if cd.roles.get(p) == "coil"]
     if cd.storage is None and coil:
         rhs = _rhs(cd.expr)
