@@ -182,7 +182,8 @@ def find_adders(sigs: Signatures, cells: dict, taken: set, serial) -> list:
 
     Chains are taken longest first; a chain whose sums all lie in the near
     fan-in of one taken already (the half adders inside a full adder) is
-    left to the gates.
+    left to the gates, and so is a lone half adder or a full adder whose
+    carry no net carries.
     """
     if "add4" not in cells:
         return []
@@ -194,6 +195,8 @@ def find_adders(sigs: Signatures, cells: dict, taken: set, serial) -> list:
     for chain in _chains(_full_adders(sigs, _sum_bits(sigs, nets))):
         if all(link[0] in inside for link in chain) or any(link[0] in taken for link in chain):
             continue
+        if len(chain) == 1 and (chain[0][4] is None or any(x[0] in ("GND", "VCC") for x in chain[0][1:4])):
+            continue  # a lone half adder (an exclusive-OR and an AND) is no adder chip's work
         for k in range(0, len(chain), 4):
             uses.append(_adder_use(sigs, chain, k, taken, serial))
         for s, _a, _b, _c, co in chain:
@@ -248,11 +251,11 @@ def _sensitivity(sigs: Signatures, y: str, var: str, forced: dict) -> tuple:
     """``(rises, falls)``: patterns where ``y`` rises, and falls, as ``var`` goes 0 -> 1 (with ``forced``
     words in place of some inputs)."""
     mask = sigs.mask
-    base = sigs.resimulate(forced)[y] if forced else sigs.sig[y]
-    w = forced.get(var, sigs.words.get(var, sigs.state.get(var)))
+    base = sigs.value(y, forced) if forced else sigs.sig[y]
+    w = forced.get(var, sigs.sig[var])
     flipped = dict(forced)
     flipped[var] = w ^ mask
-    other = sigs.resimulate(flipped)[y]
+    other = sigs.value(y, flipped)
     y1 = (base & w) | (other & ~w & mask)
     y0 = (base & ~w & mask) | (other & w)
     return y1 & ~y0 & mask, y0 & ~y1 & mask
@@ -260,37 +263,42 @@ def _sensitivity(sigs: Signatures, y: str, var: str, forced: dict) -> tuple:
 
 def _word_pair(sigs: Signatures, y: str, support: list):
     """``(X, Y, relation)`` when ``y`` compares two words (bits least significant first; relation ``"<"``
-    or ``"<="`` of ``X`` to ``Y``), else ``None``."""
-    xs, ys, infl = [], [], {}
-    for v in support:
-        rises, falls = _sensitivity(sigs, y, v, {})
-        if rises and falls:
-            return None
-        if not rises and not falls:
-            return None
-        (ys if rises else xs).append(v)
-    if len(xs) != len(ys) or len(xs) < 2:
-        return None
+    or ``"<="`` of ``X`` to ``Y``), else ``None``.
+
+    Pairs are found from the top down, a few levels a round: with the pairs
+    found so far held equal, the next pair decides ``y`` in about half the
+    patterns, the one below in a quarter, and so on; an input that both
+    raises and lowers ``y`` somewhere means no comparison.
+    """
     mask = sigs.mask
     order: list = []
     forced: dict = {}
-    left_x, left_y = list(xs), list(ys)
-    while left_x:
-        for v in left_x + left_y:
-            r, f = _sensitivity(sigs, y, v, forced)
-            infl[v] = bin(r | f).count("1")
-        left_x.sort(key=lambda v: -infl[v])
-        left_y.sort(key=lambda v: -infl[v])
+    left = list(support)
+    while left:
+        xs, ys, infl = [], [], {}
+        for v in left:
+            rises, falls = _sensitivity(sigs, y, v, forced)
+            if rises and falls:
+                return None
+            infl[v] = bin(rises | falls).count("1")
+            if infl[v]:
+                (ys if rises else xs).append(v)
+        xs.sort(key=lambda v: -infl[v])
+        ys.sort(key=lambda v: -infl[v])
         took = 0
         # take pairs while their influence is clearly measured (each level halves it)
-        while left_x and infl[left_x[0]] >= 16 and infl[left_y[0]] >= 16 and took < 6:
-            x, yv = left_x.pop(0), left_y.pop(0)
+        while xs and ys and infl[xs[0]] >= 16 and infl[ys[0]] >= 16 and took < 6:
+            x, yv = xs.pop(0), ys.pop(0)
             order.append((x, yv))
-            forced[yv] = forced.get(x, sigs.words.get(x, sigs.state.get(x)))
+            forced[yv] = forced.get(x, sigs.sig[x])
+            left.remove(x)
+            left.remove(yv)
             took += 1
         if not took:
             return None
-    value = sigs.resimulate(forced)[y]
+    if len(order) < 2:
+        return None
+    value = sigs.value(y, forced)
     if value not in (0, mask):
         return None
     order.reverse()
@@ -355,6 +363,9 @@ def find_comparators(sigs: Signatures, cells: dict, taken: set, serial) -> list:
     for y in cands:
         if y in inside:
             continue
+        ones = bin(sigs.sig[y]).count("1") / (sigs.mask.bit_length() or 1)
+        if not 0.2 <= ones <= 0.8:
+            continue  # two random words compare either way about half the time
         found = _word_pair(sigs, y, sorted(sup[y]))
         if found is None:
             continue

@@ -110,6 +110,7 @@ class Signatures:
             if net not in RAILS:
                 self._index.setdefault(v, []).append(net)
         self._fanout: dict | None = None
+        self._cones: dict = {}
 
     def of(self, lit: tuple) -> int:
         """Signature of a literal ``(net, inverted)``."""
@@ -143,6 +144,40 @@ class Signatures:
         words = {k: changes.get(k, v) for k, v in self.words.items()}
         state = {k: changes.get(k, v) for k, v in self.state.items()}
         return simulate(self.design, words, self.mask, state)
+
+    def value(self, net: str, changes: dict) -> int:
+        """The signature of ``net`` with some inputs or storage outputs given other words: only its
+        fan-in is evaluated again, and only the nodes the changes reach."""
+        prog = self._cones.get(net)
+        if prog is None:
+            prog = self._cones[net] = self._cone_program(net)
+        vals = dict(changes)
+        mask = self.mask
+        for name, node in prog:
+            if any(f in vals for f in node.fanins):
+                vals[name] = node.func.eval_words([vals.get(f, self.sig[f]) for f in node.fanins], mask)
+        return vals.get(net, self.sig[net])
+
+    def _cone_program(self, net: str) -> list:
+        """``(name, Logic node)`` of the fan-in of ``net``, fan-ins first (iterative)."""
+        nodes = self.design.nodes
+        order: list = []
+        seen: set = set()
+        stack = [(net, False)]
+        while stack:
+            n, ready = stack.pop()
+            node = nodes.get(n)
+            if not isinstance(node, Logic):
+                continue
+            if ready:
+                order.append((n, node))
+                continue
+            if n in seen:
+                continue
+            seen.add(n)
+            stack.append((n, True))
+            stack.extend((f, False) for f in node.fanins if f not in seen)
+        return order
 
 
 def equal_lits(sigs: Signatures, lit: tuple, taken=()) -> list:
