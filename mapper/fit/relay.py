@@ -35,6 +35,7 @@ from ..catalog.model import Target
 from ..errors import InternalError, UsageError
 from ..logic.aig import AIG, from_netlist
 from ..logic.function import Function, var_mask
+from ..logic.hazard import cone_support
 from ..netlist import Logic, Netlist
 from ..relay_logic import RelaySequencer, RelayStorage, sequencer_for, storage_nets
 from ..simulate import simulate
@@ -371,7 +372,7 @@ def sweep_constants(design: Netlist) -> Netlist:
     for name, node in nodes.items():
         if not isinstance(node, Logic) or not node.fanins or vals.get(name, 1) not in (0, mask):
             continue
-        cone = _cone_of(design, name)
+        cone = cone_support(design, name, SWEEP_SUPPORT)
         if cone is None:
             continue
         support, order = cone
@@ -390,31 +391,6 @@ def sweep_constants(design: Netlist) -> Netlist:
     for name, v in found.items():
         new.nodes[name] = Logic((), Function.constant(v))
     return new
-
-
-def _cone_of(design: Netlist, root: str):
-    """``(support, logic nodes in topological order)`` of ``root``; ``None`` past :data:`SWEEP_SUPPORT`."""
-    support: list = []
-    order: list = []
-    seen: set = set()
-    stack = [(root, False)]
-    while stack:
-        n, done = stack.pop()
-        if done:
-            order.append(n)
-            continue
-        if n in seen:
-            continue
-        seen.add(n)
-        node = design.nodes.get(n)
-        if not isinstance(node, Logic):
-            support.append(n)
-            if len(support) > SWEEP_SUPPORT:
-                return None
-            continue
-        stack.append((n, True))
-        stack.extend((f, False) for f in node.fanins if f not in seen)
-    return support, order
 
 
 def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
