@@ -115,7 +115,7 @@ def block_from(el, c, name: str, inputs: list, outputs: list, roles: dict, activ
                 return None
     block = BlockDef(inputs=tuple(inputs), outputs=tuple(outputs), assigns=tuple(assigns), registers=tuple(regs),
                      kind=storage)
-    used = set()
+    used: set = set()
     for o in outputs:
         used.update(block.support(o))
     for r in regs:

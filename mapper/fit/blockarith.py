@@ -59,7 +59,7 @@ def _sum_bits(sigs: Signatures, nets: list) -> list:
     """
     design, sig, mask = sigs.design, sigs.sig, sigs.mask
     level = design.levels()
-    out = []
+    out: list = []
     done: set = set()
     for s in nets:
         S = sig[s]
@@ -275,7 +275,9 @@ def _word_pair(sigs: Signatures, y: str, support: list):
     forced: dict = {}
     left = list(support)
     while left:
-        xs, ys, infl = [], [], {}
+        xs: list = []
+        ys: list = []
+        infl: dict = {}
         for v in left:
             rises, falls = _sensitivity(sigs, y, v, forced)
             if rises and falls:
