@@ -288,8 +288,10 @@ def _word_pair(sigs: Signatures, y: str, support: list):
         xs.sort(key=lambda v: -infl[v])
         ys.sort(key=lambda v: -infl[v])
         took = 0
-        # take pairs while their influence is clearly measured (each level halves it)
-        while xs and ys and infl[xs[0]] >= 16 and infl[ys[0]] >= 16 and took < 6:
+        # take pairs while their influence is clearly measured: each level halves it, and at a sixteenth
+        # of the patterns or more the sampling noise (about its square root) cannot swap two levels
+        floor = max(16, (mask.bit_length() or 1) // 16)
+        while xs and ys and infl[xs[0]] >= floor and infl[ys[0]] >= floor and took < 6:
             x, yv = xs.pop(0), ys.pop(0)
             order.append((x, yv))
             forced[yv] = forced.get(x, sigs.sig[x])

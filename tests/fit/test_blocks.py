@@ -99,3 +99,23 @@ def test_no_adder_chip_where_there_is_no_adder(msi74, data):
     assert analysis.proof.status == "proved"
     assert "74HC283" not in build.part_counts()
     assert any("none of the target's blocks" in note for note in build.notes)
+
+
+@pytest.mark.parametrize("kind,width,relation", [("lt", 4, lambda x, y: x < y), ("lt", 8, lambda x, y: x < y),
+                                                 ("gte", 16, lambda x, y: x >= y), ("gt", 12, lambda x, y: x > y),
+                                                 ("gte", 5, lambda x, y: x >= y)])
+def test_comparators_on_comparator_chips(kind, width, relation, tmp_path, msi74):
+    # ariths-gen comparators against Python comparison on the built board (independent generator):
+    # one 4-bit comparator chip per nibble, cascaded from the lowest nibble up, nothing else
+    design = read_design(generated.make(kind, width, tmp_path))
+    build, analysis = flow.fit(design, msi74)
+    assert analysis.proof.status == "proved"
+    assert build.part_counts() == {"74HC85": -(-width // 4)}
+    top = (1 << width) - 1
+    rng = random.Random(width)
+    pairs = [(0, 0), (top, top), (top, top - 1), (top - 1, top), (1 << (width - 1), (1 << (width - 1)) - 1)]
+    pairs += [(x, x) for x in (rng.getrandbits(width) for _ in range(50))]   # equal words: the cascade's end
+    pairs += [(rng.getrandbits(width), rng.getrandbits(width)) for _ in range(200)]
+    words, mask = generated.operand_words(width, pairs)
+    out = simulate(build.to_netlist(), words, mask)[f"{kind}{width}_out"]
+    assert [(out >> k) & 1 for k in range(len(pairs))] == [int(relation(x, y)) for x, y in pairs]
