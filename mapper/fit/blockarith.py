@@ -33,6 +33,7 @@ Every use is proved by SAT before it is kept (:func:`mapper.fit.blockuse.prove_u
 from __future__ import annotations
 
 import logging
+import random
 
 from ..netlist import Logic
 from .blockuse import BlockUse, Signatures, cone, equal_lits, rail_lit
@@ -321,9 +322,14 @@ def _cascade(words: tuple, wants: list, serial) -> list:
     ``(net, relation of A to B)`` of ``wants``."""
     a, b = words
     n = len(a)
+    # the cascade inputs of the lowest chip: every order relation served, with the fewest outputs taken
+    # inverted; an equality is served only where those inputs allow it, else left to the gates
+    order = {r for _, r in wants if r not in ("==", "!=")}
     rels = {r for _, r in wants}
-    bottom = min(_BOTTOM, key=lambda k: (not rels <= set(_BOTTOM[k]),
-                                         sum(_BOTTOM[k].get(r, ("", True))[1] for r in rels), k != (0, 1, 0)))
+    bottom = min(_BOTTOM, key=lambda k: (not order <= set(_BOTTOM[k]),
+                                         sum(_BOTTOM[k].get(r, ("", True))[1] for r in order),
+                                         not rels <= set(_BOTTOM[k]), k != (0, 1, 0)))
+    wants = [(net, r) for net, r in wants if r in _BOTTOM[bottom]]
     gid = serial()
     uses = []
     prev = None
@@ -350,6 +356,36 @@ def _cascade(words: tuple, wants: list, serial) -> list:
                              label=f"comparator bits {4 * k}-{min(n, 4 * k + 4) - 1} of {n}"))
         prev = name
     return uses
+
+
+def _equalities(sigs: Signatures, a: tuple, b: tuple, taken: set, sup: dict) -> list:
+    """``(net, "==")`` for design nets that say the words ``a`` and ``b`` are equal, ``(net, "!=")`` for
+    nets that say they differ: the same comparator chips drive them from their equal output.
+
+    Two random words are seldom equal, so the design is simulated again with
+    ``b`` made a copy of ``a`` in a random half of the patterns (each pattern
+    then keeps a chance of one half to compare equal, whatever the width).
+    Only nets that read every bit of both words are candidates: the equality
+    of the upper bits alone differs from the whole words' in too few
+    patterns to tell them apart.
+    """
+    mask = sigs.mask
+    half = random.Random(len(a)).getrandbits(mask.bit_length()) & mask
+    changes = {y: (sigs.sig[x] & half) | (sigs.sig[y] & ~half & mask) for x, y in zip(a, b)}
+    eq = mask
+    for x, y in zip(a, b):
+        eq &= ~(sigs.sig[x] ^ changes[y]) & mask
+    if eq in (0, mask):
+        return []
+    values = sigs.resimulate(changes)
+    out = []
+    bits = set(a) | set(b)
+    for net, node in sigs.design.nodes.items():
+        if net in taken or not isinstance(node, Logic) or values.get(net) not in (eq, eq ^ mask) \
+                or sup.get(net) != bits:
+            continue
+        out.append((net, "==" if values[net] == eq else "!="))
+    return out
 
 
 def find_comparators(sigs: Signatures, cells: dict, taken: set, serial) -> list:
@@ -382,6 +418,8 @@ def find_comparators(sigs: Signatures, cells: dict, taken: set, serial) -> list:
         log.debug("comparison %s: %s %s %s", y, xs, rel, ys)
     uses = []
     for (a, b), wants in pairs.items():
-        uses.extend(_cascade((list(a), list(b)), wants, serial))
-        taken.update(net for net, _ in wants)
+        wants.extend(_equalities(sigs, a, b, taken | {net for net, _ in wants}, sup))
+        chips = _cascade((list(a), list(b)), wants, serial)
+        uses.extend(chips)
+        taken.update(net for u in chips for lits in u.outputs.values() for net, _ in lits)
     return uses

@@ -43,8 +43,9 @@ log = logging.getLogger(__name__)
 _BUF = Function.from_table(1, 0b10)
 _NOT = Function.from_table(1, 0b01)
 
-#: finders in the order they claim nets: storage blocks first (they hold flip-flops the others read)
-FINDERS: list = [find_adders, find_comparators]
+#: finders in the order they claim nets: comparisons before adders (a comparison's borrow chain is also
+#: a chain of majority carries, which the adder finder would take as a poorer adder chip)
+FINDERS: list = [find_comparators, find_adders]
 
 
 _PLAIN: dict = {}

@@ -119,3 +119,19 @@ def test_comparators_on_comparator_chips(kind, width, relation, tmp_path, msi74)
     words, mask = generated.operand_words(width, pairs)
     out = simulate(build.to_netlist(), words, mask)[f"{kind}{width}_out"]
     assert [(out >> k) & 1 for k in range(len(pairs))] == [int(relation(x, y)) for x, y in pairs]
+
+
+def test_textbook_two_bit_comparator_on_one_chip(msi74, data):
+    # textbook 2-bit comparator (tests/data/textbook/cmp2.blif, common practice): eq, gt and lt of the words
+    # a1a0 and b1b0 all from one 4-bit comparator chip; every input pattern of the build against Python
+    design = read_design(data / "textbook" / "cmp2.blif")
+    build, analysis = flow.fit(design, msi74)
+    assert analysis.proof.status == "proved"
+    assert build.part_counts() == {"74HC85": 1}
+    rows = list(range(16))
+    words = {name: sum(((r >> j) & 1) << k for k, r in enumerate(rows))
+             for j, name in enumerate(("a0", "a1", "b0", "b1"))}
+    out = simulate(build.to_netlist(), words, (1 << 16) - 1)
+    for k, r in enumerate(rows):
+        a, b = r & 3, r >> 2
+        assert [(out[o] >> k) & 1 for o in ("eq", "gt", "lt")] == [int(a == b), int(a > b), int(a < b)]
