@@ -33,6 +33,7 @@ from ..errors import InternalError
 from ..logic.function import Function
 from ..netlist import Logic, Netlist, Storage
 from .blockarith import find_adders, find_comparators
+from .blockmux import find_muxes
 from .blockuse import RAILS, BlockUse, Signatures, prove_uses
 from .support import add_support
 
@@ -45,7 +46,7 @@ _NOT = Function.from_table(1, 0b01)
 
 #: finders in the order they claim nets: comparisons before adders (a comparison's borrow chain is also
 #: a chain of majority carries, which the adder finder would take as a poorer adder chip)
-FINDERS: list = [find_comparators, find_adders]
+FINDERS: list = [find_comparators, find_adders, find_muxes]
 
 
 _PLAIN: dict = {}

@@ -135,3 +135,47 @@ def test_textbook_two_bit_comparator_on_one_chip(msi74, data):
     for k, r in enumerate(rows):
         a, b = r & 3, r >> 2
         assert [(out[o] >> k) & 1 for o in ("eq", "gt", "lt")] == [int(a == b), int(a > b), int(a < b)]
+
+
+def _mux_tree_blif(name: str, selects: int, outputs: int, shared: bool) -> str:
+    """A tree of 2-to-1 multiplexers, textbook form ``y = s'.a + s.b`` (common practice): ``outputs`` trees,
+    each choosing among its own ``2**selects`` data inputs by the selects (shared by all, or each its own)."""
+    lines = [f".model {name}"]
+    ins, outs, body = [], [], []
+    for t in range(outputs):
+        sel = [f"s{j}" if shared else f"s{t}_{j}" for j in range(selects)]
+        level = [f"d{t}_{k}" for k in range(1 << selects)]
+        ins += level + [s for s in sel if s not in ins]
+        for j in range(selects):
+            nxt = []
+            for k in range(0, len(level), 2):
+                y = f"y{t}" if j == selects - 1 else f"m{t}_{j}_{k}"
+                body += [f".names {sel[j]} {level[k]} {level[k + 1]} {y}", "01- 1", "1-1 1"]
+                nxt.append(y)
+            level = nxt
+        outs.append(f"y{t}")
+    lines += [".inputs " + " ".join(ins), ".outputs " + " ".join(outs), *body, ".end", ""]
+    return "\n".join(lines)
+
+
+@pytest.mark.parametrize("selects,outputs,shared,chips", [(3, 1, True, {"74HC151": 1}),
+                                                         (2, 2, True, {"74HC153": 1}),
+                                                         (2, 2, False, {"74HC153": 2})])
+def test_mux_trees_on_multiplexer_chips(tmp_path, msi74, selects, outputs, shared, chips):
+    # textbook trees of 2-to-1 multiplexers (common practice) as one 8-to-1 chip, or as sections of dual
+    # 4-to-1 chips -- sections share a chip only when they share their selects (the '153's select pins are
+    # common to both sections, from memory of its datasheet); the build simulated against Python indexing
+    path = tmp_path / "tree.blif"
+    path.write_text(_mux_tree_blif("tree", selects, outputs, shared))
+    design = read_design(path)
+    build, analysis = flow.fit(design, msi74)
+    assert analysis.proof.status == "proved"
+    assert build.part_counts() == chips
+    rng = random.Random(selects * 10 + outputs)
+    rows = [{i: rng.getrandbits(1) for i in design.inputs} for _ in range(300)]
+    words = {i: sum(r[i] << k for k, r in enumerate(rows)) for i in design.inputs}
+    out = simulate(build.to_netlist(), words, (1 << len(rows)) - 1)
+    for k, r in enumerate(rows):
+        for t in range(outputs):
+            sel = sum(r[f"s{j}" if shared else f"s{t}_{j}"] << j for j in range(selects))
+            assert (out[f"y{t}"] >> k) & 1 == r[f"d{t}_{sel}"]
