@@ -492,7 +492,7 @@ def _block_model(cd, m: dict) -> dict:
         if clear is not None:
             sens += f" or {'negedge' if clear in low else 'posedge'} {clear}"
             cond = f"!{clear}" if clear in low else clear
-        always.append({"sensitivity": sens, "clear": cond, "items": items})
+        always.append({"sensitivity": sens, "cleared_when": cond, "regs": items})
     m.update(kind="block", wires=[n for n, _ in blk.assigns if n not in cd.outputs],
              assigns=[(n, _rhs(e.text)) for n, e in blk.assigns],
              out_regs=[o for o in cd.outputs if o in regs], inner_regs=[r for r in regs if r not in cd.outputs],
