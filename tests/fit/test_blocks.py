@@ -179,3 +179,20 @@ def test_mux_trees_on_multiplexer_chips(tmp_path, msi74, selects, outputs, share
         for t in range(outputs):
             sel = sum(r[f"s{j}" if shared else f"s{t}_{j}"] << j for j in range(selects))
             assert (out[f"y{t}"] >> k) & 1 == r[f"d{t}_{sel}"]
+
+
+def test_adder_chip_paths_add_up_in_timing(tmp_path, msi74):
+    # static timing through two cascaded adder chips uses each chip's own path figures (catalog, from
+    # memory of generic 74HC283 datasheets): the top carry is A-to-C4 then C0-to-C4, the top sum A-to-C4
+    # then C0-to-a-sum, the lowest sum A-to-a-sum alone -- not the chip's slowest figure on every path
+    design = read_design(generated.make("rca", 8, tmp_path))
+    build, analysis = flow.fit(design, msi74)
+    pd = msi74.parts["74HC283"]
+    a_c4, c0_c4 = pd.path_delay("add4", "A1", "C4")[1], pd.path_delay("add4", "C0", "C4")[1]
+    a_s, c0_s = pd.path_delay("add4", "A1", "S1")[1], pd.path_delay("add4", "C0", "S4")[1]
+    assert len({a_c4, c0_c4, a_s, c0_s}) == 4   # four different figures, so the check tells them apart
+    worst = analysis.timing.outputs
+    assert worst["rca8_out[8]"][1] == pytest.approx(a_c4 + c0_c4)
+    assert worst["rca8_out[7]"][1] == pytest.approx(a_c4 + c0_s)
+    assert worst["rca8_out[0]"][1] == pytest.approx(a_s)
+    assert analysis.timing.delay_s == pytest.approx(a_c4 + c0_s)

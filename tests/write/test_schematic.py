@@ -249,3 +249,24 @@ def test_one_spelling_of_references_sections_and_nets_in_every_document(tmp_path
     assert shown <= nets, shown - nets
     for net in b.nets():
         assert re.search(rf"^  {re.escape(net)} ", wiring, re.M), net
+
+
+@pytest.mark.parametrize("path", [DATA / "textbook" / "cmp2.blif", DATA / "textbook" / "mux4.blif",
+                                  DATA / "textbook" / "full_adder.blif"], ids=lambda p: p.stem)
+def test_block_chips_drawn_with_their_pins(path):
+    # medium-scale chips (issue 20) on msi-74: each drawn as one labelled block whose numbered pins join
+    # exactly the build's nets (the numbers are the catalog's pinout, from memory of generic datasheets)
+    r = _build(str(path), "msi-74")
+    blocks = [c for c in r.build.cells if r.build.target.cells[c.cell].pins and
+              r.build.part_def(c.part_ref).id in ("74HC85", "74HC153", "74HC283")]
+    assert blocks
+    dr = _drawing(r)
+    errors = _check_connectivity(r.build, dr) + _check_dots(dr) + _check_bodies(dr) + _check_page_bounds(dr)
+    assert not errors, errors[:10]
+    drawn = {(part, pin) for _, part, pin, _ in dr.pins}
+    for c in blocks:
+        pd = r.build.part_def(c.part_ref)
+        slot = next(s for s in pd.slots if s.index == c.slot)
+        for pin, net in c.pins.items():
+            if net is not None:
+                assert (c.part_ref, str(slot.pins[pin])) in drawn, (c.part_ref, pin)
