@@ -34,6 +34,7 @@ from ..logic.function import Function
 from ..netlist import Logic, Netlist, Storage
 from .blockarith import find_adders, find_comparators
 from .blockmux import find_muxes
+from .blockstore import find_counters, find_registers
 from .blockuse import RAILS, BlockUse, Signatures, prove_uses
 from .support import add_support
 
@@ -44,9 +45,10 @@ log = logging.getLogger(__name__)
 _BUF = Function.from_table(1, 0b10)
 _NOT = Function.from_table(1, 0b01)
 
-#: finders in the order they claim nets: comparisons before adders (a comparison's borrow chain is also
-#: a chain of majority carries, which the adder finder would take as a poorer adder chip)
-FINDERS: list = [find_comparators, find_adders, find_muxes]
+#: finders in the order they claim nets: counters before registers (a counter's flip-flops are also a
+#: register), comparisons before adders (a comparison's borrow chain is also a chain of majority carries,
+#: which the adder finder would take as a poorer adder chip)
+FINDERS: list = [find_counters, find_registers, find_comparators, find_adders, find_muxes]
 
 
 _PLAIN: dict = {}
@@ -83,11 +85,32 @@ def find_uses(design: Netlist, target: Target) -> list:
     uses: list = []
     for finder in FINDERS:
         uses.extend(finder(sigs, cells, taken, serial))
+        taken |= _unneeded(design, uses, taken)
     if not uses:
         return []
     proved = prove_uses(design, uses, cells)
     log.info("block uses: %d found, %d proved", len(uses), len(proved))
     return proved
+
+
+def _unneeded(design: Netlist, uses: list, taken: set) -> set:
+    """Logic nets nothing needs once ``uses`` drive what they took: no output, no storage element left to
+    the gates and no use reads them (a counter's increment logic once the counter chip holds its bits)."""
+    need = [o for o in design.outputs]
+    need += [n for u in uses for n in u.input_nets()]
+    for q, node in design.storage().items():
+        if q not in taken:
+            need += [node.d] + ([node.control] if node.control else [])
+    live: set = set()
+    while need:
+        n = need.pop()
+        if n in live:
+            continue
+        live.add(n)
+        node = design.nodes.get(n)
+        if isinstance(node, Logic) and n not in taken:
+            need.extend(node.fanins)
+    return {n for n, node in design.nodes.items() if isinstance(node, Logic) and n not in live}
 
 
 # -- the rest of the design ---------------------------------------------------------------------------
