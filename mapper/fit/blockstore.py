@@ -46,7 +46,7 @@ def _clocked(sigs: Signatures, taken: set) -> dict:
 
 def _chain(sigs: Signatures, qs: list) -> tuple | None:
     """``(enable literal, bits least significant first)`` of the longest counter among ``qs``, or ``None``."""
-    mask, sig = sigs.mask, sigs.sig
+    sig = sigs.sig
     storage = sigs.design.storage()
     best = None
     for q0 in qs:
@@ -65,7 +65,7 @@ def _chain(sigs: Signatures, qs: list) -> tuple | None:
             carry &= sig[nxt]
         if best is None or len(bits) > len(best[1]):
             best = (lit, bits)
-    return best if best is not None and len(best[1]) >= 4 and mask else None
+    return best if best is not None and len(best[1]) >= 4 else None
 
 
 def find_counters(sigs: Signatures, cells: dict, taken: set, serial) -> list:
