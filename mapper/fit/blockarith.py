@@ -16,6 +16,12 @@ above the last bit gives the carry out (an adder chip used as a 3-bit adder
 with one input pair tied).  A half adder is a full adder whose carry in is
 tied low.
 
+A chain whose top carry no net carries is carried on upward where the
+design uses the sums of further operand bits with that carry: a
+carry-select adder works each upper block out for carry in 0 and for 1 and
+chooses by the real carry, so the chosen nets are those sums, and one chain
+of adder chips replaces both copies and the choosing.
+
 **Comparators.**  A net that compares two words (``X < Y`` or ``X <= Y``, so
 also ``>``, ``>=`` with the words swapped) falls as each bit of ``X`` rises
 and rises with each bit of ``Y`` (it is negative unate in ``X`` and positive
@@ -193,7 +199,11 @@ def find_adders(sigs: Signatures, cells: dict, taken: set, serial) -> list:
             if isinstance(node, Logic) and node.fanins and n not in taken]
     uses = []
     inside: set = set()
-    for chain in _chains(_full_adders(sigs, _sum_bits(sigs, nets))):
+    bits = _full_adders(sigs, _sum_bits(sigs, nets))
+    chains = _chains(bits)
+    ops = _operand_pairs(sigs, bits)
+    for chain in chains:
+        chain = _extended(sigs, chain, ops)
         if all(link[0] in inside for link in chain) or any(link[0] in taken for link in chain):
             continue
         if len(chain) == 1 and (chain[0][4] is None or any(x[0] in ("GND", "VCC") for x in chain[0][1:4])):
@@ -205,6 +215,58 @@ def find_adders(sigs: Signatures, cells: dict, taken: set, serial) -> list:
             if co is not None:
                 inside.update(cone(design, co[0], 3, 40))
     return uses
+
+
+def _operand_pairs(sigs: Signatures, bits: list) -> list:
+    """Every pair of leaves of every full-adder reading (no rails), the lowest standing first: the
+    operand bits themselves before nets made from them."""
+    level = sigs.design.levels()
+    pairs: dict = {}
+    for _s, lits, _co in bits:
+        for i in range(3):
+            for j in range(i + 1, 3):
+                x, z = lits[i], lits[j]
+                if x[0] not in ("VCC", "GND") and z[0] not in ("VCC", "GND"):
+                    pairs.setdefault((x, z), level.get(x[0], 0) + level.get(z[0], 0))
+    return sorted(pairs, key=lambda p: pairs[p])
+
+
+def _extended(sigs: Signatures, chain: list, ops: list) -> list:
+    """The chain carried on upward where the design uses the sums of further operand bits with the
+    chain's own carry, though no net carries that carry (a carry-select adder works each upper block out
+    for carry in 0 and 1 and chooses by the real carry: the chosen nets are those sums).
+
+    ``ops`` are the operand pairs of every adder bit read in the design;
+    the next bit is a pair whose sum with the chain's carry is a net.
+    """
+    mask = sigs.mask
+    out = list(chain)
+    used = {(a, b) for _s, a, b, _c, _co in out}
+    s, a, b, c, co = out[-1]
+    x, z = sigs.of(a), sigs.of(b)
+    carry = sigs.of(co) if co is not None else (x & z) | (sigs.of(c) & (x | z))
+    while carry not in (0, mask):
+        nxt = None
+        for a2, b2 in ops:
+            if (a2, b2) in used:
+                continue
+            x, z = sigs.of(a2), sigs.of(b2)
+            lit = sigs.find(x ^ z ^ carry)
+            if lit is not None and not lit[1] and isinstance(sigs.design.nodes.get(lit[0]), Logic) and \
+                    all(lit[0] != link[0] for link in out):
+                nxt = (lit[0], a2, b2, x, z)
+                break
+        if nxt is None:
+            break
+        s2, a2, b2, x, z = nxt
+        used.add((a2, b2))
+        carry_in = out[-1][4]
+        if len(out) % 4 == 0 and carry_in is None:
+            break   # a chip's carry in must be a net
+        carry = (x & z) | (carry & (x | z))
+        co = sigs.find(carry) if carry not in (0, mask) else None
+        out.append((s2, a2, b2, carry_in, co))
+    return out
 
 
 def _adder_use(sigs: Signatures, chain: list, k: int, taken: set, serial) -> BlockUse:

@@ -86,6 +86,9 @@ def find_uses(design: Netlist, target: Target) -> list:
     for finder in FINDERS:
         uses.extend(finder(sigs, cells, taken, serial))
         taken |= _unneeded(design, uses, taken)
+    # a use drives logic nets only (never an input or a storage element's own net)
+    uses = [u for u in uses if all(isinstance(design.nodes.get(net), Logic) for lits in u.outputs.values()
+                                   for net, _ in lits if net in design.nodes)]
     if not uses:
         return []
     proved = prove_uses(design, uses, cells)
