@@ -4,7 +4,7 @@ Designs: adders (ripple-carry, carry-lookahead, Kogge-Stone, Brent-Kung,
 Sklansky, carry-select, PG ripple; 4, 8 and 16 bits) and comparators from
 the independent generator library ariths-gen; textbook circuits
 (tests/data/textbook: 4-way multiplexer tree, 2-bit comparator, 4-bit
-counter, 7-segment decoder).
+counter, 7-segment decoder, full and half adder).
 
 Columns: *plug* is the direct plug-in of the design's gates on gates-74
 (each gate into the chip that carries it, packed per part type; the fair
@@ -37,7 +37,7 @@ from mapper.read import read_design  # noqa: E402
 
 ADDERS = [(k, w) for k in ("rca", "cla", "ks", "bk", "sk", "csel", "pg") for w in (4, 8, 16)]
 COMPARATORS = [("lt", 8), ("gte", 16), ("gt", 12)]
-TEXTBOOK = ["mux4", "cmp2", "counter4", "seg7"]
+TEXTBOOK = ["mux4", "cmp2", "counter4", "seg7", "full_adder", "half_adder"]
 QUICK = [("rca", 8), ("cla", 8), ("ks", 16), ("lt", 8)]
 
 
@@ -58,10 +58,8 @@ def measure(design, gates, msi) -> dict:
         row[f"{key}_s"] = time.perf_counter() - t0
         row[f"{key}_parts"] = len(b.parts)
         row[f"{key}_proof"] = a.proof.status
-        if key == "msi74":
-            blocks = {cd for cd, c in target.cells.items() if c.block is not None}
-            row["msi_chips"] = sum(1 for p in b.parts
-                                   if any(s.cell in blocks for s in target.parts[p.part_id].slots))
+        if key == "msi74":   # the medium-scale parts: those of msi-74 that gates-74 does not list
+            row["msi_chips"] = sum(1 for p in b.parts if p.part_id not in gates.parts)
     row["ratio_to_plug"] = row["msi74_parts"] / row["plug_parts"]
     return row
 
