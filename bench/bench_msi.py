@@ -15,6 +15,44 @@ chips in the msi-74 build.  The goal of the issue: at most 0.5 x plug on
 the arithmetic set, and never more parts than gates-74.
 
 Run: ``.venv/bin/python bench/bench_msi.py [--quick] [--json]``
+
+Measured on 2026-12-05 (branch msi-chips; seconds on a shared 2-processor machine)::
+
+    design      plug  gates-74  msi-74  MSI  x plug      s  proof
+    -------------------------------------------------------------
+    rca4           5         5       1    1    0.20    2.3  proved
+    rca8          10        10       2    2    0.20    5.1  proved
+    rca16         20        20       4    4    0.20   18.3  proved
+    cla4           9         7       1    1    0.11    4.7  proved
+    cla8          19        17       2    2    0.11    9.0  proved
+    cla16         40        37       4    4    0.10   12.1  proved
+    ks4            6         6       1    1    0.17    4.5  proved
+    ks8           16        16       2    2    0.12    7.1  proved
+    ks16          44        42       4    4    0.09   25.5  proved
+    bk4            6         6       1    1    0.17    1.6  proved
+    bk8           13        13       2    2    0.15    1.9  proved
+    bk16          29        29       4    4    0.14    2.8  proved
+    sk4            6         6       1    1    0.17    0.6  proved
+    sk8           14        14       2    2    0.14    2.7  proved
+    sk16          33        33       4    4    0.12    6.1  proved
+    csel4          5         5       1    1    0.20    0.9  proved
+    csel8         16        14       2    2    0.12    5.8  proved
+    csel16        37        31       4    4    0.11   26.2  proved
+    pg4            5         5       1    1    0.20    1.7  proved
+    pg8           10        10       2    2    0.20    2.9  proved
+    pg16          20        20       4    4    0.20   12.3  proved
+    lt8           13        10       2    2    0.15    3.9  proved
+    gte16         23        22       4    4    0.17    9.2  proved
+    gt12          17        15       3    3    0.18    4.5  proved
+    mux4           4         3       1    1    0.25    0.3  proved
+    cmp2           5         4       1    1    0.20    0.6  proved
+    counter4       4         4       1    1    0.25    0.2  proved
+    seg7          12         9       9    0    0.75    2.0  proved
+    full_adder     3         2       1    1    0.33    0.3  proved
+    half_adder     2         2       2    0    1.00    0.1  proved
+    -------------------------------------------------------------
+    adders: mean msi-74 parts / plug-in 0.153; over 0.5: none
+    designs with more parts on msi-74 than on gates-74: none
 """
 from __future__ import annotations
 
