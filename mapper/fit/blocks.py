@@ -205,8 +205,12 @@ def loops(design: Netlist, uses: list, plan: _Plan) -> list:
         for net, _ in u.inputs.values():
             if net not in RAILS:
                 g.add_edge(net, hub)
-        for pin in u.outputs:
-            g.add_edge(hub, plan.pin[(k, pin)])
+        for pin, lits in u.outputs.items():
+            made = plan.pin[(k, pin)]
+            g.add_edge(hub, made)
+            for net, _ in lits:   # the copies and complements the rest makes of the pin's net
+                if net != made:
+                    g.add_edge(made, net)
     bad: set = set()
     for comp in nx.strongly_connected_components(g):
         if len(comp) > 1:
