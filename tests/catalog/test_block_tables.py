@@ -172,3 +172,29 @@ def test_register_chips(cells, cell, kind, clear):
     assert cd.storage == kind and cd.block is None
     if clear:
         assert cd.roles[clear] == "clear" and clear in cd.active_low
+
+
+#: package pins of the medium-scale parts, pin 1 upward (from memory of generic 74HC datasheets, typed here
+#: independently of the catalog; VCC and GND at the corners)
+PINOUTS = {
+    "74HC283": "S2 B2 A2 S1 A1 B1 C0 GND C4 S4 B4 A4 S3 A3 B3 VCC",
+    "74HC85": "B3 LT_I EQ_I GT_I GT_O EQ_O LT_O GND B0 A0 B1 A1 A2 B2 A3 VCC",
+    "74HC138": "A0 A1 A2 E1_N E2_N E3 Y7_N GND Y6_N Y5_N Y4_N Y3_N Y2_N Y1_N Y0_N VCC",
+    "74HC151": "I3 I2 I1 I0 Y Y_N E_N GND S2 S1 S0 I7 I6 I5 I4 VCC",
+    "74HC161": "CLR_N CLK A B C D ENP GND LOAD_N ENT QD QC QB QA RCO VCC",
+    "74HC163": "CLR_N CLK A B C D ENP GND LOAD_N ENT QD QC QB QA RCO VCC",
+    "74HC164": "A B QA QB QC QD GND CLK CLR_N QE QF QG QH VCC",
+    "74HC595": "QB QC QD QE QF QG QH GND QH_S SRCLR_N SRCLK RCLK OE_N SER QA VCC",
+    "74HC174": "CLR_N Q1 D1 D2 Q2 D3 Q3 GND CLK Q4 D4 Q5 D5 D6 Q6 VCC",
+    "74HC273": "CLR_N Q1 D1 D2 Q2 Q3 D3 D4 Q4 GND CLK Q5 D5 D6 Q6 Q7 D7 D8 Q8 VCC",
+    "74HC373": "OE_N Q1 D1 D2 Q2 Q3 D3 D4 Q4 GND LE Q5 D5 D6 Q6 Q7 D7 D8 Q8 VCC",
+    "74HC573": "OE_N D1 D2 D3 D4 D5 D6 D7 D8 GND LE Q8 Q7 Q6 Q5 Q4 Q3 Q2 Q1 VCC",
+}
+
+
+@pytest.mark.parametrize("part", sorted(PINOUTS))
+def test_single_slot_pinouts(part):
+    # the catalog's pin numbers of the one-section and one-clock parts against the table above
+    pd = flow.load_target("msi-74").parts[part]
+    names = pd.pin_names()
+    assert [names[k] for k in range(1, len(names) + 1)] == PINOUTS[part].split()
