@@ -263,3 +263,15 @@ def test_published_sequential_benchmarks_build_and_prove(data, msi74, gates74, n
     assert analysis.proof.status == "proved"
     without, _ = flow.fit(design, gates74)
     assert len(build.parts) <= len(without.parts)
+
+
+def test_compare_shows_the_difference(netfit, tmp_path):
+    # `netfit compare` puts msi-74 beside gates-74: the ariths-gen 8-bit ripple-carry adder in two adder
+    # chips against the gates, both proved
+    path = generated.make("rca", 8, tmp_path)
+    code, out, _ = netfit("compare", path, "--targets", "gates-74,msi-74", "--json", "-j", "1", as_json=True)
+    assert code == 0
+    rows = {t["target"]: t for t in out["targets"]}
+    assert rows["msi-74"]["parts"] == {"74HC283": 2}
+    assert rows["gates-74"]["parts_total"] > rows["msi-74"]["parts_total"] == 2
+    assert rows["gates-74"]["verified"] == rows["msi-74"]["verified"] == "proved"
