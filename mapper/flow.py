@@ -532,7 +532,8 @@ def timing(path, target_name, hazard_free: bool = False, multi: bool = False, ef
            "critical_start": t.get("critical_start"), "critical_end": t.get("critical_end")}
     for key, value in t.items():
         if key.startswith(("clock_", "hold_", "input_", "pulse_", "latches_")) or key in (
-                "overloaded", "per_level_s", "operate_s", "release_s", "bounce_s", "timing_violations"):
+                "overloaded", "per_level_s", "operate_s", "release_s", "bounce_s", "timing_violations",
+                "feedback_loops"):
             out[key] = value
     out.setdefault("timing_violations", 0)
     g = a.glitches
