@@ -21,6 +21,7 @@ from .build import Build
 from .catalog import Target, builtin_targets, describe_target
 from .catalog import load_target as _load_target
 from .errors import InputError, InternalError, NetfitError, UsageError
+from .logic.feedback import has_feedback
 from .logic.hazard import COLLAPSE_INPUTS, add_consensus, design_hazards
 from .netlist import Netlist
 from .place import board_from_spec
@@ -160,6 +161,8 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     clock can glitch, is refused (:class:`UsageError`, exit 2): relays move
     in any order, so no relay build of it is safe.
     """
+    if has_feedback(design):
+        return _fit_feedback(design, target, effort, keep, trees, clock_hz, together)
     if target.is_relay:
         _refuse_latch_races(design, target)
     r = _fit_once(design, target, effort, keep, trees, clock_hz, together)
@@ -168,8 +171,72 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     return r
 
 
-def _fit_once(design, target, effort, keep, trees, clock_hz, together) -> Result:
-    """One map, proof and analysis (with repeater relays where relay chains are too long)."""
+def _fit_feedback(design, target, effort, keep, trees, clock_hz, together) -> Result:
+    """A design with loops read as storage (:mod:`mapper.logic.feedback`), proved against the design itself.
+
+    Gate targets keep the loops as gates; a target with latch parts also
+    gets a build with each loop that is a latch made a latch part
+    (:func:`mapper.logic.flowtable.latch_form`), and the one of fewer parts
+    is kept.  Relays build the loops that are latches with one input as
+    enable as relay latches; other loops are refused with the reason
+    (:func:`_relay_loops`, in the style of :func:`_refuse_latch_races`).
+    """
+    from .logic.flowtable import analyse, latch_form
+    report = analyse(design, races=False)
+    if target.is_relay:
+        plan = _relay_loops(design, target, report)
+        _refuse_latch_races(plan, target)
+        return _fit_once(plan, target, effort, keep, trees, clock_hz, together, proof_design=design)
+    r = _fit_once(design, target, effort, keep, trees, clock_hz, together)
+    if any(cd.storage in ("ah", "al") for name, cd in target.cells.items() if target.carriers.get(name)):
+        parts = latch_form(design, report)
+        if len(parts.storage()) and sum(1 for s in parts.storage().values() if s.kind == "as") < sum(
+                1 for s in design.storage().values() if s.kind == "as"):
+            alt = _fit_once(parts, target, effort, keep, trees, clock_hz, together, proof_design=design)
+            if (len(alt.build.parts), len(alt.build.cells)) < (len(r.build.parts), len(r.build.cells)):
+                alt.analysis.notes.append(f"feedback loops that are latches built as latch parts: "
+                                          f"{len(alt.build.parts)} parts against {len(r.build.parts)} with the "
+                                          "loops kept as gates")
+                return alt
+            r.analysis.notes.append(f"feedback loops kept as gates: {len(r.build.parts)} parts against "
+                                    f"{len(alt.build.parts)} with latch parts")
+    return r
+
+
+def _relay_loops(design: Netlist, target: Target, report) -> Netlist:
+    """The design with its loops made relay latches, or a refusal naming each loop relays cannot build safely."""
+    from .logic.flowtable import latch_form
+    bad = []
+    ok = []
+    for r in report.regions:
+        if not r.region.loop:
+            bad.append(f"{r.region.cuts[0]} is asynchronous storage with no enable")
+            continue
+        q = r.region.cuts[0]
+        if "flip_flop" in r.roles:
+            bad.append(f"the loops at {r.roles['flip_flop']['master']} and {q} are a master-slave flip-flop made of "
+                       "gates: relays build flip-flops of their own, so describe it as one (a '.latch ... re' or "
+                       "'always @(posedge ...)')")
+        elif "master_of" in r.roles:
+            continue  # said with its slave
+        elif r.kind == "d-latch":
+            ok.append(q)
+        elif r.kind in ("sr-latch", "gated-sr-latch"):
+            bad.append(f"the loop at {q} is a {r.form.split(':')[0]}: on relays its enable would be decoded from set "
+                       "and reset, which drops out while a contact transfers, and set and reset released together "
+                       "race; describe it as a D latch with one enable, or build it on a gate target")
+        else:
+            bad.append(f"the loop at {q} is not a latch with one enable ({r.form})")
+    if bad:
+        raise UsageError(f"{design.name} cannot be built safely on relays ({target.name}): " + "; ".join(bad))
+    return latch_form(design, report, only=set(ok))
+
+
+def _fit_once(design, target, effort, keep, trees, clock_hz, together, proof_design=None) -> Result:
+    """One map, proof and analysis (with repeater relays where relay chains are too long).
+
+    The build is proved against ``proof_design`` when given (the design as read, when ``design``
+    is a form of it made for the fit), else against ``design``."""
     clock = [time.perf_counter()]
     stages: dict = {}
 
@@ -180,7 +247,7 @@ def _fit_once(design, target, effort, keep, trees, clock_hz, together) -> Result
 
     build = _map(design, target, effort, keep, trees)
     lap("fit")
-    proof = prove(design, build)
+    proof = prove(proof_design or design, build)
     lap("proof")
     analysis = analyze_build(build, proof, clock_hz=clock_hz, together=together)
     lap("analysis")
@@ -193,7 +260,7 @@ def _fit_once(design, target, effort, keep, trees, clock_hz, together) -> Result
         if again is build:
             break
         build = again
-        proof = prove(design, build)
+        proof = prove(proof_design or design, build)
         analysis = analyze_build(build, proof, clock_hz=clock_hz, together=together)
         lap("repeaters")
     if build.is_relay and analysis.glitches.errors:

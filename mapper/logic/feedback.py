@@ -40,7 +40,7 @@ from ..netlist import INIT_UNKNOWN, Logic, Netlist, Storage
 from ..order import topological_order
 
 __all__ = ["Region", "EXACT_REGION_NETS", "loop_regions", "choose_cut", "cut_loops", "regions", "has_feedback",
-           "excitation_name", "closed_logic", "recut", "uncut"]
+           "excitation_name", "closed_logic", "recut", "uncut", "align_cuts"]
 
 #: regions of at most this many nets get a cut of the fewest nets (tried up to :data:`EXACT_CUT` nets)
 EXACT_REGION_NETS = 30
@@ -331,3 +331,31 @@ def recut(netlist: Netlist, cuts) -> Netlist | None:
         return None
     return closed
 
+
+
+def align_cuts(a: Netlist, b: Netlist) -> tuple[Netlist, Netlist, list]:
+    """Two cut netlists cut at the same nets where they were cut at different ones: ``(a, b, notes)``.
+
+    When the ``as`` elements of ``a`` and ``b`` are named differently, ``b``
+    is cut again at ``a``'s cut nets (:func:`recut`), or else ``a`` at
+    ``b``'s; the notes say which.  When neither works the netlists come back
+    as they were (the prover then finds the storage elements unmatched).
+    """
+    ca = [n for n, x in a.storage().items() if x.kind == "as"]
+    cb = [n for n, x in b.storage().items() if x.kind == "as"]
+    if set(ca) == set(cb) or not (ca or cb):
+        return a, b, []
+    other_a = [n for n in a.storage() if n not in ca]
+    other_b = [n for n in b.storage() if n not in cb]
+    if set(other_a) != set(other_b):
+        return a, b, []
+    nb = recut(b, ca) if ca else None
+    if nb is not None:
+        return a, nb, [f"B cuts its feedback loops at {', '.join(cb) or 'no net'} and A at {', '.join(ca)}: "
+                       f"B was cut again at A's nets to compare them"]
+    na = recut(a, cb) if cb else None
+    if na is not None:
+        return na, b, [f"A cuts its feedback loops at {', '.join(ca) or 'no net'} and B at {', '.join(cb)}: "
+                       f"A was cut again at B's nets to compare them"]
+    return a, b, [f"A cuts its feedback loops at {', '.join(ca) or 'no net'} and B at {', '.join(cb) or 'no net'}, "
+                  "and neither set of nets cuts every loop of the other: no common state variables to compare"]

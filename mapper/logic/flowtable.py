@@ -46,7 +46,8 @@ from .feedback import Region, regions
 from .function import Function, isop, var_mask
 
 __all__ = ["RegionReport", "FeedbackReport", "analyse", "tabulate", "region_sources", "latch_form",
-           "flow_table_lines", "MAX_SOURCES", "MAX_STATE_VARS", "check_feedback", "settle"]
+           "flow_table_lines", "MAX_SOURCES", "MAX_STATE_VARS", "check_feedback", "settle", "compare_flow",
+           "race_text", "essential_text"]
 
 #: the most sources (inputs of a region's logic) and state variables a flow table is made over
 MAX_SOURCES = 8
@@ -571,7 +572,7 @@ def latch_form(netlist: Netlist, report: FeedbackReport | None = None, only=None
         full = (1 << (1 << m)) - 1
         if r.load in (0, full):
             continue  # a bit nothing writes, or no storage at all: left as it is
-        level, en = _net_for(out, r.sources, r.load, full, f"{q}.en", m, allow_low=True)
+        level, en = _net_for(out, r.sources, r.load, r.load, f"{q}.en", m, allow_low=True)
         _, d = _net_for(out, r.sources, r.data, r.data | (full & ~r.load), f"{q}.d", m)
         out.nodes[q] = Storage(d, "ah" if level else "al", en, netlist.nodes[q].init)
     _drop_dead(out)
@@ -614,3 +615,73 @@ def _drop_dead(n: Netlist) -> None:
     for name in [k for k, node in n.nodes.items() if isinstance(node, Logic) and k not in live]:
         del n.nodes[name]
         n.origin.pop(name, None)
+
+
+# -- two netlists cut at the same nets ----------------------------------------------------------
+def _flow_over(netlist: Netlist, region: Region, sources: list) -> list | None:
+    words = tabulate(netlist, list(region.excitation.values()), list(sources) + list(region.cuts))
+    if words is None:
+        return None
+    m, k = len(sources), len(region.cuts)
+    exc = [words[region.excitation[c]] for c in region.cuts]
+    return [[sum(((exc[j] >> (x | (y << m))) & 1) << j for j in range(k)) for x in range(1 << m)]
+            for y in range(1 << k)]
+
+
+def _behaviour(nexts: list, m: int) -> tuple[set, dict]:
+    """(stable total states, where each single input change from each of them leads)."""
+    stable = {(x, y) for y in range(len(nexts)) for x in range(1 << m) if nexts[y][x] == y}
+    moves = {(x, y, j): settle(nexts, x ^ (1 << j), y) for x, y in stable for j in range(m)}
+    return stable, moves
+
+
+def compare_flow(a: Netlist, b: Netlist) -> tuple[bool, list]:
+    """Compare the feedback regions of two netlists cut at the same nets: ``(same, notes)``.
+
+    For each loop region of ``a`` and the region of ``b`` with the same cut
+    nets, both flow tables are drawn over the sources of both; their stable
+    states and the state each single input change leads to from each stable
+    state must be the same.  Races at gate level that only ``b`` has for a
+    single input change are noted (they do not make the answer "no": the
+    flow tables agree, and such a race is a matter of delays).
+    """
+    rb = {tuple(sorted(r.cuts)): r for r in regions(b) if r.loop}
+    notes: list = []
+    same = True
+    checked = stable_n = moves_n = 0
+    for ra in regions(a):
+        if not ra.loop:
+            continue
+        key = tuple(sorted(ra.cuts))
+        other = rb.get(key)
+        if other is None:
+            notes.append(f"the loop of A cut at {', '.join(ra.cuts)} has no loop of B cut at the same nets: "
+                         "its flow table is not compared")
+            continue
+        sa, sb = region_sources(a, ra), region_sources(b, other)
+        srcs = list(dict.fromkeys((sa or []) + (sb or [])))
+        if sa is None or sb is None or len(srcs) > MAX_SOURCES or len(ra.cuts) > MAX_STATE_VARS:
+            notes.append(f"the loop cut at {', '.join(ra.cuts)} is too big for its flow table to be compared")
+            continue
+        fa, fb = _flow_over(a, ra, srcs), _flow_over(b, other, srcs)
+        if fa is None or fb is None:
+            notes.append(f"the loop cut at {', '.join(ra.cuts)} reads nets outside its sources: not compared")
+            continue
+        ba, bb = _behaviour(fa, len(srcs)), _behaviour(fb, len(srcs))
+        checked += 1
+        if ba != bb:
+            same = False
+            notes.append(f"the loop cut at {', '.join(ra.cuts)} has other stable states or transitions in B")
+            continue
+        stable_n += len(ba[0])
+        moves_n += len(ba[1])
+        single = {(str(r["from"]), str(r["to"])) for r in gate_races(a, ra, srcs)
+                  if len(r["inputs_changed"]) == 1}
+        extra = [r for r in gate_races(b, other, srcs)
+                 if len(r["inputs_changed"]) == 1 and (str(r["from"]), str(r["to"])) not in single]
+        for r in extra[:2]:
+            notes.append("B only: " + race_text(r, other.cuts))
+    if checked:
+        notes.append(f"flow tables of {checked} feedback loop(s) compared: the same {stable_n} stable total "
+                     f"state(s) and the same result for each of {moves_n} single input change(s) from them")
+    return same, notes
