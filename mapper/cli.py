@@ -85,7 +85,20 @@ def cmd_inspect(args):
     print(f"warnings {len(info['warnings'])}")
     for w in info["warnings"]:
         print(f"  {w}")
+    _print_feedback(info.get("feedback") or [])
     return 0
+
+
+def _print_feedback(loops: list) -> None:
+    """Each feedback loop read as storage: its cut, what it is, and its flow table (stable states in ())."""
+    from .logic.flowtable import flow_table_lines
+    if loops:
+        print(f"feedback {len(loops)} loop{'s' if len(loops) > 1 else ''} read as storage")
+    for r in loops:
+        print(f"  cut at {', '.join(r['cut'])} ({r['kind']}): {r['form']}")
+        if r["flow_table"] is not None:
+            for line in flow_table_lines(r["flow_table"]):
+                print(f"    {line}")
 
 
 def _short(names, limit=10):

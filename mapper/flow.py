@@ -40,7 +40,7 @@ log = logging.getLogger(__name__)
 
 
 def inspect(path, **read_options) -> dict:
-    """Facts about one design: ports, storage, node counts, depth, fan-out, warnings."""
+    """Facts about one design: ports, storage, node counts, depth, fan-out, warnings, feedback loops."""
     n = read_design(path, quiet=True, **read_options)
     fanouts = n.fanouts()
     for o in n.outputs:
@@ -63,7 +63,16 @@ def inspect(path, **read_options) -> dict:
         "max_fanout_net": widest[0],
         "warnings": [str(w) for w in n.warnings],
         "notes": [str(d) for d in n.notes],
+        "feedback": _feedback(n),
     }
+
+
+def _feedback(n: Netlist) -> list:
+    """The design's feedback loops read as storage: what each is, and its flow table (Huffman)."""
+    if not has_feedback(n):
+        return []
+    from .logic.flowtable import analyse
+    return [r.as_dict() for r in analyse(n).regions if r.region.loop]
 
 
 def _count(items) -> dict:

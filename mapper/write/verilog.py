@@ -599,7 +599,8 @@ def netlist_text(netlist: Netlist) -> str:
     folded = closed_logic(netlist)
     hidden = set(folded.values())
     all_nets = list(dict.fromkeys(list(netlist.inputs) + list(netlist.outputs) + [
-        x for name, node in netlist.nodes.items() if name not in hidden for x in (name, *node.fanins)]))
+        x for name, node in netlist.nodes.items() if name not in hidden for x in (name, *node.fanins)
+        if x not in hidden]))
     nm = _Namer(netlist.inputs, netlist.outputs, all_nets, {}, rails=())
     ref = nm.ref
     port_nets = set(netlist.inputs) | set(netlist.outputs)
