@@ -510,6 +510,7 @@ def cmd_timing(args):
           f"{r['levels']} {'coil level' if r['relay'] else 'gate'}(s) deep")
     _print_paths(r)
     _print_clock(r)
+    _print_loops(r.get("feedback_loops") or [])
     sup = r["supply"]
     print(f"\nsupply  {si(sup['supply_current_a'], 'A')} worst case ({sup.get('supply_basis', '')})"
           + (f"; {si(sup['supply_current_static_a'], 'A')} with nothing switching"
@@ -534,6 +535,16 @@ def cmd_timing(args):
         print(f"netfit: error: {r['timing_violations']} timing check(s) fail: hold margins, clock pulses or the "
               "clock asked for (see above)", file=sys.stderr)
     return code
+
+
+def _print_loops(loops: list) -> None:
+    """Feedback loops kept as gates: once round each loop, and how long each input reaching it must last."""
+    for lp in loops:
+        print(f"\nfeedback loop at {', '.join(lp['cut'])} (parts {', '.join(lp['parts'])}): once round "
+              f"{si(lp['loop_delay_s'], 's')} (maximum figures), {si(lp['loop_delay_typ_s'], 's')} typical")
+        if lp["pulse_min_s"]:
+            print("  shortest pulse that the loop keeps: " + ", ".join(
+                f"{i} {si(t, 's')}" for i, t in lp["pulse_min_s"].items()))
 
 
 # -- parts ----------------------------------------------------------------
