@@ -166,3 +166,42 @@ def test_relays_refuse_the_set_reset_latch_with_the_reason():
     with pytest.raises(UsageError) as exc:
         flow.fit(read_design(DATA / "nor_sr.v", quiet=True), flow.load_target("relay-spdt"), effort=0)
     assert "the loop at q is a set-reset latch" in str(exc.value)
+
+
+def _mixed_reference(steps):
+    """Outputs (y, z, q) of tests/data/latches/mixed.blif after each step of (clk, a, b, c), by the textbook
+    rules (common practice): y toggles at a rising clock edge while a is 1 (a T flip-flop, power-up 0);
+    q is a NAND set-reset latch set while a and b are 1 and reset while c is 0 (both: q is 1); z = q and y."""
+    y, q, clk = 0, None, 0
+    out = []
+    for k, (c_, a, b, c) in enumerate(steps):
+        if c_ and not clk:
+            y ^= a
+        clk = c_
+        s, r = a & b, 1 - c
+        q = 1 if s else (0 if r else q)
+        out.append(None if q is None else f"{y}{q & y}{q}")
+    return out
+
+
+def test_mixed_design_converted_proved_and_simulated(tmp_path):
+    # a clocked register, a latch built from gates and combinational logic in one design (invented)
+    src = DATA / "mixed.blif"
+    design = read_design(src, quiet=True)
+    assert sorted(s.kind for s in design.storage().values()) == ["as", "re"]
+    for target in ("nand-only", "nor-only", "gates-74"):
+        r = flow.fit(design, flow.load_target(target), effort=0)
+        assert r.analysis.verified == "proved", target
+    out = tmp_path / "mixed.v"
+    flow.convert(src, out)
+    back = read_design(out, quiet=True)
+    assert check_equivalence(design, back).equivalent
+    # single input changes: (clk, a, b, c)
+    seq = [(0, 1, 1, 1), (0, 1, 0, 1), (1, 1, 0, 1), (0, 1, 0, 1), (0, 1, 0, 0), (0, 1, 1, 0), (0, 1, 1, 1),
+           (1, 1, 1, 1), (0, 1, 1, 1), (0, 0, 1, 1), (1, 0, 1, 1), (0, 0, 1, 1), (0, 0, 1, 0), (0, 1, 1, 0),
+           (1, 1, 1, 0), (0, 1, 1, 0), (0, 1, 1, 1), (0, 1, 0, 1), (1, 1, 0, 1)]
+    assert all(sum(x != y for x, y in zip(p, n)) == 1 for p, n in zip(seq, seq[1:]))
+    want = _mixed_reference(seq)
+    got = _simulate(tmp_path, [out], design.name, ("clk", "a", "b", "c"), ("y", "z", "q"),
+                    [(s, None) for s in seq])
+    assert [g if w is not None else None for g, w in zip(got, want)] == want
