@@ -219,7 +219,7 @@ def _relay_loops(design: Netlist, target: Target, report) -> Netlist:
     ok = []
     for r in report.regions:
         if not r.region.loop:
-            bad.append(f"{r.region.cuts[0]} is asynchronous storage with no clock or enable (a plain delay, not a loop)")
+            bad.append(f"{r.region.cuts[0]} is asynchronous storage with no clock or enable (a delay, not a loop)")
             continue
         q = r.region.cuts[0]
         if "flip_flop" in r.roles:

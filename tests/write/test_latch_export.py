@@ -174,7 +174,7 @@ def _mixed_reference(steps):
     q is a NAND set-reset latch set while a and b are 1 and reset while c is 0 (both: q is 1); z = q and y."""
     y, q, clk = 0, None, 0
     out = []
-    for k, (c_, a, b, c) in enumerate(steps):
+    for c_, a, b, c in steps:
         if c_ and not clk:
             y ^= a
         clk = c_
