@@ -231,3 +231,18 @@ def test_verify_gate_flip_flop_against_declared_latches(tmp_path, master, equal)
     res = check_equivalence(read_design(DATA / "msff.v", quiet=True), read_design(b, quiet=True))
     assert res.equivalent is equal
     assert any("is a feedback loop in A and a latch" in n for n in res.notes)
+
+
+def test_essential_hazard_of_the_master_slave_flip_flop():
+    # Unger 1969: an essential hazard is where one change of an input leads to one state and three changes
+    # of it to another.  Worked by hand from the textbook behaviour of the master-slave flip-flop (master
+    # open while clk is low, slave while high; common practice): from q = m = 0 with d = 1, clk = 1, one fall
+    # of clk opens the master (m = 1, q = 0); fall, rise, fall carries the 1 on into the slave (q = 1).
+    rep = analyse(read_design(DATA / "msff.v", quiet=True))
+    found = rep.by_cut()["q"].essential
+    assert {"input": "clk", "inputs": {"d": 1, "clk": 1}, "state": {"q": 0, "m": 0},
+            "once": {"q": 0, "m": 1}, "thrice": {"q": 1, "m": 1}} in found
+    # a loop of one state variable has none: with two states only, the state the changed input settles in
+    # is stable under it, so one change and three end alike (worked by hand)
+    for name in ("nor_sr.v", "nand_sr.v", "dlatch.v"):
+        assert analyse(read_design(DATA / name, quiet=True)).regions[0].essential == []
