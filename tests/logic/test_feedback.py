@@ -246,3 +246,19 @@ def test_essential_hazard_of_the_master_slave_flip_flop():
     # is stable under it, so one change and three end alike (worked by hand)
     for name in ("nor_sr.v", "nand_sr.v", "dlatch.v"):
         assert analyse(read_design(DATA / name, quiet=True)).regions[0].essential == []
+
+
+def test_quiz_example():
+    # the demo in examples/quiz (invented): the draft's lamp, "free" and set gate make a ring of three
+    # inversions while a button is held and clear is pressed (worked by hand: l1 = b1 and not l1)
+    ex = Path(__file__).parent.parent.parent / "examples" / "quiz"
+    draft = read_design(ex / "lockout_draft.v", quiet=True)
+    (r,) = analyse(draft).regions
+    assert {"b1": 1, "b2": 0, "b3": 0, "clear": 1} in r.oscillates
+    assert all(c["clear"] == 1 for c in r.oscillates)
+    fixed = read_design(ex / "lockout.v", quiet=True)
+    (r,) = analyse(fixed).regions
+    assert r.oscillates == [] and r.region.cuts == ["l1", "l2", "l3"]
+    # two buttons pressed together: whichever gate wins lights its lamp (the tie a quiz host knows)
+    ties = [x for x in r.races if sorted(x["inputs_changed"]) == ["b1", "b2"]]
+    assert ties and len({(o["l1"], o["l2"]) for o in ties[0]["outcomes"]}) > 1
