@@ -196,7 +196,8 @@ def _fit_feedback(design, target, effort, keep, trees, clock_hz, together) -> Re
         plan = _relay_loops(design, target, report)
         _refuse_latch_races(plan, target)
         return _fit_once(plan, target, effort, keep, trees, clock_hz, together, proof_design=design)
-    r = _fit_once(design, target, effort, keep, trees, clock_hz, together)
+    r = _keep_races(design, target, _fit_once(design, target, effort, keep, trees, clock_hz, together),
+                    clock_hz, together)
     if any(cd.storage in ("ah", "al") for name, cd in target.cells.items() if target.carriers.get(name)):
         parts = latch_form(design, report)
         if len(parts.storage()) and sum(1 for s in parts.storage().values() if s.kind == "as") < sum(
@@ -204,11 +205,43 @@ def _fit_feedback(design, target, effort, keep, trees, clock_hz, together) -> Re
             alt = _fit_once(parts, target, effort, keep, trees, clock_hz, together, proof_design=design)
             if (len(alt.build.parts), len(alt.build.cells)) < (len(r.build.parts), len(r.build.cells)):
                 alt.analysis.notes.append(f"feedback loops that are latches built as latch parts: "
-                                          f"{len(alt.build.parts)} parts against {len(r.build.parts)} with the "
+                                          f"{_parts(len(alt.build.parts))} against {len(r.build.parts)} with the "
                                           "loops kept as gates")
                 return alt
-            r.analysis.notes.append(f"feedback loops kept as gates: {len(r.build.parts)} parts against "
+            r.analysis.notes.append(f"feedback loops kept as gates: {_parts(len(r.build.parts))} against "
                                     f"{len(alt.build.parts)} with latch parts")
+    return r
+
+
+def _parts(n: int) -> str:
+    return f"{n} part{'' if n == 1 else 's'}"
+
+
+def _keep_races(design: Netlist, target: Target, r: Result, clock_hz, together) -> Result:
+    """``r``, or a build gate for gate where ``r``'s loops have critical races the design's have not.
+
+    The proof compares loops in fundamental mode, with all of a loop's delay at its cut; a build that
+    reshapes the gates of a loop can still race where the design did not (one input change, two
+    gates excited, the end depends on which wins: :func:`mapper.logic.flowtable.critical_races_added`).
+    Then the builds a builder makes by hand, gate for gate (:func:`mapper.fit.fit.baseline_builds`),
+    are tried, fewest parts first, and the first that adds no such race is kept; if none, ``r`` is
+    kept with a caution naming the races.
+    """
+    from .fit.fit import baseline_builds
+    from .logic.flowtable import critical_races_added
+    added = critical_races_added(design, r.build.to_netlist())
+    if not added:
+        return r
+    tried = sorted(baseline_builds(design, target).items(), key=lambda kv: (len(kv[1].parts), len(kv[1].cells)))
+    for label, b in tried:
+        if not critical_races_added(design, b.to_netlist()):
+            alt = _fit_once(design, target, 0, (), False, clock_hz, together, build=b)
+            alt.analysis.notes.append(
+                f"feedback loops built {label} ({_parts(len(b.parts))}): the build of {_parts(len(r.build.parts))} "
+                f"reshapes a loop so that it races where the design does not ({added[0]})")
+            return alt
+    r.analysis.cautions.append(f"the build's feedback loops race where the design's do not: {'; '.join(added[:3])}"
+                               " -- keep that input change slow, or draw the loop so that it cannot race")
     return r
 
 
@@ -241,11 +274,12 @@ def _relay_loops(design: Netlist, target: Target, report) -> Netlist:
     return latch_form(design, report, only=set(ok))
 
 
-def _fit_once(design, target, effort, keep, trees, clock_hz, together, proof_design=None) -> Result:
+def _fit_once(design, target, effort, keep, trees, clock_hz, together, proof_design=None, build=None) -> Result:
     """One map, proof and analysis (with repeater relays where relay chains are too long).
 
     The build is proved against ``proof_design`` when given (the design as read, when ``design``
-    is a form of it made for the fit), else against ``design``."""
+    is a form of it made for the fit), else against ``design``.  A ``build`` given is proved and
+    analysed as it is, not mapped again."""
     clock = [time.perf_counter()]
     stages: dict = {}
 
@@ -254,7 +288,7 @@ def _fit_once(design, target, effort, keep, trees, clock_hz, together, proof_des
         stages[name] = round(now - clock[0], 3)
         clock[0] = now
 
-    build = _map(design, target, effort, keep, trees)
+    build = build or _map(design, target, effort, keep, trees)
     lap("fit")
     proof = prove(proof_design or design, build)
     lap("proof")

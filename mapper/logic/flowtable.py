@@ -47,7 +47,7 @@ from .function import Function, isop, var_mask
 
 __all__ = ["RegionReport", "FeedbackReport", "analyse", "tabulate", "region_sources", "latch_form",
            "flow_table_lines", "MAX_SOURCES", "MAX_STATE_VARS", "check_feedback", "settle", "compare_flow",
-           "race_text", "essential_text"]
+           "race_text", "essential_text", "critical_races_added"]
 
 #: the most sources (inputs of a region's logic) and state variables a flow table is made over
 MAX_SOURCES = 8
@@ -675,13 +675,41 @@ def compare_flow(a: Netlist, b: Netlist) -> tuple[bool, list]:
             continue
         stable_n += len(ba[0])
         moves_n += len(ba[1])
-        single = {(str(r["from"]), str(r["to"])) for r in gate_races(a, ra, srcs)
-                  if len(r["inputs_changed"]) == 1}
-        extra = [r for r in gate_races(b, other, srcs)
-                 if len(r["inputs_changed"]) == 1 and (str(r["from"]), str(r["to"])) not in single]
-        for r in extra[:2]:
+        for r in _races_only_b(a, ra, b, other, srcs)[:2]:
             notes.append("B only: " + race_text(r, other.cuts))
     if checked:
         notes.append(f"flow tables of {checked} feedback loop(s) compared: the same {stable_n} stable total "
                      f"state(s) and the same result for each of {moves_n} single input change(s) from them")
     return same, notes
+
+
+def _races_only_b(a: Netlist, ra: Region, b: Netlist, rb: Region, srcs: list, critical: bool = False) -> list:
+    """Races of ``b``'s region after one input change that ``a``'s region cut at the same nets has not
+    (only those with more than one end when ``critical``)."""
+    def key(r):
+        return str(r["from"]), str(r["to"])
+
+    def single(races):
+        return [r for r in races if len(r["inputs_changed"]) == 1 and (not critical or len(r["outcomes"]) > 1)]
+
+    mine = {key(r) for r in single(gate_races(a, ra, srcs))}
+    return [r for r in single(gate_races(b, rb, srcs)) if key(r) not in mine]
+
+
+def critical_races_added(a: Netlist, b: Netlist) -> list:
+    """Critical races (more than one end) after one input change that the loops of ``b`` have and the
+    loops of ``a`` cut at the same nets have not, in words: what a build adds to its design's races."""
+    rb = {tuple(sorted(r.cuts)): r for r in regions(b) if r.loop}
+    out = []
+    for ra in regions(a):
+        other = rb.get(tuple(sorted(ra.cuts)))
+        if not ra.loop or other is None:
+            continue
+        sa, sb = region_sources(a, ra), region_sources(b, other)
+        if sa is None or sb is None:
+            continue
+        srcs = list(dict.fromkeys(sa + sb))
+        if len(srcs) > MAX_SOURCES:
+            continue
+        out += [race_text(r, other.cuts) for r in _races_only_b(a, ra, b, other, srcs, critical=True)]
+    return out
