@@ -218,28 +218,34 @@ def _parts(n: int) -> str:
 
 
 def _keep_races(design: Netlist, target: Target, r: Result, clock_hz, together) -> Result:
-    """``r``, or a build gate for gate where ``r``'s loops have critical races the design's have not.
+    """``r``, or a build gate for gate where that is as small, or where ``r``'s loops race and the design's not.
 
     The proof compares loops in fundamental mode, with all of a loop's delay at its cut; a build that
     reshapes the gates of a loop can still race where the design did not (one input change, two
     gates excited, the end depends on which wins: :func:`mapper.logic.flowtable.critical_races_added`).
     Then the builds a builder makes by hand, gate for gate (:func:`mapper.fit.fit.baseline_builds`),
     are tried, fewest parts first, and the first that adds no such race is kept; if none, ``r`` is
-    kept with a caution naming the races.
+    kept with a caution naming the races.  A gate-for-gate build of no more parts and gates than
+    ``r`` is kept even where ``r`` adds no race: it keeps the design's loops (the cross-coupled pair,
+    its delay once round) as drawn.
     """
     from .fit.fit import baseline_builds
     from .logic.flowtable import critical_races_added
     added = critical_races_added(design, r.build.to_netlist())
-    if not added:
-        return r
+    size = (len(r.build.parts), len(r.build.cells))
     tried = sorted(baseline_builds(design, target).items(), key=lambda kv: (len(kv[1].parts), len(kv[1].cells)))
     for label, b in tried:
+        if not added and (len(b.parts), len(b.cells)) > size:
+            break  # a build as small as the mapper's that keeps the design's loops gate for gate is preferred
         if not critical_races_added(design, b.to_netlist()):
             alt = _fit_once(design, target, 0, (), False, clock_hz, together, build=b)
-            alt.analysis.notes.append(
-                f"feedback loops built {label} ({_parts(len(b.parts))}): the build of {_parts(len(r.build.parts))} "
-                f"reshapes a loop so that it races where the design does not ({added[0]})")
+            why = (f"the build of {_parts(size[0])} reshapes a loop so that it races where the design does not "
+                   f"({added[0]})" if added else "as few parts and gates as the mapper's, with the design's loops "
+                   "gate for gate")
+            alt.analysis.notes.append(f"feedback loops built {label} ({_parts(len(b.parts))}): {why}")
             return alt
+    if not added:
+        return r
     r.analysis.cautions.append(f"the build's feedback loops race where the design's do not: {'; '.join(added[:3])}"
                                " -- keep that input change slow, or draw the loop so that it cannot race")
     return r

@@ -173,6 +173,12 @@ def test_native_pair_is_one_package():
     for name, target in (("nor_sr.v", "nor-only"), ("nand_sr.v", "nand-only")):
         r = flow.fit(read_design(DATA / name, quiet=True), flow.load_target(target), effort=1)
         assert len(r.build.parts) == 1 and len(r.build.cells) == 2, (name, target)
+    # the gated D latch of four NANDs and an inverter (five NAND slots: two packages) keeps its loop the
+    # cross-coupled pair of the textbook drawing: two gates once round
+    r = flow.fit(read_design(DATA / "dlatch.v", quiet=True), flow.load_target("nand-only"), effort=1)
+    assert len(r.build.parts) == 2 and len(r.build.cells) == 5
+    (lp,) = r.analysis.timing.loops
+    assert sorted(lp["nets"]) == ["q", "qn"]
 
 
 def test_relays_refuse_the_set_reset_latch_with_the_reason():
