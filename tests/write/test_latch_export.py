@@ -236,3 +236,20 @@ def test_a_build_that_would_race_is_built_gate_for_gate():
     assert any(n.startswith("feedback loops built by hand in nand2") and "races where the design does not" in n
                for n in r.analysis.notes), r.analysis.notes
     assert critical_races_added(design, r.build.to_netlist()) == []
+
+
+def test_latches_on_opposite_enables_share_no_enable_pin(tmp_path):
+    # the '75 quad latch has one enable per pair of latches: pin 13 for latches 1-2 and pin 4 for 3-4
+    # (generic datasheets, /work/shared/TRADE-FACTS.md); the master and slave of a flip-flop open on
+    # opposite clock levels, so they may not share a pair
+    design = read_design(DATA / "msff.v", quiet=True)
+    r = flow.fit(design, flow.load_target("gates-74"), effort=1)
+    latches = [c for c in r.build.cells if c.cell == "latch"]
+    assert len(latches) == 2
+    on_pin: dict = {}
+    for c in latches:
+        on_pin.setdefault((c.part_ref, r.build.pin_of(c, "EN")), set()).add(c.pins["EN"])
+    assert all(len(nets) == 1 for nets in on_pin.values()), on_pin
+    assert {num for _, num in on_pin} <= {4, 13}
+    flow.write_build(r, tmp_path)  # the wiring list's check that no pin joins two nets passes
+    assert (tmp_path / "wiring.txt").exists()
