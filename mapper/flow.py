@@ -168,7 +168,9 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     false keeps the first build, for tests and comparisons).  On relay targets a
     design whose latches can run data through one another, or whose decoded
     clock can glitch, is refused (:class:`UsageError`, exit 2): relays move
-    in any order, so no relay build of it is safe.
+    in any order, so no relay build of it is safe.  A design with feedback
+    loops read as storage is built by :func:`_fit_feedback`, whose controls
+    are not yet rebuilt hazard-free that way (its glitches are reported).
     """
     if has_feedback(design):
         return _fit_feedback(design, target, effort, keep, trees, clock_hz, together)
