@@ -144,6 +144,22 @@ def test_sr_latch_released_from_both_active_is_a_race():
         assert ends == {0, 1}
 
 
+def _gated_sr_next(q, s, r, en):
+    # gated set-reset latch: while en is 1 a NAND latch driven by s and r (active high), held while en is 0;
+    # s and r both active while enabled drive q (and qn) to 1
+    return (1 if s else (0 if r else q)) if en else q
+
+
+def test_gated_sr_latch_state_table_and_roles():
+    d = read_design(DATA / "gated_sr.v", quiet=True)
+    (r,) = analyse(d).regions
+    assert r.kind == "gated-sr-latch"
+    assert r.roles == {"set": "s", "set_level": 1, "reset": "r", "reset_level": 1, "enable": "en",
+                       "enable_level": 1, "both": 1}
+    for (q, xs), nxt in _table(r).items():
+        assert nxt == _gated_sr_next(q, *xs), (q, xs, nxt)
+
+
 def test_gated_d_latch_roles():
     r = analyse(read_design(DATA / "dlatch.v", quiet=True)).regions[0]
     assert r.roles == {"data": "d", "enable": "en", "enable_level": 1, "data_level": 1}

@@ -8,7 +8,8 @@ Outside sources, named beside each check:
   of single input changes and its outputs read after each settles;
 * the expected outputs are the textbook state tables (common practice):
   the NOR latch (s sets, r resets, both 0 hold, both 1 drive q and qn to 0),
-  the NAND latch (active low; both 0 drive q and qn to 1), the gated D latch
+  the NAND latch (active low; both 0 drive q and qn to 1), the gated set-reset latch (a NAND latch
+  whose set and reset act only while enabled), the gated D latch
   (transparent while enabled, holding while not) and the master-slave D
   flip-flop (takes d at the rising edge when the master is open while the
   clock is low).
@@ -64,6 +65,18 @@ D_LATCH = ("dlatch.v", ("d", "en"), ("q", "qn"), [
     ((1, 0), (0, 1)),  # d changes while closed: still 0
     ((1, 1), (1, 0)),
 ])
+GATED_SR = ("gated_sr.v", ("s", "r", "en"), ("q", "qn"), [
+    ((1, 0, 1), (1, 0)),  # enabled: set
+    ((0, 0, 1), (1, 0)),  # hold 1
+    ((0, 1, 1), (0, 1)),  # reset
+    ((0, 1, 0), (0, 1)),  # closed
+    ((1, 1, 0), (0, 1)),  # set and reset while closed: nothing happens
+    ((1, 0, 0), (0, 1)),
+    ((1, 0, 1), (1, 0)),  # opened with set active: set
+    ((1, 1, 1), (1, 1)),  # both active while enabled: q and qn both 1 (NAND latch)
+    ((0, 1, 1), (0, 1)),  # set released: reset wins
+    ((0, 1, 0), (0, 1)),
+])
 MS_FF = ("msff.v", ("d", "clk"), ("q",), [
     ((1, 0), None),    # master takes d while clk is low; q not yet known
     ((1, 1), (1,)),    # rising edge: q takes 1
@@ -117,7 +130,7 @@ def _check(tmp_path, files, module, case, power_up=()):
     assert not bad, bad
 
 
-CASES = [NOR_SR, NAND_SR, D_LATCH, MS_FF]
+CASES = [NOR_SR, NAND_SR, GATED_SR, D_LATCH, MS_FF]
 
 
 @pytest.mark.parametrize("case", CASES, ids=lambda c: c[0])
