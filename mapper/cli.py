@@ -113,7 +113,7 @@ def _short(names, limit=10):
 _HOW_PROVED = {
     "structural": "proved: both reduce to the same gates",
     "simulation": "proved: every input combination tried",
-    "sat-miter": "proved: a search for an input that tells them apart found none",
+    "sat": "proved: a search for an input that tells them apart found none",
     "sat-sweeping": "proved: a search for an input that tells them apart found none, "
                     "after shared points were proved equal and merged",
 }

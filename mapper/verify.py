@@ -33,7 +33,7 @@ How :func:`check_equivalence` decides
    equal) are tried first.
 5. **Output proofs** on the swept graph: each compared pair is proved equal
    or a counterexample is read off the SAT model (method ``"sat-sweeping"``;
-   ``"sat-miter"`` when sweeping is switched off).  The CNF is our own
+   ``"sat"`` when sweeping is switched off).  The CNF is our own
    Tseitin encoding over the AIG (:mod:`mapper.logic.cnf`).
 
 Every counterexample is replayed on both netlists with
@@ -134,7 +134,7 @@ class EquivalenceResult:
     ----------
     equivalent : bool
     method : str
-        What decided it: ``"structural"``, ``"simulation"``, ``"sat-miter"``,
+        What decided it: ``"structural"``, ``"simulation"``, ``"sat"``,
         ``"sat-sweeping"``, ``"ports"``, ``"storage"``, ``"initial-values"`` or
         ``"flow-table"``.
     counterexample : dict or None
@@ -765,7 +765,7 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     prover = _Prover(g, free, vals, mask, solver, conflict_budget, rng, sweep)
     del vals  # the classes keep what is needed
     try:
-        log.info("miter of %d AND nodes, %d pairs to prove", g.num_ands, len(todo))
+        log.info("proof graph of %d AND nodes, %d pairs to prove", g.num_ands, len(todo))
         if hints and not sweep:
             notes.append("hints are used only while sweeping; ignored")
         if sweep:
@@ -788,14 +788,14 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
                     f"could not decide {p.kind} '{p.name}' within {output_budget} conflicts")
             if res is not True:
                 stats.update(prover.stats)
-                method = "sat-sweeping" if sweep else "sat-miter"
+                method = "sat-sweeping" if sweep else "sat"
                 return finish(False, method, _counterexample(a, b, todo, res))
         stats.update(prover.stats)
         if sweep:
             stats["swept_ands"] = prover.n.num_ands
             merged = prover.stats["merged_by_sat"] + prover.stats["merged_by_cut"]
             notes.append(f"{merged} shared points of the two designs proved equal and merged")
-        return finish(True, "sat-sweeping" if sweep else "sat-miter")
+        return finish(True, "sat-sweeping" if sweep else "sat")
     finally:
         prover.close()
 
