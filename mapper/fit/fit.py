@@ -29,6 +29,7 @@ from dataclasses import replace
 from ..build import Build
 from ..catalog.model import Target
 from ..errors import UsageError
+from ..logic.canonical import canonical_order
 from ..logic.function import Function
 from ..netlist import Logic, Netlist
 from .electrical import split_fanout
@@ -271,6 +272,10 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     candidates are those of the module docstring, in that order, as long as
     the budget lasts.
     """
+    # walked in an order from the structure alone: the same design written differently (names,
+    # the order of inputs and gates) meets the same choices and gets the same parts
+    ports = list(design.inputs)
+    design = canonical_order(design)
     search = _PartSearch(design, target, effort, keep, trees)
     search.first_mappings()
     search.baselines()
@@ -284,6 +289,7 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
         search.seeds(subject)
         search.drop_types(subject)
     best = search.result()
+    best.inputs = ports  # the design's own port order
     log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
     fewest = min(n for _, n in search.tried) if search.tried else len(best.parts)
     best.notes.append(f"part search: {len(search.tried)} variants tried, best {fewest} parts ("
