@@ -9,17 +9,7 @@ has it):
   level for HC, which is why both faults are kept); a pin tied to a rail is
   faulted only to the other level (stuck at its own rail it is no fault).
 * **nets** -- every net driven by a section or an input, stuck at 0 and at
-  1 (an output pin bent under its chip, a net touching a rail).  On relay
-  builds "stuck at 0" is a net that nothing powers, "stuck at 1" a net
-  joined to the rail -- which also feeds power backwards through the
-  contacts it touches.
-* **relays** -- a coil that is never energized (its wire missing: an open
-  coil reads as released, says the catalog) or always energized, and each
-  used contact of each pole that never closes (a terminal wire missing, a
-  dirty contact) or never opens (welded).
-* **steering diodes** of relay storage that never conduct (missing,
-  reversed).
-
+  1 (an output pin bent under its chip, a net touching a rail).
 Not modelled: supply pins (a chip without supply is checked first, with a
 meter, in the procedure), coil diodes, decoupling capacitors and pull-down
 resistors (no effect on the levels), and the tied inputs of unused sections.
@@ -29,15 +19,15 @@ builds compute the same thing -- are merged by the structural rules of
 textbook practice (equivalence collapsing, e.g. Abramovici, Breuer and
 Friedman, *Digital Systems Testing and Testable Design*, 1990): a net with a
 single pin on it is one line with that pin; an input pin of a gate at its
-controlling value is the gate's output stuck at the value it forces; a
-relay fed by its own net alone is its coil; a relay with one used pole of a
-single contact is that contact.
+controlling value is the gate's output stuck at the value it forces.
+Relay builds and builds with storage are not modelled yet.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 
 from ..build import SUPPLY_NETS, Build
+from ..errors import InternalError
 from ..logic.function import var_mask
 
 __all__ = ["Fault", "FaultList", "fault_list"]
@@ -45,12 +35,10 @@ __all__ = ["Fault", "FaultList", "fault_list"]
 
 @dataclass(frozen=True)
 class Fault:
-    """One fault: ``kind`` (``pin``, ``net``, ``coil``, ``contact``, ``diode``) and ``value``.
+    """One fault: ``kind`` (``pin`` or ``net``) and ``value``, the level it is stuck at.
 
-    ``value`` is the level a pin or net is stuck at; for a coil 0 never
-    energized, 1 always; for a contact 0 never closes, 1 never opens; for a
-    diode 0 (never conducts).  ``open`` says the fault is what a missing
-    wire does there.
+    ``open`` says the fault is also what a missing wire does there (the
+    catalog's open-input level of the part, or of every part on a net).
     """
 
     kind: str
@@ -59,37 +47,21 @@ class Fault:
     ref: str = ""
     pin: int | str = ""
     name: str = ""
-    pole: int = 0
-    side: str = ""
     open: bool = False
 
     @property
     def key(self) -> str:
-        """A stable short name: ``U1-2/0``, ``net N11/1``, ``K4 coil/0``, ``K4-NO1/1``, ``D3/0``."""
+        """A stable short name: ``U1-2/0`` (pin 2 of U1 stuck at 0), ``net N11/1``."""
         if self.kind == "pin":
             return f"{self.ref}-{self.pin}/{self.value}"
-        if self.kind == "net":
-            return f"net {self.net}/{self.value}"
-        if self.kind == "coil":
-            return f"{self.ref} coil/{self.value}"
-        if self.kind == "contact":
-            return f"{self.ref}-{self.side}{self.pole}/{self.value}"
-        return f"{self.ref}/{self.value}"
+        return f"net {self.net}/{self.value}"
 
     @property
     def label(self) -> str:
         """The fault in plain words."""
         if self.kind == "pin":
             return f"{self.ref} pin {self.pin} ({self.name}, net {self.net}) stuck at {self.value}"
-        if self.kind == "net":
-            return f"net {self.net} stuck at {self.value}"
-        if self.kind == "coil":
-            return f"{self.ref} never operates (coil never energized)" if self.value == 0 else \
-                f"{self.ref} always operated (coil always energized)"
-        if self.kind == "contact":
-            what = "never closes" if self.value == 0 else "never opens"
-            return f"{self.ref} pole {self.pole} {self.side} contact {what}"
-        return f"{self.ref} (steering diode) never conducts"
+        return f"net {self.net} stuck at {self.value}"
 
 
 @dataclass
@@ -126,15 +98,14 @@ class _Union:
 def fault_list(b: Build) -> FaultList:
     """The modelled faults of ``b`` and their classes (see the module docstring)."""
     if b.is_relay:
-        faults, joins, left = _relay_faults(b)
-    else:
-        faults, joins, left = _gate_faults(b)
+        raise InternalError("faults of relay builds are not modelled yet")
+    faults, joins, left = _gate_faults(b)
     where = {f.key: i for i, f in enumerate(faults)}
     u = _Union(len(faults))
     for x, y in joins:
         # a rule may name a fault the list leaves out (a pin stuck at its own rail): nothing to join then
-        if x is not None and y is not None and x.key in where and y.key in where:
-            u.join(where[x.key], where[y.key])
+        if x in where and y in where:
+            u.join(where[x], where[y])
     groups: dict = {}
     for i in range(len(faults)):
         groups.setdefault(u.find(i), []).append(i)
@@ -175,27 +146,20 @@ def _gate_faults(b: Build) -> tuple:
         if len(loads) == 1 and net not in outputs:
             c, name, number, _ = loads[0]
             for v in (0, 1):
-                joins.append((Fault("net", v, net), _pin_fault(faults, c.part_ref, number, v)))
+                joins.append((f"net {net}/{v}", f"{c.part_ref}-{number}/{v}"))
     for c in b.cells:
         cd = b.cell_def(c)
         if cd.storage is not None:
             continue
         out = c.pins[cd.output]
         for j, name, v, k in _controlling(cd.logic_function(), cd.inputs, c.pins):
-            joins.append((_pin_fault(faults, c.part_ref, b.pin_of(c, name), v), Fault("net", k, out)))
+            joins.append((f"{c.part_ref}-{b.pin_of(c, name)}/{v}", f"net {out}/{k}"))
     used = {(c.part_ref, b.pin_of(c, p)) for c in b.cells for p in c.pins}
     unused_ties = sum(1 for t in b.ties if (t.part_ref, t.pin) not in used)
     left = {"supply pins": sum(len(b.part_def(p.ref).supply_pins) for p in b.parts),
             "tied inputs of unused sections": unused_ties,
             "support parts": len(b.support)}
     return faults, joins, left
-
-
-def _pin_fault(faults: list, ref: str, number, v: int):
-    for f in faults:
-        if f.kind == "pin" and f.ref == ref and f.pin == number and f.value == v:
-            return f
-    return None
 
 
 def _controlling(func, inputs, pins) -> list:
@@ -226,96 +190,3 @@ def _controlling(func, inputs, pins) -> list:
             elif vals == sel:
                 out.append((j, name, c, 1))
     return out
-
-
-# -- relay builds ----------------------------------------------------------------------------------------
-def _relay_faults(b: Build) -> tuple:
-    faults: list = []
-    joins: list = []
-    relay_levels = {}
-    for p in b.parts:
-        pd = b.part_def(p.ref)
-        relay_levels[p.ref] = pd.open_input.levels if pd.open_input is not None else ()
-    poles: dict = {}
-    for k in b.contacts:
-        poles.setdefault(k.part_ref, []).append(k)
-    nets: dict = {}
-    for i in b.inputs:
-        nets[i] = None
-    for k in b.contacts:
-        for n in (k.com, k.no, k.nc):
-            if n is not None:
-                nets[n] = None
-    for ref, n in b.coils.items():
-        nets[n] = None
-    for s in b.support:
-        if s.role == "steering":
-            for n in s.nets:
-                nets[n] = None
-    for net in nets:
-        if net in SUPPLY_NETS:
-            continue
-        for v in (0, 1):
-            faults.append(Fault("net", v, net, open=v == 0))
-    for p in b.parts:
-        coil = b.coils.get(p.ref)
-        if coil is None:
-            continue
-        for v in (0, 1):
-            faults.append(Fault("coil", v, coil, p.ref, "COIL+", open=v in relay_levels[p.ref]))
-        for k in sorted(poles.get(p.ref, []), key=lambda k: k.pole):
-            for side, other in (("NO", k.no), ("NC", k.nc)):
-                if other is None:
-                    continue
-                for v in (0, 1):
-                    faults.append(Fault("contact", v, k.com, p.ref, f"{side}{k.pole}", pole=k.pole, side=side,
-                                        open=v == 0))
-    for s in b.support:
-        if s.role == "steering":
-            faults.append(Fault("diode", 0, s.nets[1], s.ref, open=True))
-    joins += _relay_joins(b, faults, poles)
-    left = {"coil diodes": sum(1 for s in b.support if s.role == "coil-diode"),
-            "pull-down resistors": sum(1 for s in b.support if s.role == "pull-down")}
-    return faults, joins, left
-
-
-def _relay_joins(b: Build, faults: list, poles: dict) -> list:
-    """The structural equivalences of relay faults (see the module docstring)."""
-    joins = []
-    read: dict = {}
-    for k in b.contacts:
-        for n in (k.no, k.nc):
-            if n is not None:
-                read[n] = read.get(n, 0) + 1
-    for s in b.support:
-        if s.role == "steering":
-            read[s.nets[0]] = read.get(s.nets[0], 0) + 1
-    outputs = {b.output_nets.get(o, o) for o in b.outputs}
-    coil_users: dict = {}
-    for ref, n in b.coils.items():
-        coil_users.setdefault(n, []).append(ref)
-    for net, refs in coil_users.items():
-        if len(refs) != 1 or read.get(net) or net in outputs:
-            continue
-        ref = refs[0]
-        joins.append((Fault("net", 0, net, open=True), _find(faults, "coil", ref, 0)))
-        if net in b.inputs:   # an input is a source: joined to the rail it feeds nothing backwards
-            joins.append((Fault("net", 1, net), _find(faults, "coil", ref, 1)))
-    for ref, ks in poles.items():
-        if len(ks) != 1:
-            continue
-        k = ks[0]
-        if k.nc is None and k.no is not None:
-            joins.append((_find(faults, "contact", ref, 0, "NO"), _find(faults, "coil", ref, 0)))
-            joins.append((_find(faults, "contact", ref, 1, "NO"), _find(faults, "coil", ref, 1)))
-        elif k.no is None and k.nc is not None:
-            joins.append((_find(faults, "contact", ref, 0, "NC"), _find(faults, "coil", ref, 1)))
-            joins.append((_find(faults, "contact", ref, 1, "NC"), _find(faults, "coil", ref, 0)))
-    return joins
-
-
-def _find(faults: list, kind: str, ref: str, value: int, side: str = ""):
-    for f in faults:
-        if f.kind == kind and f.ref == ref and f.value == value and (not side or f.side == side):
-            return f
-    return None

@@ -1,30 +1,18 @@
 """Finding a short list of settings that detects every detectable fault.
 
-Builds without storage
-    Settings drawn at random are simulated against every fault still
-    undetected, 64 at a time, while a batch still finds new faults
-    (random-pattern fault simulation with fault dropping, textbook
-    practice).  On gate builds every fault left is then handed to the
-    solver (:mod:`mapper.bringup.atpg`, after Larrabee 1992), which finds a
-    setting or proves the fault undetectable; each setting it finds is
-    simulated against the faults still left.  A relay build with at most
-    :data:`EXHAUSTIVE_INPUTS` inputs is simply simulated under every input
-    combination, which settles every fault either way.
-
-Builds with storage
-    Settings are short sequences from the start (:mod:`mapper.bringup.start`),
-    one input changed per step, as a builder works switches; random walks
-    are simulated first, and the faults they miss are searched for one by
-    one over the pairs of states the good and the faulty build can reach
-    together (:mod:`mapper.bringup.search`).
+Settings drawn at random are simulated against every fault still undetected,
+:data:`BATCH` at a time, while a batch still finds new faults (random-pattern
+fault simulation with fault dropping, textbook practice).  Every fault left
+is then handed to the solver (:mod:`mapper.bringup.atpg`, after Larrabee
+1992), which finds a setting or proves the fault undetectable; each setting
+it finds is simulated against the faults still left.
 
 Compaction
     Every setting kept is simulated against every detected fault, and the
     list is cut down by a greedy cover -- the setting that detects most of
     what is still uncovered first -- followed by dropping, from the last
     chosen back, any setting whose faults the others detect (reverse-order
-    compaction, textbook practice).  Sequences are cut after the last step
-    that something needs.
+    compaction, textbook practice).
 """
 from __future__ import annotations
 
@@ -32,15 +20,14 @@ import logging
 import random
 from dataclasses import dataclass, field
 
+from ..errors import InternalError
 from .atpg import FOUND, UNDETECTABLE, sat_test
-from .engine import Engine, Setting
+from .engine import Engine
 
-__all__ = ["Outcome", "combinational", "compact", "EXHAUSTIVE_INPUTS", "BATCH"]
+__all__ = ["Outcome", "combinational", "compact", "BATCH"]
 
 log = logging.getLogger(__name__)
 
-#: relay builds without storage with at most this many inputs are simulated under every combination
-EXHAUSTIVE_INPUTS = 12
 #: settings simulated together in the random phase
 BATCH = 64
 #: random batches at most (the phase stops earlier once a batch finds nothing new)
@@ -51,7 +38,7 @@ MAX_BATCHES = 64
 class Outcome:
     """What test generation found.
 
-    ``settings`` are the candidate settings; ``detects[f]`` the index of a
+    ``settings`` are the candidate settings (tuples of input levels); ``detects[f]`` the index of a
     setting that detects fault ``f``; ``undetectable`` the faults proved
     undetectable; ``unresolved`` the faults neither found nor proved;
     ``methods`` what ran, in plain words, with counts.
@@ -73,26 +60,13 @@ def combinational(engine: Engine, faults: list, seed: int = 0) -> Outcome:
     """Settings for a build without storage (see the module docstring)."""
     out = Outcome()
     n = len(engine.inputs)
-    if engine.relay and n <= EXHAUSTIVE_INPUTS:
-        every = [Setting((tuple(p >> i & 1 for i in range(n)),)) for p in range(1 << n)]
-        run = engine.run(every, faults)
-        for f in range(len(faults)):
-            hit = run.detected(f)
-            if hit:
-                out.detects[f] = hit[0]
-            else:
-                out.undetectable.append(f)
-        out.settings = every
-        out.methods.append(f"every one of the {len(every)} input combinations simulated against every fault")
-        out.stats.update(combinations=len(every))
-        return out
     rng = random.Random(seed)
     left = list(range(len(faults)))
     tried = 0
     for _ in range(MAX_BATCHES):
         if not left:
             break
-        batch = [Setting((_random_vector(rng, n),)) for _ in range(BATCH)]
+        batch = [_random_vector(rng, n) for _ in range(BATCH)]
         tried += len(batch)
         run = engine.run(batch, [faults[f] for f in left])
         keep: dict = {}
@@ -113,10 +87,8 @@ def combinational(engine: Engine, faults: list, seed: int = 0) -> Outcome:
     out.methods.append(f"{tried} random settings simulated against the faults still undetected "
                        f"({len(out.settings)} kept)")
     out.stats.update(random_settings=tried)
-    if left and not engine.relay:
+    if left:
         _by_solver(engine, faults, left, out, rng)
-    elif left:
-        out.unresolved = left
     return out
 
 
@@ -135,10 +107,11 @@ def _by_solver(engine: Engine, faults: list, left: list, out: Outcome, rng: rand
             unknown += 1
             continue
         found += 1
-        s = Setting((tuple(vec.get(i, rng.getrandbits(1)) for i in range(n)),))
+        s = tuple(vec.get(i, rng.getrandbits(1)) for i in range(n))
         run = engine.run([s], [faults[g] for g in [f] + left])
         if not run.detected(0):   # the solver's setting must show the fault in simulation too
-            raise_mismatch(faults[f].key)
+            raise InternalError(f"the solver's setting for {faults[f].key} does not show it in simulation "
+                                "-- a bug in netfit")
         out.settings.append(s)
         p = len(out.settings) - 1
         out.detects[f] = p
@@ -152,11 +125,6 @@ def _by_solver(engine: Engine, faults: list, left: list, out: Outcome, rng: rand
     out.methods.append(f"satisfiability (after Larrabee 1992): {found} setting(s) found, {proved} fault(s) proved "
                        f"undetectable" + (f", {unknown} left unresolved within the solver's budget" if unknown else ""))
     out.stats.update(solver_found=found, solver_proved=proved, solver_unknown=unknown)
-
-
-def raise_mismatch(key: str) -> None:
-    from ..errors import InternalError
-    raise InternalError(f"the solver's setting for {key} does not show it in simulation -- a bug in netfit")
 
 
 def compact(engine: Engine, faults: list, out: Outcome) -> tuple:
