@@ -556,6 +556,38 @@ def cmd_parts(args):
     return 0
 
 
+# -- bringup -------------------------------------------------------------
+def _bringup_args(p):
+    p.add_argument("design")
+    p.add_argument("--target", "-t", required=True, metavar="T",
+                   help="target name (see `netfit targets`) or a target .xml file")
+    p.add_argument("--effort", type=int, default=1, choices=(0, 1),
+                   help="0: one mapping pass; 1 (default): also search for fewer parts")
+    p.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the random settings (default 0)")
+    _add_read_args(p)
+    fmt = p.add_mutually_exclusive_group()
+    fmt.add_argument("--json", action="store_true", help="print JSON")
+    fmt.add_argument("--csv", action="store_true", help="print the settings as CSV")
+
+
+@command("bringup", "input settings that find wiring faults on the built board, what to expect, and where to look "
+         "when an output reads wrong", _bringup_args)
+def cmd_bringup(args):
+    from . import flow
+    _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
+    r = flow.bringup(args.design, args.target, effort=args.effort, seed=args.seed, **_read_options(args))
+    if args.json:
+        _print_json(r["json"])
+    elif args.csv:
+        sys.stdout.write(r["csv"])
+    else:
+        sys.stdout.write(r["text"])
+    if args.json or args.csv:   # the coverage is always printed: on stderr when stdout carries data
+        from .bringup.report import coverage_line
+        print(coverage_line(r["plan"]), file=sys.stderr)
+    return 0
+
+
 # -- compare --------------------------------------------------------------
 def _compare_args(p):
     p.add_argument("design")

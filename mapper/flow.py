@@ -373,6 +373,21 @@ def parts(path, target_name, effort: int = 1, copies: int = 1, sockets: bool = F
             "table": parts_table(b, copies, sockets, spares), "rows": order_rows(b, copies, sockets, spares)}
 
 
+def bringup(path, target_name, effort: int = 1, seed: int = 0, **read_options) -> dict:
+    """``netfit bringup``: the build's bring-up plan (:mod:`mapper.bringup`).
+
+    Returns ``{"result": Result, "plan": Plan, "json": data, "text": table, "csv": text}``.
+    """
+    from .bringup.plan import make_plan
+    from .bringup.report import plan_csv, plan_json, plan_text
+    if load_target(target_name).is_relay:   # refused before the fit: nothing to wait for
+        raise UsageError("bring-up lists for relay builds are not made yet (gate builds without storage only)")
+    r = build(path, target_name, effort=effort, **read_options)
+    with progress.stage("finding the bring-up settings"):
+        plan = make_plan(r.build, seed=seed)
+    return {"result": r, "plan": plan, "json": plan_json(plan), "text": plan_text(plan), "csv": plan_csv(plan)}
+
+
 def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -> dict:
     """Build one target for :func:`compare` (runs in a worker process); never raises."""
     try:
