@@ -12,7 +12,7 @@ unresolved, and the report says so.
 """
 from __future__ import annotations
 
-from functools import lru_cache
+from functools import cache
 
 from pysat.solvers import Solver
 
@@ -27,7 +27,7 @@ CONFLICTS = 200_000
 FOUND, UNDETECTABLE, UNKNOWN = "found", "undetectable", "unknown"
 
 
-@lru_cache(maxsize=None)
+@cache
 def _cubes(func: Function) -> tuple:
     """``(on, off)`` prime cubes of ``func`` as ``(ones, zeros)`` input-index tuples."""
     op = classify(func)
@@ -87,10 +87,7 @@ def _fanin(circ: GateCircuit, roots: set) -> set:
 
 def _cones(circ: GateCircuit, site: tuple) -> tuple:
     """``(fanout nodes in order, output nets reached, fanin nodes in order)`` of a fault site."""
-    readers: dict = {}
-    for k, nd in enumerate(circ.nodes):
-        for p in nd[2]:
-            readers.setdefault(circ.pin_net[p], []).append(k)
+    readers = circ.readers()
     if site[0] == "pin":
         start = [k for k, nd in enumerate(circ.nodes) if site[1] in nd[2]]
     else:
@@ -108,14 +105,14 @@ def _cones(circ: GateCircuit, site: tuple) -> tuple:
     roots = {circ.driver[n] for n in reached if n in circ.driver}
     roots |= {d for k in seen for p in circ.nodes[k][2] if (d := circ.driver.get(circ.pin_net[p])) is not None}
     need = _fanin(circ, roots)
-    rank = {members[0]: i for i, (members, _) in enumerate(circ.blocks)}
+    rank = circ.rank()
     return sorted(seen, key=rank.__getitem__), list(dict.fromkeys(reached)), sorted(need, key=rank.__getitem__)
 
 
 def sat_test(circ: GateCircuit, site: tuple, value: int) -> tuple:
     """A setting that detects a fault, or a proof that none does.
 
-    ``circ`` has gates only (no storage, no loops); ``site`` is ``("pin",
+    ``circ`` has gates only (no storage); ``site`` is ``("pin",
     pin id)`` or ``("net", net id)`` and ``value`` the level it is stuck at.
     Returns ``(FOUND, {input index: 0/1})`` (inputs the solver left free
     are missing), ``(UNDETECTABLE, None)`` or ``(UNKNOWN, None)``.

@@ -69,7 +69,7 @@ class Engine:
             return ("net", self.circ.index[f.net])
         raise InternalError(f"no place in the simulator for fault {f.key}")
 
-    def machine(self, width: int, faults: list = ()) -> GateMachine:
+    def machine(self, width: int, faults: tuple | list = ()) -> GateMachine:
         """``width`` machines; ``faults`` is a list of ``(Fault, mask)``: the machines that carry each."""
         pins: dict = {}
         nets: dict = {}
@@ -112,7 +112,7 @@ class Engine:
             return Run([], fails)
         pm = (1 << P) - 1
         good: list = [[] for _ in range(P)]
-        for lo, count, m, rep in self.blocks(settings, faults):
+        for lo, _count, m, rep in self.blocks(settings, faults):
             for o, (h, l) in enumerate(m.outputs()):
                 gh, gl = h & pm, l & pm
                 if lo == 0:

@@ -152,7 +152,7 @@ def _gate_faults(b: Build) -> tuple:
         if cd.storage is not None:
             continue
         out = c.pins[cd.output]
-        for j, name, v, k in _controlling(cd.logic_function(), cd.inputs, c.pins):
+        for _j, name, v, k in _controlling(cd.logic_function(), cd.inputs, c.pins):
             joins.append((f"{c.part_ref}-{b.pin_of(c, name)}/{v}", f"net {out}/{k}"))
     used = {(c.part_ref, b.pin_of(c, p)) for c in b.cells for p in c.pins}
     unused_ties = sum(1 for t in b.ties if (t.part_ref, t.pin) not in used)

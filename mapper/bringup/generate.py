@@ -97,7 +97,7 @@ def _by_solver(engine: Engine, faults: list, left: list, out: Outcome, rng: rand
     n = len(engine.inputs)
     while left:
         f = left.pop(0)
-        kind, vec = sat_test(engine.circ, engine.site(faults[f]), faults[f].value)   # type: ignore[arg-type]
+        kind, vec = sat_test(engine.circ, engine.site(faults[f]), faults[f].value)
         if kind == UNDETECTABLE:
             out.undetectable.append(f)
             proved += 1

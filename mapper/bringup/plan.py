@@ -153,7 +153,7 @@ def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
                     row[p] += (diff & masks[p]).bit_count()
     c = engine.circ
     b = engine.b
-    drivers = {}
+    drivers: dict = {}
     for cell in b.cells:
         cd = b.cell_def(cell)
         drivers.setdefault(cell.pins[cd.output], (cell.part_ref, b.pin_of(cell, cd.output)))
@@ -169,7 +169,7 @@ def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
     return out
 
 
-def diagnose(plan: Plan, observed: set) -> list:
+def diagnose(plan: Plan, observed) -> list:
     """The places to check, best first, for the failing observations ``observed`` (``(setting, output)`` pairs).
 
     Classes whose signature equals ``observed`` come first (a full-response
@@ -177,13 +177,13 @@ def diagnose(plan: Plan, observed: set) -> list:
     outside the model) the classes are ranked by how many observations they
     explain less how many they predict wrongly.
     """
-    observed = frozenset(observed)
-    if not observed:
+    seen = frozenset(observed)
+    if not seen:
         return []
-    exact = [k for k, s in enumerate(plan.signature) if s == observed]
+    exact = [k for k, s in enumerate(plan.signature) if s == seen]
     if exact:
         ranked = exact
     else:
-        score = [(len(s & observed) - len(s ^ observed), k) for k, s in enumerate(plan.signature) if s & observed]
+        score = [(len(s & seen) - len(s ^ seen), k) for k, s in enumerate(plan.signature) if s & seen]
         ranked = [k for _, k in sorted(score, key=lambda t: (-t[0], t[1]))]
     return list(dict.fromkeys(place for k in ranked for place in plan.places(k)))

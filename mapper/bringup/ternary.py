@@ -17,7 +17,7 @@ inversions, XOR/XNOR, buffers and inverters.  Functions of more than
 """
 from __future__ import annotations
 
-from functools import lru_cache
+from functools import cache
 
 from ..logic.function import Function, isop, var_mask
 
@@ -71,7 +71,7 @@ def _cover_cubes(cubes) -> list:
             for c in cubes]
 
 
-@lru_cache(maxsize=None)
+@cache
 def classify(func: Function) -> Op:
     """The three-valued operation of ``func`` (see the module docstring).
 

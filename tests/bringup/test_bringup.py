@@ -27,12 +27,12 @@ import itertools
 import random
 
 import pytest
-from generated import make
 
+from generated import make
 from mapper import flow
-from mapper.build import SUPPLY_NETS
 from mapper.bringup.faults import fault_list
 from mapper.bringup.plan import diagnose, make_plan, place_of
+from mapper.build import SUPPLY_NETS
 from mapper.errors import UsageError
 from mapper.read import read_design
 from mapper.simulate import simulate
