@@ -4,7 +4,8 @@ For one fault, the good build and a copy of the part the fault can reach
 are written as clauses (each section as the prime implicants of its
 function for each output level, which is exact), the outputs of both are
 compared, and a solver is asked for an input setting under which some
-output differs (T. Larrabee, "Test pattern generation using Boolean
+output differs, with clauses saying that a difference travels along a path
+of differing nets to an output (T. Larrabee, "Test pattern generation using Boolean
 satisfiability", IEEE TCAD 11(1), 1992).  A setting found detects the
 fault; "no setting" proves the fault undetectable -- the logic around it is
 redundant; a solver that runs out of its conflict budget leaves the fault
@@ -109,6 +110,31 @@ def _cones(circ: GateCircuit, site: tuple) -> tuple:
     return sorted(seen, key=rank.__getitem__), list(dict.fromkeys(reached)), sorted(need, key=rank.__getitem__)
 
 
+def _paths(circ: GateCircuit, cnf: _Cnf, site: tuple, fanout: list, outputs: set, good: dict, bad: dict) -> None:
+    """Larrabee's active-path clauses: a difference on a net must go on through a reader, or be an output.
+
+    They add nothing a test needs (every test has such a path) but let the
+    solver refute a fault locally, where the difference dies, instead of
+    over the whole cone.
+    """
+    cone = set(fanout)
+    readers = circ.readers()
+    d: dict = {}
+    for k in fanout:
+        out = circ.nodes[k][1]
+        x, a, b = cnf.var(), good[out], bad[out]
+        cnf.clauses += [[-x, a, b], [-x, -a, -b], [x, -a, b], [x, a, -b]]
+        d[k] = x
+    for k in fanout:
+        out = circ.nodes[k][1]
+        if out not in outputs:
+            cnf.clauses.append([-d[k]] + [d[j] for j in readers.get(out, []) if j in cone])
+    if site[0] == "pin":
+        cnf.clauses.append([d[k] for k in fanout if site[1] in circ.nodes[k][2]])
+    elif site[1] not in outputs:
+        cnf.clauses.append([d[k] for k in readers.get(site[1], []) if k in cone])
+
+
 def sat_test(circ: GateCircuit, site: tuple, value: int) -> tuple:
     """A setting that detects a fault, or a proof that none does.
 
@@ -160,6 +186,7 @@ def sat_test(circ: GateCircuit, site: tuple, value: int) -> tuple:
         cnf.clauses += [[-d, a, b], [-d, -a, -b], [d, -a, b], [d, a, -b]]
         diffs.append(d)
     cnf.clauses.append(diffs)
+    _paths(circ, cnf, site, fanout, set(reached), good, bad)
     with Solver(name="glucose4", bootstrap_with=cnf.clauses) as s:
         s.conf_budget(CONFLICTS)
         res = s.solve_limited()
