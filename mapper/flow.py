@@ -380,8 +380,6 @@ def bringup(path, target_name, effort: int = 1, seed: int = 0, **read_options) -
     """
     from .bringup.plan import make_plan
     from .bringup.report import plan_csv, plan_json, plan_text
-    if load_target(target_name).is_relay:   # refused before the fit: nothing to wait for
-        raise UsageError("bring-up lists for relay builds are not made yet (gate builds without storage only)")
     r = build(path, target_name, effort=effort, **read_options)
     with progress.stage("finding the bring-up settings"):
         plan = make_plan(r.build, seed=seed)

@@ -1,7 +1,7 @@
-"""The fault simulator of a gate build: faults put into machines, settings run, faults found.
+"""The fault simulator of a build: faults put into machines, settings run, faults found.
 
-:class:`Engine` wraps the gate model (:mod:`mapper.bringup.gatesim`) of a
-build without storage (:func:`mapper.bringup.plan.make_plan` refuses the
+:class:`Engine` wraps the gate model (:mod:`mapper.bringup.gatesim`) or the
+relay model (:mod:`mapper.bringup.relaysim`) of a build without storage (:func:`mapper.bringup.plan.make_plan` refuses the
 others before it gets here).  Settings are run
 in *blocks*: with ``P`` settings and ``F`` faults, a run has ``(F + 1) * P``
 machines -- block 0 the good build under every setting, block ``f + 1``
@@ -22,6 +22,7 @@ from ..build import Build
 from ..errors import InternalError
 from .faults import Fault
 from .gatesim import GateCircuit, GateMachine
+from .relaysim import RelayCircuit, RelayMachine
 
 __all__ = ["Engine", "Run", "MAX_BITS"]
 
@@ -48,37 +49,49 @@ class Run:
 
 
 class Engine:
-    """The fault simulator of one gate build without storage."""
+    """The fault simulator of one build without storage."""
 
     def __init__(self, b: Build):
-        if b.is_relay:
-            raise InternalError("the bring-up simulator models gate builds only")
         self.b = b
+        self.relay = b.is_relay
+        self.circ: GateCircuit | RelayCircuit
+        self.inputs = list(b.inputs)
+        self.outputs = list(b.outputs)
+        if self.relay:
+            self.circ = RelayCircuit.from_build(b)
+            self._sites = {ref: r for r, ref in enumerate(self.circ.refs)}
+            return
         self.circ = GateCircuit.from_build(b)
         if self.circ.has_state:
             raise InternalError("the bring-up simulator models builds without storage only")
-        self.inputs = list(b.inputs)
-        self.outputs = list(b.outputs)
         self._sites = {(p.ref, p.number): pid for pid, p in enumerate(self.circ.pins)}
 
     def site(self, f: Fault) -> tuple:
-        """Where fault ``f`` sits in the simulator: ``("pin", pin id)`` or ``("net", net id)``."""
-        if f.kind == "pin":
+        """Where fault ``f`` sits: ``("pin", pin id)``, ``("net", net id)``, ``("coil", relay)`` or
+        ``("contact", relay, pole index, side)``."""
+        if f.kind == "pin" and not self.relay:
             return ("pin", self._sites[(f.ref, f.pin)])
         if f.kind == "net":
             return ("net", self.circ.index[f.net])
+        if f.kind == "coil" and self.relay:
+            return ("coil", self._sites[f.ref])
+        if f.kind == "contact" and self.relay:
+            poles = sorted(k.pole for k in self.b.contacts if k.part_ref == f.ref)
+            return ("contact", self._sites[f.ref], poles.index(f.pole), f.side)
         raise InternalError(f"no place in the simulator for fault {f.key}")
 
-    def machine(self, width: int, faults: tuple | list = ()) -> GateMachine:
+    def machine(self, width: int, faults: tuple | list = ()) -> GateMachine | RelayMachine:
         """``width`` machines; ``faults`` is a list of ``(Fault, mask)``: the machines that carry each."""
-        pins: dict = {}
-        nets: dict = {}
+        masks: dict = {}
         for f, m in faults:
-            kind, i = self.site(f)
-            d = pins if kind == "pin" else nets
-            lo, hi = d.get(i, (0, 0))
-            d[i] = (lo | m, hi) if f.value == 0 else (lo, hi | m)
-        return GateMachine(self.circ, width, pins, nets)
+            s = self.site(f)
+            lo, hi = masks.get(s, (0, 0))
+            masks[s] = (lo | m, hi) if f.value == 0 else (lo, hi | m)
+        if self.relay:
+            return RelayMachine(self.circ, width, masks)   # type: ignore[arg-type]
+        pins = {s[1]: v for s, v in masks.items() if s[0] == "pin"}
+        nets = {s[1]: v for s, v in masks.items() if s[0] == "net"}
+        return GateMachine(self.circ, width, pins, nets)   # type: ignore[arg-type]
 
     # -- runs ------------------------------------------------------------------------------------------
     def blocks(self, settings: list, faults: list):

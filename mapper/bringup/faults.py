@@ -9,7 +9,14 @@ has it):
   level for HC, which is why both faults are kept); a pin tied to a rail is
   faulted only to the other level (stuck at its own rail it is no fault).
 * **nets** -- every net driven by a section or an input, stuck at 0 and at
-  1 (an output pin bent under its chip, a net touching a rail).
+  1 (an output pin bent under its chip, a net touching a rail).  On relay
+  builds "stuck at 0" is a net that nothing powers (every wire of it
+  loose), "stuck at 1" a net joined to the supply -- which also feeds power
+  backwards through the contacts it touches.
+* **relays** -- a coil that is never energized (its wire missing: an open
+  coil reads as released, says the catalog) or always energized, and each
+  used contact of each pole that never closes (a terminal wire missing, a
+  dirty contact) or never opens (welded).
 Not modelled: supply pins (a chip without supply is checked first, with a
 meter, in the procedure), coil diodes, decoupling capacitors and pull-down
 resistors (no effect on the levels), and the tied inputs of unused sections.
@@ -20,7 +27,9 @@ textbook practice (equivalence collapsing, e.g. Abramovici, Breuer and
 Friedman, *Digital Systems Testing and Testable Design*, 1990): a net with a
 single pin on it is one line with that pin; an input pin of a gate at its
 controlling value is the gate's output stuck at the value it forces.
-Relay builds and builds with storage are not modelled yet.
+On relay builds a relay fed by its own net alone is its coil, and a relay
+with one used contact is that contact.  Builds with storage are not
+modelled yet.
 """
 from __future__ import annotations
 
@@ -35,9 +44,10 @@ __all__ = ["Fault", "FaultList", "fault_list"]
 
 @dataclass(frozen=True)
 class Fault:
-    """One fault: ``kind`` (``pin`` or ``net``) and ``value``, the level it is stuck at.
+    """One fault: ``kind`` (``pin``, ``net``, ``coil``, ``contact``) and ``value``.
 
-    ``open`` says the fault is also what a missing wire does there (the
+    ``value`` is the level a pin or net is stuck at; for a coil 0 never
+    energized, 1 always; for a contact 0 never closes, 1 never opens.  ``open`` says the fault is also what a missing wire does there (the
     catalog's open-input level of the part, or of every part on a net).
     """
 
@@ -48,12 +58,18 @@ class Fault:
     pin: int | str = ""
     name: str = ""
     open: bool = False
+    pole: int = 0
+    side: str = ""
 
     @property
     def key(self) -> str:
         """A stable short name: ``U1-2/0`` (pin 2 of U1 stuck at 0), ``net N11/1``."""
         if self.kind == "pin":
             return f"{self.ref}-{self.pin}/{self.value}"
+        if self.kind == "coil":
+            return f"{self.ref} coil/{self.value}"
+        if self.kind == "contact":
+            return f"{self.ref}-{self.side}{self.pole}/{self.value}"
         return f"net {self.net}/{self.value}"
 
     @property
@@ -61,6 +77,12 @@ class Fault:
         """The fault in plain words."""
         if self.kind == "pin":
             return f"{self.ref} pin {self.pin} ({self.name}, net {self.net}) stuck at {self.value}"
+        if self.kind == "coil":
+            return f"{self.ref} never operates (coil never energized)" if self.value == 0 else \
+                f"{self.ref} always operated (coil always energized)"
+        if self.kind == "contact":
+            what = "never closes" if self.value == 0 else "never opens"
+            return f"{self.ref} pole {self.pole} {self.side} contact {what}"
         return f"net {self.net} stuck at {self.value}"
 
 
@@ -97,9 +119,9 @@ class _Union:
 
 def fault_list(b: Build) -> FaultList:
     """The modelled faults of ``b`` and their classes (see the module docstring)."""
-    if b.is_relay:
-        raise InternalError("faults of relay builds are not modelled yet")
-    faults, joins, left = _gate_faults(b)
+    if b.latches or b.sequencers or b.storage_groups:
+        raise InternalError("faults of builds with storage are not modelled yet")
+    faults, joins, left = _relay_faults(b) if b.is_relay else _gate_faults(b)
     where = {f.key: i for i, f in enumerate(faults)}
     u = _Union(len(faults))
     for x, y in joins:
@@ -190,3 +212,65 @@ def _controlling(func, inputs, pins) -> list:
             elif vals == sel:
                 out.append((j, name, c, 1))
     return out
+
+
+# -- relay builds (without storage) ---------------------------------------------------------------------
+def _relay_faults(b: Build) -> tuple:
+    faults: list = []
+    open_levels = {}
+    for p in b.parts:
+        pd = b.part_def(p.ref)
+        open_levels[p.ref] = pd.open_input.levels if pd.open_input is not None else ()
+    poles: dict = {}
+    for k in b.contacts:
+        poles.setdefault(k.part_ref, []).append(k)
+    nets: dict = dict.fromkeys(b.inputs)
+    for k in b.contacts:
+        nets.update(dict.fromkeys(n for n in (k.com, k.no, k.nc) if n is not None))
+    nets.update(dict.fromkeys(b.coils.values()))
+    for net in nets:
+        if net not in SUPPLY_NETS:
+            faults += [Fault("net", v, net, open=v == 0) for v in (0, 1)]
+    for p in b.parts:
+        coil = b.coils.get(p.ref)
+        if coil is None:
+            continue
+        faults += [Fault("coil", v, coil, p.ref, "COIL+", open=v in open_levels[p.ref]) for v in (0, 1)]
+        for k in sorted(poles.get(p.ref, []), key=lambda k: k.pole):
+            for side, other in (("NO", k.no), ("NC", k.nc)):
+                if other is not None:
+                    faults += [Fault("contact", v, k.com, p.ref, f"{side}{k.pole}", pole=k.pole, side=side,
+                                     open=v == 0) for v in (0, 1)]
+    left = {"coil diodes": sum(1 for s in b.support if s.role == "coil-diode"),
+            "pull-down resistors": sum(1 for s in b.support if s.role == "pull-down")}
+    return faults, _relay_joins(b, poles), left
+
+
+def _relay_joins(b: Build, poles: dict) -> list:
+    """The structural equivalences of relay faults (see the module docstring), as pairs of keys."""
+    joins = []
+    read: dict = {}
+    for k in b.contacts:   # a net on any contact terminal carries power on: never merged with the coil
+        for n in (k.com, k.no, k.nc):
+            if n is not None:
+                read[n] = read.get(n, 0) + 1
+    outputs = {b.output_nets.get(o, o) for o in b.outputs}
+    users: dict = {}
+    for ref, n in b.coils.items():
+        users.setdefault(n, []).append(ref)
+    for net, refs in users.items():
+        if len(refs) != 1 or read.get(net) or net in outputs:
+            continue
+        # a net that only feeds one coil: never powered is the coil never energized
+        joins.append((f"net {net}/0", f"{refs[0]} coil/0"))
+        if net in b.inputs:   # an input is a source: joined to the supply it feeds nothing backwards
+            joins.append((f"net {net}/1", f"{refs[0]} coil/1"))
+    for ref, ks in poles.items():
+        if len(ks) != 1:
+            continue
+        k = ks[0]
+        if k.nc is None and k.no is not None:   # the one make contact follows the coil
+            joins += [(f"{ref}-NO{k.pole}/0", f"{ref} coil/0"), (f"{ref}-NO{k.pole}/1", f"{ref} coil/1")]
+        elif k.no is None and k.nc is not None:   # the one break contact follows the coil inverted
+            joins += [(f"{ref}-NC{k.pole}/0", f"{ref} coil/1"), (f"{ref}-NC{k.pole}/1", f"{ref} coil/0")]
+    return joins

@@ -7,6 +7,11 @@ is then handed to the solver (:mod:`mapper.bringup.atpg`, after Larrabee
 1992), which finds a setting or proves the fault undetectable; each setting
 it finds is simulated against the faults still left.
 
+Relay builds have no solver yet: one with at most :data:`EXHAUSTIVE_INPUTS`
+inputs is simulated under every input combination, which settles every
+fault either way; on a wider one the faults random settings miss are left
+unresolved, and the report says so.
+
 Compaction
     Every setting kept is simulated against every detected fault, and the
     list is cut down by a greedy cover -- the setting that detects most of
@@ -24,10 +29,12 @@ from ..errors import InternalError
 from .atpg import FOUND, UNDETECTABLE, sat_test
 from .engine import Engine
 
-__all__ = ["Outcome", "combinational", "compact", "BATCH"]
+__all__ = ["Outcome", "combinational", "compact", "BATCH", "EXHAUSTIVE_INPUTS"]
 
 log = logging.getLogger(__name__)
 
+#: relay builds with at most this many inputs are simulated under every input combination
+EXHAUSTIVE_INPUTS = 12
 #: settings simulated together in the random phase
 BATCH = 64
 #: random batches at most (the phase stops earlier once a batch finds nothing new)
@@ -60,6 +67,8 @@ def combinational(engine: Engine, faults: list, seed: int = 0) -> Outcome:
     """Settings for a build without storage (see the module docstring)."""
     out = Outcome()
     n = len(engine.inputs)
+    if engine.relay and n <= EXHAUSTIVE_INPUTS:
+        return _every_combination(engine, faults)
     rng = random.Random(seed)
     left = list(range(len(faults)))
     tried = 0
@@ -87,8 +96,28 @@ def combinational(engine: Engine, faults: list, seed: int = 0) -> Outcome:
     out.methods.append(f"{tried} random settings simulated against the faults still undetected "
                        f"({len(out.settings)} kept)")
     out.stats.update(random_settings=tried)
-    if left:
+    if left and engine.relay:
+        out.unresolved = left
+    elif left:
         _by_solver(engine, faults, left, out, rng)
+    return out
+
+
+def _every_combination(engine: Engine, faults: list) -> Outcome:
+    """Every input combination against every fault: each fault detected or shown undetectable."""
+    out = Outcome()
+    n = len(engine.inputs)
+    every = [tuple(p >> i & 1 for i in range(n)) for p in range(1 << n)]
+    run = engine.run(every, faults)
+    for f in range(len(faults)):
+        hit = run.detected(f)
+        if hit:
+            out.detects[f] = hit[0]
+        else:
+            out.undetectable.append(f)
+    out.settings = every
+    out.methods.append(f"every one of the {len(every)} input combinations simulated against every fault")
+    out.stats.update(combinations=len(every))
     return out
 
 

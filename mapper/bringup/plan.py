@@ -12,8 +12,8 @@
    wrong (its *signature*), reduced to the places a person checks -- a pin
    of a part (the wire into it) or a whole net (every wire of it).
 
-Relay builds and builds with storage are refused with a plain message: their
-fault models and sequences are not built yet.
+Builds with storage (flip-flops, latches, relay seal-in storage) are refused
+with a plain message: their sequences are not built yet.
 """
 from __future__ import annotations
 
@@ -83,17 +83,23 @@ class Plan:
 
 
 def place_of(f: Fault) -> str:
-    """Where a person looks for fault ``f``: ``U3 pin 5`` (the wire into that pin) or ``net N11``."""
-    return f"{f.ref} pin {f.pin}" if f.kind == "pin" else f"net {f.net}"
+    """Where a person looks for fault ``f``: ``U3 pin 5`` (the wire into that pin), ``net N11``,
+    ``K2 coil`` or ``K2 contact NO1``."""
+    if f.kind == "pin":
+        return f"{f.ref} pin {f.pin}"
+    if f.kind == "coil":
+        return f"{f.ref} coil"
+    if f.kind == "contact":
+        return f"{f.ref} contact {f.side}{f.pole}"
+    return f"net {f.net}"
 
 
 def make_plan(b: Build, seed: int = 0) -> Plan:
     """The bring-up plan of gate build ``b`` (:class:`UsageError` for relay builds and builds with storage)."""
-    if b.is_relay:
-        raise UsageError("bring-up lists for relay builds are not made yet (gate builds without storage only)")
-    if any(b.cell_def(c).storage is not None for c in b.cells) or b.storage_groups:
-        raise UsageError("bring-up lists for builds with flip-flops or latches are not made yet "
-                         "(gate builds without storage only)")
+    if (any(b.cell_def(c).storage is not None for c in b.cells) or b.storage_groups or b.latches
+            or b.sequencers):
+        raise UsageError("bring-up lists for builds with storage (flip-flops, latches) are not made yet: "
+                         "builds without storage only")
     fl = fault_list(b)
     engine = Engine(b)
     reps = fl.representatives
@@ -111,10 +117,11 @@ def make_plan(b: Build, seed: int = 0) -> Plan:
 
 
 def _candidates(engine: Engine) -> list:
-    """Net ids worth probing: driven by a section, neither an input, an output nor a rail."""
+    """Net ids worth probing: driven inside the build, neither an input, an output nor a rail."""
     c = engine.circ
-    outs = {n for _, n in c.outputs}
-    nets = sorted((c.nets[n], n) for n in c.driver if n not in outs and c.nets[n] not in SUPPLY_NETS)
+    outs = {n for _, n in c.outputs} | set(c.inputs)
+    inside = range(len(c.nets)) if engine.relay else c.driver   # type: ignore[union-attr]
+    nets = sorted((c.nets[n], n) for n in inside if n not in outs and c.nets[n] not in SUPPLY_NETS)
     if len(nets) > PROBE_CANDIDATES:
         step = len(nets) / PROBE_CANDIDATES
         nets = [nets[int(i * step)] for i in range(PROBE_CANDIDATES)]
@@ -157,6 +164,12 @@ def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
     for cell in b.cells:
         cd = b.cell_def(cell)
         drivers.setdefault(cell.pins[cd.output], (cell.part_ref, b.pin_of(cell, cd.output)))
+    if engine.relay:   # a relay net has no one driver: the first contact terminal on it
+        for net, pins in b.nets().items():
+            for ref, pin in pins:
+                if str(pin).startswith(("COM", "NO", "NC")):
+                    drivers.setdefault(net, (ref, pin))
+                    break
     out = []
     for p in range(P):
         scored = sorted(((min(counts[n][p], sizes[p] - counts[n][p]), c.nets[n], n) for n in cands
