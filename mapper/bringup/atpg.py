@@ -1,12 +1,15 @@
 """Test generation by satisfiability for the faults random settings miss (gate builds without storage).
 
-For one fault, the good build and a copy of the part the fault can reach
-are written as clauses (each section as the prime implicants of its
-function for each output level, which is exact), the outputs of both are
-compared, and a solver is asked for an input setting under which some
+The good build is written as clauses once (each section as the prime
+implicants of its function for each output level, which is exact).  For one
+fault, a copy of the part the fault can reach is added, the outputs of both
+are compared, and the solver is asked for an input setting under which some
 output differs, with clauses saying that a difference travels along a path
-of differing nets to an output (T. Larrabee, "Test pattern generation using Boolean
-satisfiability", IEEE TCAD 11(1), 1992).  A setting found detects the
+of differing nets to an output (T. Larrabee, "Test pattern generation using
+Boolean satisfiability", IEEE TCAD 11(1), 1992).  One solver serves every
+fault: a fault's clauses carry a selector literal assumed true for its own
+call and set false after it, so what the solver learnt about the good build
+is kept (incremental satisfiability, common practice).  A setting found detects the
 fault; "no setting" proves the fault undetectable -- the logic around it is
 redundant; a solver that runs out of its conflict budget leaves the fault
 unresolved, and the report says so.
@@ -17,15 +20,19 @@ from functools import cache
 
 from pysat.solvers import Solver
 
+from ..errors import InternalError
+
 from ..logic.function import Function
 from .gatesim import GateCircuit
 from .ternary import AND, CONST, COPY, NOT, XOR, classify, primes
 
-__all__ = ["sat_test", "CONFLICTS", "FOUND", "UNDETECTABLE", "UNKNOWN"]
+__all__ = ["SettingSolver", "CONFLICTS", "FOUND", "UNDETECTABLE", "UNKNOWN"]
 
 #: conflicts the solver may spend on one fault before it is left unresolved
 CONFLICTS = 200_000
 FOUND, UNDETECTABLE, UNKNOWN = "found", "undetectable", "unknown"
+#: levels of gates past a fault site asked first (see :meth:`SettingSolver.test`)
+WINDOW = 4
 
 
 @cache
@@ -53,150 +60,161 @@ def _cubes(func: Function) -> tuple:
     return (op[1], op[2])
 
 
-class _Cnf:
-    def __init__(self):
-        self.clauses: list = []
-        self.n = 0
-
-    def var(self) -> int:
-        self.n += 1
-        return self.n
-
-    def gate(self, func: Function, ins: list, y: int) -> None:
-        on, off = _cubes(func)
-        for ones, zeros in on:
-            self.clauses.append([-ins[j] for j in ones] + [ins[j] for j in zeros] + [y])
-        for ones, zeros in off:
-            self.clauses.append([-ins[j] for j in ones] + [ins[j] for j in zeros] + [-y])
+def _clauses(func: Function, ins: list, y: int) -> list:
+    """Clauses saying ``y`` is ``func`` of ``ins`` (literals)."""
+    on, off = _cubes(func)
+    out = [[-ins[j] for j in ones] + [ins[j] for j in zeros] + [y] for ones, zeros in on]
+    out += [[-ins[j] for j in ones] + [ins[j] for j in zeros] + [-y] for ones, zeros in off]
+    return out
 
 
-def _fanin(circ: GateCircuit, roots: set) -> set:
-    """Node ids of ``roots`` and of everything they read, all the way back to the inputs."""
-    need: set = set()
-    todo = list(roots)
-    while todo:
-        k = todo.pop()
-        if k in need:
-            continue
-        need.add(k)
-        for p in circ.nodes[k][2]:
-            d = circ.driver.get(circ.pin_net[p])
-            if d is not None and d not in need:
-                todo.append(d)
-    return need
+def _xor(d: int, a: int, b: int) -> list:
+    """Clauses saying ``d`` is ``a`` XOR ``b``."""
+    return [[-d, a, b], [-d, -a, -b], [d, -a, b], [d, a, -b]]
 
 
-def _cones(circ: GateCircuit, site: tuple) -> tuple:
-    """``(fanout nodes in order, output nets reached, fanin nodes in order)`` of a fault site."""
-    readers = circ.readers()
-    if site[0] == "pin":
-        start = [k for k, nd in enumerate(circ.nodes) if site[1] in nd[2]]
-    else:
-        start = list(readers.get(site[1], []))
-    seen = set(start)
-    todo = list(start)
-    while todo:
-        k = todo.pop()
-        for r in readers.get(circ.nodes[k][1], []):
-            if r not in seen:
-                seen.add(r)
-                todo.append(r)
-    cone_nets = {circ.nodes[k][1] for k in seen} | ({site[1]} if site[0] == "net" else set())
-    reached = [n for _, n in circ.outputs if n in cone_nets]
-    roots = {circ.driver[n] for n in reached if n in circ.driver}
-    roots |= {d for k in seen for p in circ.nodes[k][2] if (d := circ.driver.get(circ.pin_net[p])) is not None}
-    need = _fanin(circ, roots)
-    rank = circ.rank()
-    return sorted(seen, key=rank.__getitem__), list(dict.fromkeys(reached)), sorted(need, key=rank.__getitem__)
+class SettingSolver:
+    """One solver for every fault of a gate build without storage (see the module docstring)."""
 
+    def __init__(self, circ: GateCircuit):
+        self.circ = circ
+        self.n = len(circ.nets)
+        # good net i is variable i + 1
+        self.solver = Solver(name="glucose4")
+        self.solver.add_clause([2])    # VCC (net id 1)
+        self.solver.add_clause([-1])   # GND (net id 0)
+        for nd in circ.nodes:
+            for c in _clauses(nd[4], [circ.pin_net[p] + 1 for p in nd[2]], nd[1] + 1):
+                self.solver.add_clause(c)
+        self.top = self.n
 
-def _paths(circ: GateCircuit, cnf: _Cnf, site: tuple, fanout: list, outputs: set, good: dict, bad: dict) -> None:
-    """Larrabee's active-path clauses: a difference on a net must go on through a reader, or be an output.
+    def close(self) -> None:
+        self.solver.delete()
 
-    They add nothing a test needs (every test has such a path) but let the
-    solver refute a fault locally, where the difference dies, instead of
-    over the whole cone.
-    """
-    cone = set(fanout)
-    readers = circ.readers()
-    d: dict = {}
-    for k in fanout:
-        out = circ.nodes[k][1]
-        x, a, b = cnf.var(), good[out], bad[out]
-        cnf.clauses += [[-x, a, b], [-x, -a, -b], [x, -a, b], [x, a, -b]]
-        d[k] = x
-    for k in fanout:
-        out = circ.nodes[k][1]
-        if out not in outputs:
-            cnf.clauses.append([-d[k]] + [d[j] for j in readers.get(out, []) if j in cone])
-    if site[0] == "pin":
-        cnf.clauses.append([d[k] for k in fanout if site[1] in circ.nodes[k][2]])
-    elif site[1] not in outputs:
-        cnf.clauses.append([d[k] for k in readers.get(site[1], []) if k in cone])
+    def _var(self) -> int:
+        self.top += 1
+        return self.top
 
+    def _cone(self, site: tuple, depth: int | None) -> tuple:
+        """``(nodes in order, observed nets, whole)``: the fanout of a fault site within ``depth`` levels
+        (``None``: all of it).  Observed are the outputs reached and, cut short, every net read beyond the
+        cut; ``whole`` says nothing was cut."""
+        circ = self.circ
+        readers = circ.readers()
+        if site[0] == "pin":
+            start = [k for k, nd in enumerate(circ.nodes) if site[1] in nd[2]]
+        else:
+            start = list(readers.get(site[1], []))
+        seen = set(start)
+        level = list(start)
+        steps = 1
+        while level and (depth is None or steps < depth):
+            nxt = []
+            for k in level:
+                for r in readers.get(circ.nodes[k][1], []):
+                    if r not in seen:
+                        seen.add(r)
+                        nxt.append(r)
+            level = nxt
+            steps += 1
+        outs = {n for _, n in circ.outputs}
+        cone_nets = {circ.nodes[k][1] for k in seen} | ({site[1]} if site[0] == "net" else set())
+        observed = {n for n in cone_nets if n in outs}
+        cut = {circ.nodes[k][1] for k in seen if any(r not in seen for r in readers.get(circ.nodes[k][1], []))}
+        return sorted(seen, key=circ.rank().__getitem__), observed | cut, not cut
 
-def sat_test(circ: GateCircuit, site: tuple, value: int) -> tuple:
-    """A setting that detects a fault, or a proof that none does.
+    def test(self, site: tuple, value: int) -> tuple:
+        """A setting that detects a fault, or a proof that none does.
 
-    ``circ`` has gates only (no storage); ``site`` is ``("pin",
-    pin id)`` or ``("net", net id)`` and ``value`` the level it is stuck at.
-    Returns ``(FOUND, {input index: 0/1})`` (inputs the solver left free
-    are missing), ``(UNDETECTABLE, None)`` or ``(UNKNOWN, None)``.
-    """
-    fanout, reached, fanin = _cones(circ, site)
-    if not reached:
-        return UNDETECTABLE, None
-    cnf = _Cnf()
-    good: dict = {}
+        ``site`` is ``("pin", pin id)`` or ``("net", net id)`` and ``value``
+        the level it is stuck at.  Returns ``(FOUND, {input index: 0/1})``,
+        ``(UNDETECTABLE, None)`` or ``(UNKNOWN, None)``.
 
-    def gvar(net: int) -> int:
-        if net not in good:
-            good[net] = cnf.var()
-        return good[net]
+        A window of :data:`WINDOW` levels is tried first, with every net read
+        beyond it counted as seen: that asks less than the whole build, so
+        "no setting" there already proves the fault undetectable (most
+        redundant faults die within a few gates); otherwise the whole fanout
+        is asked.
+        """
+        kind, vec, whole = self._ask(site, value, WINDOW)
+        if kind == UNDETECTABLE or whole:
+            return kind, vec
+        kind, vec, _ = self._ask(site, value, None)
+        return kind, vec
 
-    vcc, gnd = gvar(1), gvar(0)
-    cnf.clauses += [[vcc], [-gnd]]
-    for k in fanin:
-        nd = circ.nodes[k]
-        cnf.gate(nd[4], [gvar(circ.pin_net[p]) for p in nd[2]], gvar(nd[1]))
-    bad: dict = {}
-    const = cnf.var()
-    cnf.clauses.append([const] if value else [-const])
-    if site[0] == "net":
-        bad[site[1]] = const
-        cnf.clauses.append([-gvar(site[1])] if value else [gvar(site[1])])   # the fault must show
-    for k in fanout:
-        nd = circ.nodes[k]
-        ins = []
-        for p in nd[2]:
-            if site[0] == "pin" and p == site[1]:
-                ins.append(const)
-                cnf.clauses.append([-gvar(circ.pin_net[p])] if value else [gvar(circ.pin_net[p])])
-            else:
+    def _ask(self, site: tuple, value: int, depth: int | None) -> tuple:
+        circ = self.circ
+        fanout, observed, whole = self._cone(site, depth)
+        reached = sorted(observed)
+        if not reached:
+            return UNDETECTABLE, None, whole
+        sel = self._var()
+        clauses: list = []
+        const = self._var()
+        clauses.append([const] if value else [-const])
+        bad: dict = {}
+        if site[0] == "net":
+            bad[site[1]] = const
+            clauses.append([-(site[1] + 1)] if value else [site[1] + 1])   # the fault must show
+        for k in fanout:
+            nd = circ.nodes[k]
+            ins = []
+            for p in nd[2]:
                 net = circ.pin_net[p]
-                ins.append(bad.get(net, gvar(net)))
-        y = cnf.var()
-        if not (site[0] == "net" and nd[1] == site[1]):
+                if site[0] == "pin" and p == site[1]:
+                    ins.append(const)
+                    clauses.append([-(net + 1)] if value else [net + 1])
+                else:
+                    ins.append(bad.get(net, net + 1))
+            y = self._var()
             bad[nd[1]] = y
-        cnf.gate(nd[4], ins, y)
-    diffs = []
-    for n in reached:
-        d = cnf.var()
-        a, b = gvar(n), bad.get(n, gvar(n))
-        cnf.clauses += [[-d, a, b], [-d, -a, -b], [d, -a, b], [d, a, -b]]
-        diffs.append(d)
-    cnf.clauses.append(diffs)
-    _paths(circ, cnf, site, fanout, set(reached), good, bad)
-    with Solver(name="glucose4", bootstrap_with=cnf.clauses) as s:
+            clauses += _clauses(nd[4], ins, y)
+        diffs = []
+        for n in reached:
+            d = self._var()
+            clauses += _xor(d, n + 1, bad.get(n, n + 1))
+            diffs.append(d)
+        clauses.append(diffs)
+        clauses += self._paths(site, fanout, set(reached), bad)
+        s = self.solver
+        for c in clauses:
+            s.add_clause(c + [-sel])
         s.conf_budget(CONFLICTS)
-        res = s.solve_limited()
+        res = s.solve_limited(assumptions=[sel])
+        model = s.get_model() if res else None
+        s.add_clause([-sel])   # this fault's clauses are done with
         if res is None:
-            return UNKNOWN, None
+            return UNKNOWN, None, whole
         if not res:
-            return UNDETECTABLE, None
-        model = set(x for x in s.get_model() if x > 0)
-    vec = {}
-    for i, net in enumerate(circ.inputs):
-        if net in good:
-            vec[i] = 1 if good[net] in model else 0
-    return FOUND, vec
+            return UNDETECTABLE, None, whole
+        if model is None:
+            raise InternalError("the solver found a setting but gave no model")
+        on = {x for x in model if x > 0}
+        return FOUND, {i: 1 if net + 1 in on else 0 for i, net in enumerate(circ.inputs)}, whole
+
+    def _paths(self, site: tuple, fanout: list, outputs: set, bad: dict) -> list:
+        """Larrabee's active-path clauses: a difference on a net must go on through a reader, or be an output.
+
+        They add nothing a test needs (every test has such a path) but let the
+        solver refute a fault locally, where the difference dies, instead of
+        over the whole cone.
+        """
+        circ = self.circ
+        cone = set(fanout)
+        readers = circ.readers()
+        d: dict = {}
+        out: list = []
+        for k in fanout:
+            net = circ.nodes[k][1]
+            x = self._var()
+            out += _xor(x, net + 1, bad[net])
+            d[k] = x
+        for k in fanout:
+            net = circ.nodes[k][1]
+            if net not in outputs:
+                out.append([-d[k]] + [d[j] for j in readers.get(net, []) if j in cone])
+        if site[0] == "pin":
+            out.append([d[k] for k in fanout if site[1] in circ.nodes[k][2]])
+        elif site[1] not in outputs:
+            out.append([d[k] for k in readers.get(site[1], []) if k in cone])
+        return out

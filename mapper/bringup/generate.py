@@ -26,7 +26,7 @@ import random
 from dataclasses import dataclass, field
 
 from ..errors import InternalError
-from .atpg import FOUND, UNDETECTABLE, sat_test
+from .atpg import FOUND, UNDETECTABLE, SettingSolver
 from .engine import Engine
 
 __all__ = ["Outcome", "combinational", "compact", "BATCH", "EXHAUSTIVE_INPUTS"]
@@ -122,11 +122,21 @@ def _every_combination(engine: Engine, faults: list) -> Outcome:
 
 
 def _by_solver(engine: Engine, faults: list, left: list, out: Outcome, rng: random.Random) -> None:
+    solver = SettingSolver(engine.circ)   # type: ignore[arg-type]
+    try:
+        _solve_all(engine, faults, left, out, rng, solver)
+    finally:
+        solver.close()
+
+
+def _solve_all(engine: Engine, faults: list, left: list, out: Outcome, rng: random.Random,
+               solver: SettingSolver) -> None:
     found = proved = unknown = 0
     n = len(engine.inputs)
+    left.reverse()   # popped from the end: the first left first
     while left:
-        f = left.pop(0)
-        kind, vec = sat_test(engine.circ, engine.site(faults[f]), faults[f].value)
+        f = left.pop()
+        kind, vec = solver.test(engine.site(faults[f]), faults[f].value)
         if kind == UNDETECTABLE:
             out.undetectable.append(f)
             proved += 1

@@ -30,8 +30,11 @@ def _open_inputs(plan: Plan) -> list:
 
 def _procedure(plan: Plan) -> list:
     n = len(plan.settings)
+    first = ("Check the supply first: with a meter, the supply at every contact that should carry it, and GND at "
+             "every coil's return." if plan.build.is_relay else
+             "Check the supply first: with a meter, VCC and GND at the supply pins of every chip.")
     return [
-        "Check the supply first: with a meter, VCC and GND at the supply pins of every chip.",
+        first,
         f"Apply settings 1 to {n} in turn: set every input as listed, then read every output (and the probe "
         "points, if you like) against the expected levels.",
         "Write down each setting and output that reads the other level.",
