@@ -23,8 +23,8 @@ import generated  # noqa: E402
 from mapper import flow  # noqa: E402
 from mapper.bringup.plan import make_plan  # noqa: E402
 
-DESIGNS = [("c17", "nand-only"), ("rca:8", "gates-74"), ("rca:32", "nand-only"), ("arr:8", "gates-74"),
-           ("arr:13", "nand-only"), ("arr:24", "nand-only")]
+DESIGNS = [("c17", "nand-only"), ("rca:8", "gates-74"), ("c17", "relay-spdt"), ("rca:4", "relay-dpdt"),
+           ("rca:32", "nand-only"), ("arr:8", "gates-74"), ("arr:13", "nand-only"), ("arr:20", "nand-only")]
 
 
 def main(argv=None):

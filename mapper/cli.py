@@ -166,6 +166,8 @@ def _build_args(p):
         "perf:WxH or wrap:WxH (a perforated or wire-wrap board of W x H holes at 0.1 inch)"))
     p.add_argument("--symbols", choices=("distinctive", "rectangular"), default="distinctive",
                    help="gate symbols of the schematic: IEEE 91 distinctive shapes (default) or IEC rectangles")
+    p.add_argument("--bringup", action="store_true",
+                   help="put the bring-up list (see `netfit bringup`) into report.html")
     _add_clock_args(p)
     _add_order_args(p)
     _add_read_args(p)
@@ -234,7 +236,8 @@ def _progress(args) -> None:
 def cmd_build(args):
     from . import flow
     _progress(args)
-    docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols}
+    docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols,
+            "bringup": args.bringup}
     r = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
                    hazard_free=args.hazard_free, documents=docs, clock_hz=args.clock, together=args.together,
                    **_read_options(args))

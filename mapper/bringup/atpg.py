@@ -21,7 +21,6 @@ from functools import cache
 from pysat.solvers import Solver
 
 from ..errors import InternalError
-
 from ..logic.function import Function
 from .gatesim import GateCircuit
 from .ternary import AND, CONST, COPY, NOT, XOR, classify, primes

@@ -1,9 +1,9 @@
 """The fault simulator of a build: faults put into machines, settings run, faults found.
 
 :class:`Engine` wraps the gate model (:mod:`mapper.bringup.gatesim`) or the
-relay model (:mod:`mapper.bringup.relaysim`) of a build without storage (:func:`mapper.bringup.plan.make_plan` refuses the
-others before it gets here).  Settings are run
-in *blocks*: with ``P`` settings and ``F`` faults, a run has ``(F + 1) * P``
+relay model (:mod:`mapper.bringup.relaysim`) of a build without storage
+(:func:`mapper.bringup.plan.make_plan` refuses the others before it gets
+here).  Settings are run in *blocks*: with ``P`` settings and ``F`` faults, a run has ``(F + 1) * P``
 machines -- block 0 the good build under every setting, block ``f + 1``
 the build with fault ``f`` under every setting -- so one pass of the
 simulator compares every fault under every setting (parallel-pattern and

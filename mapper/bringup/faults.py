@@ -47,7 +47,8 @@ class Fault:
     """One fault: ``kind`` (``pin``, ``net``, ``coil``, ``contact``) and ``value``.
 
     ``value`` is the level a pin or net is stuck at; for a coil 0 never
-    energized, 1 always; for a contact 0 never closes, 1 never opens.  ``open`` says the fault is also what a missing wire does there (the
+    energized, 1 always; for a contact 0 never closes, 1 never opens.
+    ``open`` says the fault is also what a missing wire does there (the
     catalog's open-input level of the part, or of every part on a net).
     """
 

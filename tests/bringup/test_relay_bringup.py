@@ -15,9 +15,9 @@ import json
 import random
 
 import pytest
-from generated import make
 from switchlevel import WiredRelays
 
+from generated import make
 from mapper import flow
 from mapper.bringup.plan import diagnose, make_plan, place_of
 from mapper.write import json as wjson
