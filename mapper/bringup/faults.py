@@ -165,7 +165,7 @@ def _gate_faults(b: Build) -> tuple:
         loads = readers.get(net, [])
         common = set.intersection(*(set(x[3]) for x in loads)) if loads else set()
         for v in (0, 1):
-            faults.append(Fault("net", v, net, open=common == {v}))
+            faults.append(Fault("net", v, net, open=v in common))
         if len(loads) == 1 and net not in outputs:
             c, name, number, _ = loads[0]
             for v in (0, 1):
