@@ -229,6 +229,7 @@ def test_injected_faults_on_a_generated_adder(tmp_path):
     ("tests/data/published/C17_mcnc.blif", "gates-74"),
     ("tests/data/published/i4.blif", "nand-only"),
     ("generated:arr:3", "gates-74ls"),
+    ("generated:arr:4", "nand-only"),   # NAND2 sections as inverters: a pin of a joined pair is redundant
     ("generated:rca:8", "nor-only"),
 ])
 def test_every_detectable_fault_detected(tmp_path, design, target):
