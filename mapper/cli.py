@@ -570,10 +570,27 @@ def _bringup_args(p):
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),
                    help="0: one mapping pass; 1 (default): also search for fewer parts")
     p.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the random settings (default 0)")
+    p.add_argument("--failed", metavar="S:OUT,...", help=(
+        "the failures you saw, as setting:output pairs (2:N22,4:N23): print the places to check, best first"))
     _add_read_args(p)
     fmt = p.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print JSON")
     fmt.add_argument("--csv", action="store_true", help="print the settings as CSV")
+
+
+def _failures(text: str, plan) -> set:
+    """``--failed`` as ``(setting index, output index)`` pairs (:class:`UsageError` for a bad pair)."""
+    from .errors import UsageError
+    out = set()
+    for item in (t.strip() for t in text.split(",")):
+        if not item:
+            continue
+        num, _, name = item.partition(":")
+        if not num.strip().isdigit() or not 1 <= int(num) <= len(plan.settings) or name.strip() not in plan.outputs:
+            raise UsageError(f"--failed: {item!r} is not SETTING:OUTPUT with a setting 1..{len(plan.settings)} "
+                             f"and an output of the design ({', '.join(plan.outputs[:5])}...)")
+        out.add((int(num) - 1, plan.outputs.index(name.strip())))
+    return out
 
 
 @command("bringup", "input settings that find wiring faults on the built board, what to expect, and where to look "
@@ -582,13 +599,16 @@ def cmd_bringup(args):
     from . import flow
     _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
     r = flow.bringup(args.design, args.target, effort=args.effort, seed=args.seed, **_read_options(args))
-    if args.json:
+    if args.failed is not None:
+        from .bringup.report import diagnosis_text
+        sys.stdout.write(diagnosis_text(r["plan"], _failures(args.failed, r["plan"])))
+    elif args.json:
         _print_json(r["json"])
     elif args.csv:
         sys.stdout.write(r["csv"])
     else:
         sys.stdout.write(r["text"])
-    if args.json or args.csv:   # the coverage is always printed: on stderr when stdout carries data
+    if args.json or args.csv or args.failed is not None:   # the coverage is always printed: on stderr beside data
         from .bringup.report import coverage_line
         print(coverage_line(r["plan"]), file=sys.stderr)
     return 0

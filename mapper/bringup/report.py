@@ -12,7 +12,7 @@ import io
 
 from .plan import Plan
 
-__all__ = ["plan_json", "plan_text", "plan_csv", "coverage_line", "SUSPECTS_SHOWN"]
+__all__ = ["plan_json", "plan_text", "plan_csv", "coverage_line", "diagnosis_text", "SUSPECTS_SHOWN"]
 
 #: suspects printed per line of the text table (the JSON has them all)
 SUSPECTS_SHOWN = 8
@@ -53,9 +53,15 @@ def coverage_line(plan: Plan) -> str:
             f"{len(plan.unresolved)} unresolved")
 
 
+def _net_pins(plan: Plan) -> dict:
+    """net -> the part pins on it, as ``U3-5`` (what a person checks for a net's fault: each wire of it)."""
+    return {net: [f"{ref}-{pin}" for ref, pin in pins] for net, pins in plan.build.nets().items()}
+
+
 def plan_json(plan: Plan) -> dict:
     """The plan as plain data (stable, append-only keys)."""
     b = plan.build
+    on_net = _net_pins(plan)
     detected_by: dict = {}
     for k, sig in enumerate(plan.signature):
         detected_by[k] = sorted({p + 1 for p, _ in sig})
@@ -65,6 +71,7 @@ def plan_json(plan: Plan) -> dict:
         fs = [plan.faults.faults[i] for i in members]
         classes.append({"class": k + 1, "faults": [f.key for f in fs], "labels": [f.label for f in fs],
                         "places": plan.places(k), "open_wire": any(f.open for f in fs),
+                        "net_pins": {f.net: on_net.get(f.net, []) for f in fs if f.kind == "net"},
                         "status": "undetectable" if k in und else "unresolved" if k in unr else "detected",
                         "detected_by": detected_by[k]})
     settings = []
@@ -101,6 +108,23 @@ def plan_json(plan: Plan) -> dict:
         "classes": classes,
         "procedure": _procedure(plan),
     }
+
+
+def diagnosis_text(plan: Plan, failed: set) -> str:
+    """The places to check for the failures ``failed`` (``(setting, output)``, 0-based), best first."""
+    from .plan import diagnose
+    on_net = _net_pins(plan)
+    places = diagnose(plan, failed)
+    w = io.StringIO()
+    shown = ", ".join(f"setting {p + 1} {plan.outputs[o]}" for p, o in sorted(failed))
+    if not places:
+        w.write(f"no single fault of the model explains {shown}: check the supply and the inputs' switches\n")
+        return w.getvalue()
+    w.write(f"places to check for {shown}, most likely first:\n")
+    for place in places[:3 * SUSPECTS_SHOWN]:
+        pins = on_net.get(place[4:], []) if place.startswith("net ") else []
+        w.write(f"  {place}" + (f"  (its wires: {', '.join(pins)})" if pins else "") + "\n")
+    return w.getvalue()
 
 
 def _levels(names: list, vals) -> str:

@@ -63,3 +63,17 @@ def test_refusals_are_usage_errors(netfit):
     assert code == 2 and "builds with storage" in err and not out
     code, out, err = netfit("bringup", "tests/data/nonexistent.blif", "-t", "gates-74")
     assert code == 2
+
+
+def test_failed_names_the_faults_that_explain_them(netfit):
+    code, data, _ = netfit("bringup", "tests/data/c17.blif", "-t", "gates-74", "--json", as_json=True)
+    # each class's own failures, given back, put its places first
+    for c in data["classes"][:8]:
+        fails = [(row["setting"], row["output"]) for row in data["dictionary"] if c["class"] in row["classes"]]
+        arg = ",".join(f"{s}:{o}" for s, o in fails)
+        code, out, err = netfit("bringup", "tests/data/c17.blif", "-t", "gates-74", "--failed", arg)
+        assert code == 0 and "coverage:" in err
+        listed = [ln.strip().split("  (")[0] for ln in out.splitlines()[1:]]
+        assert set(c["places"]) <= set(listed[:len(c["places"]) + 4]), (c, listed)
+    code, out, err = netfit("bringup", "tests/data/c17.blif", "-t", "gates-74", "--failed", "99:N22")
+    assert code == 2 and "--failed" in err
