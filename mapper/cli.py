@@ -194,6 +194,8 @@ def _build_args(p):
         "perf:WxH or wrap:WxH (a perforated or wire-wrap board of W x H holes at 0.1 inch)"))
     p.add_argument("--symbols", choices=("distinctive", "rectangular"), default="distinctive",
                    help="gate symbols of the schematic: IEEE 91 distinctive shapes (default) or IEC rectangles")
+    p.add_argument("--bringup", action="store_true",
+                   help="put the bring-up list (see `netfit bringup`) into report.html")
     _add_clock_args(p)
     _add_order_args(p)
     _add_read_args(p)
@@ -262,7 +264,8 @@ def _progress(args) -> None:
 def cmd_build(args):
     from . import flow
     _progress(args)
-    docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols}
+    docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols,
+            "bringup": args.bringup}
     r = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
                    hazard_free=args.hazard_free, documents=docs, clock_hz=args.clock, together=args.together,
                    **_read_options(args))
@@ -591,6 +594,58 @@ def cmd_parts(args):
         b, a = p["result"]
         print(f"{b.design} on {b.target.name} (proof: {a.verified})")
         sys.stdout.write(p["table"])
+    return 0
+
+
+# -- bringup -------------------------------------------------------------
+def _bringup_args(p):
+    p.add_argument("design")
+    p.add_argument("--target", "-t", required=True, metavar="T",
+                   help="target name (see `netfit targets`) or a target .xml file")
+    p.add_argument("--effort", type=int, default=1, choices=(0, 1),
+                   help="0: one mapping pass; 1 (default): also search for fewer parts")
+    p.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the random settings (default 0)")
+    p.add_argument("--failed", metavar="S:OUT,...", help=(
+        "the failures you saw, as setting:output pairs (2:N22,4:N23): print the places to check, best first"))
+    _add_read_args(p)
+    fmt = p.add_mutually_exclusive_group()
+    fmt.add_argument("--json", action="store_true", help="print JSON")
+    fmt.add_argument("--csv", action="store_true", help="print the settings as CSV")
+
+
+def _failures(text: str, plan) -> set:
+    """``--failed`` as ``(setting index, output index)`` pairs (:class:`UsageError` for a bad pair)."""
+    from .errors import UsageError
+    out = set()
+    for item in (t.strip() for t in text.split(",")):
+        if not item:
+            continue
+        num, _, name = item.partition(":")
+        if not num.strip().isdigit() or not 1 <= int(num) <= len(plan.settings) or name.strip() not in plan.outputs:
+            raise UsageError(f"--failed: {item!r} is not SETTING:OUTPUT with a setting 1..{len(plan.settings)} "
+                             f"and an output of the design ({', '.join(plan.outputs[:5])}...)")
+        out.add((int(num) - 1, plan.outputs.index(name.strip())))
+    return out
+
+
+@command("bringup", "input settings that find wiring faults on the built board, what to expect, and where to look "
+         "when an output reads wrong", _bringup_args)
+def cmd_bringup(args):
+    from . import flow
+    _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
+    r = flow.bringup(args.design, args.target, effort=args.effort, seed=args.seed, **_read_options(args))
+    if args.failed is not None:
+        from .bringup.report import diagnosis_text
+        sys.stdout.write(diagnosis_text(r["plan"], _failures(args.failed, r["plan"])))
+    elif args.json:
+        _print_json(r["json"])
+    elif args.csv:
+        sys.stdout.write(r["csv"])
+    else:
+        sys.stdout.write(r["text"])
+    if args.json or args.csv or args.failed is not None:   # the coverage is always printed: on stderr beside data
+        from .bringup.report import coverage_line
+        print(coverage_line(r["plan"]), file=sys.stderr)
     return 0
 
 

@@ -460,12 +460,13 @@ def write_build(r: Result, out_dir, protect=(), copies: int = 1, **options) -> l
     whole (:func:`mapper.write.files.write_folder`).  ``options``: ``board``
     (as ``--board``: where the parts are placed and wired, :mod:`mapper.place`),
     ``sockets`` and ``spares`` (the ordering list), ``shapes`` (the
-    schematic's gate shapes).
+    schematic's gate shapes), ``bringup`` (true: the bring-up list in the report).
     """
     from .write import wiring
 
     wiring.wiring(r.build, r.analysis)  # raises before anything is written if a pin would join two nets
     options["plan"] = plan_board(r.build, options.pop("board", None))
+    options["bringup"] = _bringup_data(r.build) if options.pop("bringup", False) else None
 
     def job(module):
         return lambda p: module.write_build(r.build, r.analysis, p, protect=protect, copies=copies, **options)
@@ -489,6 +490,31 @@ def parts(path, target_name, effort: int = 1, copies: int = 1, sockets: bool = F
     b = r.build
     return {"result": r, "json": parts_json(b, copies, sockets, spares), "csv": parts_csv(b, copies, sockets, spares),
             "table": parts_table(b, copies, sockets, spares), "rows": order_rows(b, copies, sockets, spares)}
+
+
+def _bringup_data(b: Build) -> dict | None:
+    """The bring-up plan of ``b`` as data for the report, or ``None`` (said in the log) where none is made yet."""
+    from .bringup.plan import make_plan
+    from .bringup.report import plan_json
+    try:
+        with progress.stage("finding the bring-up settings"):
+            return plan_json(make_plan(b))
+    except UsageError as exc:
+        log.warning("no bring-up section in the report: %s", exc)
+        return None
+
+
+def bringup(path, target_name, effort: int = 1, seed: int = 0, **read_options) -> dict:
+    """``netfit bringup``: the build's bring-up plan (:mod:`mapper.bringup`).
+
+    Returns ``{"result": Result, "plan": Plan, "json": data, "text": table, "csv": text}``.
+    """
+    from .bringup.plan import make_plan
+    from .bringup.report import plan_csv, plan_json, plan_text
+    r = build(path, target_name, effort=effort, **read_options)
+    with progress.stage("finding the bring-up settings"):
+        plan = make_plan(r.build, seed=seed)
+    return {"result": r, "plan": plan, "json": plan_json(plan), "text": plan_text(plan), "csv": plan_csv(plan)}
 
 
 def _compare_one(path: str, target_name: str, effort: int, read_options: dict) -> dict:

@@ -35,6 +35,8 @@ def _part(p: PartDef) -> dict:
         "ratings": {k: _fig(v) for k, v in p.ratings.items()},
         "pinout_source": p.pinout_source, "source_file": p.source_file,
         "role": " ".join(p.roles) or None,
+        "open_input": None if p.open_input is None else {
+            "reads": p.open_input.reads, "source": p.open_input.source, "conditions": p.open_input.conditions},
     }
 
 

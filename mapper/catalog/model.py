@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 
 from ..logic.function import Function
 
-__all__ = ["Figure", "CellDef", "SlotDef", "RelayData", "PartDef", "SupportRule", "Target",
+__all__ = ["Figure", "OpenInput", "CellDef", "SlotDef", "RelayData", "PartDef", "SupportRule", "Target",
            "SUPPORT_ROLES", "ROLE_FOR_PER", "DEFAULT_OBJECTIVE"]
 
 #: what a support part does in a build -> the letter its references start with
@@ -36,6 +36,20 @@ class Figure:
     value: float
     source: str
     conditions: str = ""
+
+
+@dataclass(frozen=True)
+class OpenInput:
+    """What an input of a part reads when its wire is missing: ``high``, ``low`` or ``either`` (it floats)."""
+
+    reads: str
+    source: str
+    conditions: str = ""
+
+    @property
+    def levels(self) -> tuple:
+        """The logic levels an open input may read: ``(1,)``, ``(0,)`` or ``(0, 1)``."""
+        return {"high": (1,), "low": (0,)}.get(self.reads, (0, 1))
 
 
 @dataclass
@@ -139,6 +153,8 @@ class PartDef:
     nc_pins: tuple = ()
     ratings: dict = field(default_factory=dict)
     roles: tuple = ()
+    #: what an input reads when its wire is missing (``None``: the catalog does not say)
+    open_input: OpenInput | None = None
 
     @property
     def role(self) -> str:

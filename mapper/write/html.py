@@ -3,7 +3,7 @@
 Summary, cautions, the ordering list, the schematic (each page its own
 printed sheet), the board with its numbered wires to tick off, delays
 (worst path and arrival per output), glitches, the wiring by net and pin
-by pin, and notes.  No scripts, no fonts or images from elsewhere, no
+by pin, the bring-up list when asked for, and notes.  No scripts, no fonts or images from elsewhere, no
 scroll boxes: the page opens offline and prints as it shows, drawings
 scaled to the page width.  Layout: ``mapper/templates/report.html.j2``.
 """
@@ -31,8 +31,9 @@ log = logging.getLogger(__name__)
 
 
 def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: str = "distinctive",
-                sockets: bool = False, spares=None, copies: int = 1) -> str:
-    """The report page of ``b`` as HTML text (``plan``: the placed board; default the default board)."""
+                sockets: bool = False, spares=None, copies: int = 1, bringup: dict | None = None) -> str:
+    """The report page of ``b`` as HTML text (``plan``: the placed board; default the default board;
+    ``bringup``: the bring-up plan as :func:`mapper.bringup.report.plan_json` gives it, for its section)."""
     plan = plan if plan is not None else plan_for(b)
     s = analysis.summary(b)
     timing = analysis.figures(b)
@@ -84,11 +85,13 @@ def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: 
                   w=wiring(b, analysis), sheets=sheets, board=board_data(b, plan),
                   board_svg=Markup(board_svg(b, analysis, plan, declaration=False)), outputs=outputs, path=path,
                   figures=figures, glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)),
-                  glitch_errors=timing.get("glitch_errors", 0), supply_basis=timing.get("supply_basis", ""))
+                  glitch_errors=timing.get("glitch_errors", 0), supply_basis=timing.get("supply_basis", ""),
+                  bringup=bringup)
 
 
 def write_build(b: Build, analysis: Analysis, path, protect=(), plan: Plan | None = None, shapes: str = "distinctive",
-                sockets: bool = False, spares=None, copies: int = 1, **options) -> list:
+                sockets: bool = False, spares=None, copies: int = 1, bringup: dict | None = None,
+                **options) -> list:
     """Write ``report.html`` of ``b`` to ``path`` (atomically)."""
-    text = report_text(b, analysis, plan, shapes, sockets, spares, copies)
+    text = report_text(b, analysis, plan, shapes, sockets, spares, copies, bringup)
     return [atomic_write(path, text, protect=protect)]
