@@ -241,8 +241,8 @@ class Netlist:
                 return w
         return (None, None, None)
 
-    def _loop_diagnostics(self) -> list:
-        """One error per combinational loop (up to the error limit of :mod:`mapper.limits`).
+    def loops(self) -> list:
+        """Sets of logic nets that form combinational loops (strongly connected, with a cycle).
 
         A topological sort finds the logic on or behind a loop first; only
         that part is handed to the search for strongly connected components,
@@ -256,9 +256,31 @@ class Netlist:
         g = nx.DiGraph()
         g.add_nodes_from(left)
         g.add_edges_from((f, n) for n in left for f in nodes[n].fanins if f in on)
+        return [c for c in nx.strongly_connected_components(g) if len(c) > 1 or any(g.has_edge(n, n) for n in c)]
+
+    def live(self) -> set:
+        """Nets that reach an output or a storage element (through fan-ins), storage outputs included."""
+        live = set(self.outputs)
+        stack = list(self.outputs)
+        for name, node in self.nodes.items():
+            if isinstance(node, Storage):
+                live.add(name)
+                stack.append(name)
+        while stack:
+            node = self.nodes.get(stack.pop())
+            if node is None:
+                continue
+            for f in node.fanins:
+                if f not in live:
+                    live.add(f)
+                    stack.append(f)
+        return live
+
+    def _loop_diagnostics(self) -> list:
+        """One error per combinational loop (up to the error limit of :mod:`mapper.limits`)."""
         diags = []
         most = limits.value("errors")
-        loops = [c for c in nx.strongly_connected_components(g) if len(c) > 1 or any(g.has_edge(n, n) for n in c)]
+        loops = self.loops()
         for comp in sorted(loops, key=lambda c: min(c))[:most]:
             nets = sorted(comp)
             shown = ", ".join(nets[:12]) + (f", … ({len(nets)} nets)" if len(nets) > 12 else "")

@@ -75,22 +75,10 @@ class Region:
 def loop_regions(netlist: Netlist) -> list:
     """Sets of logic nets that form loops (strongly connected, with a cycle), in netlist order.
 
-    A topological sort finds the logic on or behind a loop first, so a
-    design without loops costs one pass.
+    (:meth:`Netlist.loops`, ordered.)
     """
-    nodes = netlist.nodes
-    _, left = topological_order(nodes, lambda n: nodes[n].fanins if isinstance(nodes[n], Logic) else None)
-    if not left:
-        return []
-    on = set(left)
-    g = nx.DiGraph()
-    g.add_nodes_from(left)
-    g.add_edges_from((f, n) for n in left for f in nodes[n].fanins if f in on)
-    pos = {n: i for i, n in enumerate(nodes)}
-    out = []
-    for comp in nx.strongly_connected_components(g):
-        if len(comp) > 1 or any(g.has_edge(n, n) for n in comp):
-            out.append(sorted(comp, key=pos.__getitem__))
+    pos = {n: i for i, n in enumerate(netlist.nodes)}
+    out = [sorted(comp, key=pos.__getitem__) for comp in netlist.loops()]
     out.sort(key=lambda c: pos[c[0]])
     return out
 

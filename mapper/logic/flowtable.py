@@ -597,21 +597,7 @@ def _net_for(n: Netlist, sources: list, lower: int, upper: int, name: str, m: in
 
 def _drop_dead(n: Netlist) -> None:
     """Remove logic nets that reach no output or storage element (left over from a region made a latch)."""
-    live = set(n.outputs)
-    stack = list(n.outputs)
-    for name, node in n.nodes.items():
-        if isinstance(node, Storage):
-            live.add(name)
-            stack.append(name)
-    while stack:
-        x = stack.pop()
-        node = n.nodes.get(x)
-        if node is None:
-            continue
-        for f in node.fanins:
-            if f not in live:
-                live.add(f)
-                stack.append(f)
+    live = n.live()
     for name in [k for k, node in n.nodes.items() if isinstance(node, Logic) and k not in live]:
         del n.nodes[name]
         n.origin.pop(name, None)
