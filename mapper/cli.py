@@ -67,25 +67,40 @@ def cmd_inspect(args):
     if args.json:
         _print_json(info)
         return 0
-    print(f"design   {info['design']}  ({info['file']})")
-    print(f"inputs   {len(info['inputs'])}: {_short(info['inputs'])}")
-    print(f"outputs  {len(info['outputs'])}: {_short(info['outputs'])}")
-    kinds = ", ".join(f"{k} {v}" for k, v in info["storage_kinds"].items())
-    print(f"storage  {info['storage']}" + (f" ({kinds})" if kinds else ""))
-    print(f"nodes    {info['nodes']}")
-    for k, v in info["kinds"].items():
-        print(f"  {k:<14}{v:>8}")
-    print(f"depth    {info['depth']} logic levels")
-    if info["max_fanout_net"] is not None:
-        print(f"fan-out  largest {info['max_fanout']} (net {info['max_fanout_net']})")
-    if info.get("notes"):
-        print(f"notes    {len(info['notes'])}")
-        for note in info["notes"]:
-            print(f"  {note}")
-    print(f"warnings {len(info['warnings'])}")
-    for w in info["warnings"]:
-        print(f"  {w}")
+    print(inspect_text(info), end="")
+    _print_feedback(info.get("feedback") or [])
     return 0
+
+
+def inspect_text(info: dict) -> str:
+    """The ``netfit inspect`` table: what the design holds, in plain words."""
+    from .netlist import kind_in_words
+    from .write.layout import render
+    rows = [("inputs", len(info["inputs"]), _short(info["inputs"])),
+            ("outputs", len(info["outputs"]), _short(info["outputs"]))]
+    storage = {k: v for k, v in info["kinds"].items() if k.startswith("storage-")}
+    logic = {k: v for k, v in info["kinds"].items() if not k.startswith("storage-")}
+    rows += [(kind_in_words(k, v), v, "") for k, v in storage.items()]
+    rows.append(("logic functions", sum(logic.values()), ""))
+    rows += [("  " + kind_in_words(k, v), v, "") for k, v in logic.items()]
+    rows.append(("logic levels on the longest path", info["depth"], ""))
+    if info["max_fanout_net"] is not None:
+        rows.append(("most loads on one net", info["max_fanout"], f"net {info['max_fanout_net']}"))
+    rows.append(("warnings", len(info["warnings"]), ""))
+    return render("inspect.txt.j2", design=info["design"], file=info["file"], rows=rows,
+                  notes=info.get("notes") or [], warnings=info["warnings"])
+
+
+def _print_feedback(loops: list) -> None:
+    """Each feedback loop read as storage: its cut, what it is, and its flow table (stable states in ())."""
+    from .logic.flowtable import flow_table_lines
+    if loops:
+        print(f"\nfeedback loops read as storage: {len(loops)}")
+    for r in loops:
+        print(f"  cut at {', '.join(r['cut'])} ({r['kind']}): {r['form']}")
+        if r["flow_table"] is not None:
+            for line in flow_table_lines(r["flow_table"]):
+                print(f"    {line}")
 
 
 def _short(names, limit=10):
@@ -94,6 +109,16 @@ def _short(names, limit=10):
 
 
 # -- verify ---------------------------------------------------------------
+#: how a proof went, in plain words (the JSON keeps the method's short name)
+_HOW_PROVED = {
+    "structural": "proved: both reduce to the same gates",
+    "simulation": "proved: every input combination tried",
+    "sat": "proved: a search for an input that tells them apart found none",
+    "sat-sweeping": "proved: a search for an input that tells them apart found none, "
+                    "after shared points were proved equal and merged",
+}
+
+
 def _verify_args(p):
     p.add_argument("a")
     p.add_argument("b")
@@ -110,7 +135,7 @@ def cmd_verify(args):
         _print_json(res)
     else:
         if res["equivalent"]:
-            print(f"equal: {args.a} and {args.b} do the same logic (proved by {res['method']})")
+            print(f"equal: {args.a} and {args.b} do the same logic ({_HOW_PROVED.get(res['method'], res['method'])})")
         else:
             print(f"different: {args.a} and {args.b} ({res['method']})")
             cex = res.get("counterexample") or {}
@@ -169,6 +194,8 @@ def _build_args(p):
         "perf:WxH or wrap:WxH (a perforated or wire-wrap board of W x H holes at 0.1 inch)"))
     p.add_argument("--symbols", choices=("distinctive", "rectangular"), default="distinctive",
                    help="gate symbols of the schematic: IEEE 91 distinctive shapes (default) or IEC rectangles")
+    p.add_argument("--bringup", action="store_true",
+                   help="put the bring-up list (see `netfit bringup`) into report.html")
     _add_clock_args(p)
     _add_order_args(p)
     _add_read_args(p)
@@ -237,7 +264,8 @@ def _progress(args) -> None:
 def cmd_build(args):
     from . import flow
     _progress(args)
-    docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols}
+    docs = {"board": args.board, "sockets": args.sockets, "spares": args.spares, "shapes": args.symbols,
+            "bringup": args.bringup}
     r = flow.build(args.design, args.target, out_dir=args.out, effort=args.effort, copies=args.qty,
                    hazard_free=args.hazard_free, documents=docs, clock_hz=args.clock, together=args.together,
                    **_read_options(args))
@@ -254,10 +282,9 @@ def cmd_build(args):
     print(f"parts   {s['parts_total']}  (" + ", ".join(f"{k} ×{v}" for k, v in s["parts"].items()) + ")")
     if s["cells"]:
         print("cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
-    if "poles_used" in s and not s["cells"]:
-        print(f"poles   {s['poles_used']} used of {s['poles_available']}  ({s['spare_slots']} spare)")
-    else:
-        print(f"slots   {s['slots_used']} used of {s['slots_available']}  ({s['spare_slots']} spare)")
+    from .analyze.results import units_of
+    word, used, available, spare = units_of(s)
+    print(f"{word:<8}{used} used of {available}  ({spare} spare)")
     if s["support_parts"]:
         print("support " + ", ".join(f"{k} ×{v}" for k, v in s["support_parts"].items()))
     print(f"delay   {si(s['delay_s'], 's')} slowest path (maximum figures)")
@@ -500,6 +527,7 @@ def cmd_timing(args):
           f"{r['levels']} {'coil level' if r['relay'] else 'gate'}(s) deep")
     _print_paths(r)
     _print_clock(r)
+    _print_loops(r.get("feedback_loops") or [])
     sup = r["supply"]
     print(f"\nsupply  {si(sup['supply_current_a'], 'A')} worst case ({sup.get('supply_basis', '')})"
           + (f"; {si(sup['supply_current_static_a'], 'A')} with nothing switching"
@@ -524,6 +552,16 @@ def cmd_timing(args):
         print(f"netfit: error: {r['timing_violations']} timing check(s) fail: hold margins, clock pulses or the "
               "clock asked for (see above)", file=sys.stderr)
     return code
+
+
+def _print_loops(loops: list) -> None:
+    """Feedback loops kept as gates: once round each loop, and how long each input reaching it must last."""
+    for lp in loops:
+        print(f"\nfeedback loop at {', '.join(lp['cut'])} (parts {', '.join(lp['parts'])}): once round "
+              f"{si(lp['loop_delay_s'], 's')} (maximum figures), {si(lp['loop_delay_typ_s'], 's')} typical")
+        if lp["pulse_min_s"]:
+            print("  shortest pulse that the loop keeps: " + ", ".join(
+                f"{i} {si(t, 's')}" for i, t in lp["pulse_min_s"].items()))
 
 
 # -- parts ----------------------------------------------------------------
@@ -556,6 +594,58 @@ def cmd_parts(args):
         b, a = p["result"]
         print(f"{b.design} on {b.target.name} (proof: {a.verified})")
         sys.stdout.write(p["table"])
+    return 0
+
+
+# -- bringup -------------------------------------------------------------
+def _bringup_args(p):
+    p.add_argument("design")
+    p.add_argument("--target", "-t", required=True, metavar="T",
+                   help="target name (see `netfit targets`) or a target .xml file")
+    p.add_argument("--effort", type=int, default=1, choices=(0, 1),
+                   help="0: one mapping pass; 1 (default): also search for fewer parts")
+    p.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the random settings (default 0)")
+    p.add_argument("--failed", metavar="S:OUT,...", help=(
+        "the failures you saw, as setting:output pairs (2:N22,4:N23): print the places to check, best first"))
+    _add_read_args(p)
+    fmt = p.add_mutually_exclusive_group()
+    fmt.add_argument("--json", action="store_true", help="print JSON")
+    fmt.add_argument("--csv", action="store_true", help="print the settings as CSV")
+
+
+def _failures(text: str, plan) -> set:
+    """``--failed`` as ``(setting index, output index)`` pairs (:class:`UsageError` for a bad pair)."""
+    from .errors import UsageError
+    out = set()
+    for item in (t.strip() for t in text.split(",")):
+        if not item:
+            continue
+        num, _, name = item.partition(":")
+        if not num.strip().isdigit() or not 1 <= int(num) <= len(plan.settings) or name.strip() not in plan.outputs:
+            raise UsageError(f"--failed: {item!r} is not SETTING:OUTPUT with a setting 1..{len(plan.settings)} "
+                             f"and an output of the design ({', '.join(plan.outputs[:5])}...)")
+        out.add((int(num) - 1, plan.outputs.index(name.strip())))
+    return out
+
+
+@command("bringup", "input settings that find wiring faults on the built board, what to expect, and where to look "
+         "when an output reads wrong", _bringup_args)
+def cmd_bringup(args):
+    from . import flow
+    _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
+    r = flow.bringup(args.design, args.target, effort=args.effort, seed=args.seed, **_read_options(args))
+    if args.failed is not None:
+        from .bringup.report import diagnosis_text
+        sys.stdout.write(diagnosis_text(r["plan"], _failures(args.failed, r["plan"])))
+    elif args.json:
+        _print_json(r["json"])
+    elif args.csv:
+        sys.stdout.write(r["csv"])
+    else:
+        sys.stdout.write(r["text"])
+    if args.json or args.csv or args.failed is not None:   # the coverage is always printed: on stderr beside data
+        from .bringup.report import coverage_line
+        print(coverage_line(r["plan"]), file=sys.stderr)
     return 0
 
 
@@ -636,7 +726,10 @@ def _print_target(t) -> None:
     for p in t["parts"]:
         price = f"{p['price']['value']:.2f} {p['currency']}" if p["price"] else "-"
         print(f"  {p['id']:<14}{p['description']}")
-        print(f"  {'':<14}{p['package']}, {p['pin_count']} pins, {len(p['slots'])} slots; price {price}")
+        units = p.get("poles") or p.get("sections") or []
+        word = "pole" if "poles" in p else "section"
+        print(f"  {'':<14}{p['package']}, {p['pin_count']} pins, {len(units)} {word}{'' if len(units) == 1 else 's'}; "
+              f"price {price}")
         for cell, d in p["delay_max_s"].items():
             typ = p["delay_typ_s"][cell]
             print(f"  {'':<14}delay {cell}: {si(typ['value'], 's')} typical ({typ['conditions']}), "
@@ -647,9 +740,10 @@ def _print_target(t) -> None:
                   f"{r['coil_resistance_ohm']['value']:g} ohm, {si(r['coil_current_a']['value'], 'A')}; "
                   f"operate {si(r['operate_time_s']['value'], 's')}, release {si(r['release_time_s']['value'], 's')}, "
                   f"bounce {si(r['bounce_time_s']['value'], 's')}; contacts {r['contact_rating']}")
-        for s in p["slots"]:
+        word = "pole" if "poles" in p else "section"
+        for s in p.get("poles") or p.get("sections") or []:
             pins = " ".join(f"{k}={v}" for k, v in s["pins"].items())
-            print(f"  {'':<14}slot {s['index']}  {s['cell']:<11}{pins}")
+            print(f"  {'':<14}{word} {s['index']}  {s['cell']:<11}{pins}")
         fixed = [f"{n}={num}" for n, num in {**p["supply_pins"], **p["shared_pins"]}.items()]
         if fixed:
             print(f"  {'':<14}pins   {' '.join(fixed)}" + (f"  (not connected: {' '.join(map(str, p['nc_pins']))})"

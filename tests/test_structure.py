@@ -87,7 +87,7 @@ def test_the_graph_is_read(graph):
 
 
 @pytest.mark.parametrize("package", ["mapper.write", "mapper.analyze", "mapper.catalog", "mapper.logic",
-                                     "mapper.read"])
+                                     "mapper.read", "mapper.bringup"])
 def test_nothing_downstream_imports_fit(graph, package):
     bad = [(a, b) for a, b in graph.edges if _under(a, package) and _under(b, "mapper.fit")]
     assert not bad, bad
@@ -109,6 +109,8 @@ def test_build_imports_nothing_from_fit_analyze_or_write(graph):
     ("mapper.analyze", ("mapper.write", "mapper.flow", "mapper.cli", "mapper.read")),
     ("mapper.write", ("mapper.flow", "mapper.cli", "mapper.read", "mapper.verify")),
     ("mapper.fit", ("mapper.write", "mapper.analyze", "mapper.flow", "mapper.cli", "mapper.read")),
+    # bring-up reads a finished build, as the writers and analyses do
+    ("mapper.bringup", ("mapper.fit", "mapper.write", "mapper.flow", "mapper.cli", "mapper.read")),
 ])
 def test_layers_point_one_way(graph, package, forbidden):
     bad = [(a, b) for a, b in graph.edges if _under(a, package) and any(_under(b, f) for f in forbidden)]

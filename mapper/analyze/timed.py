@@ -122,6 +122,8 @@ class TimedCircuit:
         loads = net_loads(build, ix)
         taken = set(circ.inputs)
         circ._add_gate_storage(build, taken)
+        # feedback loops kept as gates: cut where the design was (the cut net an input, as for the prover)
+        cut = {g.q: g.d for g in build.storage_groups.values() if g.kind == "as"}
         shapes: dict = {}
         for c in build.cells:
             if c.group is not None:
@@ -148,7 +150,7 @@ class TimedCircuit:
                 shape = shapes[key] = (tuple((p, ix.pin_of(c, p)) for p in cd.inputs),
                                        (cd.output, ix.pin_of(c, cd.output)), cd.logic_function().table())
             circ.gates.append(Gate(
-                pins[cd.output], tuple([pins[p] for p in cd.inputs]), shape[2],
+                cut.get(pins[cd.output], pins[cd.output]), tuple([pins[p] for p in cd.inputs]), shape[2],
                 min(lo, m), m, c.part_ref, c.cell, c.slot, shape[0], shape[1]))
         for grp in build.storage_groups.values():
             if grp.kind in ("re", "fe") and grp.control:
@@ -172,7 +174,7 @@ class TimedCircuit:
             if grp.control and grp.control not in SUPPLY_NETS:
                 cells = members.get(key, [])
                 self.watch.setdefault(grp.control, []).append({
-                    "part": cells[0].part_ref if cells else None, "cell": grp.template, "slot": None,
+                    "part": cells[0].part_ref if cells else None, "cell": grp.template, "section": None,
                     "pin": "control", "pin_number": None,
                     "role": "clock" if grp.kind in ("re", "fe") else "enable"})
 
@@ -206,7 +208,7 @@ class TimedCircuit:
             net = c.pins.get(p)
             if role in WATCH_ROLES and net and net not in SUPPLY_NETS:
                 self.watch.setdefault(net, []).append({
-                    "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
+                    "part": c.part_ref, "cell": c.cell, "section": c.slot, "pin": p,
                     "pin_number": ix.pin_of(c, p), "role": role})
         return raw
 
@@ -255,7 +257,7 @@ class TimedCircuit:
             net = c.pins.get(p)
             if role in WATCH_ROLES and net and net not in SUPPLY_NETS:
                 self.watch.setdefault(net, []).append({
-                    "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
+                    "part": c.part_ref, "cell": c.cell, "section": c.slot, "pin": p,
                     "pin_number": ix.pin_of(c, p), "role": role})
 
     @staticmethod
@@ -282,7 +284,7 @@ class TimedCircuit:
                     groups.setdefault((node.control, node.kind), []).append((name, node.d))
                 if node.control is not None:
                     watch.setdefault(node.control, []).append({
-                        "part": None, "cell": f"storage {name}", "slot": None, "pin": "control",
+                        "part": None, "cell": f"storage {name}", "section": None, "pin": "control",
                         "pin_number": None, "role": "clock" if node.kind in ("re", "fe") else "enable"})
             elif isinstance(node, Logic):
                 if not node.fanins:

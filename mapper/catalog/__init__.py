@@ -23,9 +23,20 @@ from __future__ import annotations
 
 from .catalogs import CatalogError, builtin_catalogs, load_catalog
 from .describe import describe_target
-from .model import DEFAULT_OBJECTIVE, SUPPORT_ROLES, CellDef, Figure, PartDef, RelayData, SlotDef, SupportRule, Target
+from .model import (
+                    DEFAULT_OBJECTIVE,
+                    SUPPORT_ROLES,
+                    CellDef,
+                    Figure,
+                    OpenInput,
+                    PartDef,
+                    RelayData,
+                    SlotDef,
+                    SupportRule,
+                    Target,
+)
 from .targets import TargetError, builtin_targets, load_target
 
-__all__ = ["CatalogError", "CellDef", "DEFAULT_OBJECTIVE", "Figure", "PartDef", "RelayData", "SUPPORT_ROLES",
-           "SlotDef", "SupportRule", "Target", "TargetError", "builtin_catalogs", "builtin_targets",
+__all__ = ["CatalogError", "CellDef", "DEFAULT_OBJECTIVE", "Figure", "OpenInput", "PartDef", "RelayData",
+           "SUPPORT_ROLES", "SlotDef", "SupportRule", "Target", "TargetError", "builtin_catalogs", "builtin_targets",
            "describe_target", "load_catalog", "load_target"]

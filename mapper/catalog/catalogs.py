@@ -21,7 +21,7 @@ from ..logic.function import MAX_TABLE_INPUTS, Function
 from ..units import UNIT_WORDS, parse_quantity
 from .blockload import block_from, is_block, path_delay
 from .expr import ExprError, parse_assignment
-from .model import SUPPORT_ROLES, CellDef, Figure, PartDef, RelayData, SlotDef
+from .model import SUPPORT_ROLES, CellDef, Figure, OpenInput, PartDef, RelayData, SlotDef
 from .xmlfile import read_xml, unsourced, validate
 
 __all__ = ["CatalogError", "Catalog", "load_catalog", "read_catalog", "builtin_catalogs", "Collector",
@@ -485,6 +485,9 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
         f = figure(r, c, f"part {pid} {r.get('name')}", None)
         if f is not None:
             ratings[r.get("name")] = f
+    oi = el.find("open-input")
+    open_input = (OpenInput(oi.get("reads"), oi.get("source").strip(), (oi.get("conditions") or "").strip())
+                  if oi is not None else None)
     price_el = el.find("price")
     price = figure(price_el, c, f"part {pid} price", "")
     currency = (price_el.get("currency") if price_el is not None else None) or default_currency
@@ -501,7 +504,7 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
         input_load=il, output_drive=od, price=price, currency=currency or "",
         price_source=price.source if price is not None else "", relay=relay, family=el.get("family") or "",
         source_file=display, pinout_source=pinout.get("source").strip(), nc_pins=nc,
-        ratings=ratings, roles=tuple((el.get("role") or "").split()), path_delays=paths,
+        ratings=ratings, roles=tuple((el.get("role") or "").split()), open_input=open_input, path_delays=paths,
         held={n: p.get("tie") for p in pinout.findall("pin") if p.get("tie") for n in [p.get("name")]})
 
 

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from ..logic.function import Function
 from .blockdef import BlockDef
 
-__all__ = ["Figure", "CellDef", "SlotDef", "RelayData", "PartDef", "PathDelay", "SupportRule", "Target",
+__all__ = ["Figure", "OpenInput", "CellDef", "SlotDef", "RelayData", "PartDef", "PathDelay", "SupportRule", "Target",
            "SUPPORT_ROLES", "ROLE_FOR_PER", "DEFAULT_OBJECTIVE"]
 
 #: what a support part does in a build -> the letter its references start with
@@ -37,6 +37,20 @@ class Figure:
     value: float
     source: str
     conditions: str = ""
+
+
+@dataclass(frozen=True)
+class OpenInput:
+    """What an input of a part reads when its wire is missing: ``high``, ``low`` or ``either`` (it floats)."""
+
+    reads: str
+    source: str
+    conditions: str = ""
+
+    @property
+    def levels(self) -> tuple:
+        """The logic levels an open input may read: ``(1,)``, ``(0,)`` or ``(0, 1)``."""
+        return {"high": (1,), "low": (0,)}.get(self.reads, (0, 1))
 
 
 @dataclass
@@ -171,6 +185,8 @@ class PartDef:
     nc_pins: tuple = ()
     ratings: dict = field(default_factory=dict)
     roles: tuple = ()
+    #: what an input reads when its wire is missing (``None``: the catalog does not say)
+    open_input: OpenInput | None = None
     path_delays: dict = field(default_factory=dict)
     held: dict = field(default_factory=dict)
 
@@ -222,25 +238,23 @@ class PartDef:
     def pin_names(self) -> dict:
         """Package pin number -> printable name.
 
-        Supply and shared pins keep their names (``VCC``, ``COIL+``); slot
-        pins are the cell pin followed by the slot index (``A1``, ``Y3``,
-        ``NO1``), so a wiring list can say ``K2-NO1``.  Where a cell's pin
-        names hold digits themselves the slot index goes before them
-        (``1A0``, ``2Y3_N``, ``1E_N``, as datasheets of dual parts write
-        it), and a chip of one slot (a 4-bit adder) keeps the cell's pin
-        names as they are (``A1``, ``C4``).
+        Supply and shared pins keep their names (``VCC``, ``COIL+``).  A chip's
+        section pins are named as generic datasheets name them, the section number
+        before the pin (``1A``, ``3Y``; a chip of one section: the pin alone); a
+        relay's contact terminals carry the pole number after (``NO1``, ``COM2``), so
+        a wiring list can say ``K2-NO1``.
         """
         names: dict = {}
         for n, num in self.supply_pins.items():
             names[num] = n
         for n, num in self.shared_pins.items():
             names[num] = n
-        alone = len(self.slots) == 1 and self.kind == "chip"
         for s in self.slots:
-            before = any(ch.isdigit() for pin in s.pins for ch in pin)
             for pin, num in s.pins.items():
-                name = pin if alone else f"{s.index}{pin}" if before else f"{pin}{s.index}"
-                names.setdefault(num, name)
+                if self.kind == "relay":
+                    names.setdefault(num, f"{pin}{s.index}")
+                else:
+                    names.setdefault(num, f"{s.index}{pin}" if len(self.slots) > 1 else pin)
         for num in self.nc_pins:
             names[num] = "NC"
         return dict(sorted(names.items()))

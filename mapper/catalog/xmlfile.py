@@ -264,7 +264,7 @@ def _element_at(root, path: str):
 
 _FIGURE_TAGS = frozenset({"pinout", "typ", "max", "quiescent", "per-unit", "input", "output", "rating", "price",
                           "coil-voltage", "coil-resistance", "coil-current", "operate-time", "release-time",
-                          "bounce-time", "contact-rating"})
+                          "bounce-time", "contact-rating", "open-input"})
 
 
 def unsourced(root, display: str) -> list:

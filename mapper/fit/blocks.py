@@ -290,7 +290,7 @@ def _ties(b: Build, target: Target, refs: set) -> None:
             for pin, num in sorted(s.pins.items(), key=lambda kv: kv[1]):
                 if pin in ins and (p.ref, num) not in wired and (p.ref, num) not in tied:
                     tied.add((p.ref, num))
-                    b.ties.append(Tie(p.ref, num, "GND", f"input of unused slot {s.index}"))
+                    b.ties.append(Tie(p.ref, num, "GND", f"input of unused section {s.index}"))
 
 
 # -- the two builds ------------------------------------------------------------------------------------
@@ -316,7 +316,7 @@ def with_blocks(design: Netlist, target: Target, search: Callable[[Netlist], Bui
     families: dict = {}
     for u in uses:
         families[u.family] = families.get(u.family, 0) + 1
-    what = ", ".join(f"{v} {k} slot{'s' * (v != 1)}" for k, v in sorted(families.items()))
+    what = ", ".join(f"{v} {k} section{'s' * (v != 1)}" for k, v in sorted(families.items()))
     if len(built.parts) < len(plain.parts):
         built.notes.append(f"medium-scale chips: {what} ({len(built.parts)} parts; {len(plain.parts)} without them)")
         return built

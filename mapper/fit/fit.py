@@ -29,6 +29,7 @@ from dataclasses import replace
 from ..build import Build
 from ..catalog.model import Target
 from ..errors import UsageError
+from ..logic.canonical import canonical_order
 from ..logic.function import Function
 from ..netlist import Logic, Netlist
 from .blocks import has_blocks, with_blocks, without_blocks
@@ -37,7 +38,7 @@ from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary, RecostedLibrary
 from .pack import pack
 from .plain import hand_mapping, plugin_mapping
-from .storage import gate_storage
+from .storage import close_loops, gate_storage
 
 __all__ = ["baseline_builds", "fit_gates", "mapping_netlist"]
 
@@ -167,7 +168,8 @@ class _PartSearch:
                 if not self.spend():
                     break
                 m = map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes)
-                self.consider(_undual(m) if label else m, f"{label}{limit} cuts, {passes} passes")
+                self.consider(_undual(m) if label else m,
+                              f"{label}{limit} gate choices per net, {passes} cost round(s)")
 
     def package_costs(self) -> None:
         """Map again with each cell's cost following how full its packages were in the
@@ -275,6 +277,10 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     """
     if not keep and not trees and has_blocks(target):
         return with_blocks(design, target, lambda d: fit_gates(d, without_blocks(target), effort))
+    # walked in an order from the structure alone: the same design written differently (names,
+    # the order of inputs and gates) meets the same choices and gets the same parts
+    ports = list(design.inputs)
+    design = canonical_order(design)
     search = _PartSearch(design, target, effort, keep, trees)
     search.first_mappings()
     search.baselines()
@@ -288,8 +294,11 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
         search.seeds(subject)
         search.drop_types(subject)
     best = search.result()
+    best.inputs = ports  # the design's own port order
     log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
-    best.notes.append("part search: " + "; ".join(f"{label} {n}" for label, n in search.tried))
+    fewest = min(n for _, n in search.tried) if search.tried else len(best.parts)
+    best.notes.append(f"part search: {len(search.tried)} variants tried, best {fewest} parts ("
+                      + "; ".join(f"{label}: {n}" for label, n in search.tried) + ")")
     return best
 
 
@@ -397,6 +406,8 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
     for net, node in design.storage().items():
         d, ctrl = mapping.storage_nets[net]
         kind = node.kind
+        if kind == "as":
+            continue  # a feedback loop: closed as gates below
         cell = storage_cells.get(kind)
         invert_ctrl = False
         if cell is None:
@@ -424,6 +435,8 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
                           mapping.area, mapping.depth)
     notes: list = []
     mapping = split_fanout(mapping, target, notes)
+    mapping, loops = close_loops(_library(target), design, mapping)  # after the fan-out pass, as below
+    groups.update(loops)
     if loop_cells:  # after the fan-out pass, whose ordering assumes no loops
         mapping = Mapping(mapping.cells + loop_cells, mapping.outputs, mapping.storage_nets,
                           mapping.area, mapping.depth)

@@ -174,21 +174,35 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
         if cell not in order_of_types:
             order_of_types.append(cell)
     nref = [0]
+    on_pin: dict = {}  # (part ref, pin number) -> net, for storage slots placed so far
 
-    def take(cell):
+    def new_part(pd, cell):
+        nref[0] += 1
+        ref = f"U{nref[0]}"
+        build.parts.append(PartInstance(ref, pd.id))
+        # every slot of the part able to do this cell
+        for s in pd.slots:
+            if s.cell == cell:
+                free[(pd.id, cell)].append((ref, s.index))
+        for s in pd.slots:
+            if s.cell != cell:
+                free[(pd.id, s.cell)].append((ref, s.index))
+
+    def take(cell, pins=None):
+        """The next free slot for ``cell``; with ``pins`` (cell pin -> net), the first whose pins shared
+        with used slots (a common enable or clock) carry those nets already, else one of a new part."""
         pd, _ = _carrier(target, cell)
         lst = free[(pd.id, cell)]
+        if pins is not None:
+            at = next((i for i, (r, k) in enumerate(lst) if _fits(pd, k, pins, r, on_pin)), None)
+            if at is None:
+                new_part(pd, cell)
+                at = next(i for i, (r, _) in enumerate(lst) if r == f"U{nref[0]}")
+            ref, k = lst.pop(at)
+            on_pin.update({(ref, num): pins[p] for p, num in _slot_pins(pd, k).items() if p in pins})
+            return ref, k
         if not lst:
-            nref[0] += 1
-            ref = f"U{nref[0]}"
-            build.parts.append(PartInstance(ref, pd.id))
-            # every slot of the part able to do this cell
-            for s in pd.slots:
-                if s.cell == cell:
-                    lst.append((ref, s.index))
-            for s in pd.slots:
-                if s.cell != cell:
-                    free[(pd.id, s.cell)].append((ref, s.index))
+            new_part(pd, cell)
         return lst.pop(0)
 
     for cell, use, assign in uses:
@@ -205,7 +219,7 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, pins, use.origin,
                                         group=use.group))
     for cell, pins, origin, init in storage_uses:
-        ref, slot = take(cell)
+        ref, slot = take(cell, pins)
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, dict(pins), origin, init))
 
     # -- tie unused inputs of used parts -----------------------------------------
@@ -221,10 +235,22 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
                 # a pin shared with a used slot (a common enable) is wired already
                 if pin in ins and (p.ref, num) not in wired:
                     wired.add((p.ref, num))
-                    build.ties.append(Tie(p.ref, num, "GND", f"input of unused slot {s.index}"))
+                    build.ties.append(Tie(p.ref, num, "GND", f"input of unused section {s.index}"))
     build.output_nets = dict(mapping.outputs)
     add_support(build)
     return build
+
+
+def _fits(pd, index: int, pins: dict, ref: str, on_pin: dict) -> bool:
+    """Whether slot ``index`` of part ``ref`` can take ``pins`` (cell pin -> net): every pin number of the
+    slot that a slot placed before used (a common enable or clock) carries the same net."""
+    return all(on_pin.get((ref, num), pins[p]) == pins[p] for p, num in _slot_pins(pd, index).items() if p in pins)
+
+
+def _slot_pins(pd, index: int) -> dict:
+    """cell pin -> package pin of slot ``index``, the part's shared pins included."""
+    slot = next(s for s in pd.slots if s.index == index)
+    return {**pd.shared_pins, **slot.pins}
 
 
 def _is_storage(target, cell) -> bool:

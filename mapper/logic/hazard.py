@@ -648,21 +648,7 @@ def collapse_hazardous_cones(netlist: Netlist, max_inputs: int = 8, max_cubes: i
     new = netlist.copy()
     new.nodes = {n: replace.get(n, node) for n, node in netlist.nodes.items()}
     # drop logic that no longer reaches an output or storage element
-    live = set(new.outputs)
-    stack = list(new.outputs)
-    for n, node in new.nodes.items():
-        if isinstance(node, Storage):
-            live.add(n)
-            stack.append(n)
-    while stack:
-        n = stack.pop()
-        node = new.nodes.get(n)
-        if node is None:
-            continue
-        for f in node.fanins:
-            if f not in live:
-                live.add(f)
-                stack.append(f)
+    live = new.live()
     new.nodes = {n: node for n, node in new.nodes.items()
                  if n in live or not isinstance(node, Logic) or n in netlist.inputs}
     return new, rows

@@ -3,7 +3,7 @@
 Summary, cautions, the ordering list, the schematic (each page its own
 printed sheet), the board with its numbered wires to tick off, delays
 (worst path and arrival per output), glitches, the wiring by net and pin
-by pin, and notes.  No scripts, no fonts or images from elsewhere, no
+by pin, the bring-up list when asked for, and notes.  No scripts, no fonts or images from elsewhere, no
 scroll boxes: the page opens offline and prints as it shows, drawings
 scaled to the page width.  Layout: ``mapper/templates/report.html.j2``.
 """
@@ -15,7 +15,7 @@ from lxml import etree
 from markupsafe import Markup
 
 from .. import __version__
-from ..analyze.results import Analysis
+from ..analyze.results import Analysis, units_of
 from ..build import Build
 from ..place import Plan, plan_for
 from .board import board_svg
@@ -31,8 +31,9 @@ log = logging.getLogger(__name__)
 
 
 def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: str = "distinctive",
-                sockets: bool = False, spares=None, copies: int = 1) -> str:
-    """The report page of ``b`` as HTML text (``plan``: the placed board; default the default board)."""
+                sockets: bool = False, spares=None, copies: int = 1, bringup: dict | None = None) -> str:
+    """The report page of ``b`` as HTML text (``plan``: the placed board; default the default board;
+    ``bringup``: the bring-up plan as :func:`mapper.bringup.report.plan_json` gives it, for its section)."""
     plan = plan if plan is not None else plan_for(b)
     s = analysis.summary(b)
     timing = analysis.figures(b)
@@ -43,8 +44,8 @@ def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: 
     path = []
     for step in timing.get("critical_path") or []:
         where = step.get("part", "")
-        if "slot" in step:
-            where += f", section {step['slot']}"
+        if step.get("section") is not None:
+            where += f", section {step['section']}"
         elif "pole" in step:
             where += f", pole {step['pole']}"
         pins = ""
@@ -79,15 +80,18 @@ def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: 
                          "when": " ".join(f"{k}={v}" for k, v in (when[0] if when else {}).items())
                          or "in any state", "width": widths, "reaches": reaches})
     sheets = [Markup(etree.tostring(e, encoding="unicode")) for e in page_elements(b, analysis, shapes)]
-    return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b, copies, sockets, spares),
+    return render("report.html.j2", b=b, s=s, units=units_of(s), version=__version__,
+                  order=order_rows(b, copies, sockets, spares),
                   w=wiring(b, analysis), sheets=sheets, board=board_data(b, plan),
                   board_svg=Markup(board_svg(b, analysis, plan, declaration=False)), outputs=outputs, path=path,
                   figures=figures, glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)),
-                  glitch_errors=timing.get("glitch_errors", 0), supply_basis=timing.get("supply_basis", ""))
+                  glitch_errors=timing.get("glitch_errors", 0), supply_basis=timing.get("supply_basis", ""),
+                  bringup=bringup)
 
 
 def write_build(b: Build, analysis: Analysis, path, protect=(), plan: Plan | None = None, shapes: str = "distinctive",
-                sockets: bool = False, spares=None, copies: int = 1, **options) -> list:
+                sockets: bool = False, spares=None, copies: int = 1, bringup: dict | None = None,
+                **options) -> list:
     """Write ``report.html`` of ``b`` to ``path`` (atomically)."""
-    text = report_text(b, analysis, plan, shapes, sockets, spares, copies)
+    text = report_text(b, analysis, plan, shapes, sockets, spares, copies, bringup)
     return [atomic_write(path, text, protect=protect)]

@@ -22,6 +22,7 @@ from __future__ import annotations
 import itertools
 import json
 import random
+import re
 
 import pytest
 
@@ -661,8 +662,9 @@ def test_clock_from_bits_changing_together_is_an_error(tmp_path, netfit, target)
     # found by changing the counter's two bits together, as its clock edge does
     both = [h for h in r["hazards"] if h["error"] and sorted(h["inputs_changed"]) == ["q0", "q1"]]
     assert both and r["glitch_search"]["bits_changed_together"] > 0
-    assert any(c.startswith("glitch on g reaches the clock") for c in r["cautions"])
+    # g and n1 are both q0 xor q1 in the design: the build drives them from one gate, named as either
+    assert any(re.match(r"glitch on (g|n1) reaches the clock", c) for c in r["cautions"])
     # no consensus term cures it: the build keeps the caution
     code, s, _ = netfit("build", p, "--target", target, "--json", as_json=True)
     assert code == 0 and s["glitch_errors"] >= 1
-    assert any(c.startswith("glitch on g") for c in s["cautions"])
+    assert any(re.match(r"glitch on (g|n1) ", c) for c in s["cautions"])

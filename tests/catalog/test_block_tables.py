@@ -175,7 +175,8 @@ def test_register_chips(cells, cell, kind, clear):
 
 
 #: package pins of the medium-scale parts, pin 1 upward (from memory of generic 74HC datasheets, typed here
-#: independently of the catalog; VCC and GND at the corners)
+#: independently of the catalog; VCC and GND at the corners; a flip-flop or latch of a multi-section part
+#: named with its section number first, 1D and 1Q, as the house names section pins)
 PINOUTS = {
     "74HC283": "S2 B2 A2 S1 A1 B1 C0 GND C4 S4 B4 A4 S3 A3 B3 VCC",
     "74HC85": "B3 LT_I EQ_I GT_I GT_O EQ_O LT_O GND B0 A0 B1 A1 A2 B2 A3 VCC",
@@ -185,16 +186,16 @@ PINOUTS = {
     "74HC163": "CLR_N CLK A B C D ENP GND LOAD_N ENT QD QC QB QA RCO VCC",
     "74HC164": "A B QA QB QC QD GND CLK CLR_N QE QF QG QH VCC",
     "74HC595": "QB QC QD QE QF QG QH GND QH_S SRCLR_N SRCLK RCLK OE_N SER QA VCC",
-    "74HC174": "CLR_N Q1 D1 D2 Q2 D3 Q3 GND CLK Q4 D4 Q5 D5 D6 Q6 VCC",
-    "74HC273": "CLR_N Q1 D1 D2 Q2 Q3 D3 D4 Q4 GND CLK Q5 D5 D6 Q6 Q7 D7 D8 Q8 VCC",
-    "74HC373": "OE_N Q1 D1 D2 Q2 Q3 D3 D4 Q4 GND LE Q5 D5 D6 Q6 Q7 D7 D8 Q8 VCC",
-    "74HC573": "OE_N D1 D2 D3 D4 D5 D6 D7 D8 GND LE Q8 Q7 Q6 Q5 Q4 Q3 Q2 Q1 VCC",
+    "74HC174": "CLR_N 1Q 1D 2D 2Q 3D 3Q GND CLK 4Q 4D 5Q 5D 6D 6Q VCC",
+    "74HC273": "CLR_N 1Q 1D 2D 2Q 3Q 3D 4D 4Q GND CLK 5Q 5D 6D 6Q 7Q 7D 8D 8Q VCC",
+    "74HC373": "OE_N 1Q 1D 2D 2Q 3Q 3D 4D 4Q GND LE 5Q 5D 6D 6Q 7Q 7D 8D 8Q VCC",
+    "74HC573": "OE_N 1D 2D 3D 4D 5D 6D 7D 8D GND LE 8Q 7Q 6Q 5Q 4Q 3Q 2Q 1Q VCC",
 }
 
 
 @pytest.mark.parametrize("part", sorted(PINOUTS))
-def test_single_slot_pinouts(part):
-    # the catalog's pin numbers of the one-section and one-clock parts against the table above
+def test_block_part_pinouts(part):
+    # the catalog's pin numbers of the medium-scale parts against the table above
     pd = flow.load_target("msi-74").parts[part]
     names = pd.pin_names()
     assert [names[k] for k in range(1, len(names) + 1)] == PINOUTS[part].split()

@@ -1,0 +1,209 @@
+"""A gate build as wired, pin by pin, and a bit-parallel three-valued simulator of it with faults.
+
+The model reads a :class:`~mapper.build.Build` of chips without storage:
+every used section is a node that reads its input *pins* (each pin its own
+place where a fault can sit) and drives its output net with its catalog
+function.  Nodes are evaluated once each, in the order of the wiring.
+
+Values are three-valued and bit-parallel (:mod:`mapper.bringup.ternary`):
+bit ``k`` of every word belongs to machine ``k``, and each machine may carry
+its own input values and its own faults (a pin or a net forced to 0 or 1).
+With every input set, every net of a build without storage is known; the
+third value is kept so that a wrong model shows as "not settled" rather
+than as a wrong level.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import networkx as nx
+
+from ..build import Build
+from ..errors import InternalError
+from .ternary import AND, classify, evaluate
+
+__all__ = ["GateCircuit", "GateMachine", "PinRef"]
+
+
+@dataclass(frozen=True)
+class PinRef:
+    """One input pin of a used section: package pin ``number`` of ``ref``, cell pin ``name``, on ``net``."""
+
+    ref: str
+    number: int | str
+    name: str
+    net: str
+    cell: int
+
+
+@dataclass
+class GateCircuit:
+    """A gate build as nets, pins and nodes (see the module docstring)."""
+
+    nets: list
+    index: dict
+    inputs: list                    # net ids of the primary inputs, in the build's order
+    outputs: list                   # (port, net id)
+    pins: list                      # PinRef per pin id
+    pin_net: list                   # net id per pin id
+    nodes: list                     # ("g", out net id, pin ids, three-valued op, function) per section
+    order: list                     # node ids, everything a node reads before it
+    driver: dict = field(default_factory=dict)   # net id -> node id
+    storage: int = 0                # sections that remember (the model refuses them)
+
+    @property
+    def has_state(self) -> bool:
+        """Whether anything in the build remembers (flip-flops or latches)."""
+        return bool(self.storage)
+
+    @classmethod
+    def from_build(cls, b: Build) -> GateCircuit:
+        """The model of gate build ``b`` (:class:`InternalError` for a relay build)."""
+        if b.is_relay:
+            raise InternalError("a relay build has no gate model")
+        index: dict = {}
+
+        def nid(net: str) -> int:
+            return index.setdefault(net, len(index))
+
+        nid("GND")
+        nid("VCC")
+        inputs = [nid(i) for i in b.inputs]
+        pins: list = []
+        nodes: list = []
+        storage = 0
+
+        def pin(ci: int, c, name: str) -> int:
+            net = c.pins.get(name)
+            if net is None:
+                raise InternalError(f"{c.part_ref} section {c.slot}: input {name} is on no net")
+            pins.append(PinRef(c.part_ref, b.pin_of(c, name), name, net, ci))
+            nid(net)
+            return len(pins) - 1
+
+        for ci, c in enumerate(b.cells):
+            cd = b.cell_def(c)
+            if cd.storage is not None or c.group is not None:
+                storage += 1
+                continue
+            ins = tuple(pin(ci, c, p) for p in cd.inputs)
+            func = cd.logic_function()
+            nodes.append(("g", nid(c.pins[cd.output]), ins, classify(func), func))
+        outputs = [(o, nid(b.output_nets.get(o, o))) for o in b.outputs]
+        pin_net = [index[p.net] for p in pins]
+        circ = cls(list(index), index, inputs, outputs, pins, pin_net, nodes, [], storage=storage)
+        if not storage:
+            circ._order()
+        return circ
+
+    def readers(self) -> dict:
+        """net id -> node ids that read it (made once)."""
+        got = self.__dict__.get("_readers")
+        if got is None:
+            got = self.__dict__["_readers"] = {}
+            for k, nd in enumerate(self.nodes):
+                for p in nd[2]:
+                    got.setdefault(self.pin_net[p], []).append(k)
+        return got
+
+    def rank(self) -> dict:
+        """node id -> its place in :attr:`order` (made once)."""
+        got = self.__dict__.get("_rank")
+        if got is None:
+            got = self.__dict__["_rank"] = {k: i for i, k in enumerate(self.order)}
+        return got
+
+    def _order(self) -> None:
+        driver: dict = {}
+        for k, nd in enumerate(self.nodes):
+            net = nd[1]
+            if net in driver or net in self.inputs or net < 2:
+                raise InternalError(f"net {self.nets[net]} has two drivers in the build")
+            driver[net] = k
+        self.driver = driver
+        g = nx.DiGraph()
+        g.add_nodes_from(range(len(self.nodes)))
+        for k, nd in enumerate(self.nodes):
+            for p in nd[2]:
+                src = driver.get(self.pin_net[p])
+                if src is not None:
+                    g.add_edge(src, k)
+        try:
+            self.order = list(nx.topological_sort(g))
+        except nx.NetworkXUnfeasible:
+            raise InternalError("a loop of gates outside any storage group in the build") from None
+
+
+class GateMachine:
+    """``width`` machines of one :class:`GateCircuit`, each with its own inputs and faults.
+
+    ``pin_faults`` and ``net_faults`` map a pin id or a net id to ``(s0,
+    s1)``: the machines in which that pin (or net) is forced to 0 and to 1.
+    """
+
+    def __init__(self, circ: GateCircuit, width: int, pin_faults: dict | None = None,
+                 net_faults: dict | None = None):
+        if circ.has_state:
+            raise InternalError("the bring-up simulator models builds without storage only")
+        self.c = circ
+        self.width = width
+        self.M = (1 << width) - 1
+        self.net_faults = dict(net_faults or {})
+        pf = dict(pin_faults or {})
+        # every pin read resolved once with its fault: (net id, (s0, s1) or None)
+        self._code = [(nd[1], tuple((circ.pin_net[p], pf.get(p)) for p in nd[2]), nd[3]) for nd in circ.nodes]
+        n = len(circ.nets)
+        self.H = [0] * n
+        self.L = [0] * n
+
+    def _gate(self, reads: tuple, op: tuple) -> tuple:
+        """``(hi, lo)`` of a gate from the values now on its pins (each pin after its fault)."""
+        H, L, M = self.H, self.L, self.M
+        if op[0] == AND:
+            h, l = M, 0
+            for (net, inj), i in zip(reads, op[1]):
+                a, b = H[net], L[net]
+                if inj is not None:
+                    a, b = (a & ~inj[0]) | inj[1], (b & ~inj[1]) | inj[0]
+                if i:
+                    h &= b
+                    l |= a
+                else:
+                    h &= a
+                    l |= b
+            return (l, h) if op[2] else (h, l)
+        ins = []
+        for net, inj in reads:
+            a, b = H[net], L[net]
+            if inj is not None:
+                a, b = (a & ~inj[0]) | inj[1], (b & ~inj[1]) | inj[0]
+            ins.append((a, b))
+        return evaluate(op, ins, M)
+
+    def _set(self, net: int, h: int, l: int) -> None:
+        """Put a value on ``net``, after its fault."""
+        inj = self.net_faults.get(net)
+        if inj is not None:
+            h, l = (h & ~inj[0]) | inj[1], (l & ~inj[1]) | inj[0]
+        self.H[net], self.L[net] = h, l
+
+    def power_up(self, words: list) -> None:
+        """Apply the inputs ``words`` (one int per input, bit ``k`` for machine ``k``) and settle every net."""
+        M = self.M
+        self._set(1, M, 0)
+        self._set(0, 0, M)
+        for net, w in zip(self.c.inputs, words):
+            self._set(net, w & M, ~w & M)
+        code = self._code
+        for k in self.c.order:
+            out, reads, op = code[k]
+            h, l = self._gate(reads, op)
+            self._set(out, h, l)
+
+    def value(self, net: int) -> tuple:
+        """``(hi, lo)`` of net id ``net``."""
+        return self.H[net], self.L[net]
+
+    def outputs(self) -> list:
+        """``(hi, lo)`` of every output port, in the build's order."""
+        return [(self.H[n], self.L[n]) for _, n in self.c.outputs]
