@@ -100,6 +100,9 @@ def make_plan(b: Build, seed: int = 0) -> Plan:
             or b.sequencers):
         raise UsageError("bring-up lists for builds with storage (flip-flops, latches) are not made yet: "
                          "builds without storage only")
+    if any(b.cell_def(c).block is not None for c in b.cells):
+        raise UsageError("bring-up lists for builds with medium-scale chips (adders, comparators, counters) "
+                         "are not made yet: build on a target without them (gates-74) for a bring-up list")
     fl = fault_list(b)
     engine = Engine(b)
     reps = fl.representatives

@@ -275,3 +275,9 @@ def test_compare_shows_the_difference(netfit, tmp_path):
     assert rows["msi-74"]["parts"] == {"74HC283": 2}
     assert rows["gates-74"]["parts_total"] > rows["msi-74"]["parts_total"] == 2
     assert rows["gates-74"]["verified"] == rows["msi-74"]["verified"] == "proved"
+
+
+def test_bringup_says_plainly_it_does_not_list_block_builds(netfit, data):
+    # bring-up lists are not made for medium-scale chips yet: a plain refusal (exit 2), not an internal error
+    code, _, err = netfit("bringup", data / "textbook" / "full_adder.blif", "--target", "msi-74")
+    assert code == 2 and "medium-scale chips" in err and "not made yet" in err
