@@ -134,8 +134,10 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
             _, s = _carrier(target, cell)
             last = counts[cell] - s * (parts_of[cell] - 1)
             hosts = []
+            if _shares_inputs(target, cell):
+                continue
             for host, assign in emb.get(cell, []):
-                if host not in counts or not counts[host]:
+                if host not in counts or not counts[host] or _shares_inputs(target, host):
                     continue
                 _, hs = _carrier(target, host)
                 spare = parts_of[host] * hs - counts[host]
@@ -174,26 +176,37 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
         if cell not in order_of_types:
             order_of_types.append(cell)
     nref = [0]
+    shared_nets: dict = {}  # part ref -> {shared pin: net} (sections of one part share those pins)
 
-    def take(cell):
+    def take(cell, shared=None):
         pd, _ = _carrier(target, cell)
         lst = free[(pd.id, cell)]
-        if not lst:
+        pick = 0
+        if shared:
+            # a section whose part's shared pins carry the same nets (or none yet)
+            fits = [i for i, (ref, _) in enumerate(lst)
+                    if all(shared_nets.get(ref, {}).get(p, n) == n for p, n in shared.items())]
+            pick = fits[0] if fits else -1
+        if not lst or pick < 0:
             nref[0] += 1
             ref = f"U{nref[0]}"
             build.parts.append(PartInstance(ref, pd.id))
             # every slot of the part able to do this cell
+            fresh = free[(pd.id, cell)]
             for s in pd.slots:
                 if s.cell == cell:
-                    lst.append((ref, s.index))
+                    fresh.append((ref, s.index))
             for s in pd.slots:
                 if s.cell != cell:
                     free[(pd.id, s.cell)].append((ref, s.index))
-        return lst.pop(0)
+            lst, pick = fresh, len(fresh) - len(pd.slots_for(cell))
+        got = lst.pop(pick)
+        if shared:
+            shared_nets.setdefault(got[0], {}).update(shared)
+        return got
 
     for cell, use, assign in uses:
         cd = target.cells[cell]
-        ref, slot = take(cell)
         pins = {}
         if assign is None:
             for pin, net in zip(cd.inputs, use.args):
@@ -202,6 +215,8 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
             for pin, src in zip(cd.inputs, assign):
                 pins[pin] = src if isinstance(src, str) else use.args[src]
         pins[cd.output] = use.out
+        common = _carrier(target, cell)[0].shared_pins
+        ref, slot = take(cell, {p: n for p, n in pins.items() if p in common})
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, pins, use.origin,
                                         group=use.group))
     for cell, pins, origin, init in storage_uses:
@@ -225,6 +240,15 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
     build.output_nets = dict(mapping.outputs)
     add_support(build)
     return build
+
+
+def _shares_inputs(target, cell) -> bool:
+    """Whether ``cell``'s sections share an input pin with the other sections
+    of their part (the select of a quad multiplexer): such a section can
+    take a cell only where the part's other sections agree."""
+    cd = target.cells.get(cell)
+    ids = target.carriers.get(cell) or []
+    return bool(cd is not None and ids and set(cd.inputs) & set(target.parts[ids[0]].shared_pins))
 
 
 def _is_storage(target, cell) -> bool:
