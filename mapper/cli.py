@@ -121,8 +121,9 @@ def cmd_verify(args):
             for d in cex.get("differs", []):
                 what = {"next-state": "next state of", "control": "control of"}.get(d.get("kind"), "output")
                 print(f"  {what} {d['output']}: {d['a']} in A, {d['b']} in B")
-        for note in res.get("notes", []):
-            print(f"note: {note}", file=sys.stderr)
+        if not args.quiet:
+            for note in res.get("notes", []):
+                print(f"note: {note}", file=sys.stderr)
     return 0 if res["equivalent"] else 1
 
 
@@ -678,14 +679,22 @@ def build_parser() -> argparse.ArgumentParser:
         "Fit a gate-level design onto parts you can buy (chips or relays), with the fewest parts, "
         "proven to do the same logic."))
     p.add_argument("--version", action="version", version=f"netfit {__version__}")
-    p.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
-    p.add_argument("-q", "--quiet", action="store_true", help="no progress or notes on stderr")
-    p.add_argument("-v", "--verbose", action="store_true", help="more log output on stderr")
+    _add_global_args(p, False)
+    # the same options after the command (``netfit verify a b -q``); absent there, they leave the first alone
+    common = argparse.ArgumentParser(add_help=False)
+    _add_global_args(common, argparse.SUPPRESS)
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
     for name, (help, add_args, _) in COMMANDS.items():
-        sp = sub.add_parser(name, help=help, description=help)
+        sp = sub.add_parser(name, help=help, description=help, parents=[common])
         add_args(sp)
     return p
+
+
+def _add_global_args(p, default) -> None:
+    p.add_argument("--debug", action="store_true", default=default, help="show tracebacks of internal errors")
+    p.add_argument("-q", "--quiet", action="store_true", default=default,
+                   help="no progress or notes on stderr (errors only)")
+    p.add_argument("-v", "--verbose", action="store_true", default=default, help="more log output on stderr")
 
 
 def main(argv=None) -> int:

@@ -39,7 +39,7 @@ def builtin_targets() -> list:
     """``(name, description)`` of every target shipped with netfit, sorted by name."""
     root = importlib.resources.files("mapper.targets")
     out = []
-    for p in sorted(root.iterdir(), key=lambda p: p.name):
+    for p in sorted(root.iterdir(), key=lambda p: p.name.removesuffix(".xml")):
         if not p.name.endswith(".xml"):
             continue
         el = read_xml(p.read_bytes(), str(p), "target", "target", TargetError)

@@ -240,6 +240,32 @@ def _convert(design: Netlist, order: list, kinds: dict, cell: str, kind: str, pu
     storage = {net: (conv.pos(sig[s.d]), conv.pos(sig[s.control]) if s.control is not None else None)
                for net, s in design.storage().items()}
     cells = _live(gates.cells, list(outputs.values()) + [n for pair in storage.values() for n in pair if n])
+    named = {name: net for name, (net, neg) in sig.items() if not neg}
+    return _design_names(cells, outputs, storage, named, order, "_h")
+
+
+def _design_names(cells: list, outputs: dict, storage: dict, net_of: dict, order: list, prefix: str) -> tuple:
+    """The same cells with each net that carries a design node's value named as that node.
+
+    A builder reads the wiring list and the schematic by the design's own
+    names (``clk``, ``carry``): a net made here (``_h8``) that is exactly a
+    design node takes the node's name, the first node in order when several
+    share it.
+    """
+    rename: dict = {}
+    for name in order:
+        net = net_of.get(name)
+        if net is not None and net != name and net.startswith(prefix) and net not in rename:
+            rename[net] = name
+    if not rename:
+        return cells, outputs, storage
+
+    def r(n):
+        return rename.get(n, n) if n is not None else None
+
+    cells = [CellUse(c.cell, tuple(r(a) for a in c.args), r(c.out), c.origin, c.group) for c in cells]
+    outputs = {o: r(n) for o, n in outputs.items()}
+    storage = {q: (r(d), r(c)) for q, (d, c) in storage.items()}
     return cells, outputs, storage
 
 
@@ -303,6 +329,7 @@ def plugin_mapping(design: Netlist, lib: CellLibrary) -> Mapping | None:
     storage = {net: (net_of[s.d], net_of[s.control] if s.control is not None else None)
                for net, s in design.storage().items()}
     cells = _live(cells, list(outputs.values()) + [n for pair in storage.values() for n in pair if n])
+    cells, outputs, storage = _design_names(cells, outputs, storage, net_of, design.topological_order(), "_p")
     area = sum(lib.costs[c.cell] for c in cells)
     return Mapping(cells, outputs, storage, area, cell_depth(cells, design.inputs))
 

@@ -35,12 +35,13 @@ from ..catalog.model import Target
 from ..errors import InternalError, UsageError
 from ..logic.aig import AIG, from_netlist
 from ..logic.function import Function, var_mask
+from ..logic.hazard import cone_support
 from ..netlist import Logic, Netlist
 from ..relay_logic import RelaySequencer, RelayStorage, sequencer_for, storage_nets
 from ..simulate import simulate
 from .contacts import OPEN, RAIL, synthesize
 from .support import add_support
-from .windows import Window, cone, dfs_order, lit_table, window_tables, windows
+from .windows import Window, cone, dfs_order, gate_windows, lit_table, window_tables, windows
 
 __all__ = ["fit_relays", "relay_carriers", "redrive", "sweep_constants", "WINDOW_LEAVES"]
 
@@ -50,6 +51,8 @@ log = logging.getLogger(__name__)
 WINDOW_LEAVES = 16
 #: leaves per window of the windowed plans (each tried; the one with fewest relays kept)
 SPLIT_LEAVES = (10, 4)
+#: windows of one result and at most this many leaves are built in both polarities, the cheaper kept
+FLIP_LEAVES = 6
 
 # ---------------------------------------------------------------------------
 # target
@@ -133,21 +136,38 @@ class _Work:
         self.wanted_net: dict = {}     # (kind, name) -> net name, "VCC" or None (open)
         self.reamp: list = []
         self.stats: list = []
+        #: AIG variables whose net carries the complement (storage held inverted, and window results
+        #: built in the cheaper polarity)
+        self.inverted: set = set(ctx.inverted)
 
     def window(self, w_index: int, win: Window, single: bool, bound) -> bool:
         """Synthesize one window and name its nets; ``False`` when it cannot beat ``bound``."""
         ctx, g = self.ctx, self.ctx.g
         leaves, n = win.leaves, len(win.leaves)
-        full, val = window_tables(g, leaves, win.nodes, ctx.inverted)
+        full, val = window_tables(g, leaves, win.nodes, self.inverted)
         if single:
             tlist = [(f"{kind}:{name}", lit_table(val, lit, full), None) for kind, name, lit in ctx.want]
         else:
             tlist = [(f"var:{v}", val[v], None) for v in win.targets]
         extra = self._extra_poles(win, single)
         roots_for_order = [lit >> 1 for _, _, lit in ctx.want] if single else win.targets
-        res = synthesize(n, tlist, {v: val[v] for v in win.nodes}, ctx.P, extra=extra,
-                         order=dfs_order(g, leaves, roots_for_order), effort=ctx.effort,
-                         bound=(bound, 1 << 30, 1 << 30) if bound is not None else None)
+        order = dfs_order(g, leaves, roots_for_order)
+        limit = (bound, 1 << 30, 1 << 30) if bound is not None else None
+        res = synthesize(n, tlist, {v: val[v] for v in win.nodes}, ctx.P, extra=extra, order=order,
+                         effort=ctx.effort, bound=limit)
+        if not single and len(win.targets) == 1 and n <= FLIP_LEAVES:
+            # the other polarity of a small window's one result may take fewer contacts (an OR2 is one
+            # changeover from the rail; its complement, the NOR the graph holds, two): its users read
+            # the net as the complement then
+            v = win.targets[0]
+            flip = synthesize(n, [(f"var:{v}", val[v] ^ full, None)], {x: val[x] for x in win.nodes}, ctx.P,
+                              extra=extra, order=order, effort=ctx.effort, bound=limit)
+            wanted = {lit & 1 for _, _, lit in ctx.want if lit >> 1 == v}
+            tie = wanted == {1}   # outputs and storage read only the complement: it saves a break contact
+            if flip is not None and (res is None or len(flip.poles) < len(res.poles)
+                                     or (tie and len(flip.poles) == len(res.poles))):
+                res = flip
+                self.inverted ^= {v}
         if res is None:
             return False
         self.stats.append(res)
@@ -185,7 +205,7 @@ class _Work:
         seen = set()
         for latch in g.latches:
             edge = latch.kind in ("re", "fe")
-            on_lit(latch.next ^ (1 if latch.var in ctx.inverted else 0), 1, f"d:{latch.name}")
+            on_lit(latch.next ^ (1 if latch.var in self.inverted else 0), 1, f"d:{latch.name}")
             key = (latch.control, latch.kind)
             if key not in seen:
                 seen.add(key)
@@ -212,11 +232,14 @@ class _Work:
                 if kind == "output" and r > n and r not in local and name not in local.values():
                     local[r] = name  # the output's own net carries its name
         for key, r in res.roots.items():
-            if key.startswith("var:") and r > n and int(key[4:]) in ctx.design_name:
-                preferred.setdefault(r, ctx.design_name[int(key[4:])])
+            if key.startswith("var:") and r > n:
+                v = int(key[4:])
+                lit = 2 * v + (1 if v in self.inverted else 0)   # the polarity the net carries
+                if lit in ctx.design_name:
+                    preferred.setdefault(r, ctx.design_name[lit])
         for key, r in cs.cand_net.items():
-            if r > n and key in ctx.design_name:
-                preferred.setdefault(r, ctx.design_name[key])
+            if r > n and 2 * key in ctx.design_name:
+                preferred.setdefault(r, ctx.design_name[2 * key])
         for com, _, _, _ in res.poles:
             if com not in local:
                 local[com] = self.names.fresh(preferred.get(com))
@@ -244,7 +267,7 @@ class _Work:
                 self.wanted_net[(kind, name)] = "VCC" if lit & 1 else None
                 continue
             net = self.net_of_var[v]
-            if (lit & 1) ^ (v in self.ctx.inverted):
+            if (lit & 1) ^ (v in self.inverted):
                 if net not in comp:
                     comp[net] = self.names.fresh(f"{net}_n")
                     self.poles.append((comp[net], net, None, "VCC"))
@@ -349,7 +372,7 @@ def sweep_constants(design: Netlist) -> Netlist:
     for name, node in nodes.items():
         if not isinstance(node, Logic) or not node.fanins or vals.get(name, 1) not in (0, mask):
             continue
-        cone = _cone_of(design, name)
+        cone = cone_support(design, name, SWEEP_SUPPORT)
         if cone is None:
             continue
         support, order = cone
@@ -368,31 +391,6 @@ def sweep_constants(design: Netlist) -> Netlist:
     for name, v in found.items():
         new.nodes[name] = Logic((), Function.constant(v))
     return new
-
-
-def _cone_of(design: Netlist, root: str):
-    """``(support, logic nodes in topological order)`` of ``root``; ``None`` past :data:`SWEEP_SUPPORT`."""
-    support: list = []
-    order: list = []
-    seen: set = set()
-    stack = [(root, False)]
-    while stack:
-        n, done = stack.pop()
-        if done:
-            order.append(n)
-            continue
-        if n in seen:
-            continue
-        seen.add(n)
-        node = design.nodes.get(n)
-        if not isinstance(node, Logic):
-            support.append(n)
-            if len(support) > SWEEP_SUPPORT:
-                return None
-            continue
-        stack.append((n, True))
-        stack.extend((f, False) for f in node.fanins if f not in seen)
-    return support, order
 
 
 def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
@@ -417,10 +415,10 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
     design = sweep_constants(design)
     g, litmap = from_netlist(design)
     names = _Names(list(design.inputs) + list(design.outputs) + list(design.storage()))
-    design_name: dict = {}
+    design_name: dict = {}   # AIG literal -> the design's name of a net carrying it
     for net, lit in litmap.items():
-        if not lit & 1 and lit > 1 and g.is_and(lit >> 1):
-            design_name.setdefault(lit >> 1, net)
+        if lit > 1 and g.is_and(lit >> 1):
+            design_name.setdefault(lit, net)
     # storage that must start at 1 is built holding its complement (a relay powers up released)
     inverted = {latch.var for latch in g.latches if latch.init == 1}
 
@@ -453,6 +451,12 @@ def fit_relays(design: Netlist, target: Target, effort: int = 1) -> Build:
             split = p
     if split is None:  # without a bound a windowed plan is always made
         raise InternalError(f"no windowed relay plan for {design.name}")
+    # the design's own gates, one window each: never worse than building it gate by gate
+    gates = gate_windows(g, design, litmap, need_and, WINDOW_LEAVES)
+    if gates is not None:
+        p = _plan(ctx, gates, False, names.copy(), split.relays)
+        if p is not None and p.relays < split.relays:
+            split = p
     best = split
     if len(leaves_all) <= WINDOW_LEAVES:
         # one window over every leaf: exact decision diagrams with sharing across outputs,

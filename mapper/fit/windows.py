@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 from ..logic.function import var_mask
 
-__all__ = ["Window", "windows", "dfs_order", "window_tables", "lit_table", "cone"]
+__all__ = ["Window", "windows", "gate_windows", "dfs_order", "window_tables", "lit_table", "cone"]
 
 
 @dataclass
@@ -128,6 +128,58 @@ def windows(g, need: list, limit: int) -> list:
         tg = [r for r in rts if r in needed or any(j != i for j in used_later.get(r, ()))]
         out.append(Window(sorted(lvs), sorted(set(nodes)), tg))
     return out
+
+
+def gate_windows(g, design, litmap: dict, need: list, limit: int) -> list | None:
+    """One window per gate of the design, over that gate's own inputs: the builder's gate-by-gate plan.
+
+    Each design node whose value is an AND of the AIG becomes a window whose
+    leaves are the AIG variables of its fan-ins and whose nodes are the
+    AIG nodes between them (inverters are complemented edges, so an
+    inverter node shares its fan-in's window).  The contact synthesis of
+    such a window is the textbook relay gate (an AND2 one make contact
+    passing the other input, an OR2 one changeover from the rail...), so
+    this plan is never worse than building the design gate by gate.
+    ``None`` when some gate has more than ``limit`` inputs, or a needed
+    variable is no gate's output (the AIG merged it away).
+    """
+    from ..netlist import Logic
+
+    sources = set(g.inputs) | {latch.var for latch in g.latches}
+    roots: dict = {}
+    for name in design.topological_order():
+        node = design.nodes.get(name)
+        if not isinstance(node, Logic) or name not in litmap:
+            continue
+        v = litmap[name] >> 1
+        if not v or not g.is_and(v) or v in roots:
+            continue
+        leaves = {litmap[f] >> 1 for f in node.fanins if f in litmap} - {0}
+        if len(leaves) > limit:
+            return None
+        roots[v] = leaves
+    wins = []
+    made: set = set()
+    for v, leaves in sorted(roots.items()):
+        nodes, stack, seen = [], [v], set()
+        while stack:
+            x = stack.pop()
+            if x in seen:
+                continue
+            seen.add(x)
+            if x in leaves or x in sources or not g.is_and(x):
+                continue
+            nodes.append(x)
+            stack.extend(_fanins(g, x))
+        if any(x not in leaves and x not in sources and x != 0 and not g.is_and(x) for x in seen):
+            return None
+        wins.append(Window(sorted(leaves), sorted(nodes), [v]))
+        made.add(v)
+    used = {x for w in wins for x in w.leaves if g.is_and(x)} | set(need)
+    if not used <= made:
+        return None
+    needed = set(need)
+    return [w for w in wins if w.targets[0] in used or w.targets[0] in needed]
 
 
 def dfs_order(g, leaves: list, roots: list) -> list:

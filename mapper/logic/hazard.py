@@ -65,6 +65,7 @@ __all__ = [
     "add_consensus",
     "collapse_hazardous_cones",
     "control_cones",
+    "cone_support",
     "MAX_CONSENSUS_CUBES",
     "COLLAPSE_INPUTS",
 ]
@@ -553,8 +554,12 @@ def _eval3(func: Function, vals) -> int | None:
     return seen.pop()
 
 
-def _cone(netlist: Netlist, root: str, limit: int):
-    """(support, logic nodes in topological order) of ``root``; ``None`` when wider than ``limit``."""
+def cone_support(netlist: Netlist, root: str, limit: int):
+    """``(support, logic nodes in topological order)`` of ``root``; ``None`` when wider than ``limit``.
+
+    The support is the inputs and storage outputs the cone reads; a node of
+    more than 16 fan-ins also gives ``None``.  Iterative.
+    """
     support, nodes, seen = [], [], set()
     stack = [(root, False)]
     while stack:
@@ -600,7 +605,7 @@ def collapse_hazardous_cones(netlist: Netlist, max_inputs: int = 8, max_cubes: i
         node = netlist.nodes.get(root)
         if not isinstance(node, Logic) or not node.fanins:
             continue
-        cone = _cone(netlist, root, max_inputs)
+        cone = cone_support(netlist, root, max_inputs)
         if cone is None:
             continue
         support, nodes = cone

@@ -239,8 +239,14 @@ def test_quantities():
 def test_builtin_targets_are_named_after_their_files():
     names = [n for n, _ in builtin_targets()]
     assert names == sorted(p.stem for p in TARGETS.glob("*.xml"))
-    assert set(names) >= {"nand-only", "nor-only", "gates-74", "relay-spdt", "relay-dpdt"}
+    assert set(names) >= {"nand-only", "nor-only", "gates-74", "gates-74ls", "relay-spdt", "relay-dpdt",
+                          "relay-spdt-12v", "relay-dpdt-12v"}
     assert builtin_catalogs() == ["74hc", "74ls", "relays", "support"]
+    # every part of every catalog is on some built-in target (a part no target uses cannot be ordered)
+    used = {pid for name, _ in builtin_targets() for ids in load_target(name).carriers.values() for pid in ids}
+    for lib in ("74hc", "74ls", "relays"):
+        parts, _ = load_catalog(LIBS / f"{lib}.xml")
+        assert set(parts) <= used, (lib, sorted(set(parts) - used))
     for name, desc in builtin_targets():
         t = load_target(name)
         assert t.name == name and t.description == desc and "\n" not in desc

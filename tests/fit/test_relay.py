@@ -37,7 +37,7 @@ from mapper.errors import InternalError
 from mapper.read import read_design
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2] / "bench"))
-from bench_relay import template_relays  # noqa: E402
+from bench_relay import SHIFT4, template_relays  # noqa: E402
 
 DATA = Path(__file__).resolve().parents[1] / "data"
 SPDT = flow.load_target("relay-spdt")
@@ -447,16 +447,6 @@ def test_feedback_loops_are_the_storage_elements(tmp_path):
 
 # ---------------------------------------------------------------------------
 # sequential designs of our own, many clock cycles, every order of relay moves
-SHIFT4 = """# a 4-bit shift register of our own
-.model shift4
-.inputs d clk
-.outputs q0 q1 q2 q3
-.latch d q0 re clk 0
-.latch q0 q1 re clk 0
-.latch q1 q2 re clk 0
-.latch q2 q3 re clk 0
-.end
-"""
 
 # a 2-bit Gray-code sequencer of our own that steps on a rising edge only while en is 1 (a clocked enable)
 GRAY_EN = """.model gray_en
