@@ -116,7 +116,12 @@ class Synth:
             return hit
         if len(supp) <= 4:
             return self._small(on, off, supp)
-        lit = self._decompose(on, off, supp, shared=False)
+        # a counting function goes to the counter first (its carries serve the
+        # other outputs that count the same inputs); a plain AND or OR only
+        # when that counter is there already
+        lit = self._symmetric(on, off, supp, plain=False) if self.counters and len(supp) >= 4 else None
+        if lit is None:
+            lit = self._decompose(on, off, supp, shared=False)
         if lit is None and self.counters and len(supp) >= 4:
             lit = self._symmetric(on, off, supp)
         if lit is None:
@@ -174,12 +179,17 @@ class Synth:
         self._sync()
         return lit
 
-    def _symmetric(self, on: int, off: int, supp: list):
+    def _symmetric(self, on: int, off: int, supp: list, plain: bool = True):
+        """The function from a counter of ones of its inputs, when it is
+        totally symmetric; ``plain`` false refuses an AND or OR of the
+        inputs unless their counter is built already."""
         got = symmetry(on, off, supp, self.n)
         if got is None:
             return None
         pol, values = got
         lits = [self.free[j] ^ p for j, p in zip(supp, pol)]
+        if not plain and _is_plain(values) and not self.counter.has(lits):
+            return None
         bits = self.counter.bits(lits)
         self._sync()
         w = len(bits)
@@ -324,6 +334,14 @@ class Synth:
         hi = self.build(on1, full & ~(on1 | off1))
         lo = self.build(on0, full & ~(on0 | off0))
         return self.g.add_mux(self.free[j], hi, lo)
+
+
+def _is_plain(values) -> bool:
+    """Whether a symmetric function with ``values`` per count of ones is an
+    AND or an OR of its inputs (one value at no ones, the other at all)."""
+    ones = [w for w, v in enumerate(values) if v == 1]
+    zeros = [w for w, v in enumerate(values) if v == 0]
+    return ones == [len(values) - 1] or zeros == [0]
 
 
 def _depends(t: int, n: int, j: int) -> bool:

@@ -126,6 +126,10 @@ class Counter:
         self.aig = aig
         self.made: dict = {}
 
+    def has(self, lits) -> bool:
+        """Whether the counter of ``lits`` is built already."""
+        return tuple(sorted(lits)) in self.made
+
     def bits(self, lits) -> list:
         """Literals of the binary count of ones among ``lits`` (least significant first)."""
         key = tuple(sorted(lits))
