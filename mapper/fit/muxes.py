@@ -27,8 +27,8 @@ from __future__ import annotations
 from itertools import permutations
 
 from ..logic.aig import AIG, from_netlist
-from ..logic.restructure.graph import frame, to_netlist
 from ..logic.minimize import min_cover
+from ..logic.restructure.graph import frame, to_netlist
 from .gates import CellUse, Mapping, cell_depth, map_logic
 
 __all__ = ["mux_cell", "mux_roles", "mux_mapping", "MIN_GROUP"]
@@ -49,8 +49,8 @@ def mux_roles(func) -> tuple | None:
         for active in (0, 1):
             ok = True
             for m in range(16):
-                bit = (lambda j: (m >> j) & 1)
-                want = 0 if bit(e) != active else (bit(b) if bit(s) else bit(a))
+                bits = [(m >> j) & 1 for j in range(4)]
+                want = 0 if bits[e] != active else (bits[b] if bits[s] else bits[a])
                 if (t >> m) & 1 != want:
                     ok = False
                     break
@@ -80,7 +80,7 @@ def _find_muxes(aig: AIG) -> dict:
     """AND variable -> ``(select literal, data at 1, data at 0)`` of each
     multiplexer (the variable computes its complement)."""
     f0, f1 = aig.f0, aig.f1
-    out = {}
+    out: dict = {}
     for v in range(1, aig.num_vars):
         x, y = f0[v], f1[v]
         if x < 0 or not (x & 1 and y & 1):
@@ -139,7 +139,7 @@ def _cut(aig: AIG, muxes: dict, chosen: set, design) -> tuple[AIG, dict]:
     taken = set(design.nodes) | set(design.inputs) | set(design.outputs)
     new, lit = frame(aig)
     # a multiplexer that drives an output is named after it
-    out_of = {}
+    out_of: dict = {}
     for o, x in aig.outputs:
         if x & 1 and o not in design.inputs and o not in design.storage():
             out_of.setdefault(x >> 1, o)

@@ -38,12 +38,22 @@ def balance(aig: AIG) -> AIG:
         for x in (f0[v], f1[v]):
             if x & 1 or refs[x >> 1] > 1:
                 top[x >> 1] = 1
+    # the super-gates, readers before what they read: a node where a wide one
+    # stops at MAX_LEAVES becomes the top of a super-gate of its own
+    leaves_of: dict = {}
+    for v in range(aig.num_vars - 1, 0, -1):
+        if f0[v] < 0 or not top[v]:
+            continue
+        leaves_of[v] = _leaves(aig, v, top)
+        for x in leaves_of[v]:
+            if f0[x >> 1] >= 0:
+                top[x >> 1] = 1
     new, lit = frame(aig)
     lev = Levels(new)
     for v in range(1, aig.num_vars):
         if f0[v] < 0 or not top[v]:
             continue
-        leaves = _leaves(aig, v, top)
+        leaves = leaves_of[v]
         heap = []
         for i, x in enumerate(leaves):
             y = lit[x >> 1] ^ (x & 1)

@@ -121,6 +121,7 @@ def divide(f, d) -> tuple[list, list]:
         if not q:
             return [], list(f)
     dvars = {x >> 1 for dc in d for x in dc}
+    assert q is not None   # d is not empty
     q = {c for c in q if not any(x >> 1 in dvars for x in c)}
     if not q:
         return [], list(f)
@@ -398,7 +399,7 @@ def factored_graph(design, aig: AIG) -> AIG | None:
     names = [aig.names[v] for v in aig.inputs] + [latch.name for latch in aig.latches]
     net, lit = network_of(design, names)
     roots = [lit[o] for o in design.outputs]
-    for name, st in design.storage().items():
+    for st in design.storage().values():
         roots.append(lit[st.d])
         if st.control is not None:
             roots.append(lit[st.control])

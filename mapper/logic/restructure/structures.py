@@ -31,7 +31,7 @@ from functools import lru_cache
 
 from .. import exact
 from ..aig import AIG
-from ..function import isop, var_mask
+from ..function import isop
 from .factor import factor_into
 from .graph import cleanup, lookup_and
 
@@ -60,7 +60,7 @@ def _from_cover(n: int, table: int) -> AIG:
         xs = [g.add_input(f"x{j}") for j in range(n)]
         cubes, _ = isop(t, t, n)
         sop = [frozenset(2 * j + (ch == "0") for j, ch in enumerate(c) if ch != "-") for c in cubes]
-        g.add_output("y", factor_into(g, sop, lambda x: xs[x >> 1] ^ (x & 1)) ^ phase)
+        g.add_output("y", factor_into(g, sop, lambda x, xs=xs: xs[x >> 1] ^ (x & 1)) ^ phase)
         g = cleanup(g)
         if best is None or g.num_ands < best.num_ands:
             best = g

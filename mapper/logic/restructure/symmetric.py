@@ -85,20 +85,19 @@ def _polarity(on: int, k: int) -> tuple:
     pairs with input 0: symmetric in (x0, xj) when the cofactors at 10 and
     01 agree, in (x0, ~xj) when those at 00 and 11 do."""
     pol = [0] * k
-    m0 = var_mask(k, 0)
     for j in range(1, k):
-        mj = var_mask(k, j)
-        full = (1 << (1 << k)) - 1
-
-        def cof(a, b):
-            sel = (m0 if a else ~m0 & full) & (mj if b else ~mj & full)
-            t = on & sel
-            # move the block to the 00 position so that the four compare
-            t >>= (1 if a else 0) + ((1 << j) if b else 0)
-            return t
-        if cof(1, 0) != cof(0, 1) and cof(0, 0) == cof(1, 1):
+        if _cof(on, k, j, 1, 0) != _cof(on, k, j, 0, 1) and _cof(on, k, j, 0, 0) == _cof(on, k, j, 1, 1):
             pol[j] = 1
     return tuple(pol)
+
+
+def _cof(on: int, k: int, j: int, a: int, b: int) -> int:
+    """The block of ``on`` where input 0 is ``a`` and input ``j`` is ``b``,
+    moved to the place of the block at 00 so that the four compare."""
+    full = (1 << (1 << k)) - 1
+    m0, mj = var_mask(k, 0), var_mask(k, j)
+    sel = (m0 if a else ~m0 & full) & (mj if b else ~mj & full)
+    return (on & sel) >> ((1 if a else 0) + ((1 << j) if b else 0))
 
 
 def symmetry(on: int, off: int, supp, n: int):
