@@ -14,12 +14,22 @@ a design of over 6,000 nodes gets one mapping):
 * the mapping with every cell of the target;
 * for a target of one NAND2 or NOR2 cell, the mapping of the dual design with
   the dual cell (read back with the rails swapped);
+* the mappings of the restructured forms of the design
+  (:mod:`mapper.logic.restructure`: rewritten, factored, collapsed and built
+  again with counters of ones and decompositions); a form is kept only when
+  its build has fewer whole parts than every build before it -- the stop
+  rule of the restructuring script is this count, measured after mapping;
+* the design with its 2:1 multiplexers of one select in quad multiplexer
+  parts (:mod:`mapper.fit.muxes`);
 * the same mappings with other cut budgets and numbers of area-flow passes;
 * re-mapping the best mapped logic itself (its NAND/NOR structure often
   exposes sharing the first subject graph hid);
 * seeds of a single NAND2 or NOR2 cell type, alone and with one other type;
 * for each part type in the build, the mapping without that cell type,
-  when its cells might move into spare slots of the others.
+  when its cells might move into spare slots of the others;
+* on a target of several cells, the best build of each one-cell target its
+  parts carry (nand-only and nor-only inside gates-74), searched in full as
+  on its own, so that the answer never has more parts than those.
 """
 from __future__ import annotations
 
@@ -190,14 +200,14 @@ class _PartSearch:
             if m is not None:
                 self.consider(m, "multiplexer parts")
 
-    def one_cell_builds(self, effort: int, restructure: bool) -> None:
+    def one_cell_builds(self, effort: int) -> None:
         """The best builds of the targets of one NAND2 or NOR2 cell that this target's parts
         carry (the nand-only and nor-only builds on gates-74), each searched in full as on
         its own, so that a target of more cells never answers with more parts than those."""
         if len(self.lib.cells) == 1 or self.keep or self.trees:
             return
         for cell in _complete_cells(self.lib):
-            sub = _search(self.design, _one_cell_target(self.target, cell), effort, (), False, restructure)
+            sub = _search(self.design, _one_cell_target(self.target, cell), effort, (), False, True)
             if sub.best_mapping is not None:
                 self.consider(sub.best_mapping, f"{cell} only, searched as its own target")
 
@@ -313,11 +323,13 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     ``trees`` asks for tree-shaped matches only, which keep hazard-free
     covers hazard-free (see :func:`mapper.fit.gates.map_logic`).  The
     candidates are those of the module docstring, in that order, as long as
-    the budget lasts; ``restructure`` false leaves out the restructured
-    forms (for the benchmarks' "before").
+    the budget lasts.  ``restructure`` false leaves out the restructured
+    forms, the multiplexer parts and the one-cell targets' builds (the
+    search as it was before them: the benchmarks' "before").
     """
     search = _search(design, target, effort, keep, trees, restructure)
-    search.one_cell_builds(effort, restructure)
+    if restructure:
+        search.one_cell_builds(effort)
     best = search.result()
     if design.exdc is not None:
         from ..logic.restructure.collapse import off_care_differences
@@ -337,7 +349,7 @@ def _search(design: Netlist, target: Target, effort: int, keep, trees: bool, res
     search.baselines()
     if restructure:
         search.restructured()
-    search.multiplexers()
+        search.multiplexers()
     subject = search.subjects[0][1]
     search.variants()
     if effort > 0 and not search.big:

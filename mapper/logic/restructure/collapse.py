@@ -81,8 +81,8 @@ def collapsed_graph(design, aig: AIG, counters: bool = True, dont_cares: bool = 
 
 
 def _inputs(t: int, n: int) -> int:
-    from .decompose import _depends
-    return sum(1 for j in range(n) if _depends(t, n, j))
+    from .decompose import depends
+    return sum(1 for j in range(n) if depends(t, n, j))
 
 
 def off_care_differences(design, other) -> list:

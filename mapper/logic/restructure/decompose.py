@@ -147,7 +147,7 @@ class Synth:
         n = self.n
         supp = []
         for j in range(n):
-            if _depends(on, n, j) or _depends(off, n, j):
+            if depends(on, n, j) or depends(off, n, j):
                 supp.append(j)
         kept = []
         for j in supp:
@@ -344,7 +344,7 @@ def _is_plain(values) -> bool:
     return ones == [len(values) - 1] or zeros == [0]
 
 
-def _depends(t: int, n: int, j: int) -> bool:
+def depends(t: int, n: int, j: int) -> bool:
     m = var_mask(n, j)
     return ((t & m) >> (1 << j)) != (t & ~m & ((1 << (1 << n)) - 1))
 

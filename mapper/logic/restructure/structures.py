@@ -3,7 +3,7 @@
 A *structure* is ``(ops, out)``: signal 0 is constant false, signals
 ``1 .. n`` are the leaves, signal ``n + 1 + k`` is ``AND(ops[k])``; each
 operand and ``out`` is a literal ``2 * signal + complement``.  For each
-function the fewer-node of two shapes is kept:
+function the shape of fewest nodes of these is kept:
 
 * the minimum NAND2 chain of the shipped exact table
   (:mod:`mapper.logic.exact`; Kojevnikov, Kulikov and Yaroslavtsev, SAT
