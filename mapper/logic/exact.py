@@ -627,7 +627,7 @@ def search(n: int, tables: Sequence[int], gate: str = "nand", max_gates: int = 1
     # and distinct non-trivial outputs need distinct gates
     sup = 0
     for f in need:
-        sup |= sum(1 << j for j in range(n) if depends(n, f, j))
+        sup |= sum(1 << j for j in range(n) if _depends(n, f, j))
     lower = max(bin(sup).count("1") - 1, len(need), 1, lower)
     best = upper
     if best is not None and tuple(best.tables()) != tuple(tables):
@@ -662,7 +662,7 @@ def _attach(n, tables, triv, need, ch: Chain) -> Chain:
     return Chain(n, ch.gates, outs, ch.gate)
 
 
-def depends(n: int, f: int, j: int) -> bool:
+def _depends(n: int, f: int, j: int) -> bool:
     m = var_mask(n, j)
     return ((f & m) >> (1 << j)) != (f & ~m & _full(n))
 
