@@ -114,6 +114,9 @@ def cmd_verify(args):
         else:
             print(f"different: {args.a} and {args.b} ({res['method']})")
             cex = res.get("counterexample") or {}
+            if not cex:  # ports, storage kinds or starting values: the notes are the reason
+                for note in res.get("notes", []):
+                    print(f"  {note}")
             for k, v in (cex.get("inputs") or {}).items():
                 print(f"  input  {k} = {v}")
             for k, v in (cex.get("state") or {}).items():
@@ -121,7 +124,7 @@ def cmd_verify(args):
             for d in cex.get("differs", []):
                 what = {"next-state": "next state of", "control": "control of"}.get(d.get("kind"), "output")
                 print(f"  {what} {d['output']}: {d['a']} in A, {d['b']} in B")
-        if not args.quiet:
+        if not args.quiet and (res["equivalent"] or res.get("counterexample")):
             for note in res.get("notes", []):
                 print(f"note: {note}", file=sys.stderr)
     return 0 if res["equivalent"] else 1
@@ -153,7 +156,7 @@ def _build_args(p):
     p.add_argument("--target", "-t", required=True, metavar="T",
                    help="target name (see `netfit targets`) or a target .xml file")
     p.add_argument("-o", "--out", metavar="DIR", help=(
-        "write the build's files into DIR: DESIGN.v and cells.v, DESIGN.blif, DESIGN.json, parts.csv, "
+        "write the build's files into DIR: DESIGN.v and DESIGN_models.v, DESIGN.blif, DESIGN.json, parts.csv, "
         "wiring.txt, schematic.svg, board.svg, report.html"))
     p.add_argument("--qty", type=_positive, default=1, metavar="N",
                    help="parts.csv for N copies of the build (default 1)")

@@ -333,7 +333,7 @@ def _build_names(design: str) -> list:
 def write_build(r: Result, out_dir, protect=(), copies: int = 1, **options) -> list:
     """Write the build's files into ``out_dir``; returns their paths.
 
-    ``<design>.v`` and ``cells.v`` (structural Verilog and cell models),
+    ``<design>.v`` and ``<design>_models.v`` (structural Verilog and cell models),
     ``<design>.blif``, ``<design>.json`` (the whole build), ``parts.csv``
     (the ordering list for ``copies`` copies), ``wiring.txt``,
     ``schematic.svg`` and ``report.html`` (:data:`mapper.write.BUILD_WRITERS`).

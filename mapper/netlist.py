@@ -326,6 +326,22 @@ class Netlist:
         self.warnings.extend(warnings)
         return warnings
 
+    def renamed(self, names: dict) -> Netlist:
+        """A copy with the nets in ``names`` (old -> new) renamed everywhere; the new names must
+        be free (the caller makes sure)."""
+        def r(n):
+            return names.get(n, n)
+        nodes: dict = {}
+        for name, node in self.nodes.items():
+            if isinstance(node, Logic):
+                node = Logic(tuple(r(f) for f in node.fanins), node.func)
+            elif isinstance(node, Storage):
+                node = Storage(r(node.d), node.kind, None if node.control is None else r(node.control), node.init)
+            nodes[r(name)] = node
+        return Netlist(self.name, [r(n) for n in self.inputs], [r(n) for n in self.outputs], nodes,
+                       [r(n) for n in self.clocks], {r(k): v for k, v in self.origin.items()},
+                       list(self.warnings), self.exdc, list(self.notes))
+
     def copy(self) -> Netlist:
         n = Netlist(self.name, list(self.inputs), list(self.outputs), dict(self.nodes),
                     list(self.clocks), dict(self.origin), list(self.warnings), self.exdc, list(self.notes))

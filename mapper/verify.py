@@ -55,6 +55,7 @@ from __future__ import annotations
 import heapq
 import logging
 import random
+import re
 import time
 from dataclasses import dataclass, field
 
@@ -161,6 +162,45 @@ def _only(xs, ys) -> list:
 def _show(names, limit=8) -> str:
     s = ", ".join(f"'{n}'" for n in names[:limit])
     return s + (f" … ({len(names)} in all)" if len(names) > limit else "")
+
+
+_BUS_BIT = re.compile(r"^(.*?)[\[<](\d+)[\]>]$|^(.*?)_?(\d+)$")
+
+
+def _bit_key(name: str):
+    """``(base, index)`` of a bus bit written ``t[3]``, ``t<3>``, ``t3`` or ``t_3``; None otherwise."""
+    m = _BUS_BIT.match(name)
+    if m is None:
+        return None
+    base, idx = (m.group(1), m.group(2)) if m.group(2) is not None else (m.group(3), m.group(4))
+    return (base, int(idx)) if base else None
+
+
+def match_bus_bits(a: Netlist, b: Netlist, notes: list) -> Netlist:
+    """``b`` with its ports renamed to ``a``'s where the two differ only in how bus bits are written
+    (``t[3]`` in one, ``t3`` or ``t_3`` in the other) and the pairing is one to one, else ``b`` as it is.
+    A note says which names were paired."""
+    pairs: dict = {}
+    for xa, xb in ((a.inputs, b.inputs), (a.outputs, b.outputs)):
+        ma, mb = _only(xa, xb), _only(xb, xa)
+        if not ma or len(ma) != len(mb):
+            continue
+        ka: dict = {}
+        kb: dict = {}
+        for names, keyed in ((ma, ka), (mb, kb)):
+            for n in names:
+                keyed.setdefault(_bit_key(n), []).append(n)
+        if None in ka or None in kb or set(ka) != set(kb) or any(len(v) > 1 for v in (*ka.values(), *kb.values())):
+            continue
+        for k, (na,) in ka.items():
+            pairs[kb[k][0]] = na
+    taken = set(b.nodes) - set(pairs)
+    if not pairs or any(n in taken for n in pairs.values()):
+        return b
+    shown = ", ".join(f"{y} = {x}" for x, y in list(pairs.items())[:6]) + (" …" if len(pairs) > 6 else "")
+    notes.append(f"{len(pairs)} port(s) differ only in how bus bits are written; paired by name and bit "
+                 f"number ({shown})")
+    return b.renamed(pairs)
 
 
 def _match_ports(a: Netlist, b: Netlist, notes: list) -> bool:
@@ -608,6 +648,7 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     t0 = time.perf_counter()
     notes: list = []
     stats: dict = {}
+    b = match_bus_bits(a, b, notes)
     if not _match_ports(a, b, notes):
         return EquivalenceResult(False, "ports", None, notes, stats)
     kinds_ok, init_ok = _match_storage(a, b, notes)

@@ -227,6 +227,43 @@ def test_mismatched_ports_are_a_clear_no(data):
     assert any("'N23'" in n and "only in A" in n for n in res.notes)
 
 
+BUS_V = """module m(input [1:0] a, input c, output [1:0] t);
+  assign t[0] = a[0] & a[1];
+  assign t[1] = (a[0] | a[1]) ^ c;
+endmodule
+"""
+FLAT_BLIF = """.model m
+.inputs a0 a1 c
+.outputs t0 t1
+.names a0 a1 t0
+11 1
+.names a0 a1 c t1
+1-0 1
+-10 1
+001 1
+.end
+"""
+
+
+def test_bus_bits_are_paired_with_flat_names(tmp_path, netfit):
+    # the same 2-bit logic written with buses in Verilog and flat names in BLIF (our own example)
+    (tmp_path / "bus.v").write_text(BUS_V)
+    (tmp_path / "flat.blif").write_text(FLAT_BLIF)
+    code, out, err = netfit("verify", str(tmp_path / "bus.v"), str(tmp_path / "flat.blif"))
+    assert code == 0 and out.startswith("equal:")
+    assert "paired by name and bit number (a[0] = a0, a[1] = a1, t[0] = t0, t[1] = t1)" in err
+
+
+def test_bus_bits_are_not_paired_when_ambiguous(tmp_path, netfit):
+    # t1 and t_1 could both be t[1]: nothing is guessed, and the reason is on standard output
+    (tmp_path / "bus.v").write_text(BUS_V)
+    (tmp_path / "flat.blif").write_text(FLAT_BLIF.replace(".outputs t0 t1", ".outputs t0 t1 t_1")
+                                        .replace(".end", ".names t_1\n.end"))
+    code, out, err = netfit("verify", str(tmp_path / "bus.v"), str(tmp_path / "flat.blif"))
+    assert code == 1 and out.startswith("different:")
+    assert "outputs only in B: 't0', 't1', 't_1'" in out
+
+
 def test_counterexample_that_does_not_reproduce_is_a_bug(data, monkeypatch):
     monkeypatch.setattr(verify, "_replay", lambda *args: [])
     with pytest.raises(InternalError):

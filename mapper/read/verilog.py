@@ -107,6 +107,8 @@ from __future__ import annotations
 
 import gc
 import logging
+import os
+from pathlib import Path
 from typing import NoReturn
 
 from pyslang import ast, syntax
@@ -122,6 +124,10 @@ from .verilog_source import MAX_NESTING, Report, Sources, compile_design, load, 
 __all__ = ["MAX_ERRORS", "VerilogError", "read", "read_text"]
 
 log = logging.getLogger(__name__)
+
+#: the models file netfit writes beside a build's Verilog (``write.verilog.MODELS_SUFFIX``; a test
+#: keeps the two equal, the reader does not import a writer)
+MODELS_SUFFIX = "_models.v"
 
 #: errors reported at most (more are counted in a last line)
 MAX_ERRORS = 50
@@ -189,6 +195,9 @@ def _read_design(src: Sources, top: str | None) -> Netlist:
     if rep.errors:
         _raise(rep)
     res = compile_design(src, top)
+    models = _models_beside(src, res)
+    if models is not None:
+        res = compile_design(src, top)
     if res is None:
         rep.error(None, f"the text is nested more than {MAX_NESTING} levels deep (parentheses, "
                         "conditional operators or statements)")
@@ -224,9 +233,27 @@ def _read_design(src: Sources, top: str | None) -> Netlist:
     if netlist is None or rep.errors:
         _raise(rep)
     netlist.warnings.extend(rep.warnings())
+    if models is not None:
+        netlist.notes.append(Diagnostic(f"the modules this file instantiates without defining them were "
+                                        f"read from {models} beside it", src.main.display, None, None,
+                                        severity="note"))
     log.debug("%s: top '%s', %d inputs, %d outputs, %d nets", src.main.display, netlist.name,
               len(netlist.inputs), len(netlist.outputs), len(netlist.nodes))
     return netlist
+
+
+def _models_beside(src: Sources, res) -> str | None:
+    """The models file netfit writes beside a build (``<design>_models.v``), added to ``src`` when the
+    design instantiates modules it does not define and that file exists; its name as shown, or None."""
+    if res is None or type(res) is tuple or not any(code_name(d) == "UnknownModule" for d in res.diags):
+        return None
+    p = Path(src.main.display)
+    shown = str(p.with_name(p.stem + MODELS_SUFFIX))
+    beside = os.path.join(os.path.dirname(src.main.path), p.stem + MODELS_SUFFIX)
+    if os.path.realpath(beside) == src.main.path or not src.add_companion(beside):
+        return None
+    src.files[os.path.realpath(beside)].display = shown
+    return shown
 
 
 class _Design:

@@ -132,6 +132,8 @@ class BitStore:
         self.drv_at: list[Any] = [None, None]
         self.user_names: dict[str, int] = {}
         self.unconnected: dict[int, tuple[Any, str, str]] = {}  # slot -> (instance position, port, instance path)
+        #: slots of ``wor`` nets: each further driver is ORed in (relay contacts in parallel)
+        self.wired: set[int] = set()
         self.top_inputs: list[int] = []
         self.top_outputs: list[int] = []
         self.clock_slots: list[int] = []
@@ -156,7 +158,14 @@ class BitStore:
     def drive(self, slot, driver, at):
         """Give ``slot`` its one driver; a second one is an error."""
         old = self.drv[slot]
-        if old is not None:
+        if old is not None and slot in self.wired and old[0] != "i":
+            # a wired OR: both drivers move to bits of their own, the net becomes their OR
+            hint = self.name[slot]
+            a, b = self.new_slot(hint, at, True), self.new_slot(hint, at, True)
+            self.drv[a], self.drv_at[a] = old, self.drv_at[slot]
+            self.drv[b], self.drv_at[b] = driver, at
+            driver = ("l", (a, b), _func(2, T_OR2))
+        elif old is not None:
             name = self.name[slot]
             if old[0] == "i":
                 self.report.fail(at, f"'{name}' is an input of the top module and cannot be driven inside it")

@@ -32,7 +32,7 @@ TK = ast.TimingControlKind
 
 #: gate primitives of the subset
 GATES = ("and", "or", "nand", "nor", "xor", "xnor", "not", "buf")
-_NET_TYPES = ("wire", "supply0", "supply1", "uwire")
+_NET_TYPES = ("wire", "supply0", "supply1", "uwire", "wor")  # 'wor': relay contacts wired in parallel
 _FINE = {SK.Port, SK.Net, SK.Variable, SK.Parameter, SK.Genvar, SK.ContinuousAssign, SK.Instance,
          SK.Subroutine, SK.ProceduralBlock, SK.PrimitiveInstance, SK.GenerateBlock,
          SK.GenerateBlockArray, SK.EmptyMember, SK.TransparentMember}
@@ -81,6 +81,23 @@ def statements(root):
         elif k in (ST.ForLoop, ST.WhileLoop, ST.DoWhileLoop, ST.RepeatLoop, ST.ForeverLoop,
                    ST.ForeachLoop):
             stack.append(s.body)
+
+
+def initial_assignments(body) -> list | None:
+    """The assignments of an ``initial`` block that only gives regs starting values
+    (``initial q = INIT;`` or a ``begin ... end`` of such lines, as netfit's own models write them),
+    or None for any other block."""
+    stmts = list(body.body.list) if body.kind == ST.Block and body.body.kind == ST.List else (
+        [body.body] if body.kind == ST.Block else [body])
+    out = []
+    for s in stmts:
+        if s.kind != ST.ExpressionStatement or s.expr.kind != EK.Assignment:
+            return None
+        e = s.expr
+        if e.left.kind != EK.NamedValue or e.left.symbol.kind != SK.Variable:
+            return None
+        out.append(e)
+    return out
 
 
 def loop_variables(root) -> set:
@@ -325,8 +342,13 @@ def _subroutine(rep, m) -> None:
 def _procedure(rep, m) -> None:
     pk = m.procedureKind
     PK = ast.ProceduralBlockKind
-    if pk in (PK.Initial, PK.Final):
-        rep.error(m.location, f"an '{'initial' if pk == PK.Initial else 'final'}' block" + _OUTSIDE)
+    if pk == PK.Initial:
+        if initial_assignments(m.body) is None:
+            rep.error(m.location, "an 'initial' block that does more than give regs their starting values "
+                           "('initial q = 1'b0;')" + _OUTSIDE)
+        return
+    if pk == PK.Final:
+        rep.error(m.location, "a 'final' block" + _OUTSIDE)
         return
     if pk != PK.Always:
         word = {PK.AlwaysComb: "always_comb", PK.AlwaysFF: "always_ff", PK.AlwaysLatch: "always_latch"}[pk]
@@ -353,12 +375,12 @@ def _procedure(rep, m) -> None:
             rep.error(ev.sourceRange.start, "an 'edge' event (both edges)" + _OUTSIDE)
             return
     edges = [ev for ev in events if ev.edge != EDGE_NONE]
-    if edges and len(events) > 1:
-        second = events[1]
-        what = ("a second edge in one event list (an asynchronous set or reset)" if second.edge != EDGE_NONE
-                else "an event list that mixes an edge and a level")
-        rep.error(second.sourceRange.start, what + _OUTSIDE)
+    if edges and len(edges) != len(events):
+        level = next(ev for ev in events if ev.edge == EDGE_NONE)
+        rep.error(level.sourceRange.start, "an event list that mixes an edge and a level" + _OUTSIDE)
         return
+    # several edges (a clock and asynchronous sets or resets): read where all but one are tied
+    # off at the instance (netfit's own flip-flop models); verilog_procs checks that
     for ev in events:
         e = ev.expr
         if ev.edge != EDGE_NONE:

@@ -424,10 +424,13 @@ class ExprLowerer:
             return st.add(fit_width(a, w), fit_width(b, w), at, hint)
         if op == BO.Subtract:
             return st.subtract(fit_width(a, w), fit_width(b, w), at, hint)
-        if op in (BO.Equality, BO.Inequality):
+        if op in _EQUALITY:
+            # netfit's nets carry 0 or 1 only (x and z digits are refused where they are written), so
+            # '===' and '!==' mean '==' and '!=' here; netfit's relay models use them so that a
+            # simulator leaves an armature released while its coil is unknown
             n = max(len(a), len(b))
             eq = [st.node(2, T_XNOR2, [x, y], at, hint) for x, y in zip(fit_width(a, n), fit_width(b, n))]
-            return [st.tree(eq, T_AND2, at, hint, T_NAND2 if op == BO.Inequality else None)]
+            return [st.tree(eq, T_AND2, at, hint, None if op in _EQUAL else T_NAND2)]
         if op in _COMPARE:
             n = max(len(a), len(b))
             signed = lt.isSigned and rt.isSigned
@@ -452,8 +455,6 @@ class ExprLowerer:
                 return ([0] * n + a)[:w] if n < w else [0] * w
             fill = a[-1] if op == BO.ArithmeticShiftRight and lt.isSigned else 0
             return (a[n:] + [fill] * w)[:w] if n < w else [fill] * w
-        if op in (BO.CaseEquality, BO.CaseInequality):
-            self.fail(position(e), f"the case equality operator '{_OP_TEXT[op]}'" + _OUTSIDE)
         self.fail(position(e), f"operator '{_OP_TEXT.get(op, str(op))}' on nets" + _OUTSIDE)
 
     def _fold_binary(self, e, op, a, b, ls, rs):
@@ -640,6 +641,9 @@ def _div(a, b):
     q = abs(a) // abs(b)
     return q if (a >= 0) == (b >= 0) else -q
 
+
+_EQUAL = (BO.Equality, BO.CaseEquality)
+_EQUALITY = _EQUAL + (BO.Inequality, BO.CaseInequality)
 
 _FOLD = {
     BO.Add: lambda a, b: a + b, BO.Subtract: lambda a, b: a - b, BO.Multiply: lambda a, b: a * b,

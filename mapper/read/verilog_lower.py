@@ -19,6 +19,7 @@ from typing import Any
 from pyslang import ast
 
 from .verilog_bits import Fail
+from .verilog_check import initial_assignments
 from .verilog_expr import Ctx, Net, Scope, fit_width, target_name
 from .verilog_procs import ProcLowerer
 
@@ -29,6 +30,7 @@ EK = ast.ExpressionKind
 # enumeration members compared with ``is`` in the loops that visit every declaration
 _NET, _VARIABLE, _PORT, _INSTANCE = SK.Net, SK.Variable, SK.Port, SK.Instance
 _ASSIGN, _GATE = SK.ContinuousAssign, SK.PrimitiveInstance
+_PROCEDURE, _INITIAL = SK.ProceduralBlock, ast.ProceduralBlockKind.Initial
 _GENERATE_BLOCK, _GENERATE_ARRAY = SK.GenerateBlock, SK.GenerateBlockArray
 _ITEMS = (SK.ContinuousAssign, SK.PrimitiveInstance, SK.ProceduralBlock, SK.Instance)
 _NAMED_VALUE, _ELEMENT_SELECT, _CONVERSION, _ASSIGNMENT = (EK.NamedValue, EK.ElementSelect, EK.Conversion,
@@ -76,7 +78,7 @@ class _Lowerer(ProcLowerer):
             if type(item) is Scope:
                 # the mark is taken once the whole subtree is done (it sits under the children)
                 todo.append(("done", item, len(self.store.name), len(self.store.clock_slots),
-                             self.rep.errors, list(self.store.drv[item.r0[0]:item.r0[1]])))
+                             self.rep.errors + self.tie_folds, list(self.store.drv[item.r0[0]:item.r0[1]])))
                 self.body(item, todo, 0)
             elif item[0] == "resume":
                 self.body(item[1], todo, item[2])
@@ -88,7 +90,9 @@ class _Lowerer(ProcLowerer):
     def subtree_done(self, scope, r1_start, clocks_from, errors, connected):
         """The first instance of a module (with its parameters) is lowered with all
         below it: keep it as a template for the other instances."""
-        if scope.key is None or scope.key in self._templates or self.rep.errors != errors:
+        # not kept when its subtree had errors, or read a set or reset as tied off: that depends on
+        # how this very instance is connected (both counters only grow)
+        if scope.key is None or scope.key in self._templates or self.rep.errors + self.tie_folds != errors:
             return
         ports = []
         for name, is_in, bits in _port_nets(scope):
@@ -109,6 +113,7 @@ class _Lowerer(ProcLowerer):
         scope = Scope(prefix, body)
         r0 = len(self.store.name)
         port_inits: dict[ast.Symbol, ast.Expression] = {}  # ``output reg q = 1'b0``: the value sits on the port
+        initials: list = []  # ``initial q = INIT;`` blocks: starting values, like ``reg q = INIT``
         items = scope.items
         stack = [(body, prefix)]
         while stack:
@@ -117,6 +122,8 @@ class _Lowerer(ProcLowerer):
                 k = m.kind
                 if k is _NET:
                     self.declare(scope, m, pre, m.initializer or port_inits.get(m), True)
+                elif k is _PROCEDURE and m.procedureKind == _INITIAL:
+                    initials.append((m, pre))
                 elif k in _ITEMS:
                     items.append((m, pre))
                 elif k is _PORT:
@@ -134,6 +141,11 @@ class _Lowerer(ProcLowerer):
                     for e in m.entries:
                         if not e.isUninstantiated:
                             stack.append((e, f"{pre}{m.name}[{e.arrayIndex}]/"))
+        for m, pre in initials:
+            for e in initial_assignments(m.body) or ():
+                net = scope.nets.get(e.left.symbol)
+                if net is not None:
+                    items.append((("reg", net, e.right), pre))
         scope.r0 = (r0, len(self.store.name))
         scope.declared = list(self.store.drv[r0:])
         return scope
@@ -159,6 +171,8 @@ class _Lowerer(ProcLowerer):
             nt = self._net_types.get(m.netType)
             if nt is None:
                 nt = self._net_types[m.netType] = m.netType.name
+            if nt == "wor":
+                self.store.wired.update(bits)
             if nt == "supply0" or nt == "supply1":
                 st = self.store
                 for b in bits:

@@ -90,6 +90,8 @@ class ProcLowerer(ExprLowerer):
         self._key = -1
         self._loops: dict = {}
         self.iterations = 0
+        #: edge lists read with their sets and resets tied off (such a subtree is never copied)
+        self.tie_folds = 0
 
     def note_delay(self, at):
         if not self.delay_noted:
@@ -103,8 +105,42 @@ class ProcLowerer(ExprLowerer):
         t, stmt = body.timing, body.stmt
         if t.kind == TK.SignalEvent and t.edge != EDGE_NONE:
             self.clocked(scope, m, pre, t, stmt)
+        elif t.kind == TK.EventList and all(ev.edge != EDGE_NONE for ev in t.events):
+            self.clocked(scope, m, pre, self._clock_of(scope, pre, m, list(t.events)), stmt)
         else:
             self.level(scope, m, pre, t, stmt)
+
+    def _clock_of(self, scope, pre, m, events):
+        """The clock event of an edge list whose other edges (asynchronous sets and resets) are tied
+        off at this instance, as in netfit's own flip-flop models; a set or reset driven by a net, or
+        tied at its active level, cannot be read as a clocked storage element."""
+        clocks = []
+        for ev in events:
+            bits = [self._tied(b) for b in self.value(ev.expr, Ctx(scope, pre, m.location))]
+            if len(bits) != 1 or bits[0] >= 2:
+                clocks.append(ev)
+            elif bits[0] != (1 if ev.edge == ast.EdgeKind.NegEdge else 0):
+                self.fail(ev.sourceRange.start, "this asynchronous set or reset is tied at its active "
+                                                "level: the storage never follows its clock")
+        if len(clocks) != 1:
+            at = (clocks[1] if clocks else events[0]).sourceRange.start
+            self.fail(at, "a second edge in one event list (an asynchronous set or reset) driven by a "
+                          "net" + _OUTSIDE + " (netfit reads one only when it is tied off)")
+        self.tie_folds += 1
+        return clocks[0]
+
+    def _tied(self, b: int) -> int:
+        """The constant a slot is joined to through assignments and port connections (a supply
+        net), else the slot itself."""
+        drv = self.store.drv
+        for _ in range(10_000):  # a chain of joins, one per level of hierarchy or assignment
+            if b < 2:
+                return b
+            d = drv[b]
+            if d is None or d[0] != "a" or type(d[1]) is not int:
+                return b
+            b = d[1]
+        return b
 
     def clocked(self, scope, m, pre, t, stmt):
         clk = t.expr

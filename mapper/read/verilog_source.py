@@ -88,6 +88,22 @@ class Sources:
         self.early: list = []
         #: (folder joined with a name as written, canonical path, where the name is written)
         self.lookups: list = []
+        #: files compiled beside the design (the models file netfit writes next to a build)
+        self.companions: list = []
+
+    def add_companion(self, path: str) -> bool:
+        """Compile the file at ``path`` with the design (its modules become known); False if it
+        cannot be read as a regular file."""
+        canon = os.path.realpath(path)
+        if canon in self.files:
+            return False
+        text, _ = _read(canon)
+        if text is None:
+            return False
+        f = SourceFile(str(path), canon, text)
+        self.files[canon] = f
+        self.companions.append(f)
+        return True
 
 
 def _read(path: str):
@@ -216,7 +232,7 @@ def compile_design(src: Sources, top=None):
     def work():
         sm = pyslang.SourceManager()
         for path, f in src.files.items():
-            if f is not src.main:
+            if f is not src.main and f not in src.companions:
                 sm.assignText(path, f.text)
         for path in src.refused:
             sm.assignText(path, "")
@@ -229,6 +245,8 @@ def compile_design(src: Sources, top=None):
         tree = pyslang.syntax.SyntaxTree.fromText(src.main.text, sm, src.main.display, src.main.path, bag)
         comp = pyslang.ast.Compilation(bag)
         comp.addSyntaxTree(tree)
+        for f in src.companions:
+            comp.addSyntaxTree(pyslang.syntax.SyntaxTree.fromText(f.text, sm, f.display, f.path, bag))
         comp.getRoot()
         # collecting the diagnostics elaborates (and binds) everything, here on the big stack
         diags = list(comp.getAllDiagnostics())

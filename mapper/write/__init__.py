@@ -28,7 +28,7 @@ NETLIST_MODULES = (blif, json, verilog)
 WRITERS = {suffix: m for m in NETLIST_MODULES for suffix in m.SUFFIXES}
 #: the files of ``netfit build -o DIR``: a name starting with "." is a suffix on the design's name
 BUILD_WRITERS = (
-    (".v", verilog),         # also writes cells.v beside it
+    (".v", verilog),         # also writes <design>_models.v beside it
     (".blif", blif),
     (".json", json),
     ("parts.csv", parts),

@@ -221,7 +221,7 @@ def _locked(folder: Path):
 
 def _earlier_build_files(out: Path) -> set:
     """Names of the files of an earlier build in ``out`` (``<stem>.json`` of a build, and its
-    ``<stem>.v`` and ``<stem>.blif``), found from the head of the build's JSON file."""
+    ``<stem>.v``, ``<stem>_models.v`` and ``<stem>.blif``), found from the head of the build's JSON file."""
     names = set()
     for j in out.glob("*.json"):
         try:
@@ -230,7 +230,7 @@ def _earlier_build_files(out: Path) -> set:
         except OSError:
             continue
         if b'"format": "netfit-build"' in head:
-            names.update({j.name, j.stem + ".v", j.stem + ".blif"})
+            names.update({j.name, j.stem + ".v", j.stem + "_models.v", j.stem + ".blif"})
     return names
 
 

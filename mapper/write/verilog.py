@@ -1,11 +1,13 @@
 """Structural Verilog-2001 of a build, and behavioural models of its cells.
 
 :func:`write_build` writes ``<design>.v``: one module named after the design,
-with one instance per used slot, named ``<part ref>_<slot>`` (``U3_2`` is
-slot 2 of part U3; ``K2_1`` is pole 1 of relay K2), each preceded by a
+with one instance per used section, named ``<part ref>_<section>`` (``U3_2``
+is section 2 of chip U3; ``K2_1`` is pole 1 of relay K2), each preceded by a
 comment giving the part and the package pin of every cell pin.  Beside it
-:func:`write_cells` writes ``cells.v``, one behavioural module per cell the
-build uses, so that the pair simulates in any standard Verilog simulator.
+:func:`write_cells` writes ``<design>_models.v``, one behavioural module per
+cell the build uses, so that the pair simulates in any standard Verilog
+simulator and netfit's own reader reads the pair back (it takes the models
+file beside a design that instantiates modules it does not define).
 
 Names
 -----
@@ -88,11 +90,19 @@ from .files import atomic_write
 from .layout import render
 
 __all__ = ["KEYWORDS", "VerilogNames", "verilog_names", "build_text", "cells_text", "write_build",
-           "write_cells", "CELLS_FILE", "netlist_text", "write_netlist", "check_design"]
+           "write_cells", "models_file", "MODELS_SUFFIX", "netlist_text", "write_netlist", "check_design"]
 
 log = logging.getLogger(__name__)
 
-CELLS_FILE = "cells.v"
+#: the cell models of ``<design>.v`` are written beside it as ``<design>_models.v``
+MODELS_SUFFIX = "_models.v"
+
+
+def models_file(design_path) -> Path:
+    """The models file written beside the build's Verilog ``design_path`` (``out/c17.v`` ->
+    ``out/c17_models.v``)."""
+    p = Path(design_path)
+    return p.with_name(p.stem + MODELS_SUFFIX)
 
 #: reserved words of Verilog-2001 (IEEE 1364-2001 Annex B) and SystemVerilog (IEEE 1800-2017 Annex B):
 #: a net of that name is written as an escaped identifier so either language reads the file
@@ -444,7 +454,7 @@ def _instances(b: Build, nm: VerilogNames) -> list:
     return out
 
 
-def build_text(b: Build, analysis: Analysis, cells_file: str = CELLS_FILE) -> str:
+def build_text(b: Build, analysis: Analysis, cells_file: str = "") -> str:
     """The structural Verilog-2001 text of ``b`` (one module; cell models in ``cells_file``)."""
     nm = verilog_names(b)
     used_rails = sorted({n for c in b.cells for n in c.pins.values() if n in RAILS}
@@ -519,7 +529,7 @@ def _model(cd) -> dict:
 
 
 def cells_text(cells, fed=()) -> str:
-    """``cells.v``: a behavioural module for each :class:`~mapper.catalog.CellDef` in ``cells``, and a
+    """The models file: a behavioural module for each :class:`~mapper.catalog.CellDef` in ``cells``, and a
     ``<cell>_fed`` model (driven from the common terminal) for each relay cell named in ``fed``."""
     models = [_model(cd) for cd in cells]
     for cd in cells:
@@ -554,17 +564,18 @@ def used_cells(b: Build) -> list:
 
 
 def write_cells(b: Build, path, protect=()) -> None:
-    """Write the cell models of ``b`` (``cells.v``) to ``path`` (atomically)."""
+    """Write the cell models of ``b`` (``<design>_models.v``) to ``path`` (atomically)."""
     atomic_write(path, cells_text(used_cells(b), fed_cells(b)), protect=protect)
 
 
 def write_build(b: Build, analysis: Analysis, path, protect=(), **options) -> list:
-    """Write ``b`` as structural Verilog to ``path`` and its cell models to ``cells.v`` beside it."""
+    """Write ``b`` as structural Verilog to ``path`` and its cell models beside it
+    (:func:`models_file`)."""
     path = Path(path)
-    cells_path = path.with_name(CELLS_FILE)
+    cells_path = models_file(path)
     if cells_path == path:
-        raise InternalError("the build's Verilog cannot be written to cells.v itself")
-    atomic_write(path, build_text(b, analysis, CELLS_FILE), protect=protect)
+        raise InternalError("the build's Verilog cannot be written to its own models file")
+    atomic_write(path, build_text(b, analysis, cells_path.name), protect=protect)
     write_cells(b, cells_path, protect=protect)
     return [path, cells_path]
 

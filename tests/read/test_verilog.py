@@ -142,7 +142,8 @@ def test_bad_input_gives_no_traceback_in_a_real_process(tmp_path):
 
 
 def test_several_errors_are_collected():
-    # initial, integer and an asynchronous reset: all three reported in one run.
+    # an initial block that does more than set starting values, integer, and an event list
+    # mixing an edge and a level: all three reported in one run.
     with pytest.raises(VerilogError) as exc:
         read(INVALID / "several_errors.v")
     where = [(d.line, d.col) for d in exc.value.diagnostics]
@@ -249,6 +250,35 @@ def _latch_reference(seq, init=0, low=False):
         if en != low:
             q = d
     return out
+
+
+def test_flip_flop_with_preset_and_clear_tied_off_reads_as_a_plain_flip_flop():
+    # a D flip-flop section with active-low preset and clear held high follows D on the rising
+    # clock edge (function table of the dual D flip-flop chips, common practice); 'initial' gives
+    # its starting value, as netfit's own models write it
+    n = read_design(VALID / "dff_tied_clear.v")
+    (q,) = n.storage().values()
+    assert (q.kind, q.init) == ("re", 1)
+    rng = random.Random(3)
+    ds = [rng.getrandbits(1) for _ in range(30)]
+    outs = run_cycles(n, [{"clk": 0, "d": d} for d in ds], 1)
+    assert [o["q"] for o in outs] == [1] + ds[:-1]  # each cycle shows the value taken at the last edge
+
+
+def test_case_equality_on_two_valued_nets_is_equality():
+    # IEEE 1364-2005, 5.1.8: '===' differs from '==' only on x and z bits, which netfit's nets never carry
+    n, v, P = _sim("case_equality.v")
+    for k in range(P):
+        assert bit(v["y"], k) == int(bit(k, 0) == bit(k, 1))
+        assert bit(v["n"], k) == int(bit(k, 0) != 1)
+
+
+def test_wor_net_is_the_or_of_its_drivers():
+    # a 'wor' net is the OR of everything driving it (IEEE 1364-2005, 6.6.3); here two relay
+    # contacts in parallel: lamp = a AND b, OR c
+    n, v, P = _sim("wired_or.v")
+    for k in range(P):
+        assert bit(v["lamp"], k) == (bit(k, 0) & bit(k, 1)) | bit(k, 2)
 
 
 @pytest.mark.parametrize("name,kind", [("d_latch_star.v", "ah"), ("d_latch_paren_star.v", "ah"),

@@ -15,6 +15,7 @@ import pytest
 
 from mapper import flow
 from mapper.read import read_design
+from mapper.write.verilog import models_file
 
 PUBLISHED = Path(__file__).parent.parent / "data" / "published"
 
@@ -58,7 +59,7 @@ def test_built_verilog_keeps_every_port_name(tmp_path, name):
     out = tmp_path / "out"
     flow.write_build(r, out)
     v = out / f"{flow._file_stem(r.build.design)}.v"
-    assert _slang_port_names([v, out / "cells.v"]) == _design_ports(design)
+    assert _slang_port_names([v, models_file(v)]) == _design_ports(design)
     assert "(output) ->" not in v.read_text()   # nothing renamed
 
 
