@@ -18,7 +18,11 @@ README there):
 * rd84 -- not kept as a file here: written from its definition (the binary
   count of ones of 8 inputs, one cover row per minterm).
 
-Run: ``.venv/bin/python bench/bench_restructure.py [--quick] [--json]``
+* ``--scale``: the time figure -- the ariths-gen 41 x 41 array multiplier
+  (about 10k gates, the 10k design of ``bench/bench_scale.py``) on nand-only,
+  before and after, to compare what restructuring adds with the mapping.
+
+Run: ``.venv/bin/python bench/bench_restructure.py [--quick] [--scale] [--json]``
 (``--quick``: the two-level set on nand-only and gates-74 only).
 """
 from __future__ import annotations
@@ -32,6 +36,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
 DATA = ROOT / "tests" / "data" / "published"
+sys.path.insert(0, str(ROOT / "tests"))
 
 from mapper import flow  # noqa: E402
 from mapper.fit.fit import fit_gates  # noqa: E402
@@ -70,6 +75,7 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true")
     ap.add_argument("--json", action="store_true")
+    ap.add_argument("--scale", action="store_true")
     args = ap.parse_args(argv)
     targets = ["nand-only", "gates-74"] if args.quick else TARGETS
     rows = []
@@ -77,6 +83,10 @@ def main(argv=None) -> int:
         sets = [("two-level", DATA / f"{n}.blif") for n in TWO_LEVEL] + [("two-level", rd84(Path(tmp)))]
         if not args.quick:
             sets += [("multi-level", DATA / f"{n}.blif") for n in MULTI_LEVEL]
+        if args.scale:
+            import generated  # the tests' wrapper of the ariths-gen generator
+            sets = [("scale", generated.make("arr", 41, Path(tmp)))]
+            targets = ["nand-only"]
         for kind, path in sets:
             design = read_design(path, quiet=True)
             for tname in targets:
@@ -92,6 +102,8 @@ def main(argv=None) -> int:
     summary = {}
     for tname in targets:
         two = [r for r in rows if r["set"] == "two-level" and r["target"] == tname]
+        if not two:
+            continue
         mb = sum(r["parts_before"] for r in two) / len(two)
         ma = sum(r["parts_after"] for r in two) / len(two)
         summary[tname] = {"two_level_mean_before": round(mb, 2), "two_level_mean_after": round(ma, 2),
