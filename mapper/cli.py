@@ -67,25 +67,27 @@ def cmd_inspect(args):
     if args.json:
         _print_json(info)
         return 0
-    print(f"design   {info['design']}  ({info['file']})")
-    print(f"inputs   {len(info['inputs'])}: {_short(info['inputs'])}")
-    print(f"outputs  {len(info['outputs'])}: {_short(info['outputs'])}")
-    kinds = ", ".join(f"{k} {v}" for k, v in info["storage_kinds"].items())
-    print(f"storage  {info['storage']}" + (f" ({kinds})" if kinds else ""))
-    print(f"nodes    {info['nodes']}")
-    for k, v in info["kinds"].items():
-        print(f"  {k:<14}{v:>8}")
-    print(f"depth    {info['depth']} logic levels")
-    if info["max_fanout_net"] is not None:
-        print(f"fan-out  largest {info['max_fanout']} (net {info['max_fanout_net']})")
-    if info.get("notes"):
-        print(f"notes    {len(info['notes'])}")
-        for note in info["notes"]:
-            print(f"  {note}")
-    print(f"warnings {len(info['warnings'])}")
-    for w in info["warnings"]:
-        print(f"  {w}")
+    print(inspect_text(info), end="")
     return 0
+
+
+def inspect_text(info: dict) -> str:
+    """The ``netfit inspect`` table: what the design holds, in plain words."""
+    from .netlist import kind_in_words
+    from .write.layout import render
+    rows = [("inputs", len(info["inputs"]), _short(info["inputs"])),
+            ("outputs", len(info["outputs"]), _short(info["outputs"]))]
+    storage = {k: v for k, v in info["kinds"].items() if k.startswith("storage-")}
+    logic = {k: v for k, v in info["kinds"].items() if not k.startswith("storage-")}
+    rows += [(kind_in_words(k, v), v, "") for k, v in storage.items()]
+    rows.append(("logic functions", sum(logic.values()), ""))
+    rows += [("  " + kind_in_words(k, v), v, "") for k, v in logic.items()]
+    rows.append(("logic levels on the longest path", info["depth"], ""))
+    if info["max_fanout_net"] is not None:
+        rows.append(("most loads on one net", info["max_fanout"], f"net {info['max_fanout_net']}"))
+    rows.append(("warnings", len(info["warnings"]), ""))
+    return render("inspect.txt.j2", design=info["design"], file=info["file"], rows=rows,
+                  notes=info.get("notes") or [], warnings=info["warnings"])
 
 
 def _short(names, limit=10):
@@ -94,6 +96,15 @@ def _short(names, limit=10):
 
 
 # -- verify ---------------------------------------------------------------
+#: how a proof went, in plain words (the JSON keeps the method's short name)
+_HOW_PROVED = {
+    "structural": "proved: both reduce to the same gates",
+    "simulation": "proved: every input combination tried",
+    "sat-miter": "proved: a search for an input that tells them apart found none",
+    "sat-sweeping": "proved: a search for an input that tells them apart found none, "
+                    "after shared points were proved equal and merged",
+}
+
 def _verify_args(p):
     p.add_argument("a")
     p.add_argument("b")
@@ -110,7 +121,7 @@ def cmd_verify(args):
         _print_json(res)
     else:
         if res["equivalent"]:
-            print(f"equal: {args.a} and {args.b} do the same logic (proved by {res['method']})")
+            print(f"equal: {args.a} and {args.b} do the same logic ({_HOW_PROVED.get(res['method'], res['method'])})")
         else:
             print(f"different: {args.a} and {args.b} ({res['method']})")
             cex = res.get("counterexample") or {}
@@ -254,10 +265,9 @@ def cmd_build(args):
     print(f"parts   {s['parts_total']}  (" + ", ".join(f"{k} ×{v}" for k, v in s["parts"].items()) + ")")
     if s["cells"]:
         print("cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
-    if "poles_used" in s and not s["cells"]:
-        print(f"poles   {s['poles_used']} used of {s['poles_available']}  ({s['spare_slots']} spare)")
-    else:
-        print(f"slots   {s['slots_used']} used of {s['slots_available']}  ({s['spare_slots']} spare)")
+    from .analyze.results import units_of
+    word, used, available, spare = units_of(s)
+    print(f"{word:<8}{used} used of {available}  ({spare} spare)")
     if s["support_parts"]:
         print("support " + ", ".join(f"{k} ×{v}" for k, v in s["support_parts"].items()))
     print(f"delay   {si(s['delay_s'], 's')} slowest path (maximum figures)")
@@ -636,7 +646,10 @@ def _print_target(t) -> None:
     for p in t["parts"]:
         price = f"{p['price']['value']:.2f} {p['currency']}" if p["price"] else "-"
         print(f"  {p['id']:<14}{p['description']}")
-        print(f"  {'':<14}{p['package']}, {p['pin_count']} pins, {len(p['slots'])} slots; price {price}")
+        units = p.get("poles") or p.get("sections") or []
+        word = "pole" if "poles" in p else "section"
+        print(f"  {'':<14}{p['package']}, {p['pin_count']} pins, {len(units)} {word}{'' if len(units) == 1 else 's'}; "
+              f"price {price}")
         for cell, d in p["delay_max_s"].items():
             typ = p["delay_typ_s"][cell]
             print(f"  {'':<14}delay {cell}: {si(typ['value'], 's')} typical ({typ['conditions']}), "
@@ -647,9 +660,10 @@ def _print_target(t) -> None:
                   f"{r['coil_resistance_ohm']['value']:g} ohm, {si(r['coil_current_a']['value'], 'A')}; "
                   f"operate {si(r['operate_time_s']['value'], 's')}, release {si(r['release_time_s']['value'], 's')}, "
                   f"bounce {si(r['bounce_time_s']['value'], 's')}; contacts {r['contact_rating']}")
-        for s in p["slots"]:
+        word = "pole" if "poles" in p else "section"
+        for s in p.get("poles") or p.get("sections") or []:
             pins = " ".join(f"{k}={v}" for k, v in s["pins"].items())
-            print(f"  {'':<14}slot {s['index']}  {s['cell']:<11}{pins}")
+            print(f"  {'':<14}{word} {s['index']}  {s['cell']:<11}{pins}")
         fixed = [f"{n}={num}" for n, num in {**p["supply_pins"], **p["shared_pins"]}.items()]
         if fixed:
             print(f"  {'':<14}pins   {' '.join(fixed)}" + (f"  (not connected: {' '.join(map(str, p['nc_pins']))})"

@@ -34,6 +34,7 @@ Examples
 from __future__ import annotations
 
 import logging
+import re
 from collections import Counter
 from dataclasses import dataclass, field
 
@@ -388,3 +389,43 @@ def describe_function(func: Function) -> str:
         if t == 1:
             return f"nor{func.n}"
     return f"cover{func.n}"
+
+
+#: plain words for the node kinds of :meth:`Netlist.kind_counts` (singular, plural)
+_STORAGE_WORDS = {
+    "re": ("rising-edge flip-flop", "rising-edge flip-flops"),
+    "fe": ("falling-edge flip-flop", "falling-edge flip-flops"),
+    "ah": ("latch open while its enable is high", "latches open while their enable is high"),
+    "al": ("latch open while its enable is low", "latches open while their enable is low"),
+    "as": ("storage element following its data", "storage elements following their data"),
+}
+_GATE_WORDS = {"and": "AND", "nand": "NAND", "or": "OR", "nor": "NOR", "xor": "exclusive-OR",
+               "xnor": "exclusive-NOR"}
+
+
+def kind_in_words(kind: str, count: int = 2) -> str:
+    """Plain words for a node kind of :meth:`Netlist.kind_counts`, singular when ``count`` is 1.
+
+    >>> kind_in_words("storage-re")
+    'rising-edge flip-flops'
+    >>> kind_in_words("nand3", 1)
+    '3-input NAND gate'
+    >>> kind_in_words("cover5")
+    '5-input functions (sum of products)'
+    """
+    one = count == 1
+    if kind.startswith("storage-"):
+        words = _STORAGE_WORDS.get(kind[8:])
+        return (words[0] if one else words[1]) if words else kind
+    if kind == "const":
+        return "constant" if one else "constants"
+    if kind == "buf":
+        return "buffer" if one else "buffers"
+    if kind == "inv":
+        return "inverter" if one else "inverters"
+    m = re.fullmatch(r"([a-z]+?)(\d+)", kind)
+    if m and m.group(1) == "cover":
+        return f"{m.group(2)}-input function" + ("" if one else "s") + " (sum of products)"
+    if m and m.group(1) in _GATE_WORDS:
+        return f"{m.group(2)}-input {_GATE_WORDS[m.group(1)]} gate" + ("" if one else "s")
+    return kind

@@ -201,7 +201,7 @@ def _hop_list(eng: Engine, mask: int, src: int) -> list:
                 break
         hop = {"net_in": eng.circ.label(eng.names[prev]), "net": g.out, "delay_s": [sec(g.dmin), sec(g.dmax)]}
         if g.part is not None:
-            hop.update({"part": g.part, "cell": g.cell, "slot": g.slot})
+            hop.update({"part": g.part, "cell": g.cell, "section": g.slot})
             if pin:
                 hop.update({"from_pin": pin[0], "from_pin_number": pin[1]})
             if g.out_pin:

@@ -153,7 +153,7 @@ def relay_glitches(build: Build, max_inputs: int = RELAY_MAX_INPUTS) -> dict:
         if seq.control in n.nodes and not isinstance(n.nodes[seq.control], Storage) \
                 and seq.control not in build.inputs:
             watch.setdefault(seq.control, []).extend(
-                {"part": p.ref, "cell": "relay", "slot": None, "pin": "coil", "pin_number": None,
+                {"part": p.ref, "cell": "relay", "section": None, "pin": "coil", "pin_number": None,
                  "role": "clock" if seq.edge else "enable"}
                 for p in build.parts if build.coils.get(p.ref) == seq.control)
     for net in watch:

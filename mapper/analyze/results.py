@@ -258,9 +258,7 @@ class Analysis:
             "parts_total": len(build.parts),
             "parts": dict(sorted(build.part_counts().items())),
             "cells": dict(sorted(build.cell_counts().items())),
-            "slots_used": build.slots_used(),
-            "slots_available": build.slots_available(),
-            "spare_slots": build.spare_slots(),
+            **_units(build),
             "support_parts": dict(sorted(build.support_counts().items())),
             "delay_s": self.timing.delay_s,
             "cost": cost,
@@ -271,8 +269,6 @@ class Analysis:
             "supply_current_typ_a": self.supply.current_typ_a,
         }
         if build.is_relay:
-            s["poles_used"] = len(build.contacts)
-            s["poles_available"] = build.slots_available()
             s["coil_current_a"] = self.supply.coil_current_a
             s["coil_voltage_v"] = self.supply.coil_voltage_v
         s["ties"] = len(build.ties)
@@ -288,3 +284,18 @@ class Analysis:
         if self.hazard_free is not None:
             s["hazard_free"] = self.hazard_free
         return s
+
+
+def _units(build: Build) -> dict:
+    """Sections of chips used and paid for (``sections_used``, ``sections_available``,
+    ``spare_sections``), or on relay builds poles (``poles_used`` ...)."""
+    word = "poles" if build.is_relay else "sections"
+    return {f"{word}_used": build.slots_used(), f"{word}_available": build.slots_available(),
+            f"spare_{word}": build.spare_slots()}
+
+
+def units_of(summary: dict) -> tuple:
+    """``(word, used, available, spare)`` of a build summary: ``word`` is ``"sections"`` (chips)
+    or ``"poles"`` (relays); the numbers are None for a summary without them (a failed build)."""
+    word = "poles" if "poles_used" in summary else "sections"
+    return (word, summary.get(f"{word}_used"), summary.get(f"{word}_available"), summary.get(f"spare_{word}"))

@@ -169,7 +169,7 @@ class TimedCircuit:
             if grp.control and grp.control not in SUPPLY_NETS:
                 cells = members.get(key, [])
                 self.watch.setdefault(grp.control, []).append({
-                    "part": cells[0].part_ref if cells else None, "cell": grp.template, "slot": None,
+                    "part": cells[0].part_ref if cells else None, "cell": grp.template, "section": None,
                     "pin": "control", "pin_number": None,
                     "role": "clock" if grp.kind in ("re", "fe") else "enable"})
 
@@ -203,7 +203,7 @@ class TimedCircuit:
             net = c.pins.get(p)
             if role in WATCH_ROLES and net and net not in SUPPLY_NETS:
                 self.watch.setdefault(net, []).append({
-                    "part": c.part_ref, "cell": c.cell, "slot": c.slot, "pin": p,
+                    "part": c.part_ref, "cell": c.cell, "section": c.slot, "pin": p,
                     "pin_number": ix.pin_of(c, p), "role": role})
         return raw
 
@@ -226,7 +226,7 @@ class TimedCircuit:
                     groups.setdefault((node.control, node.kind), []).append((name, node.d))
                 if node.control is not None:
                     watch.setdefault(node.control, []).append({
-                        "part": None, "cell": f"storage {name}", "slot": None, "pin": "control",
+                        "part": None, "cell": f"storage {name}", "section": None, "pin": "control",
                         "pin_number": None, "role": "clock" if node.kind in ("re", "fe") else "enable"})
             elif isinstance(node, Logic):
                 if not node.fanins:

@@ -411,7 +411,7 @@ def _path(g: _Graph, prev: dict, end: str, arrivals: list, memo: dict | None = N
         cd = target.cells[c.cell]
         t, m = g.delay[id(c)]
         hop = {
-            "cell": c.cell, "part": c.part_ref, "part_id": ix.part_id(c.part_ref), "slot": c.slot,
+            "cell": c.cell, "part": c.part_ref, "part_id": ix.part_id(c.part_ref), "section": c.slot,
             "from_pin": pin, "from_pin_number": ix.pin_of(c, pin),
             "to_pin": cd.output, "to_pin_number": ix.pin_of(c, cd.output),
             "net_in": n_in, "net": n, "delay_s": m, "delay_typ_s": t,

@@ -16,7 +16,9 @@ def _part(p: PartDef) -> dict:
     return {
         "id": p.id, "description": p.description, "kind": p.kind, "family": p.family,
         "package": p.package, "pin_count": p.pin_count,
-        "slots": [{"index": s.index, "cell": s.cell, "pins": dict(s.pins)} for s in p.slots],
+        # a chip's gate units are its sections, a relay's its poles
+        ("poles" if p.kind == "relay" else "sections"): [{"index": s.index, "cell": s.cell, "pins": dict(s.pins)}
+                                                         for s in p.slots],
         "supply_pins": dict(p.supply_pins), "shared_pins": dict(p.shared_pins),
         "nc_pins": list(p.nc_pins), "pin_names": {str(k): v for k, v in p.pin_names().items()},
         "delay_typ_s": {k: _fig(v) for k, v in p.delay_typ.items()},

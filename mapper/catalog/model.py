@@ -177,9 +177,11 @@ class PartDef:
     def pin_names(self) -> dict:
         """Package pin number -> printable name.
 
-        Supply and shared pins keep their names (``VCC``, ``COIL+``); slot
-        pins are the cell pin followed by the slot index (``A1``, ``Y3``,
-        ``NO1``), so a wiring list can say ``K2-NO1``.
+        Supply and shared pins keep their names (``VCC``, ``COIL+``).  A chip's
+        section pins are named as generic datasheets name them, the section number
+        before the pin (``1A``, ``3Y``; a chip of one section: the pin alone); a
+        relay's contact terminals carry the pole number after (``NO1``, ``COM2``), so
+        a wiring list can say ``K2-NO1``.
         """
         names: dict = {}
         for n, num in self.supply_pins.items():
@@ -188,7 +190,10 @@ class PartDef:
             names[num] = n
         for s in self.slots:
             for pin, num in s.pins.items():
-                names.setdefault(num, f"{pin}{s.index}")
+                if self.kind == "relay":
+                    names.setdefault(num, f"{pin}{s.index}")
+                else:
+                    names.setdefault(num, f"{s.index}{pin}" if len(self.slots) > 1 else pin)
         for num in self.nc_pins:
             names[num] = "NC"
         return dict(sorted(names.items()))

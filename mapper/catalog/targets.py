@@ -182,7 +182,8 @@ def _uses(root, kind: str, all_parts: dict, all_cells: dict, c: Collector) -> tu
                 c.err(car, f"part {pid} is named twice as a carrier of {cname}")
                 continue
             if not part.slots_for(cname):
-                c.err(car, f"part {pid} has no slot performing {cname} (its cells: {', '.join(part.cells())})")
+                c.err(car, f"part {pid} has no section or pole performing {cname} "
+                           f"(its cells: {', '.join(part.cells())})")
                 continue
             if part.kind != want_kind:
                 c.err(car, f"part {pid} is a {part.kind}; a {kind} target builds on {want_kind}s")

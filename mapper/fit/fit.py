@@ -220,7 +220,8 @@ class _PartSearch:
                 if not self.spend():
                     break
                 m = map_logic(subj_design, sub_lib, subject=subj, cuts_per_node=limit, area_passes=passes)
-                self.consider(_undual(m) if label else m, f"{label}{limit} cuts, {passes} passes")
+                self.consider(_undual(m) if label else m,
+                              f"{label}{limit} gate choices per net, {passes} cost round(s)")
 
     def package_costs(self) -> None:
         """Map again with each cell's cost following how full its packages were in the
@@ -338,7 +339,9 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
             best.notes.append("don't-cares used: outputs " + ", ".join(used) + " differ from the design only "
                               "where its don't-care network (.exdc) is 1; the proof compares them elsewhere")
     log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
-    best.notes.append("part search: " + "; ".join(f"{label} {n}" for label, n in search.tried))
+    fewest = min(n for _, n in search.tried) if search.tried else len(best.parts)
+    best.notes.append(f"part search: {len(search.tried)} variants tried, best {fewest} parts ("
+                      + "; ".join(f"{label}: {n}" for label, n in search.tried) + ")")
     return best
 
 

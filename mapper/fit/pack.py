@@ -236,7 +236,7 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
                 # a pin shared with a used slot (a common enable) is wired already
                 if pin in ins and (p.ref, num) not in wired:
                     wired.add((p.ref, num))
-                    build.ties.append(Tie(p.ref, num, "GND", f"input of unused slot {s.index}"))
+                    build.ties.append(Tie(p.ref, num, "GND", f"input of unused section {s.index}"))
     build.output_nets = dict(mapping.outputs)
     add_support(build)
     return build

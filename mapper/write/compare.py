@@ -3,7 +3,7 @@
 The data comes from :func:`mapper.flow.compare`: one build summary per
 target, or an error for a target the design cannot be built on.  The table
 has one column per target and one row per figure (parts, support parts,
-spare slots, cost, worst delay, supply current, safe clock rate, glitches
+sections (chips) or poles (relays) in use and spare, cost, worst delay, supply current, safe clock rate, glitches
 found and how many reach storage, proof); a target that
 failed shows its error, wrapped, in its own column.
 """
@@ -11,18 +11,24 @@ from __future__ import annotations
 
 import textwrap
 
+from ..analyze.results import units_of
 from ..units import si
 from .layout import money, render
 from .svg import bar_chart
 
 __all__ = ["ROWS", "compare_rows", "compare_table", "compare_svg"]
 
+def _count(n: int, plural: str) -> str:
+    """``1 section``, ``2 sections``."""
+    return f"{n} {plural[:-1] if n == 1 else plural}"
+
+
 #: (label, function of a summary -> text)
 ROWS = (
     ("parts", lambda s: str(s["parts_total"])),
     ("support parts", lambda s: str(sum(s["support_parts"].values()))),
-    ("slots used", lambda s: f"{s['slots_used']}/{s['slots_available']}"),
-    ("spare slots", lambda s: str(s["spare_slots"])),
+    ("in use", lambda s: "{1}/{2} {0}".format(*units_of(s))),
+    ("spare", lambda s: _count(units_of(s)[3], units_of(s)[0])),
     ("cost", lambda s: f"{money(s['cost'])} {s['currency']}".strip()),
     ("worst delay", lambda s: si(s.get("delay_s"), "s")),
     ("supply current", lambda s: si(s.get("supply_current_a"), "A")),
@@ -91,7 +97,9 @@ def compare_svg(data: dict) -> str:
         ("support parts", "", [(n, v, str(v) if v is not None else t) for n, v, t in
                                [(t["target"], (sum(t["support_parts"].values()) if "error" not in t else None),
                                  "could not be built") for t in data["targets"]]]),
-        ("spare slots", "", bars("spare_slots", lambda v: str(v))),
+        ("spare sections or poles", "", [(t["target"], units_of(t)[3], str(units_of(t)[3]))
+                                         if "error" not in t else (t["target"], None, "could not be built")
+                                         for t in data["targets"]]),
         ("cost", cur, bars("cost", lambda v: f"{money(v)} {cur}".strip())),
         ("worst delay", "", bars("delay_s", lambda v: si(v, "s"))),
         ("supply current", "", bars("supply_current_a", lambda v: si(v, "A"))),

@@ -15,7 +15,7 @@ from lxml import etree
 from markupsafe import Markup
 
 from .. import __version__
-from ..analyze.results import Analysis
+from ..analyze.results import Analysis, units_of
 from ..build import Build
 from ..place import Plan, plan_for
 from .board import board_svg
@@ -43,8 +43,8 @@ def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: 
     path = []
     for step in timing.get("critical_path") or []:
         where = step.get("part", "")
-        if "slot" in step:
-            where += f", section {step['slot']}"
+        if step.get("section") is not None:
+            where += f", section {step['section']}"
         elif "pole" in step:
             where += f", pole {step['pole']}"
         pins = ""
@@ -79,7 +79,8 @@ def report_text(b: Build, analysis: Analysis, plan: Plan | None = None, shapes: 
                          "when": " ".join(f"{k}={v}" for k, v in (when[0] if when else {}).items())
                          or "in any state", "width": widths, "reaches": reaches})
     sheets = [Markup(etree.tostring(e, encoding="unicode")) for e in page_elements(b, analysis, shapes)]
-    return render("report.html.j2", b=b, s=s, version=__version__, order=order_rows(b, copies, sockets, spares),
+    return render("report.html.j2", b=b, s=s, units=units_of(s), version=__version__,
+                  order=order_rows(b, copies, sockets, spares),
                   w=wiring(b, analysis), sheets=sheets, board=board_data(b, plan),
                   board_svg=Markup(board_svg(b, analysis, plan, declaration=False)), outputs=outputs, path=path,
                   figures=figures, glitches=glitches, glitches_total=timing.get("hazards_total", len(glitches)),

@@ -37,10 +37,10 @@ Builds
       "design": "c17", "target": "nand-only",
       "inputs": [...], "outputs": [...], "output_nets": {"N22": "N22", ...},
       "parts": [{"ref": "U1", "part": "74HC00", "description": ..., "package": "DIP-14",
-                 "kind": "chip", "slots": [{"slot": 1, "cell": "nand2", "instance": "U1_1",
+                 "kind": "chip", "sections": [{"section": 1, "cell": "nand2", "instance": "U1_1",
                  "pins": {"A": {"pin": 1, "net": "N1"}, ...}}, ...],
                  "pins": [{"pin": 1, "name": "A1", "net": "N1", "use": "input"}, ...]}, ...],
-      "cells": [{"instance": "U1_1", "cell": "nand2", "part": "U1", "slot": 1,
+      "cells": [{"instance": "U1_1", "cell": "nand2", "part": "U1", "section": 1,
                  "pins": {"A": {"pin": 1, "net": "N1"}, ...}, "origin": "N10", "init": 3}, ...],
       "contacts": [{"part": "K1", "pole": 1, "coil": "N2", "com": "x1", "no": "VCC", "nc": "N1"}, ...],
       "coils": {"K1": "N2", ...},
@@ -183,18 +183,20 @@ def build_dict(build: Build, analysis: Analysis) -> dict:
         else:
             pd = build.part_def(part["ref"])
             slots = []
+            # a chip's gate units are its sections, a relay's its poles
+            word = "pole" if part["kind"] == "relay" else "section"
             for s in pd.slots:
                 c = by_slot.get((part["ref"], s.index))
                 if c is not None:
-                    slots.append({"slot": s.index, "cell": c.cell, "instance": inst[("cell", c.part_ref, c.slot)],
+                    slots.append({word: s.index, "cell": c.cell, "instance": inst[("cell", c.part_ref, c.slot)],
                                   "pins": {p: {"pin": pin_of(c, p), "net": c.pins.get(p)}
                                            for p in cells[c.cell].pins}})
                 else:
                     used = any(k.part_ref == part["ref"] and k.pole == s.index for k in build.contacts)
-                    slots.append({"slot": s.index, "cell": s.cell,
+                    slots.append({word: s.index, "cell": s.cell,
                                   "instance": inst.get(("pole", part["ref"], s.index)) if used else None,
                                   "pins": {p: {"pin": num} for p, num in s.pins.items()}})
-            entry["slots"] = slots
+            entry[word + "s"] = slots
         entry["pins"] = [{"pin": pu.number, "name": pu.name, "label": pu.label, "net": pu.net, "use": pu.use,
                           "note": pu.note} for pu in part["pins"]]
         parts.append(entry)
@@ -209,7 +211,7 @@ def build_dict(build: Build, analysis: Analysis) -> dict:
         "output_nets": {o: build.output_nets.get(o, o) for o in build.outputs},
         "parts": parts,
         "cells": [{"instance": inst[("cell", c.part_ref, c.slot)], "cell": c.cell, "part": c.part_ref,
-                   "slot": c.slot, "pins": {p: {"pin": pin_of(c, p), "net": c.pins.get(p)}
+                   "section": c.slot, "pins": {p: {"pin": pin_of(c, p), "net": c.pins.get(p)}
                                             for p in cells[c.cell].pins},
                    "origin": c.origin, "init": c.init, "group": c.group}
                   for c in build.cells],

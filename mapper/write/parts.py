@@ -3,7 +3,8 @@
 One row per part number, sorted by kind (chips, relays, support parts,
 sockets) and then by part number, each with its description, kind,
 package, quantity to order, how many of those are spares, sections used
-and available (poles for relays), unit price, extended price, currency,
+and available (``sections_used``, ``sections_available``: the poles of a
+relay are its sections here), unit price, extended price, currency,
 the source of the price, and the references it is placed as.  Then the
 totals: logic parts (chips and relays), support parts, sockets when asked
 for, and last a row ``total`` over everything; its extended price is the
@@ -43,7 +44,7 @@ __all__ = ["COLUMNS", "order_rows", "parts_csv", "parts_json", "parts_table", "w
 
 log = logging.getLogger(__name__)
 
-COLUMNS = ("part", "description", "kind", "package", "quantity", "spares", "slots_used", "slots_available",
+COLUMNS = ("part", "description", "kind", "package", "quantity", "spares", "sections_used", "sections_available",
            "unit_price", "extended_price", "currency", "price_source", "refs")
 #: the order rows are listed in
 KIND_ORDER = ("chip", "relay", "support", "socket")
@@ -125,13 +126,13 @@ def _total(label: str, rows: list, currencies: list) -> dict:
     priced = [r["extended_price"] for r in rows if r["extended_price"] is not None]
     missing = len(rows) - len(priced)
     words = (["all parts"] if label == "total" else []) + ([f"{missing} row(s) without a price"] if missing else [])
-    sections = [r for r in rows if r["slots_available"] is not None]
+    sections = [r for r in rows if r["sections_available"] is not None]
     return {
         "part": label, "description": ", ".join(words),
         "kind": "", "package": "", "quantity": sum(r["quantity"] for r in rows),
         "spares": sum(r["spares"] for r in rows),
-        "slots_used": sum(r["slots_used"] for r in sections) if sections else None,
-        "slots_available": sum(r["slots_available"] for r in sections) if sections else None,
+        "sections_used": sum(r["sections_used"] for r in sections) if sections else None,
+        "sections_available": sum(r["sections_available"] for r in sections) if sections else None,
         "unit_price": None, "extended_price": sum(priced, Decimal(0)) if priced or not rows else None,
         "currency": "/".join(currencies), "price_source": "", "refs": "",
     }
@@ -145,8 +146,8 @@ def _row(pd, refs, copies, used, available, spares) -> dict:
     return {
         "part": pd.id, "description": pd.description, "kind": pd.kind, "package": pd.package, "quantity": qty,
         "spares": extra,
-        "slots_used": None if used is None else used * copies,
-        "slots_available": None if available is None else available * copies,
+        "sections_used": None if used is None else used * copies,
+        "sections_available": None if available is None else available * copies,
         "unit_price": unit, "extended_price": None if unit is None else unit * qty,
         "currency": pd.currency if unit is not None else "",
         "price_source": pd.price.source if pd.price is not None else "no price in the catalog",
@@ -169,7 +170,7 @@ def _socket_rows(b: Build, groups: dict, copies: int) -> list:
         out.append({
             "part": f"SOCKET-{package}", "description": f"{package} socket, one per chip of that package",
             "kind": "socket", "package": package, "quantity": qty, "spares": 0,
-            "slots_used": None, "slots_available": None, "unit_price": unit,
+            "sections_used": None, "sections_available": None, "unit_price": unit,
             "extended_price": None if unit is None else unit * qty,
             "currency": sock.currency if unit is not None and sock is not None else "",
             "price_source": sock.price.source if sock is not None and sock.price is not None
@@ -218,12 +219,13 @@ def parts_json(b: Build, copies: int = 1, sockets: bool = False, spares=None) ->
 def parts_table(b: Build, copies: int = 1, sockets: bool = False, spares=None) -> str:
     """The ordering list as an aligned text table (for the terminal)."""
     data = order_rows(b, copies, sockets, spares)
-    head = ("part", "package", "qty", "spares", "sections", "unit", "extended", "description")
-    lines = []
     rows = _all_rows(data)
+    word = "poles" if any(r["kind"] == "relay" for r in rows) else "sections"
+    head = ("part", "package", "qty", "spares", word, "unit", "extended", "description")
+    lines = []
     for r in rows:
-        slots = "" if r["slots_available"] in (None, 0) else f"{r['slots_used']}/{r['slots_available']}"
-        lines.append((r["part"], r["package"], str(r["quantity"]), str(r["spares"] or ""), slots,
+        used = "" if r["sections_available"] in (None, 0) else f"{r['sections_used']}/{r['sections_available']}"
+        lines.append((r["part"], r["package"], str(r["quantity"]), str(r["spares"] or ""), used,
                       money(r["unit_price"]),
                       (money(r["extended_price"]) + " " + r["currency"]).strip(), r["description"]))
     widths = [max(len(x[i]) for x in lines + [head]) for i in range(len(head) - 1)]

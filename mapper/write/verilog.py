@@ -399,9 +399,10 @@ def _instances(b: Build, nm: VerilogNames) -> list:
         pd = b.part_def(p.ref)
         items = sorted(by_part.get(p.ref, []), key=lambda it: it[1].slot if it[0] == "cell" else it[1].pole)
         header = f"{p.ref}: {pd.id}, {pd.description} ({pd.package})"
+        names = pd.pin_names()  # datasheet pin names: 1A, 1B, 1Y ...
         if not items:
             coil = b.coils.get(p.ref)
-            note = f"coil on {coil}, no pole used" if coil else "no slot used"
+            note = f"coil on {coil}, no pole used" if coil else "no section used"
             out.append({"header": header + f" -- {note}", "lines": []})
             continue
         lines: list[dict] = []
@@ -417,9 +418,10 @@ def _instances(b: Build, nm: VerilogNames) -> list:
                 open_ = [pin for pin, c_, _ in placed if not c_]
                 lines.append({"module": cell_module(it.cell), "params": params,
                               "name": nm.instances[("cell", it.part_ref, it.slot)],
-                              "what": f"slot {it.slot}, {it.cell}" + (f" ({', '.join(open_)} open)" if open_ else ""),
+                              "what": f"section {it.slot}, {it.cell}"
+                              + (f" ({', '.join(open_)} open)" if open_ else ""),
                               "pins": [(pin, conn_) for pin, conn_, _ in placed],
-                              "numbers": " ".join(f"{pin}={num}" for pin, _, num in placed)})
+                              "numbers": " ".join(f"{names.get(num, pin)}={num}" for pin, _, num in placed)})
             else:
                 slot = next((s for s in pd.slots if s.index == it.pole), None)
                 if slot is None:

@@ -441,7 +441,7 @@ def test_targets_list(netfit):
 def test_targets_show(netfit):
     code, out, _ = netfit("targets", "gates-74")
     assert code == 0
-    for word in ("nand2", "74HC157", "slot 4", "parts, then delay, then wires", "C-100N x1 per chip",
+    for word in ("nand2", "74HC157", "section 4", "parts, then delay, then wires", "C-100N x1 per chip",
                  "generic 74HC datasheets", "from memory", "example price"):
         assert word in out, word
     code, info, _ = netfit("targets", "relay-dpdt", "--json", as_json=True)

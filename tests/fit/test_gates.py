@@ -302,7 +302,7 @@ def test_one_decoupling_capacitor_per_chip(gates74):
 def test_build_cli_json(netfit):
     code, out, err = netfit("build", DATA / "c17.blif", "--target", "nand-only", "--json", as_json=True)
     assert code == 0, err
-    for key in ("design", "target", "parts_total", "parts", "cells", "spare_slots", "support_parts",
+    for key in ("design", "target", "parts_total", "parts", "cells", "spare_sections", "support_parts",
                 "delay_s", "cost", "currency", "verified"):
         assert key in out
     assert out["parts_total"] == 2 and out["verified"] == "proved"

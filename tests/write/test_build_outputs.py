@@ -464,8 +464,8 @@ def _hand_c17():
     for k, (y, a, bb) in enumerate(C17_GATES):
         ref, slot = ("U1", k + 1) if k < 4 else ("U2", k - 3)
         b.cells.append(CellInstance(f"{ref}_{slot}", "nand2", ref, slot, {"A": a, "B": bb, "Y": y}, origin=y))
-    b.ties = [Tie("U2", 9, "GND", "input of unused slot 3"), Tie("U2", 10, "GND", "input of unused slot 3"),
-              Tie("U2", 12, "GND", "input of unused slot 4"), Tie("U2", 13, "GND", "input of unused slot 4")]
+    b.ties = [Tie("U2", 9, "GND", "input of unused section 3"), Tie("U2", 10, "GND", "input of unused section 3"),
+              Tie("U2", 12, "GND", "input of unused section 4"), Tie("U2", 13, "GND", "input of unused section 4")]
     b.support = [SupportInstance("C1", "C-100N", ("VCC", "GND"), "decoupling for U1, close to its supply pins"),
                  SupportInstance("C2", "C-100N", ("VCC", "GND"), "decoupling for U2, close to its supply pins")]
     b.output_nets = {"N22": "N22", "N23": "N23"}
@@ -570,8 +570,8 @@ def test_parts_csv_totals_equal_the_json_summary(tmp_path, target, copies):
     assert support == {k: v * copies for k, v in summary["support_parts"].items()}
     assert int(total["quantity"]) == (summary["parts_total"] + sum(summary["support_parts"].values())) * copies
     assert int(sub["total logic parts"]["quantity"]) == summary["parts_total"] * copies
-    assert int(total["slots_used"]) == summary["slots_used"] * copies
-    assert int(total["slots_available"]) == summary["slots_available"] * copies
+    assert int(total["sections_used"]) == summary["sections_used"] * copies
+    assert int(total["sections_available"]) == summary["sections_available"] * copies
 
 
 # -- the whole -o folder -------------------------------------------------------------------------
@@ -588,7 +588,7 @@ def test_build_command_writes_every_file(tmp_path, netfit):
     assert check_equivalence(read_design(DATA / "c17.blif"), back).equivalent
     data = json.loads((tmp_path / "c17.json").read_text())
     assert data["format"] == "netfit-build" and data["summary"]["verified"] == "proved"
-    assert {c["instance"] for c in data["cells"]} == {f"{c['part']}_{c['slot']}" for c in data["cells"]}
+    assert {c["instance"] for c in data["cells"]} == {f"{c['part']}_{c['section']}" for c in data["cells"]}
     rows = list(csv.DictReader(io.StringIO((tmp_path / "parts.csv").read_text())))
     assert int(rows[-1]["quantity"]) == 2 * (data["summary"]["parts_total"]
                                              + sum(data["summary"]["support_parts"].values()))
