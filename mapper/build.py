@@ -100,11 +100,17 @@ class SupportInstance:
 
 @dataclass
 class GateStorage:
-    """A latch or flip-flop built from gates: data, control and output nets."""
+    """A latch or flip-flop built from gates: data, control and output nets.
+
+    Kind ``as`` is a feedback loop of the design kept as gates: no cell of
+    the build is tagged with it; the cell driving ``q`` computes the
+    excitation, which the logic view names ``d`` (the loop cut again at
+    ``q``, where the design was cut).
+    """
 
     kind: str
     d: str
-    control: str
+    control: str | None
     q: str
     init: int = 3
     template: str = ""
@@ -260,6 +266,8 @@ class Build:
         # tests/fit/test_storage.py with a settling simulation.
         for g in self.storage_groups.values():
             n.add_storage(g.q, g.d, g.kind, g.control, g.init)
+        # feedback loops kept as gates: the cell driving the cut net is read as driving its excitation
+        cut = {g.q: g.d for g in self.storage_groups.values() if g.kind == "as"}
         for c in self.cells:
             if c.group is not None:
                 continue
@@ -274,7 +282,8 @@ class Build:
                         n.add_logic(c.pins[extra], [q], Function.from_table(1, 0b01))
                 continue
             fanins = [c.pins[p] for p in cd.inputs]
-            n.add_logic(c.pins[cd.output], fanins, cd.logic_function())
+            out = c.pins[cd.output]
+            n.add_logic(cut.get(out, out), fanins, cd.logic_function())
         if self.is_relay:
             contact_logic(self, n)
         for o in self.outputs:
@@ -293,10 +302,12 @@ class Build:
     def hints(self) -> dict:
         """design net -> build net believed equal (for the prover)."""
         h = {}
+        cut = {g.q: g.d for g in self.storage_groups.values() if g.kind == "as"}
         for c in self.cells:
             if c.origin is not None:
                 cd = self.target.cells[c.cell]
-                h[c.origin] = c.pins[cd.output]
+                out = c.pins[cd.output]
+                h[c.origin] = cut.get(out, out)
         return h
 
     def cost(self) -> tuple[float, str]:

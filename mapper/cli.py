@@ -68,6 +68,7 @@ def cmd_inspect(args):
         _print_json(info)
         return 0
     print(inspect_text(info), end="")
+    _print_feedback(info.get("feedback") or [])
     return 0
 
 
@@ -90,6 +91,18 @@ def inspect_text(info: dict) -> str:
                   notes=info.get("notes") or [], warnings=info["warnings"])
 
 
+def _print_feedback(loops: list) -> None:
+    """Each feedback loop read as storage: its cut, what it is, and its flow table (stable states in ())."""
+    from .logic.flowtable import flow_table_lines
+    if loops:
+        print(f"\nfeedback loops read as storage: {len(loops)}")
+    for r in loops:
+        print(f"  cut at {', '.join(r['cut'])} ({r['kind']}): {r['form']}")
+        if r["flow_table"] is not None:
+            for line in flow_table_lines(r["flow_table"]):
+                print(f"    {line}")
+
+
 def _short(names, limit=10):
     s = " ".join(names[:limit])
     return s + (f" … (+{len(names) - limit})" if len(names) > limit else "")
@@ -100,10 +113,11 @@ def _short(names, limit=10):
 _HOW_PROVED = {
     "structural": "proved: both reduce to the same gates",
     "simulation": "proved: every input combination tried",
-    "sat-miter": "proved: a search for an input that tells them apart found none",
+    "sat": "proved: a search for an input that tells them apart found none",
     "sat-sweeping": "proved: a search for an input that tells them apart found none, "
                     "after shared points were proved equal and merged",
 }
+
 
 def _verify_args(p):
     p.add_argument("a")
@@ -510,6 +524,7 @@ def cmd_timing(args):
           f"{r['levels']} {'coil level' if r['relay'] else 'gate'}(s) deep")
     _print_paths(r)
     _print_clock(r)
+    _print_loops(r.get("feedback_loops") or [])
     sup = r["supply"]
     print(f"\nsupply  {si(sup['supply_current_a'], 'A')} worst case ({sup.get('supply_basis', '')})"
           + (f"; {si(sup['supply_current_static_a'], 'A')} with nothing switching"
@@ -534,6 +549,16 @@ def cmd_timing(args):
         print(f"netfit: error: {r['timing_violations']} timing check(s) fail: hold margins, clock pulses or the "
               "clock asked for (see above)", file=sys.stderr)
     return code
+
+
+def _print_loops(loops: list) -> None:
+    """Feedback loops kept as gates: once round each loop, and how long each input reaching it must last."""
+    for lp in loops:
+        print(f"\nfeedback loop at {', '.join(lp['cut'])} (parts {', '.join(lp['parts'])}): once round "
+              f"{si(lp['loop_delay_s'], 's')} (maximum figures), {si(lp['loop_delay_typ_s'], 's')} typical")
+        if lp["pulse_min_s"]:
+            print("  shortest pulse that the loop keeps: " + ", ".join(
+                f"{i} {si(t, 's')}" for i, t in lp["pulse_min_s"].items()))
 
 
 # -- parts ----------------------------------------------------------------

@@ -21,6 +21,7 @@ from .build import Build
 from .catalog import Target, builtin_targets, describe_target
 from .catalog import load_target as _load_target
 from .errors import InputError, InternalError, NetfitError, UsageError
+from .logic.feedback import has_feedback
 from .logic.hazard import COLLAPSE_INPUTS, add_consensus, design_hazards
 from .netlist import Netlist
 from .place import board_from_spec
@@ -39,7 +40,7 @@ log = logging.getLogger(__name__)
 
 
 def inspect(path, **read_options) -> dict:
-    """Facts about one design: ports, storage, node counts, depth, fan-out, warnings."""
+    """Facts about one design: ports, storage, node counts, depth, fan-out, warnings, feedback loops."""
     n = read_design(path, quiet=True, **read_options)
     fanouts = n.fanouts()
     for o in n.outputs:
@@ -62,7 +63,16 @@ def inspect(path, **read_options) -> dict:
         "max_fanout_net": widest[0],
         "warnings": [str(w) for w in n.warnings],
         "notes": [str(d) for d in n.notes],
+        "feedback": _feedback(n),
     }
+
+
+def _feedback(n: Netlist) -> list:
+    """The design's feedback loops read as storage: what each is, and its flow table (Huffman)."""
+    if not has_feedback(n):
+        return []
+    from .logic.flowtable import analyse
+    return [r.as_dict() for r in analyse(n).regions if r.region.loop]
 
 
 def _count(items) -> dict:
@@ -158,8 +168,12 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     false keeps the first build, for tests and comparisons).  On relay targets a
     design whose latches can run data through one another, or whose decoded
     clock can glitch, is refused (:class:`UsageError`, exit 2): relays move
-    in any order, so no relay build of it is safe.
+    in any order, so no relay build of it is safe.  A design with feedback
+    loops read as storage is built by :func:`_fit_feedback`, whose controls
+    are not yet rebuilt hazard-free that way (its glitches are reported).
     """
+    if has_feedback(design):
+        return _fit_feedback(design, target, effort, keep, trees, clock_hz, together)
     if target.is_relay:
         _refuse_latch_races(design, target)
     r = _fit_once(design, target, effort, keep, trees, clock_hz, together)
@@ -168,8 +182,112 @@ def fit(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool =
     return r
 
 
-def _fit_once(design, target, effort, keep, trees, clock_hz, together) -> Result:
-    """One map, proof and analysis (with repeater relays where relay chains are too long)."""
+def _fit_feedback(design, target, effort, keep, trees, clock_hz, together) -> Result:
+    """A design with loops read as storage (:mod:`mapper.logic.feedback`), proved against the design itself.
+
+    Gate targets keep the loops as gates; a target with latch parts also
+    gets a build with each loop that is a latch made a latch part
+    (:func:`mapper.logic.flowtable.latch_form`), and the one of fewer parts
+    is kept.  Relays build the loops that are latches with one input as
+    enable as relay latches; other loops are refused with the reason
+    (:func:`_relay_loops`, in the style of :func:`_refuse_latch_races`).
+    """
+    from .logic.flowtable import analyse, latch_form
+    report = analyse(design, races=False)
+    if target.is_relay:
+        plan = _relay_loops(design, target, report)
+        _refuse_latch_races(plan, target)
+        return _fit_once(plan, target, effort, keep, trees, clock_hz, together, proof_design=design)
+    r = _keep_races(design, target, _fit_once(design, target, effort, keep, trees, clock_hz, together),
+                    clock_hz, together)
+    if any(cd.storage in ("ah", "al") for name, cd in target.cells.items() if target.carriers.get(name)):
+        parts = latch_form(design, report)
+        if len(parts.storage()) and sum(1 for s in parts.storage().values() if s.kind == "as") < sum(
+                1 for s in design.storage().values() if s.kind == "as"):
+            alt = _fit_once(parts, target, effort, keep, trees, clock_hz, together, proof_design=design)
+            if (len(alt.build.parts), len(alt.build.cells)) < (len(r.build.parts), len(r.build.cells)):
+                alt.analysis.notes.append(f"feedback loops that are latches built as latch parts: "
+                                          f"{_parts(len(alt.build.parts))} against {len(r.build.parts)} with the "
+                                          "loops kept as gates")
+                return alt
+            r.analysis.notes.append(f"feedback loops kept as gates: {_parts(len(r.build.parts))} against "
+                                    f"{len(alt.build.parts)} with latch parts")
+    return r
+
+
+def _parts(n: int) -> str:
+    return f"{n} part{'' if n == 1 else 's'}"
+
+
+def _keep_races(design: Netlist, target: Target, r: Result, clock_hz, together) -> Result:
+    """``r``, or a build gate for gate where that is as small, or where ``r``'s loops race and the design's not.
+
+    The proof compares loops in fundamental mode, with all of a loop's delay at its cut; a build that
+    reshapes the gates of a loop can still race where the design did not (one input change, two
+    gates excited, the end depends on which wins: :func:`mapper.logic.flowtable.critical_races_added`).
+    Then the builds a builder makes by hand, gate for gate (:func:`mapper.fit.fit.baseline_builds`),
+    are tried, fewest parts first, and the first that adds no such race is kept; if none, ``r`` is
+    kept with a caution naming the races.  A gate-for-gate build of no more parts and gates than
+    ``r`` is kept even where ``r`` adds no race: it keeps the design's loops (the cross-coupled pair,
+    its delay once round) as drawn.
+    """
+    from .fit.fit import baseline_builds
+    from .logic.flowtable import critical_races_added
+    added = critical_races_added(design, r.build.to_netlist())
+    size = (len(r.build.parts), len(r.build.cells))
+    tried = sorted(baseline_builds(design, target).items(), key=lambda kv: (len(kv[1].parts), len(kv[1].cells)))
+    for label, b in tried:
+        if not added and (len(b.parts), len(b.cells)) > size:
+            break  # a build as small as the mapper's that keeps the design's loops gate for gate is preferred
+        if not critical_races_added(design, b.to_netlist()):
+            alt = _fit_once(design, target, 0, (), False, clock_hz, together, build=b)
+            why = (f"the build of {_parts(size[0])} reshapes a loop so that it races where the design does not "
+                   f"({added[0]})" if added else "as few parts and gates as the mapper's, with the design's loops "
+                   "gate for gate")
+            alt.analysis.notes.append(f"feedback loops built {label} ({_parts(len(b.parts))}): {why}")
+            return alt
+    if not added:
+        return r
+    r.analysis.cautions.append(f"the build's feedback loops race where the design's do not: {'; '.join(added[:3])}"
+                               " -- keep that input change slow, or draw the loop so that it cannot race")
+    return r
+
+
+def _relay_loops(design: Netlist, target: Target, report) -> Netlist:
+    """The design with its loops made relay latches, or a refusal naming each loop relays cannot build safely."""
+    from .logic.flowtable import latch_form
+    bad = []
+    ok = []
+    for r in report.regions:
+        if not r.region.loop:
+            bad.append(f"{r.region.cuts[0]} is asynchronous storage with no clock or enable (a delay, not a loop)")
+            continue
+        q = r.region.cuts[0]
+        if "flip_flop" in r.roles:
+            bad.append(f"the loops at {r.roles['flip_flop']['master']} and {q} are a master-slave flip-flop made of "
+                       "gates: relays build flip-flops of their own, so describe it as one (a '.latch ... re' or "
+                       "'always @(posedge ...)')")
+        elif "master_of" in r.roles:
+            continue  # said with its slave
+        elif r.kind == "d-latch":
+            ok.append(q)
+        elif r.kind in ("sr-latch", "gated-sr-latch"):
+            bad.append(f"the loop at {q} is a {r.form.split(':')[0]}: on relays its enable would be decoded from set "
+                       "and reset, which drops out while a contact transfers, and set and reset released together "
+                       "race; describe it as a D latch with one enable, or build it on a gate target")
+        else:
+            bad.append(f"the loop at {q} is not a latch with one enable ({r.form})")
+    if bad:
+        raise UsageError(f"{design.name} cannot be built safely on relays ({target.name}): " + "; ".join(bad))
+    return latch_form(design, report, only=set(ok))
+
+
+def _fit_once(design, target, effort, keep, trees, clock_hz, together, proof_design=None, build=None) -> Result:
+    """One map, proof and analysis (with repeater relays where relay chains are too long).
+
+    The build is proved against ``proof_design`` when given (the design as read, when ``design``
+    is a form of it made for the fit), else against ``design``.  A ``build`` given is proved and
+    analysed as it is, not mapped again."""
     clock = [time.perf_counter()]
     stages: dict = {}
 
@@ -178,9 +296,9 @@ def _fit_once(design, target, effort, keep, trees, clock_hz, together) -> Result
         stages[name] = round(now - clock[0], 3)
         clock[0] = now
 
-    build = _map(design, target, effort, keep, trees)
+    build = build or _map(design, target, effort, keep, trees)
     lap("fit")
-    proof = prove(design, build)
+    proof = prove(proof_design or design, build)
     lap("proof")
     analysis = analyze_build(build, proof, clock_hz=clock_hz, together=together)
     lap("analysis")
@@ -193,7 +311,7 @@ def _fit_once(design, target, effort, keep, trees, clock_hz, together) -> Result
         if again is build:
             break
         build = again
-        proof = prove(design, build)
+        proof = prove(proof_design or design, build)
         analysis = analyze_build(build, proof, clock_hz=clock_hz, together=together)
         lap("repeaters")
     if build.is_relay and analysis.glitches.errors:
@@ -532,7 +650,8 @@ def timing(path, target_name, hazard_free: bool = False, multi: bool = False, ef
            "critical_start": t.get("critical_start"), "critical_end": t.get("critical_end")}
     for key, value in t.items():
         if key.startswith(("clock_", "hold_", "input_", "pulse_", "latches_")) or key in (
-                "overloaded", "per_level_s", "operate_s", "release_s", "bounce_s", "timing_violations"):
+                "overloaded", "per_level_s", "operate_s", "release_s", "bounce_s", "timing_violations",
+                "feedback_loops"):
             out[key] = value
     out.setdefault("timing_violations", 0)
     g = a.glitches

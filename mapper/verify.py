@@ -33,7 +33,7 @@ How :func:`check_equivalence` decides
    equal) are tried first.
 5. **Output proofs** on the swept graph: each compared pair is proved equal
    or a counterexample is read off the SAT model (method ``"sat-sweeping"``;
-   ``"sat-miter"`` when sweeping is switched off).  The CNF is our own
+   ``"sat"`` when sweeping is switched off).  The CNF is our own
    Tseitin encoding over the AIG (:mod:`mapper.logic.cnf`).
 
 Every counterexample is replayed on both netlists with
@@ -49,6 +49,24 @@ lie in a state the designs never reach (a note says so).  Initial values:
 don't care (2) and unknown (3) match anything; different known values
 (0 against 1) make the answer "not equivalent" with a note (method
 ``"initial-values"`` when the logic is otherwise equal).
+
+Feedback loops
+--------------
+A design's loops of logic are read as storage of kind ``as`` at their cut
+nets (:mod:`mapper.logic.feedback`): the cut net is a state variable and the
+logic driving it its excitation, compared like any next-state function.
+When the two designs cut their loops at different nets, one is cut again
+at the other's nets where those break all its loops
+(:func:`mapper.logic.feedback.align_cuts`; a note says which).  A feedback
+loop in one design may be a latch in the other (``ah``/``al``): the latch's
+next state (its data while open, its own value while closed) is compared
+with the loop's excitation.  When both designs have loops and are found
+equal, the flow tables of their loops are compared as well: the same stable
+states, and the same state after each single input change
+(:func:`mapper.logic.flowtable.compare_flow`; method ``"flow-table"`` if
+not).  A note states the assumption all this rests on: Huffman's
+fundamental mode -- inputs change one at a time, once every loop has
+settled.
 """
 from __future__ import annotations
 
@@ -64,6 +82,8 @@ from pysat.solvers import Solver
 from .errors import InternalError, NetfitError
 from .logic.aig import AIG, from_netlist
 from .logic.cnf import AigCnf
+from .logic.feedback import align_cuts, has_feedback
+from .logic.flowtable import compare_flow
 from .logic.function import var_mask
 from .netlist import Netlist
 from .simulate import simulate
@@ -93,6 +113,12 @@ _CONE_TOP = 40
 #: refuted candidates collected before their patterns are simulated
 _REFINE_BATCH = 16
 
+_LOOP_ASSUMPTION = (
+    "feedback loops are compared in Huffman's model (J. Franklin Inst. 257, 1954): each loop cut at the "
+    "same nets, a cut net a state variable and the logic driving it its excitation, compared in every state. "
+    "Equal excitations give equal flow tables, so the designs behave alike when inputs change one at a time "
+    "and only once every loop has settled (fundamental mode); how gates inside a loop race when inputs change "
+    "together depends on their delays and is not part of the proof")
 
 class ProofLimitError(NetfitError):
     """The SAT solver ran out of its budget before deciding an output."""
@@ -108,8 +134,9 @@ class EquivalenceResult:
     ----------
     equivalent : bool
     method : str
-        What decided it: ``"structural"``, ``"simulation"``, ``"sat-miter"``,
-        ``"sat-sweeping"``, ``"ports"``, ``"storage"`` or ``"initial-values"``.
+        What decided it: ``"structural"``, ``"simulation"``, ``"sat"``,
+        ``"sat-sweeping"``, ``"ports"``, ``"storage"``, ``"initial-values"`` or
+        ``"flow-table"``.
     counterexample : dict or None
         ``{"inputs": {name: 0/1}, "state": {storage: 0/1}, "differs":
         [{"output": name, "kind": "output" | "next-state" | "control",
@@ -148,6 +175,10 @@ class _Pair:
     lb: int
     dc: int = 0  # literal where the difference does not count (0: nowhere)
     flip: int = 0  # 1: B's net is compared inverted (a storage kind mirrored on the inverse control)
+    #: a latch compared with a feedback loop: ``(data net, enable net, open level)`` of A's or B's latch,
+    #: whose next state is its data while open and itself while closed (``None``: the net's own value)
+    a_latch: tuple | None = None
+    b_latch: tuple | None = None
 
 
 # -- port matching ---------------------------------------------------------
@@ -225,7 +256,13 @@ def _match_storage(a: Netlist, b: Netlist, notes: list) -> tuple[bool, bool]:
     sb = b.storage()
     for name, x in a.storage().items():
         y = sb[name]
-        if _MIRROR.get(x.kind) == y.kind:
+        if x.kind != y.kind and {x.kind, y.kind} <= {"as", "ah", "al"} and "as" in (x.kind, y.kind):
+            loop, latch = ("A", "B") if x.kind == "as" else ("B", "A")
+            level = "high" if "ah" in (x.kind, y.kind) else "low"
+            notes.append(f"storage element '{name}' is a feedback loop in {loop} and a latch open while its enable "
+                         f"is {level} in {latch}: compared by next state (the latch's is its data while open, its "
+                         "own value while closed)")
+        elif _MIRROR.get(x.kind) == y.kind:
             notes.append(f"storage element '{name}' is of kind '{x.kind}' in A and '{y.kind}' in B: the same "
                          "only where B's control is the inverse of A's (compared so)")
         elif x.kind != y.kind:
@@ -268,6 +305,11 @@ def _build_miter(a: Netlist, b: Netlist, notes: list):
     sb = b.storage()
     for name, x in a.storage().items():
         y = sb[name]
+        if x.kind != y.kind and "as" in (x.kind, y.kind):
+            q = shared_st[name]
+            pairs.append(_Pair("next-state", name, x.d, y.d, _next_lit(g, la, x, q), _next_lit(g, lb, y, q),
+                               a_latch=_latch_of(x), b_latch=_latch_of(y)))
+            continue
         pairs.append(_Pair("next-state", name, x.d, y.d, la[x.d], lb[y.d]))
         if x.kind != "as" and x.control is not None and y.control is not None:
             # a mirrored kind on the inverted control is the same storage
@@ -275,6 +317,24 @@ def _build_miter(a: Netlist, b: Netlist, notes: list):
             pairs.append(_Pair("control", name, x.control, y.control, la[x.control], lb[y.control] ^ flip,
                                flip=flip))
     return g, pairs, la, lb
+
+
+def _latch_of(st) -> tuple | None:
+    """``(data, enable, open level)`` of a level-sensitive latch, ``None`` for anything else."""
+    if st.kind in ("ah", "al") and st.control is not None:
+        return (st.d, st.control, 1 if st.kind == "ah" else 0)
+    return None
+
+
+def _next_lit(g: AIG, lits: dict, st, q: int) -> int:
+    """The next-state literal of a storage element: a latch's data while open and ``q`` while closed;
+    anything else's data (a feedback loop's excitation)."""
+    latch = _latch_of(st)
+    if latch is None:
+        return lits[st.d]
+    d, c, level = latch
+    en = lits[c] ^ (0 if level else 1)
+    return g.add_mux(en, lits[d], q)
 
 
 def _free_vars(g: AIG) -> list:
@@ -306,8 +366,15 @@ def _replay(a: Netlist, b: Netlist, pairs: list, inputs: dict, state: dict) -> l
     vb = simulate(b, inputs, 1, state)
     vdc = simulate(a.exdc, inputs, 1, state) if a.exdc is not None else {}
     differs = []
+
+    def value(vals, net, latch, name):
+        if latch is None:
+            return vals[net] & 1
+        d, c, level = latch
+        return vals[d] & 1 if (vals[c] & 1) == level else state.get(name, 0) & 1
+
     for p in pairs:
-        x, y = va[p.a_net] & 1, (vb[p.b_net] ^ p.flip) & 1
+        x, y = value(va, p.a_net, p.a_latch, p.name), (value(vb, p.b_net, p.b_latch, p.name) ^ p.flip) & 1
         if x == y:
             continue
         if p.kind == "output" and p.dc and vdc.get(p.name, 0) & 1:
@@ -646,12 +713,17 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     notes: list = []
     stats: dict = {}
     b = match_bus_bits(a, b, notes)
+    a, b, cut_notes = align_cuts(a, b)
+    notes += cut_notes
     if not _match_ports(a, b, notes):
         return EquivalenceResult(False, "ports", None, notes, stats)
     kinds_ok, init_ok = _match_storage(a, b, notes)
     if a.storage():
         notes.append("storage outputs are free variables: next-state and control functions are "
                      "compared in every state, reachable or not")
+    loops = has_feedback(a) or has_feedback(b)
+    if loops:
+        notes.append(_LOOP_ASSUMPTION)
 
     g, pairs, lit_a, lit_b = _build_miter(a, b, notes)
     free = _free_vars(g)
@@ -663,6 +735,11 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
             equal, method = False, "storage"
         elif equal and not init_ok:
             equal, method = False, "initial-values"
+        if equal and loops and has_feedback(a) and has_feedback(b):
+            same, flow_notes = compare_flow(a, b)
+            notes.extend(flow_notes)
+            if not same:
+                equal, method = False, "flow-table"
         stats["seconds"] = round(time.perf_counter() - t0, 6)
         if cex is not None and any(d["kind"] != "output" for d in cex["differs"]):
             notes.append("the state in the counterexample may not be reachable from the initial state")
@@ -688,7 +765,7 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     prover = _Prover(g, free, vals, mask, solver, conflict_budget, rng, sweep)
     del vals  # the classes keep what is needed
     try:
-        log.info("miter of %d AND nodes, %d pairs to prove", g.num_ands, len(todo))
+        log.info("proof graph of %d AND nodes, %d pairs to prove", g.num_ands, len(todo))
         if hints and not sweep:
             notes.append("hints are used only while sweeping; ignored")
         if sweep:
@@ -711,14 +788,14 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
                     f"could not decide {p.kind} '{p.name}' within {output_budget} conflicts")
             if res is not True:
                 stats.update(prover.stats)
-                method = "sat-sweeping" if sweep else "sat-miter"
+                method = "sat-sweeping" if sweep else "sat"
                 return finish(False, method, _counterexample(a, b, todo, res))
         stats.update(prover.stats)
         if sweep:
             stats["swept_ands"] = prover.n.num_ands
             merged = prover.stats["merged_by_sat"] + prover.stats["merged_by_cut"]
             notes.append(f"{merged} shared points of the two designs proved equal and merged")
-        return finish(True, "sat-sweeping" if sweep else "sat-miter")
+        return finish(True, "sat-sweeping" if sweep else "sat")
     finally:
         prover.close()
 

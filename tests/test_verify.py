@@ -131,7 +131,7 @@ def test_adders_of_different_structure_prove_equal(tmp_path, x, y):
 def test_plain_miter_on_adders(tmp_path):
     # ariths-gen rca12 vs ks12 without sweeping: the plain miter proves it too
     res = check_equivalence(arith("rca", 12, tmp_path), arith("ks", 12, tmp_path), sweep=False)
-    assert res.equivalent and res.method == "sat-miter"
+    assert res.equivalent and res.method == "sat"
 
 
 @pytest.mark.parametrize("seed", range(6))

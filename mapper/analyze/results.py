@@ -113,6 +113,8 @@ class Timing:
     overloaded: list | None = None
     clock: ClockFigures | None = None
     relay: RelayFigures | None = None
+    #: gate builds with feedback loops kept as gates: one dict per loop (see :mod:`mapper.analyze.loops`)
+    loops: list | None = None
 
     def as_dict(self) -> dict:
         out = {"delay_s": self.delay_s, "delay_typ_s": self.delay_typ_s, "levels": self.levels,
@@ -127,6 +129,8 @@ class Timing:
             out.update(self.clock.as_dict())
         if self.relay is not None:
             out.update(self.relay.as_dict())
+        if self.loops is not None:
+            out["feedback_loops"] = self.loops
         return out
 
 

@@ -122,6 +122,8 @@ class TimedCircuit:
         loads = net_loads(build, ix)
         taken = set(circ.inputs)
         circ._add_gate_storage(build, taken)
+        # feedback loops kept as gates: cut where the design was (the cut net an input, as for the prover)
+        cut = {g.q: g.d for g in build.storage_groups.values() if g.kind == "as"}
         shapes: dict = {}
         for c in build.cells:
             if c.group is not None:
@@ -145,7 +147,7 @@ class TimedCircuit:
                 shape = shapes[key] = (tuple((p, ix.pin_of(c, p)) for p in cd.inputs),
                                        (cd.output, ix.pin_of(c, cd.output)), cd.logic_function().table())
             circ.gates.append(Gate(
-                pins[cd.output], tuple([pins[p] for p in cd.inputs]), shape[2],
+                cut.get(pins[cd.output], pins[cd.output]), tuple([pins[p] for p in cd.inputs]), shape[2],
                 min(lo, m), m, c.part_ref, c.cell, c.slot, shape[0], shape[1]))
         for grp in build.storage_groups.values():
             if grp.kind in ("re", "fe") and grp.control:

@@ -55,6 +55,7 @@ import logging
 
 from ..build import SUPPLY_NETS, Build
 from ..order import topological_order
+from .loops import loop_cuts, loop_figures
 from .results import ClockFigures, Timing
 
 __all__ = ["static_timing", "cell_delay", "net_loads", "PartIndex", "paused_gc", "LOAD_RATING", "SETUP_RATING",
@@ -213,8 +214,12 @@ class _Graph:
             if cd.storage is None and c.group is None:
                 logic.append((c, cd))
         driver = self.driver
+        # feedback loops kept as gates are cut where the design was: the cell driving a cut net ends
+        # paths at the loop's excitation, and the cut net starts them (mapper.analyze.loops)
+        self.cut = cut = loop_cuts(build)
         for c, cd in logic:
-            driver[c.pins[cd.output]] = c
+            out = c.pins[cd.output]
+            driver[cut.get(out, out)] = c
         self.index = index = PartIndex(build)
         loads = net_loads(build, index)
         self.loads = loads
@@ -229,7 +234,7 @@ class _Graph:
         for c, cd in logic:
             pins = c.pins
             ins = tuple((p, pins[p]) for p in cd.inputs if pins.get(p) is not None and pins[p] not in _RAILS)
-            out = pins[cd.output]
+            out = cut.get(pins[cd.output], pins[cd.output])
             pos[out] = len(recs)
             recs.append((c, ins, out, delay[id(c)]))
         order, left = topological_order(range(len(recs)), lambda i: {pos[n] for _, n in recs[i][1] if n in pos},
@@ -265,6 +270,11 @@ class _Graph:
             if c.group is not None:
                 members.setdefault(c.group, []).append(c)
         for key, grp in b.storage_groups.items():
+            if grp.kind == "as":
+                c = self.driver.get(grp.d)
+                self.sdriver[grp.q] = {"part": c.part_ref if c else None, "cell": "feedback loop",
+                                       "outs": {grp.q: (None, None)}}
+                continue
             cells = members.get(key, [])
             clk2q = self._group_path(cells, grp.control, grp.q)
             d2q = self._group_path(cells, grp.d, grp.q)
@@ -279,6 +289,7 @@ class _Graph:
         for pt in self.points:
             for net in pt["outs"]:
                 self.sdriver[net] = pt
+        self.loop_starts = {q: 0.0 for q in self.cut}
 
     def _group_path(self, cells, src, dst) -> tuple[float, float]:
         """Longest simple path (typical, maximum) from net ``src`` to net ``dst`` inside a storage group."""
@@ -852,6 +863,7 @@ def _static_timing(build: Build, period_s: float | None = None) -> Timing:
     g = _Graph(build)
     # storage outputs start at their clock-to-output delay after the clock edge
     base_late = {i: 0.0 for i in build.inputs}
+    base_late.update(g.loop_starts)  # a loop's state starts paths when it changes
     base_typ = dict(base_late)
     for pt in g.points:
         t, m = pt["delay"]
@@ -864,6 +876,8 @@ def _static_timing(build: Build, period_s: float | None = None) -> Timing:
         for label, n in (("data", pt["d"]), ("clock", pt["clock"])):
             if n and n not in _RAILS:
                 ends.append((f"{pt['part']} {pt['cell']} {label}", n))
+    for q, exc in g.cut.items():  # a feedback loop's excitation ends the paths into it
+        ends.append((f"feedback loop {q}", exc))
     arrivals = [("arrival_s", late), ("arrival_typ_s", late_t)]
     late_hops: dict = {}
     early_hops: dict = {}
@@ -897,4 +911,5 @@ def _static_timing(build: Build, period_s: float | None = None) -> Timing:
         critical_end={"net": end, "endpoint": end_label} if end is not None else None,
         overloaded=_overloaded(g),
         clock=_sequential(g, base_late, base_typ, period_s) if g.points else None,
+        loops=loop_figures(g, lambda net: _propagate(g, {net: 0.0}, True, True)[0]) if g.cut else None,
     )

@@ -46,7 +46,7 @@ from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary, RecostedLibrary
 from .pack import pack
 from .plain import hand_mapping, plugin_mapping
-from .storage import gate_storage
+from .storage import close_loops, gate_storage
 
 __all__ = ["baseline_builds", "fit_gates", "mapping_netlist"]
 
@@ -477,6 +477,8 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
     for net, node in design.storage().items():
         d, ctrl = mapping.storage_nets[net]
         kind = node.kind
+        if kind == "as":
+            continue  # a feedback loop: closed as gates below
         cell = storage_cells.get(kind)
         invert_ctrl = False
         if cell is None:
@@ -504,6 +506,8 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
                           mapping.area, mapping.depth)
     notes: list = []
     mapping = split_fanout(mapping, target, notes)
+    mapping, loops = close_loops(_library(target), design, mapping)  # after the fan-out pass, as below
+    groups.update(loops)
     if loop_cells:  # after the fan-out pass, whose ordering assumes no loops
         mapping = Mapping(mapping.cells + loop_cells, mapping.outputs, mapping.storage_nets,
                           mapping.area, mapping.depth)

@@ -176,34 +176,36 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
         if cell not in order_of_types:
             order_of_types.append(cell)
     nref = [0]
-    shared_nets: dict = {}  # part ref -> {shared pin: net} (sections of one part share those pins)
+    on_pin: dict = {}  # (part ref, pin number) -> net, for slots of parts with shared pins placed so far
 
-    def take(cell, shared=None):
+    def new_part(pd, cell):
+        nref[0] += 1
+        ref = f"U{nref[0]}"
+        build.parts.append(PartInstance(ref, pd.id))
+        # every slot of the part able to do this cell
+        for s in pd.slots:
+            if s.cell == cell:
+                free[(pd.id, cell)].append((ref, s.index))
+        for s in pd.slots:
+            if s.cell != cell:
+                free[(pd.id, s.cell)].append((ref, s.index))
+
+    def take(cell, pins=None):
+        """The next free slot for ``cell``; with ``pins`` (cell pin -> net), the first whose pins shared
+        with used slots (a common enable or clock) carry those nets already, else one of a new part."""
         pd, _ = _carrier(target, cell)
         lst = free[(pd.id, cell)]
-        pick = 0
-        if shared:
-            # a section whose part's shared pins carry the same nets (or none yet)
-            fits = [i for i, (ref, _) in enumerate(lst)
-                    if all(shared_nets.get(ref, {}).get(p, n) == n for p, n in shared.items())]
-            pick = fits[0] if fits else -1
-        if not lst or pick < 0:
-            nref[0] += 1
-            ref = f"U{nref[0]}"
-            build.parts.append(PartInstance(ref, pd.id))
-            # every slot of the part able to do this cell
-            fresh = free[(pd.id, cell)]
-            for s in pd.slots:
-                if s.cell == cell:
-                    fresh.append((ref, s.index))
-            for s in pd.slots:
-                if s.cell != cell:
-                    free[(pd.id, s.cell)].append((ref, s.index))
-            lst, pick = fresh, len(fresh) - len(pd.slots_for(cell))
-        got = lst.pop(pick)
-        if shared:
-            shared_nets.setdefault(got[0], {}).update(shared)
-        return got
+        if pins is not None:
+            at = next((i for i, (r, k) in enumerate(lst) if _fits(pd, k, pins, r, on_pin)), None)
+            if at is None:
+                new_part(pd, cell)
+                at = next(i for i, (r, _) in enumerate(lst) if r == f"U{nref[0]}")
+            ref, k = lst.pop(at)
+            on_pin.update({(ref, num): pins[p] for p, num in _slot_pins(pd, k).items() if p in pins})
+            return ref, k
+        if not lst:
+            new_part(pd, cell)
+        return lst.pop(0)
 
     for cell, use, assign in uses:
         cd = target.cells[cell]
@@ -215,12 +217,12 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
             for pin, src in zip(cd.inputs, assign):
                 pins[pin] = src if isinstance(src, str) else use.args[src]
         pins[cd.output] = use.out
-        common = _carrier(target, cell)[0].shared_pins
-        ref, slot = take(cell, {p: n for p, n in pins.items() if p in common})
+        # sections that share a pin (the select of a quad multiplexer) go where it carries their net
+        ref, slot = take(cell, pins if _carrier(target, cell)[0].shared_pins else None)
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, pins, use.origin,
                                         group=use.group))
     for cell, pins, origin, init in storage_uses:
-        ref, slot = take(cell)
+        ref, slot = take(cell, pins)
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, dict(pins), origin, init))
 
     # -- tie unused inputs of used parts -----------------------------------------
@@ -249,6 +251,18 @@ def _shares_inputs(target, cell) -> bool:
     cd = target.cells.get(cell)
     ids = target.carriers.get(cell) or []
     return bool(cd is not None and ids and set(cd.inputs) & set(target.parts[ids[0]].shared_pins))
+
+
+def _fits(pd, index: int, pins: dict, ref: str, on_pin: dict) -> bool:
+    """Whether slot ``index`` of part ``ref`` can take ``pins`` (cell pin -> net): every pin number of the
+    slot that a slot placed before used (a common enable or clock) carries the same net."""
+    return all(on_pin.get((ref, num), pins[p]) == pins[p] for p, num in _slot_pins(pd, index).items() if p in pins)
+
+
+def _slot_pins(pd, index: int) -> dict:
+    """cell pin -> package pin of slot ``index``, the part's shared pins included."""
+    slot = next(s for s in pd.slots if s.index == index)
+    return {**pd.shared_pins, **slot.pins}
 
 
 def _is_storage(target, cell) -> bool:

@@ -91,3 +91,62 @@ def gate_storage(lib, kind: str, d: str, control: str, q: str, init: int):
     else:
         raise UsageError(f"storage kind '{kind}' (asynchronous) cannot be built from gates")
     return cells, GateStorage(kind, d, control, q, init, template)
+
+
+def close_loops(lib, design, mapping):
+    """Close the design's feedback loops (storage of kind ``as``) as gates: returns ``(mapping, groups)``.
+
+    A loop read as storage (:mod:`mapper.logic.feedback`) was mapped as logic
+    from its state variable ``q`` to its excitation; here the cell that makes
+    the excitation is made to drive ``q`` itself, so the build keeps the loop
+    of gates -- for a set-reset latch, the cross-coupled pair -- and the
+    logic around it is what the mapper made.  Where the excitation is read by
+    other cells too, or is not the output of a cell (the loop holds through
+    no gate of its own, as in a ring of two inverters), two inverters carry
+    it to ``q``.  Each loop is recorded as a :class:`~mapper.build.GateStorage`
+    of kind ``as`` whose ``d`` names the excitation (the cell driving ``q`` is
+    read as driving ``d`` by the prover and the timing, which cut the loop
+    there again).
+    """
+    from dataclasses import replace as _replace
+    loops = {net: node for net, node in design.storage().items() if node.kind == "as"}
+    if not loops:
+        return mapping, {}
+    cells = list(mapping.cells)
+    readers: dict = {}
+    for c in cells:
+        for a in c.args:
+            readers[a] = readers.get(a, 0) + 1
+    for net in mapping.outputs.values():
+        readers[net] = readers.get(net, 0) + 1
+    for d, ctrl in mapping.storage_nets.values():
+        for x in (d, ctrl):
+            if x is not None:
+                readers[x] = readers.get(x, 0) + 1
+    driver = {c.out: i for i, c in enumerate(cells)}
+    taken = {c.out for c in cells} | set(design.inputs) | set(design.outputs) | set(design.storage())
+    groups = {}
+    for q, node in loops.items():
+        d, _ = mapping.storage_nets[q]
+        exc = f"{q}+"
+        k = 2
+        while exc in taken:
+            exc = f"{q}+{k}"
+            k += 1
+        taken.add(exc)
+        i = driver.get(d)
+        if i is not None and readers.get(d) == 1 and d not in design.outputs:
+            cells[i] = _replace(cells[i], out=q)
+        else:
+            inv = lib.inverter()
+            if inv is None:
+                raise UsageError("the target cannot make an inverter to close a feedback loop")
+            (cell, args), = inv.gates
+            mid = f"{q}/n"
+            while mid in taken:
+                mid += "_"
+            taken.add(mid)
+            cells.append(CellUse(cell, tuple(d for _ in args), mid, None))
+            cells.append(CellUse(cell, tuple(mid for _ in args), q, None))
+        groups[q] = GateStorage("as", exc, None, q, node.init, "feedback loop kept as gates")
+    return type(mapping)(cells, mapping.outputs, mapping.storage_nets, mapping.area, mapping.depth), groups

@@ -13,6 +13,8 @@ from pathlib import Path
 
 from .. import limits
 from ..errors import Diagnostic, InputError, UsageError
+from ..logic.feedback import cut_loops, has_feedback
+from ..logic.flowtable import check_feedback
 
 __all__ = ["READERS", "reader_for", "read_design", "announce"]
 
@@ -39,7 +41,10 @@ def read_design(path, quiet: bool = False, **options):
     """Read and check a design file; returns a :class:`~mapper.netlist.Netlist`.
 
     The file's size is checked against the limit ``file_bytes``
-    (:mod:`mapper.limits`) before any reader sees it.  Unless ``quiet``,
+    (:mod:`mapper.limits`) before any reader sees it.  Loops of logic are
+    read as storage: cut at a few nets (:func:`mapper.logic.feedback.cut_loops`)
+    and analysed (:func:`mapper.logic.flowtable.check_feedback`, which refuses
+    a loop that can only oscillate).  Unless ``quiet``,
     the design's notes and warnings are logged (see :func:`announce`).
     """
     p = Path(path)
@@ -55,7 +60,10 @@ def read_design(path, quiet: bool = False, **options):
         raise InputError(Diagnostic(f"the file is {size} bytes: {limits.exceeded('file_bytes', size)}",
                                     str(path)))
     netlist = reader_for(p).read(p, **options)
+    cut_loops(netlist)
     netlist.check()
+    if has_feedback(netlist):
+        check_feedback(netlist)
     if not quiet:
         announce(netlist)
     return netlist

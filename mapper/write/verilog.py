@@ -46,10 +46,13 @@ complement of one when the cover lists the OFF-set), ``always
 edge-triggered element and ``always @*`` with ``if (en)`` / ``if (!en)`` per
 latch, each storage net a ``reg`` with its initial value where the design
 gives 0 or 1.  A storage net that is also an output port is held in a
-``reg`` named ``<net>_q`` and assigned to the port.  Storage without a
-control net (BLIF kind ``as``, or an edge element with no clock) has no
-Verilog form and is refused; a don't-care network (``.exdc``) is not
-written (a warning says so).
+``reg`` named ``<net>_q`` and assigned to the port.  A feedback loop read as
+storage (kind ``as``, :mod:`mapper.logic.feedback`) is written closed
+again: the logic of its excitation is assigned to the cut net itself, so
+the file holds the loop of gates the design had (a plain copy of its data
+where the excitation is read elsewhere too).  An edge or level element with
+no control net has no Verilog form and is refused; a don't-care network
+(``.exdc``) is not written (a warning says so).
 
 Relays
 ------
@@ -85,6 +88,7 @@ from .. import __version__
 from ..analyze.results import Analysis
 from ..build import Build, ref_key
 from ..errors import Diagnostic, InputError, InternalError, UsageError
+from ..logic.feedback import closed_logic
 from ..netlist import Logic, Netlist, Storage
 from .files import atomic_write
 from .layout import render
@@ -604,8 +608,12 @@ def netlist_text(netlist: Netlist) -> str:
     """``netlist`` as Verilog-2001 in the structural subset netfit reads (see "Netlists" above)."""
     if netlist.exdc is not None:
         log.warning("%s: the don't-care network (.exdc) has no Verilog form and is not written", netlist.name)
+    # feedback loops read as storage (kind "as") are written closed again, as the gates they were
+    folded = closed_logic(netlist)
+    hidden = set(folded.values())
     all_nets = list(dict.fromkeys(list(netlist.inputs) + list(netlist.outputs) + [
-        x for name, node in netlist.nodes.items() for x in (name, *node.fanins)]))
+        x for name, node in netlist.nodes.items() if name not in hidden for x in (name, *node.fanins)
+        if x not in hidden]))
     nm = _Namer(netlist.inputs, netlist.outputs, all_nets, {}, rails=())
     ref = nm.ref
     port_nets = set(netlist.inputs) | set(netlist.outputs)
@@ -613,7 +621,12 @@ def netlist_text(netlist: Netlist) -> str:
     for name, node in netlist.nodes.items():
         if not isinstance(node, Storage):
             continue
-        if node.control is None or node.kind == "as":
+        if node.kind == "as":
+            if node.init in (0, 1):
+                log.warning("%s: the loop at %s is written as gates, which power up unknown (the design "
+                            "declares %d)", netlist.name, name, node.init)
+            continue
+        if node.control is None:
             raise UsageError(f"storage element {name} has no clock or enable (kind {node.kind}): "
                              f"Verilog has no form for it")
         target = ref[name]
@@ -630,11 +643,18 @@ def netlist_text(netlist: Netlist) -> str:
             cond = c if node.kind == "ah" else f"!{c}"
             seq.append(("*", f"if ({cond}) {target} = {d};"))
     for name, node in netlist.nodes.items():
-        if isinstance(node, Logic):
+        if isinstance(node, Logic) and name not in hidden:
             comb.append((ref[name], _sop(node.func, [ref[f] for f in node.fanins])))
+        elif isinstance(node, Storage) and node.kind == "as":
+            exc = folded.get(name)
+            if exc is not None:
+                logic = netlist.nodes[exc]
+                comb.append((ref[name], _sop(logic.func, [ref[f] for f in logic.fanins])))
+            else:
+                comb.append((ref[name], ref[node.d]))
     for name, holder in holders.items():
         comb.append((ref[name], holder))
-    storage_nets = {n for n in netlist.nodes if isinstance(netlist.nodes[n], Storage)}
+    storage_nets = {n for n, x in netlist.nodes.items() if isinstance(x, Storage) and x.kind != "as"}
     wires = [ref[w] for w in nm.wires if w not in storage_nets]
     return render("netlist.v.j2", n=netlist, module=_module_name(netlist.name or "design"), ports=nm.ports,
                   wires=wires, regs=regs, seq=seq, comb=comb, assigns=nm.assigns,

@@ -231,7 +231,8 @@ def test_ripple4(name):
 
 def test_sr_latch_from_nors_is_refused_as_a_loop():
     # textbook: the SR latch is two cross-coupled NORs, i.e. a combinational loop (common
-    # practice); netfit reads it as such and its netlist check refuses it, naming both nets.
+    # practice); the Verilog reader alone reads it as such and the netlist check names both nets
+    # (read_design then cuts the loop into storage: tests/logic/test_feedback.py).
     n = read(VALID / "sr_latch_nor.v")
     assert n.storage() == {}
     with pytest.raises(NetlistError) as exc:
