@@ -49,7 +49,7 @@ LIMITS = {lim.name: lim for lim in (
     Limit("search_files", 1_000, "NETFIT_MAX_FILES", "files one design reads through .search or include"),
     Limit("errors", 50, "NETFIT_MAX_ERRORS", "errors reported before reading stops"),
     Limit("part_pins", 1_024, "NETFIT_MAX_PART_PINS", "pins of one part in a catalog"),
-    Limit("part_slots", 256, "NETFIT_MAX_PART_SLOTS", "slots (sections or poles) of one part in a catalog"),
+    Limit("part_sections", 256, "NETFIT_MAX_PART_SECTIONS", "sections or poles of one part in a catalog"),
     Limit("support_count", 64, "NETFIT_MAX_SUPPORT_COUNT", "support parts one target rule asks for per item"),
     Limit("catalog_bytes", 8 * 1024 * 1024, "NETFIT_MAX_CATALOG_BYTES", "bytes in one catalog or target file"),
 )}

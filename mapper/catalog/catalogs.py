@@ -269,39 +269,45 @@ def _named_pins(pinout, pid: str, claims: _PinClaims, c: Collector) -> tuple[dic
     return supply, shared
 
 
+def _units(pinout) -> list:
+    """The ``<section>`` and ``<pole>`` elements of a pinout, in file order."""
+    return [e for e in pinout if e.tag in ("section", "pole")]
+
+
 def _slots(pinout, pid: str, cells: dict, shared: dict, claims: _PinClaims, c: Collector,
            broken: frozenset) -> list:
     slots = []
     indices = set()
-    for s in pinout.findall("slot"):
-        idx, cname = c.count(s, "index", f"part {pid} slot"), s.get("cell")
+    for s in _units(pinout):
+        unit = s.tag  # section (a chip's gate unit) or pole (a relay's contact set)
+        idx, cname = c.count(s, "index", f"part {pid} {unit}"), s.get("cell")
         if idx is None:
             continue
         if idx in indices:
-            c.err(s, f"part {pid}: slot {idx} is declared twice")
+            c.err(s, f"part {pid}: {unit} {idx} is declared twice")
         indices.add(idx)
         cell = cells.get(cname)
         if cell is None:
             if cname not in broken:  # a cell with a fault of its own was reported already
                 known = ", ".join(sorted(cells)) or "none"
-                c.err(s, f"part {pid}: slot {idx} performs unknown cell {cname!r} (cells of this catalog: {known})")
+                c.err(s, f"part {pid}: {unit} {idx} performs unknown cell {cname!r} (cells of this catalog: {known})")
             else:
                 c.diags.append(None)  # the part is not usable, but say nothing more
             for p in s.findall("pin"):  # still account for its pins, so they are not reported unassigned
-                num = c.count(p, "number", f"part {pid} slot {idx}") if p.get("number") is not None else None
+                num = c.count(p, "number", f"part {pid} {unit} {idx}") if p.get("number") is not None else None
                 if num is not None:
-                    claims.claim(p, num, f"slot {idx} {p.get('name')}")
+                    claims.claim(p, num, f"{unit} {idx} {p.get('name')}")
             continue
         held = frozenset(p.get("name") for p in pinout.findall("pin") if p.get("tie"))
         pins = _slot_pins(s, pid, idx, cell, shared, claims, c, held)
         missing = [pn for pn in cell.pins if pn not in pins and pn not in
                    {p.get("name") for p in s.findall("pin")}]
         if missing:
-            c.err(s, f"part {pid}: slot {idx} misses pin {', '.join(missing)} of cell {cname}")
+            c.err(s, f"part {pid}: {unit} {idx} misses pin {', '.join(missing)} of cell {cname}")
         slots.append(SlotDef(idx, cname, {pn: pins[pn] for pn in cell.pins if pn in pins}))
     slots.sort(key=lambda s: s.index)
     if indices and sorted(indices) != list(range(1, len(indices) + 1)):
-        c.err(pinout, f"part {pid}: slot indices must run 1..{len(indices)} (found {sorted(indices)})")
+        c.err(pinout, f"part {pid}: section or pole numbers must run 1..{len(indices)} (found {sorted(indices)})")
     return slots
 
 
@@ -311,10 +317,10 @@ def _slot_pins(s, pid: str, idx: int, cell: CellDef, shared: dict, claims: _PinC
     for p in s.findall("pin"):
         pn = p.get("name")
         if pn in pins:
-            c.err(p, f"part {pid}: slot {idx} lists pin {pn} twice")
+            c.err(p, f"part {pid}: {s.tag} {idx} lists pin {pn} twice")
             continue
         if pn not in cell.pins:
-            c.err(p, f"part {pid}: slot {idx} has pin {pn}, which cell {cell.name} does not have "
+            c.err(p, f"part {pid}: {s.tag} {idx} has pin {pn}, which cell {cell.name} does not have "
                      f"(its pins: {', '.join(cell.pins)})")
             continue
         if p.get("shared") is not None:
@@ -324,15 +330,15 @@ def _slot_pins(s, pid: str, idx: int, cell: CellDef, shared: dict, claims: _PinC
                          f"(tie=\"...\")")
                 continue
             if ref not in shared:
-                c.err(p, f"part {pid}: slot {idx} pin {pn} refers to shared pin {ref!r}, which the "
+                c.err(p, f"part {pid}: {s.tag} {idx} pin {pn} refers to shared pin {ref!r}, which the "
                          f"pinout does not declare (<pin name=\"{ref}\" number=\"...\"/>)")
                 continue
             pins[pn] = shared[ref]
         else:
-            num = c.count(p, "number", f"part {pid} slot {idx} pin {pn}")
+            num = c.count(p, "number", f"part {pid} {s.tag} {idx} pin {pn}")
             if num is None:
                 continue
-            claims.claim(p, num, f"slot {idx} {pn}")
+            claims.claim(p, num, f"{s.tag} {idx} {pn}")
             pins[pn] = num
     return pins
 
@@ -358,13 +364,13 @@ def _kind_checks(el, pinout, pid: str, kind: str, slots: list, supply: dict, c: 
     """What each kind of part must have (and must not)."""
     role = el.get("role")
     if kind == "chip":
-        if not slots and not pinout.findall("slot"):
-            c.err(el, f"part {pid}: a chip needs at least one slot")
+        if not slots and not _units(pinout):
+            c.err(el, f"part {pid}: a chip needs at least one section")
         if not supply:
             c.err(pinout, f"part {pid}: a chip needs its supply pins (<supply name=\"VCC\" number=\"14\"/>)")
     elif kind == "support":
-        if pinout.findall("slot"):
-            c.err(pinout, f"part {pid}: a support part has no slots")
+        if _units(pinout):
+            c.err(pinout, f"part {pid}: a support part has no sections or poles")
         if role is None:
             c.err(el, f"part {pid}: a support part needs its role (role=\"{'|'.join(SUPPORT_ROLES)}\", "
                       "several separated by spaces)")
@@ -390,7 +396,7 @@ def _delays(el, pid: str, kind: str, slots: list, c: Collector, broken: frozense
         if cname in broken:
             continue
         if cname not in slot_cells:
-            c.err(d, f"part {pid}: delay for cell {cname!r}, which no slot of the part performs")
+            c.err(d, f"part {pid}: delay for cell {cname!r}, which no section or pole of the part performs")
             continue
         per_path = d.get("from") is not None or d.get("to") is not None
         if cname in delay_typ and not (per_path and cname in paths):
@@ -436,12 +442,12 @@ def _relay_data(relay_el, pid: str, nslots: int, c: Collector) -> RelayData | No
         cvol = Figure(vv, src, cr.get("type"))
     except ValueError as exc:
         c.err(cr, f"part {pid} contact rating: {exc}")
-    poles = c.count(relay_el, "poles", f"part {pid} <relay>", "part_slots")
+    poles = c.count(relay_el, "poles", f"part {pid} <relay>", "part_sections")
     if poles is None:
         return None
     if poles != nslots:
         c.err(relay_el, f"part {pid}: the relay has {poles} pole{'s' * (poles != 1)} but the pinout "
-                        f"{nslots} slot{'s' * (nslots != 1)} (one slot per pole)")
+                        f"lists {nslots} <pole> element{'s' * (nslots != 1)}")
     got = {tag: f for tag, f in figs.items() if f is not None}
     if len(got) < len(figs) or ccur is None:
         return None
@@ -463,9 +469,9 @@ def _part_from(el, cells: dict, c: Collector, display: str, default_currency: st
     npins = c.count(pkg, "pins", f"part {pid} <package>", "part_pins")
     if npins is None:
         return None
-    nslots = len(pinout.findall("slot"))
-    if nslots > limits.value("part_slots"):
-        c.err(pinout, f"part {pid}: {nslots} slots: {limits.exceeded('part_slots', nslots)}")
+    nslots = len(_units(pinout))
+    if nslots > limits.value("part_sections"):
+        c.err(pinout, f"part {pid}: {nslots} sections or poles: {limits.exceeded('part_sections', nslots)}")
         return None
     claims = _PinClaims(pid, pkg.get("name"), npins, c)
     supply, shared = _named_pins(pinout, pid, claims, c)

@@ -14,12 +14,22 @@ a design of over 6,000 nodes gets one mapping):
 * the mapping with every cell of the target;
 * for a target of one NAND2 or NOR2 cell, the mapping of the dual design with
   the dual cell (read back with the rails swapped);
+* the mappings of the restructured forms of the design
+  (:mod:`mapper.logic.restructure`: rewritten, factored, collapsed and built
+  again with counters of ones and decompositions); a form is kept only when
+  its build has fewer whole parts than every build before it -- the stop
+  rule of the restructuring script is this count, measured after mapping;
+* the design with its 2:1 multiplexers of one select in quad multiplexer
+  parts (:mod:`mapper.fit.muxes`);
 * the same mappings with other cut budgets and numbers of area-flow passes;
 * re-mapping the best mapped logic itself (its NAND/NOR structure often
   exposes sharing the first subject graph hid);
 * seeds of a single NAND2 or NOR2 cell type, alone and with one other type;
 * for each part type in the build, the mapping without that cell type,
-  when its cells might move into spare slots of the others.
+  when its cells might move into spare slots of the others;
+* on a target of several cells, the best build of each one-cell target its
+  parts carry (nand-only and nor-only inside gates-74), searched in full as
+  on its own, so that the answer never has more parts than those.
 """
 from __future__ import annotations
 
@@ -159,6 +169,50 @@ class _PartSearch:
                     continue
             self.consider(m, label, floor=True)
 
+    def restructured(self) -> None:
+        """Map each restructured form of the design (:mod:`mapper.logic.restructure`), and on a
+        target of one NAND2 or NOR2 cell its dual too; a form that beats every build so far
+        becomes the subject the later candidates start from.  Hazard-free builds keep their covers."""
+        if self.keep or self.trees:
+            return
+        from ..logic.restructure.script import forms
+        one_cell = len(self.lib.cells) == 1 and bool(_complete_cells(self.lib)) and not self.design.storage()
+        for form in forms(self.design):
+            ways = [("", form.netlist, self.lib)]
+            dual = dual_netlist(form.netlist) if one_cell and not self.big else None
+            if dual is not None:
+                ways.append(("dual ", dual, _library(_dual_target(self.target), frozenset())))
+            for tag, net, lib in ways:
+                subject = subject_graph(net)
+                m = map_logic(net, lib, subject=subject)
+                before = self.best_score
+                self.consider(_undual(m) if tag else m, f"{tag}{form.label}")
+                if self.best_score < before:
+                    self.subjects[:] = [(net, subject, lib, tag)] + self.subjects[:1]
+
+    def multiplexers(self) -> None:
+        """The design with its 2:1 multiplexers of a common select in the target's multiplexer
+        parts (:mod:`mapper.fit.muxes`), from the design and from the best subject so far."""
+        if self.keep or self.trees:
+            return
+        from .muxes import mux_mapping
+        sources = [self.design] + [s[0] for s in self.subjects[:1] if s[0] is not self.design and not s[3]]
+        for src in sources:
+            m = mux_mapping(src, self.lib, self.target)
+            if m is not None:
+                self.consider(m, "multiplexer parts")
+
+    def one_cell_builds(self, effort: int) -> None:
+        """The best builds of the targets of one NAND2 or NOR2 cell that this target's parts
+        carry (the nand-only and nor-only builds on gates-74), each searched in full as on
+        its own, so that a target of more cells never answers with more parts than those."""
+        if len(self.lib.cells) == 1 or self.keep or self.trees:
+            return
+        for cell in _complete_cells(self.lib):
+            sub = _search(self.design, _one_cell_target(self.target, cell), effort, (), False, True)
+            if sub.best_mapping is not None:
+                self.consider(sub.best_mapping, f"{cell} only, searched as its own target")
+
     def variants(self) -> None:
         """Other cut budgets and numbers of area-flow passes: the cover heuristics land in
         different local optima, and whole parts are what counts."""
@@ -264,26 +318,53 @@ class _PartSearch:
             excluded = step
 
 
-def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False) -> Build:
+def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: bool = False,
+              restructure: bool = True) -> Build:
     """The build with the fewest whole parts found for ``design`` on ``target``.
 
     ``keep`` names design nets that must stay signals of their own, and
     ``trees`` asks for tree-shaped matches only, which keep hazard-free
     covers hazard-free (see :func:`mapper.fit.gates.map_logic`).  The
     candidates are those of the module docstring, in that order, as long as
-    the budget lasts.  On a target with medium-scale chips the design is
-    also built with them, and the build of fewer parts kept
-    (:func:`mapper.fit.blocks.with_blocks`).
+    the budget lasts.  ``restructure`` false leaves out the restructured
+    forms, the multiplexer parts and the one-cell targets' builds (the
+    search as it was before them: the benchmarks' "before").  On a target with
+    medium-scale chips the design is also built with them, and the build of
+    fewer parts kept (:func:`mapper.fit.blocks.with_blocks`).
     """
     if not keep and not trees and has_blocks(target):
-        return with_blocks(design, target, lambda d: fit_gates(d, without_blocks(target), effort))
+        return with_blocks(design, target,
+                           lambda d: fit_gates(d, without_blocks(target), effort, restructure=restructure))
     # walked in an order from the structure alone: the same design written differently (names,
     # the order of inputs and gates) meets the same choices and gets the same parts
     ports = list(design.inputs)
     design = canonical_order(design)
+    search = _search(design, target, effort, keep, trees, restructure)
+    if restructure:
+        search.one_cell_builds(effort)
+    best = search.result()
+    best.inputs = ports  # the design's own port order
+    if design.exdc is not None:
+        from ..logic.restructure.collapse import off_care_differences
+        used = off_care_differences(design, best.to_netlist())
+        if used:
+            best.notes.append("don't-cares used: outputs " + ", ".join(used) + " differ from the design only "
+                              "where its don't-care network (.exdc) is 1; the proof compares them elsewhere")
+    log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
+    fewest = min(n for _, n in search.tried) if search.tried else len(best.parts)
+    best.notes.append(f"part search: {len(search.tried)} variants tried, best {fewest} parts ("
+                      + "; ".join(f"{label}: {n}" for label, n in search.tried) + ")")
+    return best
+
+
+def _search(design: Netlist, target: Target, effort: int, keep, trees: bool, restructure: bool) -> _PartSearch:
+    """The part search of :func:`fit_gates` on ``target`` alone."""
     search = _PartSearch(design, target, effort, keep, trees)
     search.first_mappings()
     search.baselines()
+    if restructure:
+        search.restructured()
+        search.multiplexers()
     subject = search.subjects[0][1]
     search.variants()
     if effort > 0 and not search.big:
@@ -293,13 +374,15 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     if effort > 0 and len(search.lib.cells) > 1:
         search.seeds(subject)
         search.drop_types(subject)
-    best = search.result()
-    best.inputs = ports  # the design's own port order
-    log.info("tried: %s", ", ".join(f"{label}: {n} parts" for label, n in search.tried))
-    fewest = min(n for _, n in search.tried) if search.tried else len(best.parts)
-    best.notes.append(f"part search: {len(search.tried)} variants tried, best {fewest} parts ("
-                      + "; ".join(f"{label}: {n}" for label, n in search.tried) + ")")
-    return best
+    return search
+
+
+def _one_cell_target(target: Target, cell: str) -> Target:
+    """``target`` with one logic cell, ``cell``, and its storage cells (same parts and pins)."""
+    keep = {name for name, cd in target.cells.items() if name == cell or cd.storage is not None}
+    return replace(target, name=f"{target.name}:{cell}",
+                   cells={k: v for k, v in target.cells.items() if k in keep},
+                   carriers={k: v for k, v in target.carriers.items() if k in keep})
 
 
 def baseline_mappings(design: Netlist, target: Target, lib: CellLibrary | None = None,

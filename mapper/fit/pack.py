@@ -134,8 +134,10 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
             _, s = _carrier(target, cell)
             last = counts[cell] - s * (parts_of[cell] - 1)
             hosts = []
+            if _shares_inputs(target, cell):
+                continue
             for host, assign in emb.get(cell, []):
-                if host not in counts or not counts[host]:
+                if host not in counts or not counts[host] or _shares_inputs(target, host):
                     continue
                 _, hs = _carrier(target, host)
                 spare = parts_of[host] * hs - counts[host]
@@ -174,7 +176,7 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
         if cell not in order_of_types:
             order_of_types.append(cell)
     nref = [0]
-    on_pin: dict = {}  # (part ref, pin number) -> net, for storage slots placed so far
+    on_pin: dict = {}  # (part ref, pin number) -> net, for slots of parts with shared pins placed so far
 
     def new_part(pd, cell):
         nref[0] += 1
@@ -207,7 +209,6 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
 
     for cell, use, assign in uses:
         cd = target.cells[cell]
-        ref, slot = take(cell)
         pins = {}
         if assign is None:
             for pin, net in zip(cd.inputs, use.args):
@@ -216,6 +217,8 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
             for pin, src in zip(cd.inputs, assign):
                 pins[pin] = src if isinstance(src, str) else use.args[src]
         pins[cd.output] = use.out
+        # sections that share a pin (the select of a quad multiplexer) go where it carries their net
+        ref, slot = take(cell, pins if _carrier(target, cell)[0].shared_pins else None)
         build.cells.append(CellInstance(f"{ref}_{slot}", cell, ref, slot, pins, use.origin,
                                         group=use.group))
     for cell, pins, origin, init in storage_uses:
@@ -239,6 +242,15 @@ def pack(design_name: str, target: Target, inputs, outputs, mapping, storage_use
     build.output_nets = dict(mapping.outputs)
     add_support(build)
     return build
+
+
+def _shares_inputs(target, cell) -> bool:
+    """Whether ``cell``'s sections share an input pin with the other sections
+    of their part (the select of a quad multiplexer): such a section can
+    take a cell only where the part's other sections agree."""
+    cd = target.cells.get(cell)
+    ids = target.carriers.get(cell) or []
+    return bool(cd is not None and ids and set(cd.inputs) & set(target.parts[ids[0]].shared_pins))
 
 
 def _fits(pd, index: int, pins: dict, ref: str, on_pin: dict) -> bool:

@@ -44,9 +44,9 @@ Berkeley logic tools.  What is read, and how:
   output value does not matter).  It may hold only ``.names``.  The
   don't-care network of any other model is skipped with a warning (it
   cannot be carried through flattening).  ``netfit verify`` uses the top
-  model's network as don't-cares (differences where it is 1 do not count);
-  a build does the covers as written and uses no don't-cares, which a
-  warning says.
+  model's network as don't-cares (differences where it is 1 do not count),
+  and so does the proof of a build; a gate build may use them
+  (:mod:`mapper.logic.restructure.collapse`), which a warning says.
 * Limits (:mod:`mapper.limits`), each checked before the work it bounds:
   the size of a file, the number of files ``.search`` reads, the nodes of
   the flattened design (the expansion of the hierarchy is counted, with
@@ -1085,9 +1085,10 @@ def _flat_design(r: _Reader, path: Path, top) -> Netlist | None:
         return None
     netlist = r.flatten(top_model)
     if netlist.exdc is not None:
-        r.warn(f"the don't-care network (.exdc) of model '{top_model.name}' is kept for `netfit verify` "
-               "(output differences where it is 1 do not count); a build does the covers as written and "
-               "uses no don't-cares", top_model.exdc_where)
+        r.warn(f"the don't-care network (.exdc) of model '{top_model.name}' is kept as don't-cares: "
+               "`netfit verify` and the proof of a build ignore output differences where it is 1, and a "
+               "gate build may use that freedom (designs of at most 14 inputs and storage outputs)",
+               top_model.exdc_where)
     return netlist
 
 

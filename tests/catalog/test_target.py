@@ -335,7 +335,7 @@ def test_user_catalog_errors_point_into_the_catalog(tmp_path, netfit):
     line = next(i for i, l in enumerate(text.splitlines(), 1) if 'number="9"' in l)
     code, out, err = netfit("targets", target)
     assert code == 2 and out == ""
-    assert f"{cat}:{line}: error: part K-24V-OWN: pin 9 (slot 1 NO) is out of range" in err
+    assert f"{cat}:{line}: error: part K-24V-OWN: pin 9 (pole 1 NO) is out of range" in err
     assert "Traceback" not in err
 
 

@@ -369,12 +369,12 @@ def test_a_user_catalog_with_four_pole_relays(tmp_path):
     end = src.index("</part>", start) + len("</part>")
     part = src[start:end].replace("RLY-DPDT-5V", "RLY-4PDT-5V").replace('poles="2"', 'poles="4"')
     part = part.replace('<nc numbers="2 3 5 7 10 12 14 15"/>',
-                        '<slot index="3" cell="changeover"><pin name="COIL" shared="COIL+"/> '
+                        '<section index="3" cell="changeover"><pin name="COIL" shared="COIL+"/> '
                         '<pin name="COM" number="3"/> <pin name="NC" number="2"/> '
-                        '<pin name="NO" number="5"/></slot>\n'
-                        '      <slot index="4" cell="changeover"><pin name="COIL" shared="COIL+"/> '
+                        '<pin name="NO" number="5"/></section>\n'
+                        '      <section index="4" cell="changeover"><pin name="COIL" shared="COIL+"/> '
                         '<pin name="COM" number="14"/> <pin name="NC" number="15"/> '
-                        '<pin name="NO" number="12"/></slot>\n'
+                        '<pin name="NO" number="12"/></section>\n'
                         '      <nc numbers="7 10"/>')
     head = src[:src.index("<part ")]
     (tmp_path / "four.xml").write_text(head.replace('name="relays"', 'name="four"') + part + "\n</catalog>\n")

@@ -80,7 +80,7 @@ BLIF_TOKENS = (b".model", b".inputs", b".outputs", b".names", b".latch", b".subc
                b"1", b"2", b"3", b"\x00", b"\r", b"\t", b"[0]", b"/", b"..", b"9" * 40, b"x" * 300, "é".encode())
 XML_TOKENS = (b"<", b">", b"/>", b"&amp;", b"&lt;", b"<!DOCTYPE x>", b"<!ENTITY a 'b'>", b"<!-- -->", b"=",
               b'"', b"1e309", b"1e99", b"99999999999999999999", b"2147483647", b"20000000", b"0", b"-1",
-              b"7 ns", b"\x00", b"\xff", b"<cell", b"<part", b"<slot", b"<pin", b"<use", b"<support",
+              b"7 ns", b"\x00", b"\xff", b"<cell", b"<part", b"<section", b"<pole", b"<pin", b"<use", b"<support",
               b'count="100000000"', b'pins="20000000"', b'function="Y = ~A"', "µ".encode(), b"9" * 5000)
 
 FORMATS = {

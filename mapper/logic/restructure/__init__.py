@@ -1,0 +1,1 @@
+"""Restructuring before mapping: multi-level logic optimization, proved like every build."""
