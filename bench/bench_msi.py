@@ -16,7 +16,9 @@ the arithmetic set, and never more parts than gates-74.
 
 Run: ``.venv/bin/python bench/bench_msi.py [--quick] [--json]``
 
-Measured on 2026-12-05 (branch msi-chips; seconds on a shared 2-processor machine)::
+Measured on 2026-12-05 (branch msi-chips before its last merge of main; seconds on a shared 2-processor
+machine).  After that merge the part search's restructured forms lower some gates-74 builds (cla8 13,
+ks16 34 parts); the msi-74 and plug-in columns of --quick came out the same::
 
     design      plug  gates-74  msi-74  MSI  x plug      s  proof
     -------------------------------------------------------------
