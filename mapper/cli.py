@@ -284,7 +284,7 @@ def cmd_build(args):
         print("cells   " + ", ".join(f"{k} ×{v}" for k, v in s["cells"].items()))
     from .analyze.results import units_of
     word, used, available, spare = units_of(s)
-    print(f"{word:<8}{used} used of {available}  ({spare} spare)")
+    print(f"{word:<7} {used} used of {available}  ({spare} spare)")
     if s["support_parts"]:
         print("support " + ", ".join(f"{k} ×{v}" for k, v in s["support_parts"].items()))
     print(f"delay   {si(s['delay_s'], 's')} slowest path (maximum figures)")
