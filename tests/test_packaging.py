@@ -23,7 +23,10 @@ pytestmark = pytest.mark.slow
 _PROBE = r"""
 import importlib.resources, json, mapper
 from mapper.catalog import builtin_targets, load_target
-out = {"mapper": mapper.__file__, "targets": {}, "catalogs": sorted(
+import pathlib
+root = pathlib.Path(mapper.__file__).parent
+packages = sorted(".".join(("mapper",) + p.parent.relative_to(root).parts) for p in root.rglob("__init__.py"))
+out = {"mapper": mapper.__file__, "packages": packages, "targets": {}, "catalogs": sorted(
     p.name for p in importlib.resources.files("mapper.libraries").iterdir() if p.name.endswith((".xml", ".rng"))),
     "target_files": sorted(p.name for p in importlib.resources.files("mapper.targets").iterdir()
                            if p.name.endswith((".xml", ".rng")))}
@@ -65,6 +68,10 @@ def test_wheel_ships_catalogs_and_targets(tmp_path):
     res = _run([py, "-I", "-c", _PROBE], cwd=tmp_path)
     info = json.loads(res.stdout)
     assert Path(info["mapper"]).is_relative_to(venv)  # the wheel's copy, not the work tree
+    # every package of the source tree is in the wheel (a package left out of pyproject.toml is not)
+    source = sorted(".".join(("mapper",) + p.parent.relative_to(ROOT / "mapper").parts)
+                    for p in (ROOT / "mapper").rglob("__init__.py"))
+    assert sorted(set(info["packages"]) - {"mapper.libraries", "mapper.targets"}) == source
     assert info["catalogs"] == ["74hc.xml", "74ls.xml", "catalog.rng", "relays.xml", "support.xml"]
     assert info["target_files"] == sorted(p.name for p in (ROOT / "targets").glob("*.xml")) + ["target.rng"]
     assert set(info["targets"]) == {p.stem for p in (ROOT / "targets").glob("*.xml")}
