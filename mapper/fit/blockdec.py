@@ -26,7 +26,7 @@ from __future__ import annotations
 
 from itertools import combinations
 
-from ..netlist import Logic
+from ..netlist import Logic, Storage
 from .blockuse import BlockUse, Signatures, cone, equal_lits, rail_lit
 
 __all__ = ["find_decoders"]
@@ -179,6 +179,24 @@ def _use(sigs: Signatures, cell: str, sel: tuple, pins: dict, free: dict, taken:
                     label=f"{size} decoder of {', '.join(sel)} ({len(outs)} outputs)")
 
 
+def _read(sigs: Signatures, net: str, taken: set) -> bool:
+    """Whether ``net`` is an output of the design or reaches one (or a storage element) through nets
+    not in ``taken`` (walked forward, iteratively)."""
+    design = sigs.design
+    fanout = sigs.fanout()
+    outs = set(design.outputs)
+    stack, seen = [net], {net}
+    while stack:
+        n = stack.pop()
+        if n in outs or isinstance(design.nodes.get(n), Storage):
+            return True
+        for f in fanout.get(n, ()):
+            if f not in taken and f not in seen:
+                seen.add(f)
+                stack.append(f)
+    return False
+
+
 def find_decoders(sigs: Signatures, cells: dict, taken: set, serial) -> list:
     """Decoder uses for groups of the design's nets that are minterms of the same selects (see the
     module docstring)."""
@@ -199,6 +217,8 @@ def find_decoders(sigs: Signatures, cells: dict, taken: set, serial) -> list:
     uses: list = []
     for cell, width in wanted:
         while True:
+            # nets only the outputs already taken read (a 4-to-16 decoder's predecoders) are left alone
+            cubes = {y: lits for y, lits in cubes.items() if _read(sigs, y[0], taken)}
             props = _proposals(cubes, cell, width, taken, cell == "dec3" and "dec2" in cells)
             if not props:
                 break

@@ -103,15 +103,31 @@ def test_textbook_2_to_4_decoders_with_active_low_enable(tmp_path, msi74, gates7
                                                               for k in range(4)]
 
 
-def test_textbook_4_to_16_decoder_on_two_3_to_8_chips(tmp_path, msi74, gates74):
-    # sixteen AND gates of four selects or their inverters: two '138s, one select on an active-low enable of
-    # one and on the active-high enable of the other (the datasheets' cascade), no inverter for it
+def _predecoded_4_to_16(sel: list, names: list) -> list:
+    """Body lines of the textbook predecoded 4-to-16 decoder: two 2-to-4 predecoders of AND gates (low and
+    high select pairs) and an AND gate of one output of each per output."""
+    lines = [line for s in sel for line in (f".names {s} {s}_n", "0 1")]
+    for k in range(4):
+        lo = [sel[j] if (k >> j) & 1 else f"{sel[j]}_n" for j in (0, 1)]
+        hi = [sel[j + 2] if (k >> j) & 1 else f"{sel[j + 2]}_n" for j in (0, 1)]
+        lines += [f".names {' '.join(lo)} lo{k}", "11 1", f".names {' '.join(hi)} hi{k}", "11 1"]
+    for k, out in enumerate(names):
+        lines += [f".names lo{k & 3} hi{k >> 2} {out}", "11 1"]
+    return lines
+
+
+@pytest.mark.parametrize("form", ["and4", "predecoded"])
+def test_textbook_4_to_16_decoder_on_two_3_to_8_chips(tmp_path, msi74, gates74, form):
+    # sixteen AND gates of four selects or their inverters, or of two predecoders (common practice): two
+    # '138s, one select on an active-low enable of one and on the active-high enable of the other (the
+    # datasheets' cascade), no inverter for it, and no chip for the predecoders the '138s leave unread
     names = [f"y{k}" for k in range(16)]
     sel = ["a0", "a1", "a2", "a3"]
-    text = "\n".join([".model dec416", ".inputs " + " ".join(sel), ".outputs " + " ".join(names),
-                      *_decoder_blif(sel, (), False, names), ".end", ""])
+    body = _decoder_blif(sel, (), False, names) if form == "and4" else _predecoded_4_to_16(sel, names)
+    text = "\n".join([".model dec416", ".inputs " + " ".join(sel), ".outputs " + " ".join(names), *body,
+                      ".end", ""])
     build, outs, ins = _build(tmp_path, text, msi74, gates74)
-    assert build.part_counts()["74HC138"] == 2
+    assert build.part_counts()["74HC138"] == 2 and "74HC139" not in build.part_counts()
     dec = [c for c in build.cells if c.cell == "dec3"]
     enables = sorted((net, pin) for c in dec for pin, net in c.pins.items()
                      if pin in ("E1_N", "E2_N", "E3") and net not in ("VCC", "GND"))
