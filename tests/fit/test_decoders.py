@@ -10,9 +10,14 @@ the enable is on and the select word is ``k``) is the function table of the
 written as gates in BLIF, built on msi-74, proved equal to the design by SAT
 (as every build is), and the *built board* (the cells and the catalog's
 models of the chips, not the design) simulated over every input word
-against that definition; it never has more parts than on gates-74.
+against that definition; it never has more parts than on gates-74.  The
+exported structural Verilog of two builds is also run in Icarus Verilog, an
+outside simulator, against the same definition.
 """
 from __future__ import annotations
+
+import shutil
+import subprocess
 
 import pytest
 
@@ -54,12 +59,13 @@ def _decoder_blif(sel: list, enable: tuple, low: bool, names: list) -> list:
 
 
 def _build(tmp_path, text: str, msi74, gates74):
-    """The msi-74 build of the design (proved), its outputs over every input word, the input words."""
+    """The msi-74 result of the design (proved), its build's outputs over every input word, the words."""
     path = tmp_path / "design.blif"
     path.write_text(text)
     design = read_design(path)
-    build, analysis = flow.fit(design, msi74)
-    assert analysis.proof.status == "proved"
+    result = flow.fit(design, msi74)
+    build = result.build
+    assert result.analysis.proof.status == "proved"
     without, _ = flow.fit(design, gates74)
     assert len(build.parts) <= len(without.parts)
     n = len(design.inputs)
@@ -67,7 +73,34 @@ def _build(tmp_path, text: str, msi74, gates74):
     words = {i: sum(((r >> j) & 1) << k for k, r in enumerate(rows)) for j, i in enumerate(design.inputs)}
     out = simulate(build.to_netlist(), words, (1 << len(rows)) - 1)
     values = [{i: (r >> j) & 1 for j, i in enumerate(design.inputs)} for r in rows]
-    return build, [{o: (out[o] >> k) & 1 for o in design.outputs} for k in range(len(rows))], values
+    return result, [{o: (out[o] >> k) & 1 for o in design.outputs} for k in range(len(rows))], values
+
+
+def _iverilog(tmp_path, result, rows: list) -> list:
+    """The build's exported Verilog (``<design>.v`` and its models) run in Icarus Verilog over ``rows``
+    (dicts input -> 0/1): per row a dict output -> 0/1.  A missing simulator is a failure, not a skip."""
+    assert shutil.which("iverilog") and shutil.which("vvp"), "iverilog not installed: `make debs`"
+    out = tmp_path / "out"
+    flow.write_build(result, out)
+    build = result.build
+    ins, outs = list(build.inputs), list(build.outputs)
+    lines = ["`timescale 1ns/1ns", "module bench;"]
+    lines += [f"  reg {i};" for i in ins] + [f"  wire {o};" for o in outs]
+    lines.append(f"  {build.design} dut ({', '.join(f'.{p}({p})' for p in ins + outs)});")
+    lines.append("  initial begin")
+    for r in rows:
+        lines.append("    " + " ".join(f"{i} = 1'b{r[i]};" for i in ins) + " #5;")
+        lines.append(f'    $display("%b", {{{", ".join(outs)}}});')
+    lines += ["    $finish;", "  end", "endmodule", ""]
+    (out / "bench.v").write_text("\n".join(lines))
+    sim = out / "bench.vvp"
+    files = [out / "bench.v", out / f"{build.design}.v", out / f"{build.design}_models.v"]
+    r = subprocess.run(["iverilog", "-g2001", "-o", str(sim), *map(str, files)], capture_output=True, text=True)
+    assert r.returncode == 0, r.stderr
+    r = subprocess.run(["vvp", "-n", str(sim)], capture_output=True, text=True, timeout=120)
+    got = [ln.strip() for ln in r.stdout.splitlines() if ln.strip() and set(ln.strip()) <= set("01xz")]
+    assert len(got) == len(rows), r.stdout[-1000:]
+    return [{o: int(c) if c in "01" else c for o, c in zip(outs, line)} for line in got]
 
 
 def test_textbook_3_to_8_decoder_with_enable(tmp_path, msi74, gates74):
@@ -75,7 +108,8 @@ def test_textbook_3_to_8_decoder_with_enable(tmp_path, msi74, gates74):
     # its active-high enable pin) and inverters on the outputs, fewer parts than the gates
     text = "\n".join([".model dec38", ".inputs a0 a1 a2 en", ".outputs " + " ".join(f"y{k}" for k in range(8)),
                       *_decoder_blif(["a0", "a1", "a2"], ("en",), False, [f"y{k}" for k in range(8)]), ".end", ""])
-    build, outs, ins = _build(tmp_path, text, msi74, gates74)
+    result, outs, ins = _build(tmp_path, text, msi74, gates74)
+    build = result.build
     assert build.part_counts()["74HC138"] == 1
     for got, v in zip(outs, ins):
         word = v["a0"] + 2 * v["a1"] + 4 * v["a2"]
@@ -94,7 +128,8 @@ def test_textbook_2_to_4_decoders_with_active_low_enable(tmp_path, msi74, gates7
         outs += [f"y{d}_{k}_n" for k in range(4)]
         body += [f".names g{d}_n g{d}", "0 1", *_decoder_blif(sel, (f"g{d}",), True, outs[-4:])]
     text = "\n".join(lines + [".inputs " + " ".join(ins), ".outputs " + " ".join(outs), *body, ".end", ""])
-    build, got_rows, in_rows = _build(tmp_path, text, msi74, gates74)
+    result, got_rows, in_rows = _build(tmp_path, text, msi74, gates74)
+    build = result.build
     assert build.part_counts() == chips
     for got, v in zip(got_rows, in_rows):
         for d in range(decoders):
@@ -126,8 +161,10 @@ def test_textbook_4_to_16_decoder_on_two_3_to_8_chips(tmp_path, msi74, gates74, 
     body = _decoder_blif(sel, (), False, names) if form == "and4" else _predecoded_4_to_16(sel, names)
     text = "\n".join([".model dec416", ".inputs " + " ".join(sel), ".outputs " + " ".join(names), *body,
                       ".end", ""])
-    build, outs, ins = _build(tmp_path, text, msi74, gates74)
+    result, outs, ins = _build(tmp_path, text, msi74, gates74)
+    build = result.build
     assert build.part_counts()["74HC138"] == 2 and "74HC139" not in build.part_counts()
+    assert _iverilog(tmp_path, result, ins) == outs
     dec = [c for c in build.cells if c.cell == "dec3"]
     enables = sorted((net, pin) for c in dec for pin, net in c.pins.items()
                      if pin in ("E1_N", "E2_N", "E3") and net not in ("VCC", "GND"))
@@ -150,8 +187,10 @@ def test_decoder_outputs_feeding_other_logic(tmp_path, msi74, gates74):
                       *_decoder_blif(sel, (), True, cs),
                       ".names cs6_n cs7_n io_n", "11 1", ".names cs0_n rd rom_rd", "01 1",
                       ".names cs1_n cs2_n wr ram_wr", "0-1 1", "-01 1", ".end", ""])
-    build, outs, ins = _build(tmp_path, text, msi74, gates74)
+    result, outs, ins = _build(tmp_path, text, msi74, gates74)
+    build = result.build
     assert build.part_counts()["74HC138"] == 1
+    assert _iverilog(tmp_path, result, ins) == outs
     for got, v in zip(outs, ins):
         a = v["a0"] + 2 * v["a1"] + 4 * v["a2"]
         assert [got[n] for n in cs] == [int(a != k) for k in range(8)]
