@@ -116,6 +116,23 @@ def test_textbook_3_to_8_decoder_with_enable(tmp_path, msi74, gates74):
         assert [got[f"y{k}"] for k in range(8)] == [int(v["en"] == 1 and word == k) for k in range(8)]
 
 
+def test_the_138s_own_logic_with_three_enables(tmp_path, msi74, gates74):
+    # the '138's logic as gates (common practice; its function table from memory): an enable gate on when
+    # E3 is high and E1_N, E2_N low, and a NAND gate per output -- one '138, each enable on its own pin
+    sel = ["a0", "a1", "a2"]
+    names = [f"y{k}_n" for k in range(8)]
+    text = "\n".join([".model dec138", ".inputs a0 a1 a2 e1_n e2_n e3", ".outputs " + " ".join(names),
+                      ".names e1_n e2_n e3 en", "001 1", *_decoder_blif(sel, ("en",), True, names), ".end", ""])
+    result, outs, ins = _build(tmp_path, text, msi74, gates74)
+    assert result.build.part_counts() == {"74HC138": 1}
+    cell = next(c for c in result.build.cells if c.cell == "dec3")
+    assert (cell.pins["E1_N"], cell.pins["E2_N"], cell.pins["E3"]) in (("e1_n", "e2_n", "e3"), ("e2_n", "e1_n", "e3"))
+    for got, v in zip(outs, ins):
+        on = v["e3"] == 1 and v["e1_n"] == 0 and v["e2_n"] == 0
+        word = v["a0"] + 2 * v["a1"] + 4 * v["a2"]
+        assert [got[n] for n in names] == [int(not (on and word == k)) for k in range(8)]
+
+
 @pytest.mark.parametrize("decoders,chips", [(1, {"74HC139": 1}), (2, {"74HC139": 1})])
 def test_textbook_2_to_4_decoders_with_active_low_enable(tmp_path, msi74, gates74, decoders, chips):
     # NAND gates of the selects (or their inverters) and the enable (active low, through an inverter),
