@@ -58,6 +58,20 @@ ks16 34 parts); the msi-74 and plug-in columns of --quick came out the same::
     -------------------------------------------------------------
     adders: mean msi-74 parts / plug-in 0.153; over 0.5: none
     designs with more parts on msi-74 than on gates-74: none
+
+Decoder rows, measured on 2026-12-05 on branch decoders (the decoder finder,
+mapper/fit/blockdec.py); every other row's msi-74 and plug-in columns came
+out as above (gates-74 as after the merge)::
+
+    design      plug  gates-74  msi-74  MSI  x plug      s  proof
+    -------------------------------------------------------------
+    dec3to8        5         5       3    1    0.60    0.1  proved
+    dec2to4        3         3       1    1    0.33    0.0  proved
+    dec4to16       8         7       5    2    0.62    0.2  proved
+    dec3to8n       4         4       1    1    0.25    0.1  proved
+
+(Outputs active high cost an inverter each: dec3to8 is one '138 and two hex
+inverters, dec4to16 two '138s and three.)
 """
 from __future__ import annotations
 
