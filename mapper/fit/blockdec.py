@@ -60,6 +60,7 @@ class _Cubes:
         return min(cands, key=lambda c: (self.rank[c[0]], c[0]))
 
     def _and(self, lits: dict) -> int:
+        """The signature of the AND of the literals ``{net: value}``."""
         sigs = self.sigs
         v = sigs.mask
         for net, pol in lits.items():
@@ -72,7 +73,8 @@ class _Cubes:
         sigs = self.sigs
         mask = sigs.mask
         target = sigs.sig[y] ^ (mask if inv else 0)
-        # a cube of two or more literals is on at most about a quarter of the patterns
+        # a cube of two or more literals is on in about a quarter of the patterns at most (a third
+        # allowed for the spread of random patterns): nets on more often are no decoder output
         if target == 0 or 3 * bin(target).count("1") > mask.bit_length():
             return None
         off = mask if inv else 0
