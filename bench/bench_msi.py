@@ -4,7 +4,10 @@ Designs: adders (ripple-carry, carry-lookahead, Kogge-Stone, Brent-Kung,
 Sklansky, carry-select, PG ripple; 4, 8 and 16 bits) and comparators from
 the independent generator library ariths-gen; textbook circuits
 (tests/data/textbook: 4-way multiplexer tree, 2-bit comparator, 4-bit
-counter, 7-segment decoder, full and half adder).
+counter, 7-segment decoder, full and half adder); textbook decoders written
+as gates here (:func:`decoder_blif`: 3-to-8 with an enable and 4-to-16,
+outputs active high; 2-to-4 with an active-low enable and 3-to-8, outputs
+active low).
 
 Columns: *plug* is the direct plug-in of the design's gates on gates-74
 (each gate into the chip that carries it, packed per part type; the fair
@@ -55,6 +58,20 @@ ks16 34 parts); the msi-74 and plug-in columns of --quick came out the same::
     -------------------------------------------------------------
     adders: mean msi-74 parts / plug-in 0.153; over 0.5: none
     designs with more parts on msi-74 than on gates-74: none
+
+Decoder rows, measured on 2026-12-05 on branch decoders (the decoder finder,
+mapper/fit/blockdec.py); every other row's msi-74 and plug-in columns came
+out as above (gates-74 as after the merge)::
+
+    design      plug  gates-74  msi-74  MSI  x plug      s  proof
+    -------------------------------------------------------------
+    dec3to8        5         5       3    1    0.60    0.1  proved
+    dec2to4        3         3       1    1    0.33    0.0  proved
+    dec4to16       8         7       5    2    0.62    0.2  proved
+    dec3to8n       4         4       1    1    0.25    0.1  proved
+
+(Outputs active high cost an inverter each: dec3to8 is one '138 and two hex
+inverters, dec4to16 two '138s and three.)
 """
 from __future__ import annotations
 
@@ -79,6 +96,33 @@ ADDERS = [(k, w) for k in ("rca", "cla", "ks", "bk", "sk", "csel", "pg") for w i
 COMPARATORS = [("lt", 8), ("gte", 16), ("gt", 12)]
 TEXTBOOK = ["mux4", "cmp2", "counter4", "seg7", "full_adder", "half_adder"]
 QUICK = [("rca", 8), ("cla", 8), ("ks", 16), ("lt", 8)]
+#: textbook decoders written as gates (common practice): name -> (selects, enable, outputs active low)
+DECODERS = {"dec3to8": (3, "en", False), "dec2to4": (2, "g_n", True), "dec4to16": (4, None, False),
+            "dec3to8n": (3, None, True)}
+
+
+def decoder_blif(name: str, folder) -> Path:
+    """A textbook decoder as gates: an inverter per select, an AND (NAND when active low) per output of
+    the selects or their inverters and the enable (an active-low enable through an inverter)."""
+    width, enable, low = DECODERS[name]
+    sel = [f"a{j}" for j in range(width)]
+    outs = [f"y{k}" for k in range(1 << width)]
+    lines = [f".model {name}", ".inputs " + " ".join(sel + ([enable] if enable else [])),
+             ".outputs " + " ".join(outs)]
+    lines += [line for s in sel for line in (f".names {s} {s}_n", "0 1")]
+    en = []
+    if enable:
+        en = ["g"] if enable.endswith("_n") else [enable]
+        if enable.endswith("_n"):
+            lines += [f".names {enable} g", "0 1"]
+    for k, out in enumerate(outs):
+        ins = en + [s if (k >> j) & 1 else f"{s}_n" for j, s in enumerate(sel)]
+        rows = ["".join("0" if i == m else "-" for i in range(len(ins))) + " 1" for m in range(len(ins))] \
+            if low else ["1" * len(ins) + " 1"]
+        lines += [f".names {' '.join(ins)} {out}", *rows]
+    path = Path(folder) / f"{name}.blif"
+    path.write_text("\n".join(lines + [".end", ""]))
+    return path
 
 
 def designs(folder, quick=False):
@@ -88,6 +132,8 @@ def designs(folder, quick=False):
     if not quick:
         for name in TEXTBOOK:
             yield name, ROOT / "tests" / "data" / "textbook" / f"{name}.blif", False
+        for name in DECODERS:
+            yield name, decoder_blif(name, folder), False
 
 
 def measure(design, gates, msi) -> dict:

@@ -33,6 +33,7 @@ from ..errors import InternalError
 from ..logic.function import Function
 from ..netlist import Logic, Netlist, Storage
 from .blockarith import find_adders, find_comparators
+from .blockdec import find_decoders
 from .blockmux import find_muxes
 from .blockstore import find_counters, find_registers
 from .blockuse import RAILS, BlockUse, Signatures, prove_uses
@@ -47,8 +48,9 @@ _NOT = Function.from_table(1, 0b01)
 
 #: finders in the order they claim nets: counters before registers (a counter's flip-flops are also a
 #: register), comparisons before adders (a comparison's borrow chain is also a chain of majority carries,
-#: which the adder finder would take as a poorer adder chip)
-FINDERS: list = [find_counters, find_registers, find_comparators, find_adders, find_muxes]
+#: which the adder finder would take as a poorer adder chip); decoders last (an AND of a few nets, which
+#: is all a decoder output is, is also inside adders and comparators)
+FINDERS: list = [find_counters, find_registers, find_comparators, find_adders, find_muxes, find_decoders]
 
 
 _PLAIN: dict = {}
@@ -295,13 +297,39 @@ def _ties(b: Build, target: Target, refs: set) -> None:
 
 # -- the two builds ------------------------------------------------------------------------------------
 def with_blocks(design: Netlist, target: Target, search: Callable[[Netlist], Build]) -> Build:
-    """The build of ``design`` with the fewest whole parts, with and without the target's blocks."""
+    """The build of ``design`` with the fewest whole parts, with and without the target's blocks.
+
+    When decoders were found beside other blocks, the blocks are also tried without the decoders (a
+    decoder takes a few AND gates, which may pack better with the rest), and the fewer parts kept."""
     plain = search(design)
     plain.target = target
     uses = find_uses(design, target)
     if not uses:
         plain.notes.append("medium-scale chips: none of the target's blocks found in the design")
         return plain
+    tries = [uses]
+    others = [u for u in uses if u.family != "decoder"]
+    if others and len(others) < len(uses):
+        tries.append(others)
+    best = None
+    for these in tries:
+        got = _block_build(design, these, target, search)
+        if got is not None and (best is None or len(got[0].parts) < len(best[0].parts)):
+            best = got
+    if best is None:
+        return plain
+    built, what = best
+    if len(built.parts) < len(plain.parts):
+        built.notes.append(f"medium-scale chips: {what} ({len(built.parts)} parts; {len(plain.parts)} without them)")
+        return built
+    plain.notes.append(f"medium-scale chips tried ({what}): {len(built.parts)} parts against "
+                       f"{len(plain.parts)} without them; kept the build without them")
+    return plain
+
+
+def _block_build(design: Netlist, uses: list, target: Target, search: Callable[[Netlist], Build]) -> tuple | None:
+    """``(build, what it uses)`` of ``design`` with ``uses`` placed (those on a loop dropped), or ``None``
+    when none is left."""
     rest, plan = carve(design, uses)
     bad = loops(design, uses, plan)
     while bad:
@@ -309,7 +337,7 @@ def with_blocks(design: Netlist, target: Target, search: Callable[[Netlist], Bui
         rest, plan = carve(design, uses)
         bad = loops(design, uses, plan)
     if not uses:
-        return plain
+        return None
     rb = search(rest)
     rb.target = target
     built = _finish(place(rb, design, uses, plan, target), design)
@@ -317,12 +345,7 @@ def with_blocks(design: Netlist, target: Target, search: Callable[[Netlist], Bui
     for u in uses:
         families[u.family] = families.get(u.family, 0) + 1
     what = ", ".join(f"{v} {k} section{'s' * (v != 1)}" for k, v in sorted(families.items()))
-    if len(built.parts) < len(plain.parts):
-        built.notes.append(f"medium-scale chips: {what} ({len(built.parts)} parts; {len(plain.parts)} without them)")
-        return built
-    plain.notes.append(f"medium-scale chips tried ({what}): {len(built.parts)} parts against "
-                       f"{len(plain.parts)} without them; kept the build without them")
-    return plain
+    return built, what
 
 
 def _finish(b: Build, design: Netlist) -> Build:
