@@ -59,29 +59,7 @@ class Register:
 
 def eval_expression(expr: Expression, values: dict, mask: int) -> int:
     """Bit-parallel value of ``expr`` with ``values[name]`` holding many values of each name."""
-    stack: list = []
-    for item in expr.postfix:
-        op = item[0]
-        if op == "name":
-            stack.append(values[item[1]])
-        elif op == "const":
-            stack.append(mask if item[1] else 0)
-        elif op == "not":
-            stack.append(~stack.pop() & mask)
-        elif op == "mux":
-            e, t, c = stack.pop(), stack.pop(), stack.pop()
-            stack.append((c & t) | (~c & e & mask))
-        else:
-            b, a = stack.pop(), stack.pop()
-            if op == "and":
-                stack.append(a & b)
-            elif op == "or":
-                stack.append(a | b)
-            elif op == "xor":
-                stack.append(a ^ b)
-            else:  # xnor
-                stack.append(~(a ^ b) & mask)
-    return stack[0]
+    return expr.evaluate(values, mask)
 
 
 @dataclass

@@ -142,20 +142,23 @@ class Expression:
         n = len(inputs)
         if n > MAX_TABLE_INPUTS:
             raise ValueError(f"a cell of {n} inputs is too wide for a truth table")
-        index = {name: j for j, name in enumerate(inputs)}
         full = (1 << (1 << n)) - 1
+        return self.evaluate({name: var_mask(n, j) for j, name in enumerate(inputs)}, full)
+
+    def evaluate(self, values: dict, mask: int) -> int:
+        """Bit-parallel value: ``values[name]`` holds many values of each name, one per bit of ``mask``."""
         stack: list[int] = []
         for item in self.postfix:
             op = item[0]
             if op == "name":
-                stack.append(var_mask(n, index[item[1]]))
+                stack.append(values[item[1]])
             elif op == "const":
-                stack.append(full if item[1] else 0)
+                stack.append(mask if item[1] else 0)
             elif op == "not":
-                stack.append(~stack.pop() & full)
+                stack.append(~stack.pop() & mask)
             elif op == "mux":
                 e, t, c = stack.pop(), stack.pop(), stack.pop()
-                stack.append((c & t) | (~c & e & full))
+                stack.append((c & t) | (~c & e & mask))
             else:
                 b, a = stack.pop(), stack.pop()
                 if op == "and":
@@ -165,7 +168,7 @@ class Expression:
                 elif op == "xor":
                     stack.append(a ^ b)
                 else:  # xnor
-                    stack.append(~(a ^ b) & full)
+                    stack.append(~(a ^ b) & mask)
         assert len(stack) == 1, "postfix form is balanced by construction"
         return stack[0]
 
