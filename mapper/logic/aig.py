@@ -101,7 +101,9 @@ class AIG:
     def add_output(self, name: str, lit: int) -> None:
         self.outputs.append((name, lit))
 
-    def add_and(self, a: int, b: int) -> int:
+    def find_and(self, a: int, b: int) -> int | None:
+        """The literal :meth:`add_and` would return when it would create no node (a constant, an
+        operand, or an AND node that exists); ``None`` when it would create one."""
         if a > b:
             a, b = b, a
         if a == 0:
@@ -112,9 +114,14 @@ class AIG:
             return a
         if a == b ^ 1:
             return 0
-        key = (a, b)
-        lit = self._by_fanins.get(key)
+        return self._by_fanins.get((a, b))
+
+    def add_and(self, a: int, b: int) -> int:
+        lit = self.find_and(a, b)
         if lit is None:
+            if a > b:
+                a, b = b, a
+            key = (a, b)
             var = len(self.f0)
             self.f0.append(a)
             self.f1.append(b)

@@ -17,7 +17,7 @@ from __future__ import annotations
 from ..aig import AIG
 from ..function import Function, var_mask
 
-__all__ = ["frame", "finish", "cleanup", "roots", "mffc_size", "global_tables", "lookup_and", "to_netlist",
+__all__ = ["frame", "finish", "cleanup", "roots", "mffc_size", "global_tables", "to_netlist",
            "Levels"]
 
 
@@ -68,22 +68,6 @@ def cleanup(aig: AIG) -> AIG:
             a, b = f0[v], f1[v]
             lit[v] = new.add_and(lit[a >> 1] ^ (a & 1), lit[b >> 1] ^ (b & 1))
     return finish(aig, new, lit)
-
-
-def lookup_and(aig: AIG, a: int, b: int) -> int | None:
-    """The literal ``aig.add_and(a, b)`` would return, when it would create
-    no node; ``None`` when it would."""
-    if a > b:
-        a, b = b, a
-    if a == 0:
-        return 0
-    if a == 1:
-        return b
-    if a == b:
-        return a
-    if a == b ^ 1:
-        return 0
-    return aig._by_fanins.get((a, b))
 
 
 def mffc_size(aig: AIG, v: int, refs: list, leaves=()) -> tuple[int, list]:

@@ -33,7 +33,7 @@ from .. import exact
 from ..aig import AIG
 from ..function import isop
 from .factor import factor_into
-from .graph import cleanup, lookup_and
+from .graph import cleanup
 
 __all__ = ["structure", "apply", "new_nodes"]
 
@@ -136,7 +136,7 @@ def new_nodes(aig: AIG, ops, leaves, dying=frozenset(), limit: int = 1 << 30) ->
         x, y = sig[a >> 1], sig[b >> 1]
         got = None
         if x is not None and y is not None:
-            got = lookup_and(aig, x ^ (a & 1), y ^ (b & 1))
+            got = aig.find_and(x ^ (a & 1), y ^ (b & 1))
         if got is None or (got >> 1) in dying:
             count += 1
             if count > limit:
