@@ -339,6 +339,14 @@ def _read_back_equal(out, design, b):
     assert res.equivalent, res.to_dict()
 
 
+def test_reader_and_writer_agree_on_the_models_file_name():
+    # the reader finds the models file by the writer's name for it (it does not import the writer)
+    from mapper.read import verilog as reader
+    from mapper.write import verilog as writer
+    assert reader.MODELS_SUFFIX == writer.MODELS_SUFFIX
+    assert writer.models_file("out/c17.v").name == "c17" + reader.MODELS_SUFFIX
+
+
 # source: Icarus Verilog runs the same exported pair (the outside reader); netfit's own reader must
 # read it back and prove it equal to the design on every target shipped
 @needs_iverilog
