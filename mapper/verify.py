@@ -84,6 +84,7 @@ from .logic.aig import AIG, from_netlist
 from .logic.cnf import AigCnf
 from .logic.feedback import align_cuts, has_feedback
 from .logic.flowtable import compare_flow
+from .logic.gateflops import edge_form
 from .logic.function import var_mask
 from .netlist import Netlist
 from .simulate import simulate
@@ -152,16 +153,19 @@ class EquivalenceResult:
     counterexample: dict | None = None
     notes: list = field(default_factory=list)
     stats: dict = field(default_factory=dict)
+    #: False when the answer is "not proved" rather than "different" (the proof could not be set up)
+    decided: bool = True
 
     def to_dict(self) -> dict:
         """Plain data with the stable keys ``equivalent``, ``method``,
-        ``counterexample``, ``notes`` and ``stats``."""
+        ``counterexample``, ``notes``, ``stats`` and ``decided``."""
         return {
             "equivalent": self.equivalent,
             "method": self.method,
             "counterexample": self.counterexample,
             "notes": list(self.notes),
             "stats": dict(self.stats),
+            "decided": self.decided,
         }
 
 
@@ -278,8 +282,47 @@ def _match_storage(a: Netlist, b: Netlist, notes: list) -> tuple[bool, bool]:
     return kinds_ok, init_ok
 
 
+# -- storage built of gates -------------------------------------------------
+_GATE_STORAGE = (
+    "B's storage is built of gates: its feedback loops were cut again one per latch (the shortest loop first) and "
+    "each read by its flow table (Huffman's model); two latches on opposite levels of one clock, the second fed "
+    "from the first, are read as one edge-triggered flip-flop (master and slave): this assumes clean clock edges "
+    "with the data settled before each edge, as any flip-flop does")
+
+
+def _edge_storage(x: Netlist) -> bool:
+    return any(st.kind in ("re", "fe") for st in x.storage().values())
+
+
+def read_gate_storage(a: Netlist, b: Netlist, notes: list):
+    """``(a, b, names of latches read from gates, reason, read)``: where one design holds its bits in
+    feedback loops of gates and the other in flip-flops, the loops read as latches and flip-flops
+    (:func:`mapper.logic.gateflops.edge_form`; ``read`` is True).  ``reason`` is set when they could not
+    be (then the designs come back as they were and the answer is "not proved")."""
+    for side, x, y in (("B", b, a), ("A", a, b)):
+        if not (has_feedback(x) and not has_feedback(y) and _edge_storage(y)):
+            continue
+        ef = edge_form(x, prefer=y.storage())
+        if ef.netlist is None:
+            return a, b, frozenset(), (f"{side} holds its bits in feedback loops of gates and {ef.why}, so they "
+                                       "could not be read as the other design's flip-flops"), False
+        notes.append(_GATE_STORAGE.replace("B's", f"{side}'s") + f": {len(ef.flip_flops)} flip-flop(s), "
+                     f"{len(ef.latches)} latch(es)")
+        st_y, st_x = y.storage(), ef.netlist.storage()
+        same = [n for n in st_y if n in st_x]
+        if same:
+            notes.append(f"storage paired by name: {_show(same)}")
+        unknown = [n for n in same if st_x[n].init == 3 and st_y[n].init in (0, 1)]
+        if unknown:
+            notes.append(f"{side}'s storage built of gates powers up unknown ({_show(unknown)}): proved equal from "
+                         "the other design's starting values, which a power-on reset must force")
+        loose = frozenset(n for n, st in st_x.items() if st.kind in ("ah", "al"))
+        return (a, ef.netlist, loose, "", True) if side == "B" else (ef.netlist, b, loose, "", True)
+    return a, b, frozenset(), "", False
+
+
 # -- the miter ------------------------------------------------------------
-def _build_miter(a: Netlist, b: Netlist, notes: list):
+def _build_miter(a: Netlist, b: Netlist, notes: list, loose=frozenset()):
     g = AIG()
     shared_in = {name: g.add_input(name) for name in a.inputs}
     shared_st = {}
@@ -305,7 +348,7 @@ def _build_miter(a: Netlist, b: Netlist, notes: list):
     sb = b.storage()
     for name, x in a.storage().items():
         y = sb[name]
-        if x.kind != y.kind and "as" in (x.kind, y.kind):
+        if (x.kind != y.kind and "as" in (x.kind, y.kind)) or (name in loose and {x.kind, y.kind} & {"ah", "al"}):
             q = shared_st[name]
             pairs.append(_Pair("next-state", name, x.d, y.d, _next_lit(g, la, x, q), _next_lit(g, lb, y, q),
                                a_latch=_latch_of(x), b_latch=_latch_of(y)))
@@ -713,9 +756,16 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     notes: list = []
     stats: dict = {}
     b = match_bus_bits(a, b, notes)
+    a, b, loose, why, gates_read = read_gate_storage(a, b, notes)
+    if why:
+        notes.append(why)
+        return EquivalenceResult(False, "storage", None, notes, stats, decided=False)
     a, b, cut_notes = align_cuts(a, b)
     notes += cut_notes
     if not _match_ports(a, b, notes):
+        if gates_read and set(a.inputs) == set(b.inputs) and set(a.outputs) == set(b.outputs):
+            notes.append("the storage read from gates could not be paired one to one with the other design's")
+            return EquivalenceResult(False, "storage", None, notes, stats, decided=False)
         return EquivalenceResult(False, "ports", None, notes, stats)
     kinds_ok, init_ok = _match_storage(a, b, notes)
     if a.storage():
@@ -725,14 +775,16 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     if loops:
         notes.append(_LOOP_ASSUMPTION)
 
-    g, pairs, lit_a, lit_b = _build_miter(a, b, notes)
+    g, pairs, lit_a, lit_b = _build_miter(a, b, notes, loose)
     free = _free_vars(g)
     stats["proof_size"] = g.num_ands  # AND nodes of the graph that joins the two designs
     stats["compared"] = len(pairs)
 
     def finish(equal: bool, method: str, cex=None) -> EquivalenceResult:
+        decided = True
         if equal and not kinds_ok:
             equal, method = False, "storage"
+            decided = not gates_read
         elif equal and not init_ok:
             equal, method = False, "initial-values"
         if equal and loops and has_feedback(a) and has_feedback(b):
@@ -743,7 +795,7 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
         stats["seconds"] = round(time.perf_counter() - t0, 6)
         if cex is not None and any(d["kind"] != "output" for d in cex["differs"]):
             notes.append("the state in the counterexample may not be reachable from the initial state")
-        return EquivalenceResult(equal, method, cex, notes, stats)
+        return EquivalenceResult(equal, method, cex, notes, stats, decided)
 
     todo = [p for p in pairs if p.la != p.lb]
     if not todo:
