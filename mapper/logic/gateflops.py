@@ -44,9 +44,9 @@ from collections import deque
 
 import networkx as nx
 
-from ..netlist import Logic, Netlist, Storage
+from ..netlist import Input, Logic, Netlist, Storage
 from .feedback import has_feedback, recut, uncut
-from .flowtable import tabulate
+from .flowtable import settle, tabulate
 from .function import Function, isop, var_mask
 
 __all__ = ["EdgeForm", "edge_form", "latch_cuts"]
@@ -56,14 +56,19 @@ MAX_LEAVES = 8
 MAX_WIDEN = 4
 #: the longest loop searched for when cutting at the latches (nets, port aliases included)
 MAX_LOOP = 16
+#: the most state variables and inputs of a clock sequencer tabulated for its settled states
+MAX_SEQ_VARS = 12
+MAX_SEQ_INPUTS = 2
 
 
 class EdgeForm:
-    """What :func:`edge_form` made: ``netlist`` (or ``None``), ``flip_flops``, ``latches`` and ``why``
-    (the reason when it could not read every loop as a latch)."""
+    """What :func:`edge_form` made: ``netlist`` (or ``None``), ``flip_flops`` (``(q, master, edge)``),
+    ``latches``, ``sequencer`` (state variables read in their settled states) and ``why`` (the reason
+    when it could not read every loop as a latch)."""
 
-    def __init__(self, netlist, flip_flops=(), latches=(), why=""):
+    def __init__(self, netlist, flip_flops=(), latches=(), why="", sequencer=()):
         self.netlist = netlist
+        self.sequencer = list(sequencer)
         self.flip_flops = list(flip_flops)
         self.latches = list(latches)
         self.why = why
@@ -141,10 +146,101 @@ def latch_cuts(closed: Netlist, prefer=()) -> list | None:
             g.remove_edges_from(list(g.in_edges(c)))
 
 
+# -- 1b. clock sequencers: loops with one settled state for each input ------------------------------
+def _support(nodes: dict, root: str) -> set:
+    """Inputs and storage outputs the logic of ``root`` reads (walked back through logic)."""
+    seen: set = set()
+    out: set = set()
+    stack = [root]
+    while stack:
+        n = stack.pop()
+        if n in seen:
+            continue
+        seen.add(n)
+        node = nodes.get(n)
+        if isinstance(node, Logic):
+            stack.extend(node.fanins)
+        else:
+            out.add(n)
+    return out
+
+
+def _settled(netlist: Netlist, group: list, ins: list) -> dict | None:
+    """``{state variable: truth table over ins}`` when the loops of ``group`` rest in exactly one state
+    for each setting of ``ins``, and reach it from the one of every setting an input away; else None."""
+    nodes = netlist.nodes
+    m, k = len(ins), len(group)
+    words = tabulate(netlist, [nodes[u].d for u in group], list(ins) + list(group))
+    if words is None:
+        return None
+    exc = [words[nodes[u].d] for u in group]
+    nexts = [[sum(((exc[j] >> (x | (y << m))) & 1) << j for j in range(k)) for x in range(1 << m)]
+             for y in range(1 << k)]
+    rest = []
+    for x in range(1 << m):
+        stable = [y for y in range(1 << k) if nexts[y][x] == y]
+        if len(stable) != 1:
+            return None
+        rest.append(stable[0])
+    for x in range(1 << m):
+        if any(settle(nexts, x ^ (1 << j), rest[x]) != rest[x ^ (1 << j)] for j in range(m)):
+            return None
+    return {u: sum(((rest[x] >> j) & 1) << x for x in range(1 << m)) for j, u in enumerate(group)}
+
+
+def settle_sequencers(netlist: Netlist, cuts: list) -> dict:
+    """State variables of clock sequencers: ``{net: (inputs, truth table)}``.
+
+    A group of loops that reads only primary inputs (at most :data:`MAX_SEQ_INPUTS`) and loops of such
+    groups, and rests in exactly one state for each setting of those inputs -- reached from the rest
+    of every setting an input away -- is a sequencer: in Huffman's fundamental mode its state
+    variables are functions of the inputs once settled (a relay build steps its clock through such
+    phases).  Loops that hold data (two rests for some input) are never in it.
+    """
+    nodes = netlist.nodes
+    cset = set(cuts)
+    sup = {c: _support(nodes, nodes[c].d) for c in cuts}
+    g = nx.DiGraph()
+    g.add_nodes_from(cuts)
+    g.add_edges_from((s, c) for c in cuts for s in sup[c] if s in cset)
+    cond = nx.condensation(g)
+    seq: dict = {}
+    for comp_id in nx.topological_sort(cond):
+        comp = sorted(cond.nodes[comp_id]["members"])
+        group = set(comp)
+        stack = list(comp)
+        while stack:  # with the sequencer loops it reads
+            for s in sup[stack.pop()]:
+                if s in cset and s not in group:
+                    if s not in seq:
+                        group = set()
+                        break
+                    group.add(s)
+                    stack.append(s)
+            if not group:
+                break
+        if not group or len(group) > MAX_SEQ_VARS:
+            continue
+        ins = sorted({s for u in group for s in sup[u] if s not in cset})
+        if len(ins) > MAX_SEQ_INPUTS or any(not isinstance(nodes.get(i), Input) for i in ins):
+            continue
+        tables = _settled(netlist, sorted(group), ins)
+        if tables is not None:
+            for u in comp:
+                seq[u] = (tuple(ins), tables[u])
+    return seq
+
+
 # -- 2. each latch by its flow table ------------------------------------------------------------
+def _const(nodes: dict, n: str) -> int | None:
+    """0 or 1 for a constant net, else None."""
+    node = nodes.get(n)
+    return node.func.constant_value() if isinstance(node, Logic) and not node.fanins else None
+
+
 def _root(nodes: dict, n: str) -> tuple[str, int]:
     """``(net, inverted)``: ``n`` followed back through buffers and inverters (gates all of whose inputs
-    are one net, port aliases included)."""
+    but constants are one net, port aliases included)."""
     pol = 0
     for _ in range(64):
         node = nodes.get(n)
@@ -158,15 +254,17 @@ def _root(nodes: dict, n: str) -> tuple[str, int]:
                     f = fn.fanins[0]
                 else:
                     break
-            ins.add(f)
+            if _const(nodes, f) is None:
+                ins.add(f)
         if len(ins) != 1:
             break
-        k = len(node.fanins)
-        v0, v1 = node.func(*([0] * k)), node.func(*([1] * k))
+        (x,) = ins
+        v0, v1 = (node.func(*[_const(nodes, f) if _const(nodes, f) is not None else v for f in node.fanins])
+                  for v in (0, 1))
         if v0 == v1:
             break
         pol ^= v0
-        n = ins.pop()
+        n = x
     return n, pol
 
 
@@ -203,7 +301,7 @@ def _widen(nodes: dict, leaves: list) -> list:
         node = nodes.get(n)
         ins = node.fanins if isinstance(node, Logic) and node.fanins else (n,)
         for f in ins:
-            if f not in out:
+            if f not in out and _const(nodes, f) is None:
                 out.append(f)
     return out
 
@@ -232,7 +330,7 @@ def _latch(netlist: Netlist, q: str) -> dict | None:
     leaves: list = []
     for n in own:
         for f in nodes[n].fanins:
-            if f not in own and f != q and f not in leaves:
+            if f not in own and f != q and f not in leaves and _const(nodes, f) is None:
                 leaves.append(f)
     leaves.sort()
     found = None
@@ -362,8 +460,11 @@ def edge_form(netlist: Netlist, prefer=()) -> EdgeForm:
     cut = recut(netlist, cuts)
     if cut is None:
         return EdgeForm(None, why="cutting each latch on its own left a loop uncut")
+    seq = settle_sequencers(cut, cuts)
+    for u, (ins, table) in seq.items():
+        cut.nodes[u] = Logic(ins, Function.from_table(len(ins), table))
     latches = {}
-    for q in cuts:
+    for q in [c for c in cuts if c not in seq]:
         lt = _latch(cut, q)
         if lt is None:
             return EdgeForm(None, why=f"the loop through '{q}' is not a latch (it oscillates for some input, "
@@ -374,4 +475,4 @@ def edge_form(netlist: Netlist, prefer=()) -> EdgeForm:
     if has_feedback(out):
         return EdgeForm(None, why="some feedback is left once the latches are read")
     left = [q for q in cuts if isinstance(out.nodes.get(q), Storage) and out.nodes[q].kind in ("ah", "al")]
-    return EdgeForm(out, flops, left)
+    return EdgeForm(out, flops, left, sequencer=sorted(seq))
