@@ -84,7 +84,7 @@ from .logic.aig import AIG, from_netlist
 from .logic.cnf import AigCnf
 from .logic.feedback import align_cuts, has_feedback
 from .logic.flowtable import compare_flow
-from .logic.gateflops import edge_form
+from .logic.gateflops import edge_form, pair_through_nets
 from .logic.function import var_mask
 from .netlist import Netlist
 from .simulate import simulate
@@ -284,10 +284,10 @@ def _match_storage(a: Netlist, b: Netlist, notes: list) -> tuple[bool, bool]:
 
 # -- storage built of gates -------------------------------------------------
 _GATE_STORAGE = (
-    "B's storage is built of gates: its feedback loops were cut again one per latch (the shortest loop first) and "
-    "each read by its flow table (Huffman's model); two latches on opposite levels of one clock, the second fed "
-    "from the first, are read as one edge-triggered flip-flop (master and slave): this assumes clean clock edges "
-    "with the data settled before each edge, as any flip-flop does")
+    "its feedback loops were cut again one per latch (the shortest loop first) and each read by its flow table "
+    "(Huffman's model); two latches on opposite levels of one clock, the second fed from the first, are one "
+    "edge-triggered flip-flop (master and slave): this assumes clean clock edges with the data settled before "
+    "each edge, as any flip-flop does")
 
 
 def _edge_storage(x: Netlist) -> bool:
@@ -306,16 +306,25 @@ def read_gate_storage(a: Netlist, b: Netlist, notes: list):
         if ef.netlist is None:
             return a, b, frozenset(), (f"{side} holds its bits in feedback loops of gates and {ef.why}, so they "
                                        "could not be read as the other design's flip-flops"), False
-        notes.append(_GATE_STORAGE.replace("B's", f"{side}'s") + f": {len(ef.flip_flops)} flip-flop(s), "
-                     f"{len(ef.latches)} latch(es)")
+        notes.append(f"{side} holds its bits in feedback loops (gates or relay contacts), read as "
+                     f"{len(ef.flip_flops)} flip-flop(s) and {len(ef.latches)} latch(es): " + _GATE_STORAGE)
+        if ef.sequencer:
+            notes.append(f"{side}'s clock sequencer ({_show(ef.sequencer)}) rests in one state for each level of "
+                         "its inputs and is read in those settled states; that its steps land in order is a "
+                         "matter of timing, not of this proof")
+        renamed, through = pair_through_nets(ef.netlist, y.storage())
+        if through:
+            ef.netlist = renamed
+            notes.append(f"storage paired through the net {side} reads it by: " + ", ".join(
+                f"'{v}' is {'the complement of ' if inv else ''}'{s_}'" for v, s_, inv in through))
         st_y, st_x = y.storage(), ef.netlist.storage()
         same = [n for n in st_y if n in st_x]
         if same:
-            notes.append(f"storage paired by name: {_show(same)}")
+            notes.append(f"storage paired with the other design's by name: {_show(same)}")
         unknown = [n for n in same if st_x[n].init == 3 and st_y[n].init in (0, 1)]
         if unknown:
-            notes.append(f"{side}'s storage built of gates powers up unknown ({_show(unknown)}): proved equal from "
-                         "the other design's starting values, which a power-on reset must force")
+            notes.append(f"{side}'s storage built of gates powers up unknown ({_show(unknown)}): compared from the "
+                         "other design's starting values, which a power-on reset must force")
         loose = frozenset(n for n, st in st_x.items() if st.kind in ("ah", "al"))
         return (a, ef.netlist, loose, "", True) if side == "B" else (ef.netlist, b, loose, "", True)
     return a, b, frozenset(), "", False

@@ -49,7 +49,7 @@ from .feedback import has_feedback, recut, uncut
 from .flowtable import settle, tabulate
 from .function import Function, isop, var_mask
 
-__all__ = ["EdgeForm", "edge_form", "latch_cuts"]
+__all__ = ["EdgeForm", "edge_form", "latch_cuts", "pair_through_nets", "settle_sequencers"]
 
 #: the most nets a latch's excitation is tabulated over, and the levels it is widened by
 MAX_LEAVES = 8
@@ -306,6 +306,19 @@ def _widen(nodes: dict, leaves: list) -> list:
     return out
 
 
+def _covered(nodes: dict, leaves: list) -> list:
+    """``leaves`` without the logic nets computed from the others alone (a sequencer's settled phase next
+    to the clock it is a function of): tabulated as variables they would be free where they are not."""
+    leaves = list(leaves)
+    while True:
+        have = set(leaves)
+        drop = [n for n in leaves if isinstance(nodes.get(n), Logic) and nodes[n].fanins
+                and all(f in have or _const(nodes, f) is not None for f in nodes[n].fanins)]
+        if not drop:
+            return leaves
+        leaves = [n for n in leaves if n != drop[0]]
+
+
 def _literal(nodes: dict, leaves: list, t: int, care: int, m: int, skip=()) -> tuple[str, int] | None:
     """``(root net, level)`` of a leaf equal to ``t`` wherever ``care`` is 1, else None."""
     full = (1 << (1 << m)) - 1
@@ -335,6 +348,7 @@ def _latch(netlist: Netlist, q: str) -> dict | None:
     leaves.sort()
     found = None
     for _ in range(MAX_WIDEN + 1):
+        leaves = _covered(nodes, leaves)
         m = len(leaves)
         if m + 1 > MAX_LEAVES + 1:
             break
@@ -476,3 +490,34 @@ def edge_form(netlist: Netlist, prefer=()) -> EdgeForm:
         return EdgeForm(None, why="some feedback is left once the latches are read")
     left = [q for q in cuts if isinstance(out.nodes.get(q), Storage) and out.nodes[q].kind in ("ah", "al")]
     return EdgeForm(out, flops, left, sequencer=sorted(seq))
+
+
+def pair_through_nets(netlist: Netlist, names) -> tuple[Netlist, list]:
+    """Storage elements of ``netlist`` renamed to the ``names`` (another design's storage) that it reads
+    them by: ``(netlist, [(name, element, complemented)])``.
+
+    Where ``netlist`` has no storage element called ``v`` but a net ``v`` that is a storage element
+    ``s`` of no name in ``names`` through buffers or an inverter (a relay build holds a bit that must
+    start at 1 as its complement, read from a break contact), the element is called ``v`` and ``s``
+    becomes ``v`` or its complement: the same machine with that bit's encoding flipped, its data
+    complemented and its starting value too.
+    """
+    out = netlist.copy()
+    nodes = out.nodes
+    names = list(names)
+    taken = set(names)
+    pairs = []
+    for v in names:
+        if isinstance(nodes.get(v), Storage) or not isinstance(nodes.get(v), Logic):
+            continue
+        s_, pol = _root(nodes, v)
+        st = nodes.get(s_)
+        if s_ == v or s_ in taken or not isinstance(st, Storage) or st.kind == "as":
+            continue
+        taken.add(s_)
+        d = _positive(out, st.d, 1 - pol, f"{v}.d_n")
+        init = st.init ^ pol if st.init in (0, 1) else st.init
+        nodes[v] = Storage(d, st.kind, st.control, init)
+        nodes[s_] = Logic((v,), Function.from_table(1, 0b01 if pol else 0b10))
+        pairs.append((v, s_, bool(pol)))
+    return out, pairs
