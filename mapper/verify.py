@@ -71,6 +71,7 @@ settled.
 from __future__ import annotations
 
 import heapq
+import itertools
 import logging
 import random
 import re
@@ -84,7 +85,7 @@ from .logic.aig import AIG, from_netlist
 from .logic.cnf import AigCnf
 from .logic.feedback import align_cuts, has_feedback
 from .logic.flowtable import compare_flow
-from .logic.gateflops import edge_form, pair_through_nets
+from .logic.gateflops import edge_form, encode, pair_through_nets
 from .logic.function import var_mask
 from .netlist import Netlist
 from .simulate import simulate
@@ -294,6 +295,55 @@ def _edge_storage(x: Netlist) -> bool:
     return any(st.kind in ("re", "fe") for st in x.storage().values())
 
 
+#: the most storage elements left unpaired by name that :func:`_correspond` pairs by trying, and its tries
+MAX_CORRESPOND = 4
+_CORRESPOND_TRIES = 400
+
+
+def _correspond(y: Netlist, x: Netlist, side: str, notes: list) -> Netlist | None:
+    """``x`` with the storage elements no name pairs renamed to ``y``'s, each maybe complemented, where
+    such a one-to-one pairing is proved to hold in every step (else None).
+
+    Register correspondence by induction (C. A. J. van Eijk, "Sequential equivalence checking based on
+    structural similarities", IEEE TCAD 19(7), 2000), for a one-to-one pairing: if, whenever paired
+    elements agree, the next states and outputs agree, then pairs that agree at the start agree ever
+    after.  That step is exactly the proof with the paired elements as shared free variables, so each
+    candidate pairing (same kind and control, names alike first, a complement where the starting values
+    say so) is tried by the prover itself; random simulation turns down a wrong one at once.
+    """
+    sy, sx = y.storage(), x.storage()
+    uy = [n for n in sy if n not in sx]
+    ux = [n for n in sx if n not in sy]
+    if not uy or len(uy) != len(ux) or len(uy) > MAX_CORRESPOND:
+        return None
+
+    def fits(ny, nx_):
+        ey, ex = sy[ny], sx[nx_]
+        return ey.kind == ex.kind and (ey.control is None) == (ex.control is None)
+
+    def polarities(ny, nx_):
+        iy, ix = sy[ny].init, sx[nx_].init
+        return [iy ^ ix] if iy in (0, 1) and ix in (0, 1) else [0, 1]
+
+    tries = 0
+    for perm in sorted(itertools.permutations(ux), key=lambda p: sum(not q.startswith(n) for n, q in zip(uy, p))):
+        if not all(fits(n, q) for n, q in zip(uy, perm)):
+            continue
+        for pols in itertools.product(*(polarities(n, q) for n, q in zip(uy, perm))):
+            tries += 1
+            if tries > _CORRESPOND_TRIES:
+                return None
+            mapping = {q: (n, p) for n, q, p in zip(uy, perm, pols)}
+            cand = encode(x, mapping)
+            res = check_equivalence(cand, y) if side == "A" else check_equivalence(y, cand)
+            if res.equivalent:
+                notes.append(f"storage left unpaired by name ({len(uy)}) paired by trying one-to-one pairings "
+                             f"and proving each step keeps them ({tries} tried): " + ", ".join(
+                                 f"'{n}' is {'the complement of ' if p else ''}'{q}'" for q, (n, p) in mapping.items()))
+                return cand
+    return None
+
+
 def read_gate_storage(a: Netlist, b: Netlist, notes: list):
     """``(a, b, names of latches read from gates, reason, read)``: where one design holds its bits in
     feedback loops of gates and the other in flip-flops, the loops read as latches and flip-flops
@@ -317,6 +367,9 @@ def read_gate_storage(a: Netlist, b: Netlist, notes: list):
             ef.netlist = renamed
             notes.append(f"storage paired through the net {side} reads it by: " + ", ".join(
                 f"'{v}' is {'the complement of ' if inv else ''}'{s_}'" for v, s_, inv in through))
+        paired = _correspond(y, ef.netlist, side, notes)
+        if paired is not None:
+            ef.netlist = paired
         st_y, st_x = y.storage(), ef.netlist.storage()
         same = [n for n in st_y if n in st_x]
         if same:

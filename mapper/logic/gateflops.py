@@ -49,7 +49,7 @@ from .feedback import has_feedback, recut, uncut
 from .flowtable import settle, tabulate
 from .function import Function, isop, var_mask
 
-__all__ = ["EdgeForm", "edge_form", "latch_cuts", "pair_through_nets", "settle_sequencers"]
+__all__ = ["EdgeForm", "edge_form", "latch_cuts", "pair_through_nets", "settle_sequencers", "encode"]
 
 #: the most nets a latch's excitation is tabulated over, and the levels it is widened by
 MAX_LEAVES = 8
@@ -502,11 +502,9 @@ def pair_through_nets(netlist: Netlist, names) -> tuple[Netlist, list]:
     becomes ``v`` or its complement: the same machine with that bit's encoding flipped, its data
     complemented and its starting value too.
     """
-    out = netlist.copy()
-    nodes = out.nodes
-    names = list(names)
+    nodes = netlist.nodes
     taken = set(names)
-    pairs = []
+    mapping = {}
     for v in names:
         if isinstance(nodes.get(v), Storage) or not isinstance(nodes.get(v), Logic):
             continue
@@ -515,9 +513,31 @@ def pair_through_nets(netlist: Netlist, names) -> tuple[Netlist, list]:
         if s_ == v or s_ in taken or not isinstance(st, Storage) or st.kind == "as":
             continue
         taken.add(s_)
+        mapping[s_] = (v, pol)
+    if not mapping:
+        return netlist, []
+    return encode(netlist, mapping), [(v, s_, bool(pol)) for s_, (v, pol) in mapping.items()]
+
+
+def encode(netlist: Netlist, mapping: dict) -> Netlist:
+    """A copy of ``netlist`` whose storage element ``s`` is called ``v`` for each ``s: (v, complemented)``
+    of ``mapping``, holding the complement of its old value where ``complemented`` (its data and known
+    starting value complemented too); net ``s`` becomes ``v`` or its complement, so the copy does the
+    same as ``netlist``.  A net already called ``v`` is that element's old reading of it (a buffer or an
+    inverter of ``s``, see :func:`pair_through_nets`) or is renamed out of the way first.
+    """
+    clash = {v: f"{v}.was" for s_, (v, _) in mapping.items() if v in netlist.nodes and _root(netlist.nodes, v)[0] != s_}
+    for k, new in clash.items():
+        while new in netlist.nodes:
+            new += "_"
+        clash[k] = new
+    out = netlist.renamed(clash) if clash else netlist.copy()
+    nodes = out.nodes
+    for s_, (v, pol) in mapping.items():
+        st = nodes[s_]
         d = _positive(out, st.d, 1 - pol, f"{v}.d_n")
         init = st.init ^ pol if st.init in (0, 1) else st.init
+        nodes.pop(v, None)
         nodes[v] = Storage(d, st.kind, st.control, init)
         nodes[s_] = Logic((v,), Function.from_table(1, 0b01 if pol else 0b10))
-        pairs.append((v, s_, bool(pol)))
-    return out, pairs
+    return out
