@@ -291,10 +291,6 @@ _GATE_STORAGE = (
     "each edge, as any flip-flop does")
 
 
-def _edge_storage(x: Netlist) -> bool:
-    return any(st.kind in ("re", "fe") for st in x.storage().values())
-
-
 #: the most storage elements left unpaired by name that :func:`_correspond` pairs by trying, and its tries
 MAX_CORRESPOND = 4
 _CORRESPOND_TRIES = 400
@@ -346,12 +342,13 @@ def _correspond(y: Netlist, x: Netlist, side: str, notes: list) -> Netlist | Non
 
 def read_gate_storage(a: Netlist, b: Netlist, notes: list):
     """``(a, b, names of latches read from gates, reason, read)``: where one design holds its bits in
-    feedback loops of gates and the other in flip-flops, the loops read as latches and flip-flops
+    feedback loops of gates or relays and the other in declared storage of other names, the loops read
+    as latches and flip-flops
     (:func:`mapper.logic.gateflops.edge_form`; ``read`` is True).  ``reason`` is set when they could not
     be (then the designs come back as they were and the answer is "not proved")."""
     for side, x, y in (("B", b, a), ("A", a, b)):
-        if not (has_feedback(x) and not has_feedback(y) and _edge_storage(y)):
-            continue
+        if not (has_feedback(x) and not has_feedback(y) and y.storage() and set(x.storage()) != set(y.storage())):
+            continue  # the same storage names: a loop is compared with its latch as it is
         ef = edge_form(x, prefer=y.storage())
         if ef.netlist is None:
             return a, b, frozenset(), (f"{side} holds its bits in feedback loops of gates and {ef.why}, so they "
@@ -367,16 +364,16 @@ def read_gate_storage(a: Netlist, b: Netlist, notes: list):
             ef.netlist = renamed
             notes.append(f"storage paired through the net {side} reads it by: " + ", ".join(
                 f"'{v}' is {'the complement of ' if inv else ''}'{s_}'" for v, s_, inv in through))
+        same = [n for n in y.storage() if n in ef.netlist.storage()]
+        if same:
+            notes.append(f"storage paired with the other design's by name: {_show(same)}")
         paired = _correspond(y, ef.netlist, side, notes)
         if paired is not None:
             ef.netlist = paired
         st_y, st_x = y.storage(), ef.netlist.storage()
-        same = [n for n in st_y if n in st_x]
-        if same:
-            notes.append(f"storage paired with the other design's by name: {_show(same)}")
         unknown = [n for n in same if st_x[n].init == 3 and st_y[n].init in (0, 1)]
         if unknown:
-            notes.append(f"{side}'s storage built of gates powers up unknown ({_show(unknown)}): compared from the "
+            notes.append(f"{side}'s storage built of gates or relays powers up unknown ({_show(unknown)}): compared from the "
                          "other design's starting values, which a power-on reset must force")
         loose = frozenset(n for n, st in st_x.items() if st.kind in ("ah", "al"))
         return (a, ef.netlist, loose, "", True) if side == "B" else (ef.netlist, b, loose, "", True)
