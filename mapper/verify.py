@@ -823,7 +823,12 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     notes += cut_notes
     if not _match_ports(a, b, notes):
         if gates_read and set(a.inputs) == set(b.inputs) and set(a.outputs) == set(b.outputs):
-            notes.append("the storage read from gates could not be paired one to one with the other design's")
+            sb = b.storage()
+            for name, x in a.storage().items():
+                if name in sb and x.kind != sb[name].kind:
+                    notes.append(f"storage element '{name}' is of kind '{x.kind}' in A but '{sb[name].kind}' in B")
+            notes.append("the storage read from gates or relays could not be paired one to one with the other "
+                         "design's")
             return EquivalenceResult(False, "storage", None, notes, stats, decided=False)
         return EquivalenceResult(False, "ports", None, notes, stats)
     kinds_ok, init_ok = _match_storage(a, b, notes)
