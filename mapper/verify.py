@@ -85,8 +85,8 @@ from .logic.aig import AIG, from_netlist
 from .logic.cnf import AigCnf
 from .logic.feedback import align_cuts, has_feedback
 from .logic.flowtable import compare_flow
-from .logic.gateflops import edge_form, encode, pair_through_nets
 from .logic.function import var_mask
+from .logic.gateflops import edge_form, encode, pair_through_nets
 from .netlist import Netlist
 from .simulate import simulate
 
@@ -373,8 +373,8 @@ def read_gate_storage(a: Netlist, b: Netlist, notes: list):
         st_y, st_x = y.storage(), ef.netlist.storage()
         unknown = [n for n in same if st_x[n].init == 3 and st_y[n].init in (0, 1)]
         if unknown:
-            notes.append(f"{side}'s storage built of gates or relays powers up unknown ({_show(unknown)}): compared from the "
-                         "other design's starting values, which a power-on reset must force")
+            notes.append(f"{side}'s storage built of gates or relays powers up unknown ({_show(unknown)}): compared "
+                         "from the other design's starting values, which a power-on reset must force")
         loose = frozenset(n for n, st in st_x.items() if st.kind in ("ah", "al"))
         return (a, ef.netlist, loose, "", True) if side == "B" else (ef.netlist, b, loose, "", True)
     return a, b, frozenset(), "", False

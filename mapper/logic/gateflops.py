@@ -246,7 +246,7 @@ def _root(nodes: dict, n: str) -> tuple[str, int]:
         node = nodes.get(n)
         if not isinstance(node, Logic) or not node.fanins:
             break
-        ins = set()
+        resolved = []
         for f in node.fanins:
             while True:  # port aliases: one-input buffers
                 fn = nodes.get(f)
@@ -254,13 +254,12 @@ def _root(nodes: dict, n: str) -> tuple[str, int]:
                     f = fn.fanins[0]
                 else:
                     break
-            if _const(nodes, f) is None:
-                ins.add(f)
+            resolved.append((f, _const(nodes, f)))
+        ins = {f for f, c in resolved if c is None}
         if len(ins) != 1:
             break
         (x,) = ins
-        v0, v1 = (node.func(*[_const(nodes, f) if _const(nodes, f) is not None else v for f in node.fanins])
-                  for v in (0, 1))
+        v0, v1 = (node.func(*[v if c is None else c for _, c in resolved]) for v in (0, 1))
         if v0 == v1:
             break
         pol ^= v0
