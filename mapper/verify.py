@@ -67,6 +67,25 @@ states, and the same state after each single input change
 not).  A note states the assumption all this rests on: Huffman's
 fundamental mode -- inputs change one at a time, once every loop has
 settled.
+
+Storage built of gates or relays
+--------------------------------
+A build on a target without storage parts, exported and read back, holds
+its bits in feedback loops, cut where the reader cut them (several latches
+and the logic between them in one region).  When the other design declares
+storage of other names, the loops are read again
+(:func:`mapper.logic.gateflops.edge_form`): cut one per latch, each latch
+by its flow table, a relay build's clock sequencer in its settled states,
+and two latches on opposite levels of one clock, the second fed from the
+first, as one edge-triggered flip-flop (master and slave).  The elements
+are then paired with the other design's: by name; through a net that reads
+one (a bit held as its complement); else by trying one-to-one pairings, up
+to complement, each proved by the miter itself -- if paired elements that
+agree give agreeing next states and outputs, they agree ever after
+(register correspondence by induction, van Eijk, IEEE TCAD 19(7), 2000).
+Notes say how the pairing was found.  Loops that cannot be read so, or
+storage that cannot be paired, give "not proved" (``decided`` False), never
+"equal" and never "different".
 """
 from __future__ import annotations
 
@@ -147,6 +166,9 @@ class EquivalenceResult:
     notes : list of str
     stats : dict
         Sizes, SAT calls, merges and seconds (for reports and benchmarks).
+    decided : bool
+        False when not equivalent means "not proved": storage of gates or
+        relays that could not be read or paired (the notes say why).
     """
 
     equivalent: bool
