@@ -393,7 +393,7 @@ def read_gate_storage(a: Netlist, b: Netlist, notes: list):
         if paired is not None:
             ef.netlist = paired
         st_y, st_x = y.storage(), ef.netlist.storage()
-        unknown = [n for n in same if st_x[n].init == 3 and st_y[n].init in (0, 1)]
+        unknown = [n for n in st_y if n in st_x and st_x[n].init == 3 and st_y[n].init in (0, 1)]
         if unknown:
             notes.append(f"{side}'s storage built of gates or relays powers up unknown ({_show(unknown)}): compared "
                          "from the other design's starting values, which a power-on reset must force")

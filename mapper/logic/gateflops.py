@@ -349,7 +349,7 @@ def _latch(netlist: Netlist, q: str) -> dict | None:
     for _ in range(MAX_WIDEN + 1):
         leaves = _covered(nodes, leaves)
         m = len(leaves)
-        if m + 1 > MAX_LEAVES + 1:
+        if m > MAX_LEAVES:
             break
         words = tabulate(netlist, [exc], leaves + [q])
         if words is None:
