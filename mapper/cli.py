@@ -136,6 +136,10 @@ def cmd_verify(args):
     else:
         if res["equivalent"]:
             print(f"equal: {args.a} and {args.b} do the same logic ({_HOW_PROVED.get(res['method'], res['method'])})")
+        elif not res.get("decided", True):
+            print(f"not proved: {args.a} and {args.b} ({res['method']})")
+            for note in res.get("notes", []):
+                print(f"  {note}")
         else:
             print(f"different: {args.a} and {args.b} ({res['method']})")
             cex = res.get("counterexample") or {}

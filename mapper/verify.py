@@ -67,10 +67,30 @@ states, and the same state after each single input change
 not).  A note states the assumption all this rests on: Huffman's
 fundamental mode -- inputs change one at a time, once every loop has
 settled.
+
+Storage built of gates or relays
+--------------------------------
+A build on a target without storage parts, exported and read back, holds
+its bits in feedback loops, cut where the reader cut them (several latches
+and the logic between them in one region).  When the other design declares
+storage of other names, the loops are read again
+(:func:`mapper.logic.gateflops.edge_form`): cut one per latch, each latch
+by its flow table, a relay build's clock sequencer in its settled states,
+and two latches on opposite levels of one clock, the second fed from the
+first, as one edge-triggered flip-flop (master and slave).  The elements
+are then paired with the other design's: by name; through a net that reads
+one (a bit held as its complement); else by trying one-to-one pairings, up
+to complement, each proved by the miter itself -- if paired elements that
+agree give agreeing next states and outputs, they agree ever after
+(register correspondence by induction, van Eijk, IEEE TCAD 19(7), 2000).
+Notes say how the pairing was found.  Loops that cannot be read so, or
+storage that cannot be paired, give "not proved" (``decided`` False), never
+"equal" and never "different".
 """
 from __future__ import annotations
 
 import heapq
+import itertools
 import logging
 import random
 import re
@@ -85,6 +105,7 @@ from .logic.cnf import AigCnf
 from .logic.feedback import align_cuts, has_feedback
 from .logic.flowtable import compare_flow
 from .logic.function import var_mask
+from .logic.gateflops import edge_form, encode, pair_through_nets
 from .netlist import Netlist
 from .simulate import simulate
 
@@ -145,6 +166,9 @@ class EquivalenceResult:
     notes : list of str
     stats : dict
         Sizes, SAT calls, merges and seconds (for reports and benchmarks).
+    decided : bool
+        False when not equivalent means "not proved": storage of gates or
+        relays that could not be read or paired (the notes say why).
     """
 
     equivalent: bool
@@ -152,16 +176,19 @@ class EquivalenceResult:
     counterexample: dict | None = None
     notes: list = field(default_factory=list)
     stats: dict = field(default_factory=dict)
+    #: False when the answer is "not proved" rather than "different" (the proof could not be set up)
+    decided: bool = True
 
     def to_dict(self) -> dict:
         """Plain data with the stable keys ``equivalent``, ``method``,
-        ``counterexample``, ``notes`` and ``stats``."""
+        ``counterexample``, ``notes``, ``stats`` and ``decided``."""
         return {
             "equivalent": self.equivalent,
             "method": self.method,
             "counterexample": self.counterexample,
             "notes": list(self.notes),
             "stats": dict(self.stats),
+            "decided": self.decided,
         }
 
 
@@ -278,8 +305,105 @@ def _match_storage(a: Netlist, b: Netlist, notes: list) -> tuple[bool, bool]:
     return kinds_ok, init_ok
 
 
+# -- storage built of gates -------------------------------------------------
+_GATE_STORAGE = (
+    "its feedback loops were cut again one per latch (the shortest loop first) and each read by its flow table "
+    "(Huffman's model); two latches on opposite levels of one clock, the second fed from the first, are one "
+    "edge-triggered flip-flop (master and slave): this assumes clean clock edges with the data settled before "
+    "each edge, as any flip-flop does")
+
+
+#: the most storage elements left unpaired by name that :func:`_correspond` pairs by trying, and its tries
+MAX_CORRESPOND = 4
+_CORRESPOND_TRIES = 400
+
+
+def _correspond(y: Netlist, x: Netlist, side: str, notes: list) -> Netlist | None:
+    """``x`` with the storage elements no name pairs renamed to ``y``'s, each maybe complemented, where
+    such a one-to-one pairing is proved to hold in every step (else None).
+
+    Register correspondence by induction (C. A. J. van Eijk, "Sequential equivalence checking based on
+    structural similarities", IEEE TCAD 19(7), 2000), for a one-to-one pairing: if, whenever paired
+    elements agree, the next states and outputs agree, then pairs that agree at the start agree ever
+    after.  That step is exactly the proof with the paired elements as shared free variables, so each
+    candidate pairing (same kind and control, names alike first, a complement where the starting values
+    say so) is tried by the prover itself; random simulation turns down a wrong one at once.
+    """
+    sy, sx = y.storage(), x.storage()
+    uy = [n for n in sy if n not in sx]
+    ux = [n for n in sx if n not in sy]
+    if not uy or len(uy) != len(ux) or len(uy) > MAX_CORRESPOND:
+        return None
+
+    def fits(ny, nx_):
+        ey, ex = sy[ny], sx[nx_]
+        return ey.kind == ex.kind and (ey.control is None) == (ex.control is None)
+
+    def polarities(ny, nx_):
+        iy, ix = sy[ny].init, sx[nx_].init
+        return [iy ^ ix] if iy in (0, 1) and ix in (0, 1) else [0, 1]
+
+    tries = 0
+    for perm in sorted(itertools.permutations(ux), key=lambda p: sum(not q.startswith(n) for n, q in zip(uy, p))):
+        if not all(fits(n, q) for n, q in zip(uy, perm)):
+            continue
+        for pols in itertools.product(*(polarities(n, q) for n, q in zip(uy, perm))):
+            tries += 1
+            if tries > _CORRESPOND_TRIES:
+                return None
+            mapping = {q: (n, p) for n, q, p in zip(uy, perm, pols)}
+            cand = encode(x, mapping)
+            res = check_equivalence(cand, y) if side == "A" else check_equivalence(y, cand)
+            if res.equivalent:
+                notes.append(f"storage left unpaired by name ({len(uy)}) paired by trying one-to-one pairings "
+                             f"and proving each step keeps them ({tries} tried): " + ", ".join(
+                                 f"'{n}' is {'the complement of ' if p else ''}'{q}'" for q, (n, p) in mapping.items()))
+                return cand
+    return None
+
+
+def read_gate_storage(a: Netlist, b: Netlist, notes: list):
+    """``(a, b, names of latches read from gates, reason, read)``: where one design holds its bits in
+    feedback loops of gates or relays and the other in declared storage of other names, the loops read
+    as latches and flip-flops
+    (:func:`mapper.logic.gateflops.edge_form`; ``read`` is True).  ``reason`` is set when they could not
+    be (then the designs come back as they were and the answer is "not proved")."""
+    for side, x, y in (("B", b, a), ("A", a, b)):
+        if not (has_feedback(x) and not has_feedback(y) and y.storage() and set(x.storage()) != set(y.storage())):
+            continue  # the same storage names: a loop is compared with its latch as it is
+        ef = edge_form(x, prefer=y.storage())
+        if ef.netlist is None:
+            return a, b, frozenset(), (f"{side} holds its bits in feedback loops of gates and {ef.why}, so they "
+                                       "could not be read as the other design's flip-flops"), False
+        notes.append(f"{side} holds its bits in feedback loops (gates or relay contacts), read as "
+                     f"{len(ef.flip_flops)} flip-flop(s) and {len(ef.latches)} latch(es): " + _GATE_STORAGE)
+        if ef.sequencer:
+            notes.append(f"{side}'s clock sequencer ({_show(ef.sequencer)}) rests in one state for each level of "
+                         "its inputs and is read in those settled states; that its steps land in order is a "
+                         "matter of timing, not of this proof")
+        renamed, through = pair_through_nets(ef.netlist, y.storage())
+        if through:
+            ef.netlist = renamed
+            notes.append(f"storage paired through the net {side} reads it by: " + ", ".join(
+                f"'{v}' is {'the complement of ' if inv else ''}'{s_}'" for v, s_, inv in through))
+        same = [n for n in y.storage() if n in ef.netlist.storage()]
+        if same:
+            notes.append(f"storage paired with the other design's by name: {_show(same)}")
+        paired = _correspond(y, ef.netlist, side, notes)
+        if paired is not None:
+            ef.netlist = paired
+        st_y, st_x = y.storage(), ef.netlist.storage()
+        unknown = [n for n in st_y if n in st_x and st_x[n].init == 3 and st_y[n].init in (0, 1)]
+        if unknown:
+            notes.append(f"{side}'s storage built of gates or relays powers up unknown ({_show(unknown)}): compared "
+                         "from the other design's starting values, which a power-on reset must force")
+        loose = frozenset(n for n, st in st_x.items() if st.kind in ("ah", "al"))
+        return (a, ef.netlist, loose, "", True) if side == "B" else (ef.netlist, b, loose, "", True)
+    return a, b, frozenset(), "", False
+
+
 # -- the miter ------------------------------------------------------------
-def _build_miter(a: Netlist, b: Netlist, notes: list):
+def _build_miter(a: Netlist, b: Netlist, notes: list, loose=frozenset()):
     g = AIG()
     shared_in = {name: g.add_input(name) for name in a.inputs}
     shared_st = {}
@@ -305,7 +429,7 @@ def _build_miter(a: Netlist, b: Netlist, notes: list):
     sb = b.storage()
     for name, x in a.storage().items():
         y = sb[name]
-        if x.kind != y.kind and "as" in (x.kind, y.kind):
+        if (x.kind != y.kind and "as" in (x.kind, y.kind)) or (name in loose and {x.kind, y.kind} & {"ah", "al"}):
             q = shared_st[name]
             pairs.append(_Pair("next-state", name, x.d, y.d, _next_lit(g, la, x, q), _next_lit(g, lb, y, q),
                                a_latch=_latch_of(x), b_latch=_latch_of(y)))
@@ -713,9 +837,21 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     notes: list = []
     stats: dict = {}
     b = match_bus_bits(a, b, notes)
+    a, b, loose, why, gates_read = read_gate_storage(a, b, notes)
+    if why:
+        notes.append(why)
+        return EquivalenceResult(False, "storage", None, notes, stats, decided=False)
     a, b, cut_notes = align_cuts(a, b)
     notes += cut_notes
     if not _match_ports(a, b, notes):
+        if gates_read and set(a.inputs) == set(b.inputs) and set(a.outputs) == set(b.outputs):
+            sb = b.storage()
+            for name, x in a.storage().items():
+                if name in sb and x.kind != sb[name].kind:
+                    notes.append(f"storage element '{name}' is of kind '{x.kind}' in A but '{sb[name].kind}' in B")
+            notes.append("the storage read from gates or relays could not be paired one to one with the other "
+                         "design's")
+            return EquivalenceResult(False, "storage", None, notes, stats, decided=False)
         return EquivalenceResult(False, "ports", None, notes, stats)
     kinds_ok, init_ok = _match_storage(a, b, notes)
     if a.storage():
@@ -725,14 +861,16 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
     if loops:
         notes.append(_LOOP_ASSUMPTION)
 
-    g, pairs, lit_a, lit_b = _build_miter(a, b, notes)
+    g, pairs, lit_a, lit_b = _build_miter(a, b, notes, loose)
     free = _free_vars(g)
     stats["proof_size"] = g.num_ands  # AND nodes of the graph that joins the two designs
     stats["compared"] = len(pairs)
 
     def finish(equal: bool, method: str, cex=None) -> EquivalenceResult:
+        decided = True
         if equal and not kinds_ok:
             equal, method = False, "storage"
+            decided = not gates_read
         elif equal and not init_ok:
             equal, method = False, "initial-values"
         if equal and loops and has_feedback(a) and has_feedback(b):
@@ -743,7 +881,7 @@ def check_equivalence(a: Netlist, b: Netlist, hints: dict | None = None,
         stats["seconds"] = round(time.perf_counter() - t0, 6)
         if cex is not None and any(d["kind"] != "output" for d in cex["differs"]):
             notes.append("the state in the counterexample may not be reachable from the initial state")
-        return EquivalenceResult(equal, method, cex, notes, stats)
+        return EquivalenceResult(equal, method, cex, notes, stats, decided)
 
     todo = [p for p in pairs if p.la != p.lb]
     if not todo:

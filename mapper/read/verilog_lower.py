@@ -20,7 +20,7 @@ from pyslang import ast
 
 from .verilog_bits import Fail
 from .verilog_check import initial_assignments
-from .verilog_expr import Ctx, Net, Scope, fit_width, target_name
+from .verilog_expr import Ctx, Net, Scope, constant_bits, fit_width, target_name
 from .verilog_procs import ProcLowerer
 
 __all__ = ["lower"]
@@ -216,6 +216,9 @@ class _Lowerer(ProcLowerer):
 
     def initial_value(self, scope, kind, net, e, pre):
         ctx = Ctx(scope, pre + net.sym.name, e.sourceRange.start)
+        if (kind != "init" and e.kind == EK.NamedValue and e.symbol.kind == SK.Parameter
+                and constant_bits(e.symbol.value.value, e.type.bitWidth) is None):
+            return  # a storage model's starting value left at x (the models file's default): unknown
         bits = self.value(e, ctx)
         if kind == "init":  # a net declaration assignment: a continuous assignment
             for s, b in zip(net.bits, fit_width(bits, len(net.bits))):

@@ -360,8 +360,8 @@ def test_export_reads_back_equal_on_every_target(tmp_path, path, target):
 
 
 # flip-flop chips with their preset and clear tied off, starting values in 'initial' lines: read
-# back as plain flip-flops (sequential builds of gates and relays hold their bits in feedback loops,
-# which the reader does not take yet)
+# back as plain flip-flops (sequential builds of gates and relays hold their bits in feedback loops:
+# tests/write/test_seq_roundtrip.py)
 @pytest.mark.parametrize("target", ["gates-74", "gates-74ls"])
 def test_sequential_chip_export_reads_back_equal(tmp_path, target):
     design, r = _built(str(DATA / "textbook" / "counter4.blif"), target)
