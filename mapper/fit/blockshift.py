@@ -125,8 +125,9 @@ def _use_164(sigs, chunk: list, ser: tuple, clock: str, cell: str, serial, group
 
 def _use_595(sigs, chunk: list, regs: list, ser: tuple, clock: str, cell: str, serial, group: str,
              link: str | None, last: bool) -> BlockUse:
-    """A '595 holding ``chunk`` and its output register ``regs``, serial input ``ser`` (a literal); ``link`` a net of the chip before's
-    ``QH_S`` (or ``None``); the chip's own ``QH_S`` made a link net unless it is the ``last`` chip."""
+    """A '595 holding ``chunk`` and its output register ``regs``, serial input ``ser`` (a literal);
+    ``link`` a net of the chip before's ``QH_S`` (or ``None``); the chip's own ``QH_S`` made a link net
+    unless it is the ``last`` chip."""
     storage = sigs.design.storage()
     rclk = storage[regs[0]].control
     ins = {"SER": (link, False) if link else ser, "SRCLK": (clock, False), "RCLK": (rclk, False),

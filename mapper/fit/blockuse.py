@@ -381,7 +381,7 @@ def _prove_one(pr: _Prover, u: BlockUse, cd: CellDef, storage: dict, links: dict
         clock = _clock_pin(cd, reg)
         kind = cd.block.kind if cd.block is not None else cd.storage
         # a latch open while its enable is low is the chip's latch open while high on the inverted enable
-        flip = st.kind != kind and MIRROR.get(kind) == st.kind
+        flip = st.kind != kind and MIRROR.get(kind or "") == st.kind
         if (st.kind != kind and not flip) or st.control is None or u.inputs.get(clock) != (st.control, flip):
             return False
         if reg not in nxt or not pr.equal(nxt[reg], pr.lit[st.d]):
