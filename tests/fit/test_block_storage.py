@@ -294,3 +294,68 @@ def test_a_register_with_synchronous_reset_is_not_taken_for_a_counter(tmp_path, 
     path.write_text("\n".join(lines + [".end", ""]))
     _, result = _fit(path, msi74)
     assert "74HC163" not in result.build.part_counts()
+
+
+# -- the wiring list and the glitch finder on block builds ----------------------------------------------
+#: generic 74HC283 pinout (from memory; the catalog's own numbers are not read here): operand, carry and
+#: sum pins
+PINS_283 = {"A1": 5, "A2": 3, "A3": 14, "A4": 12, "B1": 6, "B2": 2, "B3": 15, "B4": 11, "C0": 7,
+            "S1": 4, "S2": 1, "S3": 13, "S4": 10, "C4": 9}
+
+
+def _adder_plus_xor_blif() -> str:
+    """A 4-bit ripple-carry adder of textbook full adders (common practice), no carry in, and y = s0 ^ a0
+    (which is b0: the same value reached through the adder and around it)."""
+    lines = [".model addx", ".inputs " + " ".join([f"a{i}" for i in range(4)] + [f"b{i}" for i in range(4)]),
+             ".outputs " + " ".join([f"s{i}" for i in range(4)] + ["c4", "y"])]
+    carry = None
+    for i in range(4):
+        a, b = f"a{i}", f"b{i}"
+        lines += [f".names {a} {b} t{i}", "10 1", "01 1"]
+        if carry is None:
+            lines += [f".names t{i} s{i}", "1 1", f".names {a} {b} c{i + 1}", "11 1"]
+        else:
+            lines += [f".names t{i} {carry} s{i}", "10 1", "01 1", f".names {a} {b} g{i}", "11 1",
+                      f".names t{i} {carry} p{i}", "11 1", f".names g{i} p{i} c{i + 1}", "1- 1", "-1 1"]
+        carry = f"c{i + 1}"
+    return "\n".join(lines + [".names s0 a0 y", "10 1", "01 1", ".end", ""])
+
+
+@pytest.fixture(scope="module")
+def adder_build(tmp_path_factory, msi74):
+    path = tmp_path_factory.mktemp("addx") / "addx.blif"
+    path.write_text(_adder_plus_xor_blif())
+    design, result = _fit(path, msi74)
+    assert result.build.part_counts()["74HC283"] == 1
+    return result
+
+
+def test_wiring_list_of_an_adder_chip_names_its_pins(adder_build):
+    from mapper.write.wiring import wiring
+    w = wiring(adder_build.build, adder_build.analysis)
+    u = next(p.ref for p in adder_build.build.parts if p.part_id == "74HC283")
+    nets = {n["net"]: n for n in w["nets"]}
+    for i in range(4):   # operands in, sums and the carry out driven from the pins of the pinout
+        assert f"{u}-{PINS_283[f'A{i + 1}']}" in nets[f"a{i}"]["loads"]
+        assert f"{u}-{PINS_283[f'B{i + 1}']}" in nets[f"b{i}"]["loads"]
+        assert nets[adder_build.build.output_nets.get(f"s{i}", f"s{i}")]["drivers"] == [f"{u}-{PINS_283[f'S{i + 1}']}"]
+    assert nets[adder_build.build.output_nets.get("c4", "c4")]["drivers"] == [f"{u}-{PINS_283['C4']}"]
+    assert f"{u}-{PINS_283['C0']}" in nets["GND"]["loads"]   # no carry in: tied low
+
+
+def test_glitch_through_an_adder_chip_and_around_it(adder_build, msi74):
+    # a static hazard (Huffman 1957; Eichelberger 1965): y = s0 ^ a0 is b0 whatever a0 does, but a change
+    # of a0 reaches the XOR at once and again through the adder chip, so y pulses for about the chip's
+    # A-to-sum delay.  The finder must see the chip's path: the widest pulse equals the difference of the
+    # two paths, the longer one going through the '283
+    g = adder_build.analysis.glitches
+    assert g.search is not None and g.errors == 0
+    hazards = [h for h in g.hazards if h["output"] == "y"]
+    assert hazards and all(h["inputs_changed"] == ["a0"] for h in hazards)
+    assert {h["kind"] for h in g.hazards} <= {"static-0", "static-1"}
+    assert all(h["output"] == "y" for h in g.hazards)   # the adder's own outputs change once per change
+    a_to_s = next(p for p in msi74.parts["74HC283"].path_delays["add4"] if "S1" in p.to and "A1" in p.frm)
+    for h in hazards:
+        (short, long_) = sorted(p["delay_s"][1] for p in h["racing_paths"])
+        assert h["width_s"][1] == pytest.approx(long_ - short)
+        assert long_ - short == pytest.approx(a_to_s.max.value)
