@@ -76,6 +76,25 @@ out as above (gates-74 as after the merge)::
 
 (Outputs active high cost an inverter each: dec3to8 is one '138 and two hex
 inverters, dec4to16 two '138s and three.)
+
+Storage rows (``--storage``), measured on 2026-12-05 on branch msi-finders (the latch, shift-register and
+counter finders: mapper/fit/blockstore.py, blockshift.py, blockcount.py)::
+
+    design      plug  gates-74  msi-74  MSI  x plug      s  proof
+    -------------------------------------------------------------
+    sipo8          4         4       1    1    0.25    0.2  proved
+    latch8         2         2       1    1    0.50    0.1  proved
+    loadcount4     8         8       2    1    0.25    1.7  proved
+    shift16        8         8       2    2    0.25    0.1  proved
+    shift11and     7         7       2    2    0.29    0.1  proved
+    conv8          8         8       1    1    0.12    0.1  proved
+    conv16        16        16       2    2    0.12    0.1  proved
+    latch12        3         3       2    2    0.67    0.1  proved
+    decade         7         6       2    1    0.29    1.1  proved
+    loadcount8    16        15       3    2    0.19    2.6  proved
+
+(loadcount4/8: the clear and load are active high in the design, low on the '163: one hex inverter.
+decade: its clear at 9 is a gate of its own bits beside the '163.)
 """
 from __future__ import annotations
 
