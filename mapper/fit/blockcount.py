@@ -97,6 +97,16 @@ def _acts(sigs: Signatures, qs: list, changes: dict, test) -> int:
     return hits
 
 
+def _data_lit(sigs: Signatures, value: int, qs: list) -> tuple | None:
+    """A literal of signature ``value`` to load from: a rail, or a net that reads none of the flip-flops
+    ``qs`` (a net of the counting logic, or a flip-flop's complement, is no data input)."""
+    lit = sigs.find(value, avoid=qs)
+    if lit is None or lit[0] in ("VCC", "GND"):
+        return lit
+    near = cone(sigs.design, lit[0], 2 * _DEPTH, 4 * _WIDTH)
+    return None if set(near) & set(qs) else lit
+
+
 def _controls(sigs: Signatures, qs: list, clear_ok: bool) -> _Controls:
     """The clear and load of the flip-flops ``qs`` of one clock, where the signatures show them."""
     found = _Controls()
@@ -111,8 +121,7 @@ def _controls(sigs: Signatures, qs: list, clear_ok: bool) -> _Controls:
     base = {found.clear[0]: 0 if found.clear[1] else mask} if found.clear else {}
 
     def loads(q, w):
-        lit = sigs.find(w, avoid=(q,))
-        return lit is not None and lit[0] != q
+        return w != sigs.sig[sigs.design.storage()[q].d] and _data_lit(sigs, w, qs) is not None
     for net in cands:
         if found.clear and net == found.clear[0]:
             continue
@@ -153,8 +162,8 @@ def _chain(sigs: Signatures, qs: list, ctl: _Controls) -> tuple | None:
     return best if best is not None and len(best[1]) >= 4 else None
 
 
-def _pins(sigs: Signatures, ctl: _Controls, bits: list) -> dict:
-    """The clear, load and data pins of one chip holding ``bits``."""
+def _pins(sigs: Signatures, ctl: _Controls, bits: list, group: list) -> dict:
+    """The clear, load and data pins of one chip holding ``bits``, flip-flops of the clock's ``group``."""
     storage = sigs.design.storage()
     ins = {"CLR_N": rail_lit(1), "LOAD_N": rail_lit(1)}
     ins.update({p: rail_lit(0) for p in _DATA})
@@ -165,7 +174,7 @@ def _pins(sigs: Signatures, ctl: _Controls, bits: list) -> dict:
         held = dict(ctl.idle)
         held[ctl.load[0]] = sigs.mask if ctl.load[1] else 0
         for p, q in zip(_DATA, bits):
-            lit = sigs.find(sigs.value(storage[q].d, held), avoid=(q,))
+            lit = _data_lit(sigs, sigs.value(storage[q].d, held), group)
             if lit is not None:
                 ins[p] = lit
     return ins
@@ -193,7 +202,7 @@ def find_counters(sigs: Signatures, cells: dict, taken: set, serial) -> list:
             group = serial()
             prev = None
             for k in range(0, len(bits) - len(bits) % 4, 4):
-                ins = _pins(sigs, use_ctl, bits[k:k + 4])
+                ins = _pins(sigs, use_ctl, bits[k:k + 4], qs)
                 ins.update({"CLK": (clock, False), "ENP": enable,
                             "ENT": (f"{prev}.RCO", False) if prev else rail_lit(1)})
                 name = serial()
