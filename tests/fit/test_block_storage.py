@@ -105,6 +105,9 @@ def test_textbook_latch_bank_on_one_octal_latch(data, tmp_path, msi74, gates74, 
     path = data / "textbook" / "latch8.blif"
     design, result = _fit(path, msi74, gates74)
     assert result.build.part_counts() == {"74HC573": 1}
+    # the design starts at 0 but the chip powers up unknown and has no clear (common practice)
+    starts = [c for c in result.analysis.cautions if "must start at 0" in c]
+    assert len(starts) == 8 and all("no clear input" in c for c in starts)
     rng = random.Random(8)
     steps = [{"en": int(rng.random() < 0.4)} | {f"d{i}": rng.getrandbits(1) for i in range(8)} for _ in range(40)]
     got = _iverilog(tmp_path, result, steps, ())
@@ -156,6 +159,9 @@ def test_textbook_shift_register_on_one_164(data, tmp_path, msi74, gates74, netf
     design, result = _fit(path, msi74, gates74)
     build = result.build
     assert build.part_counts() == {"74HC164": 1}
+    # each stage starts at 0 in the design; the chip powers up unknown, its clear (tied off) can empty it
+    starts = [c for c in result.analysis.cautions if "must start at 0" in c]
+    assert len(starts) == 8 and all("clear input" in c and "no clear" not in c for c in starts)
     # generic 74HC164 pinout (from memory): B (pin 2) and the clear (pin 9) tied high; the taps QA-QD on
     # pins 3-6 and QE-QH on 10-13 drive the outputs
     u = build.parts[0].ref
