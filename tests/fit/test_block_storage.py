@@ -291,6 +291,34 @@ def test_decade_counter_clears_itself_through_the_163s_clear(tmp_path, msi74, ga
     assert [_word(g, "q", 4) for g in got] == expect
 
 
+def test_counter_that_loads_at_its_terminal_count_on_the_163s_load(tmp_path, msi74, gates74):
+    # the textbook modulo counter by loading (common practice): a binary counter that loads 6 at the clock
+    # edge after 15, so it runs 0..15 once and then 6..15 (ten states) for ever
+    lines = [".model mod10l", ".inputs clk", ".outputs q0 q1 q2 q3", ".names q0 q1 q2 q3 tc", "1111 1"]
+    carry = None
+    for i in range(4):
+        lines.append(f".latch n{i} q{i} re clk 0")
+        if carry is None:
+            lines += [".names q0 t0", "0 1"]
+            carry = "q0"
+        else:
+            lines += [f".names {carry} q{i} t{i}", "10 1", "01 1"]
+            if i < 3:
+                lines += [f".names {carry} q{i} c{i}", "11 1"]
+                carry = f"c{i}"
+        lines += [f".names tc t{i} n{i}", *(["1- 1", "-1 1"] if (6 >> i) & 1 else ["01 1"])]
+    path = tmp_path / "mod10l.blif"
+    path.write_text("\n".join(lines + [".end", ""]))
+    _, result = _fit(path, msi74, gates74)
+    assert result.build.part_counts()["74HC163"] == 1
+    got = run_cycles(result.build.to_netlist(), [{"clk": 0}] * 40, 1)
+    q, expect = 0, []
+    for _ in range(40):
+        expect.append(q)
+        q = 6 if q == 15 else q + 1
+    assert [_word(g, "q", 4) for g in got] == expect
+
+
 def test_a_register_with_synchronous_reset_is_not_taken_for_a_counter(tmp_path, msi74):
     # d_i = ~rst & x_i has a clear but counts nothing: no counter chip (a register chip, and gates, instead)
     lines = [".model rreg", ".inputs clk rst " + " ".join(f"x{i}" for i in range(6)),
