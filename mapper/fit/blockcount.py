@@ -120,8 +120,9 @@ def _controls(sigs: Signatures, qs: list, clear_ok: bool) -> _Controls:
             break
     base = {found.clear[0]: 0 if found.clear[1] else mask} if found.clear else {}
 
-    def loads(q, w):
-        return w != sigs.sig[sigs.design.storage()[q].d] and _data_lit(sigs, w, qs) is not None
+    def loads(q, w):   # the net held changes what the flip-flop takes, to a value another net has
+        d = sigs.design.storage()[q].d
+        return w != (sigs.value(d, base) if base else sigs.sig[d]) and _data_lit(sigs, w, qs) is not None
     for net in cands:
         if found.clear and net == found.clear[0]:
             continue

@@ -320,7 +320,8 @@ def test_counter_that_loads_at_its_terminal_count_on_the_163s_load(tmp_path, msi
 
 
 def test_a_register_with_synchronous_reset_is_not_taken_for_a_counter(tmp_path, msi74):
-    # d_i = ~rst & x_i has a clear but counts nothing: no counter chip (a register chip, and gates, instead)
+    # d_i = ~rst & x_i has a clear but counts nothing: no counter chip; the six flip-flops on one hex
+    # register chip, the reset as gates before it (common practice), run against the rule clock by clock
     lines = [".model rreg", ".inputs clk rst " + " ".join(f"x{i}" for i in range(6)),
              ".outputs " + " ".join(f"q{i}" for i in range(6))]
     for i in range(6):
@@ -328,7 +329,17 @@ def test_a_register_with_synchronous_reset_is_not_taken_for_a_counter(tmp_path, 
     path = tmp_path / "rreg.blif"
     path.write_text("\n".join(lines + [".end", ""]))
     _, result = _fit(path, msi74)
-    assert "74HC163" not in result.build.part_counts()
+    counts = result.build.part_counts()
+    assert "74HC163" not in counts and counts["74HC174"] == 1
+    rng = random.Random(6)
+    steps = [{"clk": 0, "rst": int(rng.random() < 0.2), **{f"x{i}": rng.getrandbits(1) for i in range(6)}}
+             for _ in range(40)]
+    got = run_cycles(result.build.to_netlist(), steps, 1)
+    q, expect = 0, []
+    for s in steps:
+        expect.append(q)
+        q = 0 if s["rst"] else _word(s, "x", 6)
+    assert [_word(g, "q", 6) for g in got] == expect
 
 
 # -- the wiring list and the glitch finder on block builds ----------------------------------------------
