@@ -18,8 +18,8 @@ chips in the msi-74 build.  The goal of the issue: at most 0.5 x plug on
 the arithmetic set, and never more parts than gates-74.
 
 Storage rows (textbook, common practice): a shift register, a latch bank and a loadable counter from
-tests/data/textbook, and longer chains, a serial-to-parallel converter with an output register, a latch
-bank over one chip, a decade counter and an 8-bit loadable counter (:func:`storage_blif`).
+tests/data (textbook/, latches/), and longer chains, a serial-to-parallel converter with an output
+register, a latch bank over one chip, a decade counter and an 8-bit loadable counter (:func:`storage_blif`).
 
 Run: ``.venv/bin/python bench/bench_msi.py [--quick] [--storage] [--json]``
 
@@ -118,8 +118,8 @@ from mapper.read import read_design  # noqa: E402
 ADDERS = [(k, w) for k in ("rca", "cla", "ks", "bk", "sk", "csel", "pg") for w in (4, 8, 16)]
 COMPARATORS = [("lt", 8), ("gte", 16), ("gt", 12)]
 TEXTBOOK = ["mux4", "cmp2", "counter4", "seg7", "full_adder", "half_adder"]
-#: textbook storage (common practice): files in tests/data/textbook, and shapes written here (:func:`storage_blif`)
-STORAGE_FILES = ["sipo8", "latch8", "loadcount4"]
+#: textbook storage (common practice): files in tests/data, and shapes written here (:func:`storage_blif`)
+STORAGE_FILES = ["textbook/sipo8", "latches/latch8", "textbook/loadcount4"]
 STORAGE = ["shift16", "shift11and", "conv8", "conv16", "latch12", "decade", "loadcount8"]
 QUICK = [("rca", 8), ("cla", 8), ("ks", 16), ("lt", 8)]
 #: textbook decoders written as gates (common practice): name -> (selects, enable, outputs active low)
@@ -209,7 +209,7 @@ def designs(folder, quick=False, storage=False):
     """``(name, path, arithmetic?)`` of every design of the table."""
     if storage or not quick:
         for name in STORAGE_FILES:
-            yield name, ROOT / "tests" / "data" / "textbook" / f"{name}.blif", False
+            yield name.split("/")[1], ROOT / "tests" / "data" / f"{name}.blif", False
         for name in STORAGE:
             yield name, storage_blif(name, folder), False
     if storage:

@@ -1,13 +1,13 @@
 """Storage on medium-scale chips (issue 20): latch banks on octal latches, shift registers on '164 and
 '595, counters with synchronous clear and parallel load on the '163.
 
-Outside sources, named beside each check: textbook circuits (tests/data/textbook/sipo8.blif, latch8.blif,
-loadcount4.blif and the variants written below, common practice) whose behaviour is written here as
-Python rules; the build run clock by clock (``mapper.simulate.run_cycles``, the build's own cells and the
-catalog's models of the chips, not the design) against those rules and against the design; the exported
-structural Verilog and its models run in Icarus Verilog, an independent simulator, with real clock edges
-and enables; the export read back and proved equal to the design.  Every build is proved by SAT, as
-every build is.
+Outside sources, named beside each check: textbook circuits (tests/data/textbook/sipo8.blif,
+loadcount4.blif, tests/data/latches/latch8.blif, their Verilog twins, and the variants written below,
+common practice) whose behaviour is written here as Python rules; the build run clock by clock
+(``mapper.simulate.run_cycles``, the build's own cells and the catalog's models of the chips, not the
+design) against those rules and against the design; the exported structural Verilog and its models run
+in Icarus Verilog, an independent simulator, with real clock edges and enables; the export read back and
+proved equal to the design.  Every build is proved by SAT, as every build is.
 """
 from __future__ import annotations
 
@@ -102,7 +102,7 @@ def _latch_rule(steps: list, n: int, open_level: int) -> list:
 
 
 def test_textbook_latch_bank_on_one_octal_latch(data, tmp_path, msi74, gates74, netfit):
-    path = data / "textbook" / "latch8.blif"
+    path = data / "latches" / "latch8.blif"
     design, result = _fit(path, msi74, gates74)
     assert result.build.part_counts() == {"74HC573": 1}
     # the design starts at 0 but the chip powers up unknown and has no clear (common practice)
@@ -450,7 +450,7 @@ def test_textbook_verilog_storage_built_runs_as_its_source(data, tmp_path, msi74
     # the textbook Verilog (common practice) read by our reader, built with a medium-scale chip; the design's
     # own text and the exported build run side by side in Icarus Verilog on the same random inputs
     ports, clock, chip = VERILOG[name]
-    path = data / "textbook" / name
+    path = data / ("latches" if name.startswith("latch") else "textbook") / name
     design, result = _fit(path, msi74, gates74)
     assert result.build.part_counts()[chip] == 1
     out = tmp_path / "out"
