@@ -17,7 +17,11 @@ them; *x plug* the msi-74 parts over the plug-in; *MSI* the medium-scale
 chips in the msi-74 build.  The goal of the issue: at most 0.5 x plug on
 the arithmetic set, and never more parts than gates-74.
 
-Run: ``.venv/bin/python bench/bench_msi.py [--quick] [--json]``
+Storage rows (textbook, common practice): a shift register, a latch bank and a loadable counter from
+tests/data (textbook/, latches/), and longer chains, a serial-to-parallel converter with an output
+register, a latch bank over one chip, a decade counter and an 8-bit loadable counter (:func:`storage_blif`).
+
+Run: ``.venv/bin/python bench/bench_msi.py [--quick] [--storage] [--json]``
 
 Measured on 2026-12-05 (branch msi-chips before its last merge of main; seconds on a shared 2-processor
 machine).  After that merge the part search's restructured forms lower some gates-74 builds (cla8 13,
@@ -72,6 +76,25 @@ out as above (gates-74 as after the merge)::
 
 (Outputs active high cost an inverter each: dec3to8 is one '138 and two hex
 inverters, dec4to16 two '138s and three.)
+
+Storage rows (``--storage``), measured on 2026-12-05 on branch msi-finders (the latch, shift-register and
+counter finders: mapper/fit/blockstore.py, blockshift.py, blockcount.py)::
+
+    design      plug  gates-74  msi-74  MSI  x plug      s  proof
+    -------------------------------------------------------------
+    sipo8          4         4       1    1    0.25    0.2  proved
+    latch8         2         2       1    1    0.50    0.1  proved
+    loadcount4     8         8       2    1    0.25    1.7  proved
+    shift16        8         8       2    2    0.25    0.1  proved
+    shift11and     7         7       2    2    0.29    0.1  proved
+    conv8          8         8       1    1    0.12    0.1  proved
+    conv16        16        16       2    2    0.12    0.1  proved
+    latch12        3         3       2    2    0.67    0.1  proved
+    decade         7         6       2    1    0.29    1.1  proved
+    loadcount8    16        15       3    2    0.19    2.6  proved
+
+(loadcount4/8: the clear and load are active high in the design, low on the '163: one hex inverter.
+decade: its clear at 9 is a gate of its own bits beside the '163.)
 """
 from __future__ import annotations
 
@@ -95,6 +118,9 @@ from mapper.read import read_design  # noqa: E402
 ADDERS = [(k, w) for k in ("rca", "cla", "ks", "bk", "sk", "csel", "pg") for w in (4, 8, 16)]
 COMPARATORS = [("lt", 8), ("gte", 16), ("gt", 12)]
 TEXTBOOK = ["mux4", "cmp2", "counter4", "seg7", "full_adder", "half_adder"]
+#: textbook storage (common practice): files in tests/data, and shapes written here (:func:`storage_blif`)
+STORAGE_FILES = ["textbook/sipo8", "latches/latch8", "textbook/loadcount4"]
+STORAGE = ["shift16", "shift11and", "conv8", "conv16", "latch12", "decade", "loadcount8"]
 QUICK = [("rca", 8), ("cla", 8), ("ks", 16), ("lt", 8)]
 #: textbook decoders written as gates (common practice): name -> (selects, enable, outputs active low)
 DECODERS = {"dec3to8": (3, "en", False), "dec2to4": (2, "g_n", True), "dec4to16": (4, None, False),
@@ -125,8 +151,69 @@ def decoder_blif(name: str, folder) -> Path:
     return path
 
 
-def designs(folder, quick=False):
+def _chain(lines: list, first: str, n: int, clock: str, stage: str = "q") -> None:
+    lines.append(f".latch {first} {stage}0 re {clock} 0")
+    lines += [f".latch {stage}{i} {stage}{i + 1} re {clock} 0" for i in range(n - 1)]
+
+
+def _counter(lines: list, n: int, carry: str, clear: str | None, load: str | None) -> None:
+    """Bits q0..q(n-1) of a synchronous counter enabled by ``carry``, cleared by ``clear`` (a net, high
+    active), loaded from d0.. by ``load``, at the clock edge (clear first, then load, then count)."""
+    for i in range(n):
+        lines += [f".latch n{i} q{i} re clk 0", f".names {carry} q{i} t{i}", "10 1", "01 1"]
+        if i < n - 1:
+            lines += [f".names {carry} q{i} c{i}", "11 1"]
+            carry = f"c{i}"
+        ins = [x for x in (clear, load) if x] + ([f"d{i}"] if load else []) + [f"t{i}"]
+        ctl = "0" if clear else ""
+        rows = [ctl + "0" * bool(load) + "-" * bool(load) + "1 1"]
+        if load:
+            rows.append(ctl + "11- 1")
+        lines += [f".names {' '.join(ins)} n{i}", *rows]
+
+
+def storage_blif(name: str, folder) -> Path:
+    """Textbook storage (common practice): ``shift16`` a 16-stage serial-in, parallel-out shift register;
+    ``shift11and`` 11 stages whose first takes a AND b; ``conv8``/``conv16`` a shift register on one clock
+    copied by an output register on another (the serial-to-parallel converter); ``latch12`` twelve latches
+    on one enable; ``decade`` a counter that clears itself after 9; ``loadcount8`` an 8-bit counter with
+    synchronous clear and parallel load."""
+    width = {"shift16": 16, "shift11and": 11, "conv8": 8, "conv16": 16, "latch12": 12, "decade": 4,
+             "loadcount8": 8}[name]
+    q = " ".join(f"q{i}" for i in range(width))
+    lines = [f".model {name}"]
+    if name.startswith("shift"):
+        lines += [".inputs clk a b" if name == "shift11and" else ".inputs clk si", f".outputs {q}"]
+        if name == "shift11and":
+            lines += [".names a b si", "11 1"]
+        _chain(lines, "si", width, "clk")
+    elif name.startswith("conv"):
+        lines += [".inputs sclk rclk si", f".outputs {q}"]
+        _chain(lines, "si", width, "sclk", "s")
+        lines += [f".latch s{i} q{i} re rclk 0" for i in range(width)]
+    elif name == "latch12":
+        lines += [".inputs en " + " ".join(f"d{i}" for i in range(width)), f".outputs {q}"]
+        lines += [f".latch d{i} q{i} ah en 0" for i in range(width)]
+    elif name == "decade":
+        lines += [".inputs clk en", f".outputs {q}", ".names q0 q3 en tc", "111 1"]
+        _counter(lines, width, "en", "tc", None)
+    else:
+        lines += [".inputs clk clr ld en " + " ".join(f"d{i}" for i in range(width)), f".outputs {q}"]
+        _counter(lines, width, "en", "clr", "ld")
+    path = Path(folder) / f"{name}.blif"
+    path.write_text("\n".join(lines + [".end", ""]))
+    return path
+
+
+def designs(folder, quick=False, storage=False):
     """``(name, path, arithmetic?)`` of every design of the table."""
+    if storage or not quick:
+        for name in STORAGE_FILES:
+            yield name.split("/")[1], ROOT / "tests" / "data" / f"{name}.blif", False
+        for name in STORAGE:
+            yield name, storage_blif(name, folder), False
+    if storage:
+        return
     for kind, width in QUICK if quick else ADDERS + COMPARATORS:
         yield f"{kind}{width}", generated.make(kind, width, folder), kind in generated.ADDERS
     if not quick:
@@ -154,11 +241,12 @@ def main(argv=None):
     ap = argparse.ArgumentParser()
     ap.add_argument("--quick", action="store_true")
     ap.add_argument("--json", action="store_true")
+    ap.add_argument("--storage", action="store_true", help="only the storage rows")
     args = ap.parse_args(argv)
     gates, msi = flow.load_target("gates-74"), flow.load_target("msi-74")
     rows = []
     with tempfile.TemporaryDirectory() as tmp:
-        for name, path, arith in designs(tmp, args.quick):
+        for name, path, arith in designs(tmp, args.quick, args.storage):
             d = read_design(path)
             row = {"design": name, "arithmetic": arith, **measure(d, gates, msi)}
             print(f"{name}: {row['msi74_parts']} / plug {row['plug_parts']}", file=sys.stderr, flush=True)

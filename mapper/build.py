@@ -332,13 +332,16 @@ class Build:
 def _block_logic(n: Netlist, c: CellInstance, cd: CellDef) -> None:
     """A block cell as logic: a node per assignment, and per register a storage element fed by a node of
     its next value.  Signals no pin shows are named ``<cell>/<signal>``.  A register's clear must be held
-    inactive: the logic has no way to empty storage at once (the matcher never wires it)."""
+    inactive: the logic has no way to empty storage at once (the matcher never wires it).  A register that
+    holds no storage element is spare (the far end of a shift register used in part): it and what reads it
+    are left out, and a wired output or a used register that reads it is an error."""
     blk = cd.block
     assert blk is not None
     net: dict = {p: c.pins.get(p) for p in cd.inputs}
+    spare = {r.name for r in blk.registers if r.name not in c.state}
     for r in blk.registers:
-        if r.name not in c.state:
-            raise InternalError(f"{c.name}: register {r.name} of {cd.name} holds no storage element")
+        if r.name in spare:
+            continue
         net[r.name] = c.state[r.name][0]
         if r.clear is not None:
             idle = "VCC" if r.clear in cd.active_low else "GND"
@@ -349,11 +352,20 @@ def _block_logic(n: Netlist, c: CellInstance, cd: CellDef) -> None:
         raise InternalError(f"{c.name}: input {', '.join(missing)} of {cd.name} is not wired")
     for sig, expr in blk.assigns:
         out = c.pins.get(sig) if sig in cd.outputs else None
+        if spare & set(expr.names):
+            if out:
+                raise InternalError(f"{c.name}: output {sig} of {cd.name} reads a spare register")
+            spare.add(sig)
+            continue
         net[sig] = out or f"{c.name}/{sig}"
         names = list(expr.names)
         n.add_logic(net[sig], [net[x] for x in names], Function.from_table(len(names), expr.table(names)))
     for r in blk.registers:
+        if r.name in spare:
+            continue
         names = list(r.next.names)
+        if spare & set(names):
+            raise InternalError(f"{c.name}: register {r.name} of {cd.name} reads a spare register")
         d = f"{c.name}/{r.name}.next"
         n.add_logic(d, [net[x] for x in names], Function.from_table(len(names), r.next.table(names)))
         n.add_storage(net[r.name], d, blk.kind or "re", net[r.clock], c.state[r.name][1])

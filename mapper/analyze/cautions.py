@@ -86,14 +86,28 @@ def timing_cautions(timing: Timing) -> list:
     return out
 
 
+def _start_advice(has_input: bool, init: int) -> str:
+    role = "clear" if init == 0 else "preset"
+    if has_input:
+        return f"drive its {role} input from a power-on reset if it matters"
+    return f"it has no {role} input: load it before its value matters"
+
+
 def gate_cautions(build: Build) -> list:
     """Storage that must start at a known value: chips and gate loops power up in an unknown state."""
     out = []
     for c in build.cells:
         cd = build.cell_def(c)
         if c.group is None and cd.storage is not None and c.init in (0, 1):
+            role = "clear" if c.init == 0 else "preset"
             out.append(f"{c.pins[cd.output]} must start at {c.init}: the part powers up in an unknown state; "
-                       f"drive its {'clear' if c.init == 0 else 'preset'} input from a power-on reset if it matters")
+                       + _start_advice(any(r == role for r in cd.roles.values()), c.init))
+        elif cd.block is not None and c.state:   # a counter's or shift register's bits
+            for reg, (net, init) in c.state.items():
+                if init in (0, 1):
+                    clear = cd.block.register(reg).clear is not None and init == 0
+                    out.append(f"{net} must start at {init}: the part ({c.part_ref}) powers up in an unknown "
+                               "state; " + _start_advice(clear, init))
     for g in build.storage_groups.values():
         if g.init in (0, 1):
             out.append(f"{g.q} must start at {g.init}: a {g.template} powers up in an unknown state; "

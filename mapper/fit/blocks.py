@@ -33,9 +33,11 @@ from ..errors import InternalError
 from ..logic.function import Function
 from ..netlist import Logic, Netlist, Storage
 from .blockarith import find_adders, find_comparators
+from .blockcount import find_counters
 from .blockdec import find_decoders
 from .blockmux import find_muxes
-from .blockstore import find_counters, find_registers
+from .blockshift import find_shifts
+from .blockstore import find_latches, find_registers
 from .blockuse import RAILS, BlockUse, Signatures, prove_uses
 from .support import add_support
 
@@ -46,11 +48,12 @@ log = logging.getLogger(__name__)
 _BUF = Function.from_table(1, 0b10)
 _NOT = Function.from_table(1, 0b01)
 
-#: finders in the order they claim nets: counters before registers (a counter's flip-flops are also a
-#: register), comparisons before adders (a comparison's borrow chain is also a chain of majority carries,
-#: which the adder finder would take as a poorer adder chip); decoders last (an AND of a few nets, which
-#: is all a decoder output is, is also inside adders and comparators)
-FINDERS: list = [find_counters, find_registers, find_comparators, find_adders, find_muxes, find_decoders]
+#: finders in the order they claim nets: counters, then shift registers, before registers (their
+#: flip-flops are also a register), comparisons before adders (a comparison's borrow chain is also a
+#: chain of majority carries, which the adder finder would take as a poorer adder chip); decoders last
+#: (an AND of a few nets, which is all a decoder output is, is also inside adders and comparators)
+FINDERS: list = [find_counters, find_shifts, find_registers, find_latches, find_comparators, find_adders,
+                 find_muxes, find_decoders]
 
 
 _PLAIN: dict = {}

@@ -39,6 +39,8 @@ log = logging.getLogger(__name__)
 RAILS = ("VCC", "GND")
 #: random patterns of the signatures
 PATTERNS = 1024
+#: storage kinds that are one another on the inverted control (only latches are matched so)
+MIRROR = {"ah": "al", "al": "ah"}
 #: conflicts allowed for one proof of a pin (a few thousand cover every chip-sized function)
 PROOF_BUDGET = 20_000
 
@@ -247,12 +249,16 @@ def _cell_lits(g: AIG, cd: CellDef, ins: dict, regs: dict) -> tuple[dict, dict]:
     """``(output literals, register next-value literals)`` of one cell over input literals ``ins``
     and register literals ``regs``."""
     if cd.block is not None:
+        # registers holding no design storage are spare (the far end of a shift register used in part):
+        # whatever reads them is left out, and a pin or register that needs one is missing from the answer
         env = dict(ins)
         env.update(regs)
         for name, expr in cd.block.assigns:
-            env[name] = _expr_lit(g, expr, env)
-        outs = {o: env[o] for o in cd.outputs}
-        nxt = {r.name: _expr_lit(g, r.next, env) for r in cd.block.registers}
+            if all(x in env for x in expr.names):
+                env[name] = _expr_lit(g, expr, env)
+        outs = {o: env[o] for o in cd.outputs if o in env}
+        nxt = {r.name: _expr_lit(g, r.next, env) for r in cd.block.registers
+               if r.name in regs and all(x in env for x in r.next.names)}
         return outs, nxt
     if cd.storage is not None:  # a flip-flop or latch: its register is its output
         q = regs[cd.output]
@@ -330,7 +336,9 @@ def prove_uses(design: Netlist, uses: list, cells: dict) -> list:
     each design net bound to it (complemented where it says so), and every
     register's next value equals its storage element's data, for every
     input and storage state; a register's clock pin must be fed by the
-    storage element's own control net, of the same kind.
+    storage element's own control net, of the same kind (or, for a latch
+    open at the other level, by its complement).  Registers of a block that
+    hold no storage element are spare: nothing bound may read them.
     """
     storage = design.storage()
     pr = _Prover(design)
@@ -372,11 +380,15 @@ def _prove_one(pr: _Prover, u: BlockUse, cd: CellDef, storage: dict, links: dict
         st = storage[net]
         clock = _clock_pin(cd, reg)
         kind = cd.block.kind if cd.block is not None else cd.storage
-        if st.kind != kind or st.control is None or u.inputs.get(clock) != (st.control, False):
+        # a latch open while its enable is low is the chip's latch open while high on the inverted enable
+        flip = st.kind != kind and MIRROR.get(kind or "") == st.kind
+        if (st.kind != kind and not flip) or st.control is None or u.inputs.get(clock) != (st.control, flip):
             return False
-        if not pr.equal(nxt[reg], pr.lit[st.d]):
+        if reg not in nxt or not pr.equal(nxt[reg], pr.lit[st.d]):
             return False
     for pin, lits in u.outputs.items():
+        if pin not in outs:
+            return False
         for net, inv in lits:
             if net in pr.lit:
                 if not pr.equal(outs[pin] ^ int(inv), pr.lit[net]):

@@ -486,6 +486,7 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
     extra_cells = []
     loop_cells = []
     groups = {}
+    inverted: dict = {}
     for net, node in design.storage().items():
         d, ctrl = mapping.storage_nets[net]
         kind = node.kind
@@ -505,10 +506,11 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
             groups[net] = group
             continue
         cd = target.cells[cell]
-        if invert_ctrl:
-            inv_net = f"{ctrl}_n"
-            extra_cells.append(_inverter_use(target, ctrl, inv_net))
-            ctrl = inv_net
+        if invert_ctrl:   # one inverter per control net, shared by every element on it
+            if ctrl not in inverted:
+                inverted[ctrl] = _fresh(design, f"{ctrl}_n")
+                extra_cells.append(_inverter_use(target, ctrl, inverted[ctrl]))
+            ctrl = inverted[ctrl]
         pins = {cd.inputs[0]: d, cd.inputs[1]: ctrl, cd.output: net}
         for extra in cd.inputs[2:]:
             pins[extra] = "VCC"  # preset/clear inactive (active low)
@@ -529,6 +531,15 @@ def _assemble(design, target, mapping: Mapping, storage_cells):
     b.storage_groups.update(groups)
     b.notes.extend(notes)
     return b
+
+
+def _fresh(design, base: str) -> str:
+    """``base``, or ``base~2``, ``base~3`` ... : a net name the design does not use."""
+    name, k = base, 1
+    while name in design.nodes:
+        k += 1
+        name = f"{base}~{k}"
+    return name
 
 
 def _inverter_use(target, src, out):

@@ -1,8 +1,8 @@
 """The Verilog models of the medium-scale chips (cells.v) run in Icarus Verilog, an outside simulator,
 against the parts' published function tables (issue 20).
 
-The tables are those of generic 74HC283, '85, '138, '139, '151, '161, '163
-and '595 datasheets, as recalled (``from memory``), or the part's defining
+The tables are those of generic 74HC283, '85, '138, '139, '151, '161, '163,
+'164, '373/'573 and '595 datasheets, as recalled (``from memory``), or the part's defining
 arithmetic (``common practice``), written here as Python rules.  A missing
 simulator is a failure (``make debs`` installs it), not a skip.
 """
@@ -137,13 +137,41 @@ def test_595_model_shifts_then_stores(tmp_path, cells):
     assert sum(got[9][f"Q{c}"] << i for i, c in enumerate("ABCDEFGH")) == word
 
 
+def test_164_model_shifts_a_and_b_and_clears_at_once(tmp_path, cells):
+    # from memory: 74HC164 -- at each rising clock QA takes A AND B and every other stage the one before it;
+    # clear low empties all eight at once, without a clock
+    rows = [(1, 1), (0, 1), (1, 0), (1, 1), (1, 1), (0, 0), (1, 1), (0, 1), (1, 1)]
+    steps = [({"CLR_N": 0}, None)] + [({"CLR_N": 1, "A": a, "B": b}, "CLK") for a, b in rows]
+    steps += [({"CLR_N": 1}, None), ({"CLR_N": 0}, None)]
+    got = _run(tmp_path, cells["shift8"], steps)
+    words = [sum(out[f"Q{c}"] << i for i, c in enumerate("ABCDEFGH")) for out in got]
+    q, expect = 0, [0]
+    for a, b in rows:
+        expect.append(q)
+        q = ((q << 1) | (a & b)) & 0xFF
+    assert words[:len(expect)] == expect
+    assert words[-2] == q and words[-1] == 0
+
+
+def test_373_573_model_is_transparent_while_le_is_high(tmp_path, cells):
+    # from memory: 74HC373/573 (output enable held on) -- Q follows D while LE is high, holds while LE is low
+    rows = [(1, 1), (0, 1), (0, 0), (1, 0), (1, 1), (1, 0), (0, 0), (0, 1)]
+    got = _run(tmp_path, cells["latch_q"], [({"D": d, "LE": le}, None) for d, le in rows])
+    q, expect = None, []
+    for d, le in rows:
+        q = d if le else q
+        expect.append(q)
+    assert [out["Q"] for out in got] == expect
+
+
 @pytest.mark.parametrize("name,part", [("counter4", "74HC163"), ("cmp2", "74HC85"), ("mux4", "74HC153"),
-                                       ("full_adder", "74HC283")])
+                                       ("full_adder", "74HC283"), ("sipo8", "74HC164"),
+                                       ("latches/latch8", "74HC573"), ("loadcount4", "74HC163")])
 def test_block_build_exports_verilog_that_reads_back_equal(netfit, data, tmp_path, name, part):
     # a build with a medium-scale chip written as structural Verilog with its models beside it, read back
     # and proved equal to the design it came from (textbook circuits, common practice)
-    design = data / "textbook" / f"{name}.blif"
+    design = data / ("" if "/" in name else "textbook") / f"{name}.blif"
     code, out, _ = netfit("build", design, "-t", "msi-74", "-o", tmp_path / "out", "--json", as_json=True)
     assert code == 0 and out["parts"].get(part) == 1
-    code, out, _ = netfit("verify", design, tmp_path / "out" / f"{name}.v")
+    code, out, _ = netfit("verify", design, tmp_path / "out" / f"{design.stem}.v")
     assert code == 0 and out.startswith("equal")
