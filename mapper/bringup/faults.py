@@ -28,8 +28,14 @@ Friedman, *Digital Systems Testing and Testable Design*, 1990): a net with a
 single pin on it is one line with that pin; an input pin of a gate at its
 controlling value is the gate's output stuck at the value it forces.
 On relay builds a relay fed by its own net alone is its coil, and a relay
-with one used contact is that contact.  Builds with storage are not
-modelled yet.
+with one used contact is that contact.
+
+Edge-triggered flip-flop chips (gate builds): their data, clock, preset and
+clear pins are pins as above, and their Q and Q-bar nets are nets as above.
+A clock pin stuck at 0 and stuck at 1 are one fault -- the flip-flop never
+sees an edge and keeps its start level -- and so are a clock net read by
+clock pins only stuck at 0 and at 1.  Latches and storage built of gates
+or relays are not modelled yet.
 """
 from __future__ import annotations
 
@@ -170,6 +176,7 @@ def _gate_faults(b: Build) -> tuple:
             c, name, number, _ = loads[0]
             for v in (0, 1):
                 joins.append((f"net {net}/{v}", f"{c.part_ref}-{number}/{v}"))
+    joins += _clock_joins(b, readers)
     for c in b.cells:
         cd = b.cell_def(c)
         if cd.storage is not None:
@@ -183,6 +190,23 @@ def _gate_faults(b: Build) -> tuple:
             "tied inputs of unused sections": unused_ties,
             "support parts": len(b.support)}
     return faults, joins, left
+
+
+def _clock_joins(b: Build, readers: dict) -> list:
+    """A clock pin (or a net read by clock pins only) stuck at 0 is the same fault as stuck at 1: no edge."""
+    joins = []
+    clock_pins = set()
+    for c in b.cells:
+        cd = b.cell_def(c)
+        for name in cd.inputs:
+            if cd.storage == "re" and cd.roles.get(name) == "clock":
+                number = b.pin_of(c, name)
+                clock_pins.add((c.part_ref, name))
+                joins.append((f"{c.part_ref}-{number}/0", f"{c.part_ref}-{number}/1"))
+    for net, loads in readers.items():
+        if loads and all((c.part_ref, name) in clock_pins for c, name, _, _ in loads):
+            joins.append((f"net {net}/0", f"net {net}/1"))
+    return joins
 
 
 def _controlling(func, inputs, pins) -> list:

@@ -12,8 +12,14 @@
    wrong (its *signature*), reduced to the places a person checks -- a pin
    of a part (the wire into it) or a whole net (every wire of it).
 
-Builds with storage (flip-flops, latches, relay seal-in storage) are refused
-with a plain message: their sequences are not built yet.
+Gate builds with edge-triggered flip-flop chips get *sequences* instead of
+settings (:mod:`mapper.bringup.seqplan`): each starts from a state the
+builder sets with the flip-flops' preset and clear pins, and each step is
+"set the inputs, read the outputs, give one clock pulse".  The steps of all
+sequences are numbered in order, and everything above (expected outputs,
+probe points, signatures, the diagnosis) is per step.  Other storage
+(latches, storage built of gates, relay seal-in storage) and builds with
+medium-scale chips are refused with a plain message.
 """
 from __future__ import annotations
 
@@ -25,7 +31,7 @@ from .engine import Engine, Run
 from .faults import Fault, FaultList, fault_list
 from .generate import combinational, compact
 
-__all__ = ["Plan", "make_plan", "place_of", "diagnose", "PROBES", "PROBE_CANDIDATES"]
+__all__ = ["Plan", "make_plan", "place_of", "diagnose", "choose_probes", "candidates", "PROBES", "PROBE_CANDIDATES"]
 
 #: probe points offered per setting
 PROBES = 3
@@ -57,6 +63,22 @@ class Plan:
     undetectable: list
     unresolved: list
     methods: list = field(default_factory=list)
+    #: sequential plans: the sequences (lists of input tuples); ``settings`` then holds every step in order
+    sequences: list = field(default_factory=list)
+    #: sequential plans: ``(sequence, step)`` of each entry of ``settings`` (both 0-based)
+    steps: list = field(default_factory=list)
+    #: sequential plans: ``(level, how the builder sets it)`` per flip-flop, before every sequence
+    start: list = field(default_factory=list)
+    #: sequential plans: the clock inputs, pulsed once after each step
+    clocks: list = field(default_factory=list)
+    #: sequential plans: classes no sequence of up to ``bound`` steps detects (not covered, not redundant)
+    beyond: list = field(default_factory=list)
+    bound: int = 0
+
+    @property
+    def sequential(self) -> bool:
+        """Whether the plan is sequences of clocked steps."""
+        return bool(self.clocks)
 
     @property
     def total(self) -> int:
@@ -70,8 +92,9 @@ class Plan:
 
     @property
     def detectable(self) -> int:
-        """Classes some setting can detect (every class not proved undetectable or left unresolved)."""
-        return self.classes - len(self.undetectable)
+        """Classes some setting can detect: every class not proved undetectable (sequential plans: and
+        not shown undetectable within the bound of clock steps)."""
+        return self.classes - len(self.undetectable) - len(self.beyond)
 
     def places(self, k: int) -> list:
         """The places to check for class ``k``: every pin or net of its faults, in plain words."""
@@ -94,15 +117,21 @@ def place_of(f: Fault) -> str:
     return f"net {f.net}"
 
 
-def make_plan(b: Build, seed: int = 0) -> Plan:
-    """The bring-up plan of gate build ``b`` (:class:`UsageError` for relay builds and builds with storage)."""
-    if (any(b.cell_def(c).storage is not None for c in b.cells) or b.storage_groups or b.latches
-            or b.sequencers):
-        raise UsageError("bring-up lists for builds with storage (flip-flops, latches) are not made yet: "
-                         "builds without storage only")
+def make_plan(b: Build, seed: int = 0, bound: int | None = None) -> Plan:
+    """The bring-up plan of build ``b`` (:class:`UsageError` for builds it cannot make one for).
+
+    ``bound`` caps the clock steps the solver unrolls for a sequential build
+    (default :func:`mapper.bringup.sequences.default_bound`).
+    """
+    if b.storage_groups or b.latches or b.sequencers:
+        raise UsageError("bring-up lists for builds with latches or storage made of gates or relays are not "
+                         "made yet: builds without storage, or with flip-flop chips, only")
     if any(b.cell_def(c).block is not None for c in b.cells):
         raise UsageError("bring-up lists for builds with medium-scale chips (adders, comparators, counters) "
                          "are not made yet: build on a target without them (gates-74) for a bring-up list")
+    if any(b.cell_def(c).storage is not None for c in b.cells):
+        from .seqplan import sequential_plan
+        return sequential_plan(b, seed, bound)
     fl = fault_list(b)
     engine = Engine(b)
     reps = fl.representatives
@@ -119,11 +148,11 @@ def make_plan(b: Build, seed: int = 0) -> Plan:
     return plan
 
 
-def _candidates(engine: Engine) -> list:
+def candidates(engine) -> list:
     """Net ids worth probing: driven inside the build, neither an input, an output nor a rail."""
     c = engine.circ
     outs = {n for _, n in c.outputs} | set(c.inputs)
-    inside = range(len(c.nets)) if engine.relay else c.driver   # type: ignore[union-attr]
+    inside = range(len(c.nets)) if engine.relay else c.driver
     nets = sorted((c.nets[n], n) for n in inside if n not in outs and c.nets[n] not in SUPPLY_NETS)
     if len(nets) > PROBE_CANDIDATES:
         step = len(nets) / PROBE_CANDIDATES
@@ -136,7 +165,7 @@ def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
     P = len(settings)
     if not P:
         return []
-    cands = _candidates(engine)
+    cands = candidates(engine)
     counts = {n: [0] * P for n in cands}
     sizes = [0] * P
     level: dict = {}
@@ -161,6 +190,13 @@ def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
             for p in range(P):
                 if masks[p]:
                     row[p] += (diff & masks[p]).bit_count()
+    return choose_probes(engine, cands, counts, sizes, [[level[n] >> p & 1 for n in cands] for p in range(P)])
+
+
+def choose_probes(engine, cands: list, counts: dict, sizes: list, levels: list) -> list:
+    """Up to :data:`PROBES` probe points per setting: the nets whose wrong reading splits its ``sizes[p]``
+    suspects most evenly (``counts[n][p]`` of them read wrong at net ``n``; ``levels[p][i]`` is the good
+    level of ``cands[i]``)."""
     c = engine.circ
     b = engine.b
     drivers: dict = {}
@@ -173,14 +209,15 @@ def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
                 if str(pin).startswith(("COM", "NO", "NC")):
                     drivers.setdefault(net, (ref, pin))
                     break
+    at = {n: i for i, n in enumerate(cands)}
     out = []
-    for p in range(P):
+    for p in range(len(sizes)):
         scored = sorted(((min(counts[n][p], sizes[p] - counts[n][p]), c.nets[n], n) for n in cands
                          if counts[n][p]), key=lambda t: (-t[0], t[1]))
         chosen = []
         for _, name, n in scored[:PROBES]:
             ref, pin = drivers.get(name, ("", ""))
-            chosen.append((name, ref, pin, level[n] >> p & 1, counts[n][p]))
+            chosen.append((name, ref, pin, levels[p][at[n]], counts[n][p]))
         out.append(chosen)
     return out
 
