@@ -59,8 +59,8 @@ def test_csv_rows_are_the_settings(netfit):
 
 
 def test_refusals_are_usage_errors(netfit):
-    code, out, err = netfit("bringup", "tests/data/published/dk27.blif", "-t", "gates-74")
-    assert code == 2 and "builds with storage" in err and not out
+    code, out, err = netfit("bringup", "tests/data/published/dk27.blif", "-t", "relay-spdt")
+    assert code == 2 and "not made yet" in err and not out
     code, out, err = netfit("bringup", "tests/data/nonexistent.blif", "-t", "gates-74")
     assert code == 2
 
