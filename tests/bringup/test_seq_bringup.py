@@ -32,6 +32,7 @@ import copy
 import random
 
 import pytest
+from read.test_published import bench_to_blif, read_bench  # the published s27, read by the tests' own reader
 
 from mapper import flow
 from mapper.bringup import sequences as seqmod
@@ -40,8 +41,6 @@ from mapper.bringup.report import coverage_line, plan_csv, plan_json, plan_text
 from mapper.errors import UsageError
 from mapper.netlist import Storage
 from mapper.simulate import run_cycles
-
-from read.test_published import read_bench, bench_to_blif  # the published s27, read by the tests' own reader
 
 DESIGNS = [("tests/data/textbook/counter4.blif", "gates-74"), ("tests/data/published/dk27.blif", "gates-74"),
            ("tests/data/published/beecount.blif", "gates-74ls"), ("tests/data/published/s208.blif", "gates-74ls")]
