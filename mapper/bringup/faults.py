@@ -151,6 +151,7 @@ def _gate_faults(b: Build) -> tuple:
     faults: list = []
     joins: list = []
     readers: dict = {}
+    shared: set = set()
     outputs = {b.output_nets.get(o, o) for o in b.outputs}
     for c in b.cells:
         cd = b.cell_def(c)
@@ -159,6 +160,9 @@ def _gate_faults(b: Build) -> tuple:
         for name in cd.inputs:
             net = c.pins[name]
             number = b.pin_of(c, name)
+            if (c.part_ref, number) in shared:
+                continue   # a pin the sections of a chip share (the selects of a '153): listed once
+            shared.add((c.part_ref, number))
             for v in (0, 1):
                 if net in SUPPLY_NETS and v == (1 if net == "VCC" else 0):
                     continue   # stuck at its own rail: no fault
@@ -179,8 +183,8 @@ def _gate_faults(b: Build) -> tuple:
     joins += _clock_joins(b, readers)
     for c in b.cells:
         cd = b.cell_def(c)
-        if cd.storage is not None:
-            continue
+        if cd.storage is not None or cd.block is not None:
+            continue   # a block of several outputs: its pins are not merged with one output
         out = c.pins[cd.output]
         for _j, name, v, k in _controlling(cd.logic_function(), cd.inputs, c.pins):
             joins.append((f"{c.part_ref}-{b.pin_of(c, name)}/{v}", f"net {out}/{k}"))

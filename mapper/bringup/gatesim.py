@@ -6,7 +6,10 @@ a fault can sit) and drives its output net with its catalog function.  Nodes
 are evaluated once each, in the order of the wiring.  Edge-triggered
 flip-flop sections (data, clock and maybe preset and clear pins) are
 :class:`Flop` records: their Q and Q-bar nets are sources of the gates, like
-inputs, and :class:`SeqMachine` steps them clock by clock.  Other storage
+inputs, and :class:`SeqMachine` steps them clock by clock.  A medium-scale
+chip without registers (an adder, a comparator, a decoder, a multiplexer)
+is one node per wired output over the input pins that output reads, its
+function flattened from the catalog's block model.  Other storage
 (latches, storage built of gates, registers inside blocks) is counted in
 ``storage`` and not modelled.
 
@@ -96,12 +99,20 @@ class GateCircuit:
         nodes: list = []
         storage = 0
 
+        seen: dict = {}
+
         def pin(ci: int, c, name: str) -> int:
             net = c.pins.get(name)
             if net is None:
                 raise InternalError(f"{c.part_ref} section {c.slot}: input {name} is on no net")
-            pins.append(PinRef(c.part_ref, b.pin_of(c, name), name, net, ci))
+            key = (c.part_ref, b.pin_of(c, name))
+            if key in seen:   # a pin the sections of a chip share (the selects of a '153): one place
+                if pins[seen[key]].net != net:
+                    raise InternalError(f"{key[0]} pin {key[1]} is on two nets")
+                return seen[key]
+            pins.append(PinRef(c.part_ref, key[1], name, net, ci))
             nid(net)
+            seen[key] = len(pins) - 1
             return len(pins) - 1
 
         flops: list = []
@@ -109,6 +120,9 @@ class GateCircuit:
             cd = b.cell_def(c)
             if cd.storage is not None and _is_flop(cd) and c.group is None:
                 flops.append(_flop(cd, c, ci, pin, nid))
+                continue
+            if cd.block is not None and not cd.block.registers and c.group is None:
+                nodes += _block_nodes(cd, c, ci, pin, nid)
                 continue
             if cd.storage is not None or c.group is not None or cd.block is not None:
                 storage += 1
@@ -244,6 +258,21 @@ class GateMachine:
     def outputs(self) -> list:
         """``(hi, lo)`` of every output port, in the build's order."""
         return [(self.H[n], self.L[n]) for _, n in self.c.outputs]
+
+
+def _block_nodes(cd, c, ci: int, pin, nid) -> list:
+    """A medium-scale chip without registers as one node per wired output, each reading the chip's input
+    pins its output depends on (a pin read by several outputs is one pin id: a fault there reaches all)."""
+    blk = cd.block
+    ids = {name: pin(ci, c, name) for name in cd.inputs}   # every pin, read by an output or not
+    out = []
+    for sig in cd.outputs:
+        net = c.pins.get(sig)
+        if net is None:
+            continue
+        names, func = blk.table(sig)
+        out.append(("g", nid(net), tuple(ids[x] for x in names), classify(func), func))
+    return out
 
 
 def _is_flop(cd) -> bool:

@@ -55,8 +55,10 @@ class SeqRun:
 def start_state(b: Build, circ: GateCircuit) -> list:
     """``(level, how)`` per flip-flop: the level each starts from and how the builder sets it.
 
-    The level is the design's initial value; a flip-flop the design leaves
-    unknown starts at 0.  It is set by touching its preset (for 1) or clear
+    The level is the design's initial value (a flip-flop the design leaves
+    unknown starts at 0), or the other level where the section has no pin to
+    set that one: any known start serves to find wiring faults, and every
+    expected level is figured from it.  It is set by touching its preset (for 1) or clear
     (for 0) pin to its active level for a moment before step 1 -- possible
     only where the section has that pin and it is tied to its resting rail
     (:class:`UsageError` otherwise: no start the builder can set is known).
@@ -65,11 +67,13 @@ def start_state(b: Build, circ: GateCircuit) -> list:
     for f in circ.flops:
         c = b.cells[f.cell]
         level = c.init if c.init in (0, 1) else 0
+        if (f.preset if level == 1 else f.clear) is None:
+            level = 1 - level   # the other level, where the section can only be set to that one
         p, low = (f.preset, f.preset_low) if level == 1 else (f.clear, f.clear_low)
         what = "preset" if level == 1 else "clear"
         if p is None:
-            raise UsageError(f"bring-up sequences: {c.part_ref} section {c.slot} has no {what} pin to set its "
-                             f"start level {level}; builds whose flip-flops cannot all be set are not made yet")
+            raise UsageError(f"bring-up sequences: {c.part_ref} section {c.slot} has neither preset nor clear "
+                             "pin to set its start level; builds whose flip-flops cannot all be set are not made yet")
         pin = circ.pins[p]
         rest = "VCC" if low else "GND"
         if pin.net != rest:

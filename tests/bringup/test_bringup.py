@@ -132,8 +132,9 @@ def _rewired(b, f):
         for n in cd.inputs:
             if c.pins[n] == f.net:
                 c.pins[n] = rail
-        if c.pins[cd.output] == f.net:
-            c.pins[cd.output] = f"{f.net}__cut"
+        for n in cd.outputs:   # every output of a chip of several (an adder's sums) on the net
+            if c.pins.get(n) == f.net:
+                c.pins[n] = f"{f.net}__cut"
     for o in b.outputs:
         if b.output_nets.get(o, o) == f.net:
             nb.output_nets[o] = rail
