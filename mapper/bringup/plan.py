@@ -126,7 +126,7 @@ def make_plan(b: Build, seed: int = 0, bound: int | None = None) -> Plan:
     if b.storage_groups or b.latches or b.sequencers:
         raise UsageError("bring-up lists for builds with latches or storage made of gates or relays are not "
                          "made yet: builds without storage, or with flip-flop chips, only")
-    if any(b.cell_def(c).block is not None and b.cell_def(c).block.registers for c in b.cells):
+    if any(getattr(b.cell_def(c).block, "registers", ()) for c in b.cells):
         raise UsageError("bring-up lists for builds with medium-scale chips that hold state (counters, shift "
                          "registers) are not made yet: build on a target without them (gates-74) for a bring-up "
                          "list")
