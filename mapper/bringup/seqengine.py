@@ -72,14 +72,14 @@ def start_state(b: Build, circ: GateCircuit) -> list:
         p, low = (f.preset, f.preset_low) if level == 1 else (f.clear, f.clear_low)
         what = "preset" if level == 1 else "clear"
         if p is None:
-            raise UsageError(f"bring-up sequences: {c.part_ref} section {c.slot} has neither preset nor clear "
-                             "pin to set its start level; builds whose flip-flops cannot all be set are not made yet")
+            raise UsageError(f"bring-up sequences for flip-flops with neither preset nor clear pin "
+                             f"({c.part_ref} section {c.slot}) are not made yet: the start state cannot be set")
         pin = circ.pins[p]
         rest = "VCC" if low else "GND"
         if pin.net != rest:
-            raise UsageError(f"bring-up sequences: the {what} pin {pin.number} of {c.part_ref} is driven by "
-                             f"logic ({pin.net}); only builds with preset and clear tied to their resting "
-                             "rail are made yet")
+            raise UsageError(f"bring-up sequences for flip-flops whose {what} is driven by logic "
+                             f"({c.part_ref} pin {pin.number}, net {pin.net}) are not made yet: only preset and "
+                             "clear tied to their resting rail")
         out.append((level, f"{c.part_ref} pin {pin.number} ({what}): take its wire off {rest}, touch the pin "
                     f"to {'GND' if low else 'VCC'} for a moment, put the wire back -> Q "
                     f"({circ.nets[f.q]}) = {level}"))
@@ -102,16 +102,16 @@ class SeqEngine:
         clock_nets = {c.pin_net[f.clock] for f in c.flops}
         for n in clock_nets:
             if n not in c.inputs:
-                raise UsageError(f"bring-up sequences: the clock net {c.nets[n]} is made by logic; only clocks "
-                                 "that are inputs of the design are made yet")
+                raise UsageError(f"bring-up sequences for a clock made by logic ({c.nets[n]}) are not made "
+                                 "yet: only clocks that are inputs of the design")
         for nd in c.nodes:
             hit = [c.nets[c.pin_net[p]] for p in nd[2] if c.pin_net[p] in clock_nets]
             if hit:
-                raise UsageError(f"bring-up sequences: the clock {hit[0]} also feeds gates; only clocks that "
-                                 "feed flip-flops alone are made yet")
+                raise UsageError(f"bring-up sequences for a clock that also feeds gates ({hit[0]}) are not "
+                                 "made yet: only clocks that feed flip-flops alone")
         outs = {n for _, n in c.outputs}
         if clock_nets & outs:
-            raise UsageError("bring-up sequences: a clock is also an output; not made yet")
+            raise UsageError("bring-up sequences for a clock that is also an output are not made yet")
         self.clock_inputs = [b.inputs[k] for k, n in enumerate(c.inputs) if n in clock_nets]
         self.inputs = [x for x in b.inputs if x not in self.clock_inputs]
         self._data = [k for k, n in enumerate(c.inputs) if n not in clock_nets]

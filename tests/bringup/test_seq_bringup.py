@@ -23,8 +23,8 @@ Outside checks:
   M. L. Bushnell and V. D. Agrawal, *Essentials of Electronic Testing*,
   2000, ch. 8) -- **from memory**, which is why the test checks each line
   fault itself rather than a count.
-* Designs: the textbook 4-bit counter (tests/data/textbook), MCNC dk27 and
-  beecount and ISCAS-89 s208 (published files).
+* Designs: the textbook 4-bit counter (tests/data/textbook), MCNC dk27,
+  beecount and mm4a and ISCAS-89 s208 (published files).
 """
 from __future__ import annotations
 
@@ -43,7 +43,9 @@ from mapper.netlist import Storage
 from mapper.simulate import run_cycles
 
 DESIGNS = [("tests/data/textbook/counter4.blif", "gates-74"), ("tests/data/published/dk27.blif", "gates-74"),
-           ("tests/data/published/beecount.blif", "gates-74ls"), ("tests/data/published/s208.blif", "gates-74ls")]
+           ("tests/data/published/beecount.blif", "gates-74ls"), ("tests/data/published/s208.blif", "gates-74ls"),
+           # msi-74: quad flip-flop chips with a shared clock and clear (no preset), and adder chips
+           ("tests/data/published/dk27.blif", "msi-74"), ("tests/data/published/mm4a.blif", "msi-74")]
 
 
 def _rewired(b, f):
@@ -83,13 +85,15 @@ def _netlist(nb, plan):
     flops = [c for c in nb.cells if nb.cell_def(c).storage is not None]
     assert len(flops) == len(plan.start)
     for c, (level, _) in zip(flops, plan.start):
+        cd = nb.cell_def(c)
+        role = {r: c.pins.get(p) for p, r in cd.roles.items()}   # data, clock, preset, clear -> net
         q = c.pins["Q"]
         st = n.nodes[q]
         assert isinstance(st, Storage)
-        if c.pins["PRE_N"] == "GND" or c.pins["CLR_N"] == "GND":
-            level = 1 if c.pins["PRE_N"] == "GND" else 0
+        if role.get("preset") == "GND" or role.get("clear") == "GND":   # active low on every chip here
+            level = 1 if role.get("preset") == "GND" else 0
             n.nodes[q] = Storage(q, st.kind, None, level)        # held at the forced level
-        elif c.pins["CLK"] in ("VCC", "GND"):
+        elif role["clock"] in ("VCC", "GND"):
             n.nodes[q] = Storage(q, st.kind, None, st.init)      # no edge: holds its start level
         start[q] = level
     return n, start
@@ -154,7 +158,7 @@ def test_injected_faults_on_sequential_builds(design, target):
     assert plan.sequential and plan.sequences and not plan.unresolved
     assert len(plan.detected) == plan.detectable > 0   # every fault detectable within the bound detected
     kinds = {plan.faults.faults[i].name for i in range(len(plan.faults.faults))}
-    assert {"D", "CLK"} <= kinds                        # the storage wiring is in the fault list
+    assert {"D", "CLK", "CLR_N"} <= kinds               # the storage wiring is in the fault list
     assert _check(b, plan, random.Random(design), 40) >= 15
 
 
