@@ -16,13 +16,13 @@ Outside checks:
   the plan's expectations come from an independent simulator.
 * ISCAS-89 s27 (Brglez, Bryan and Kozminski, ISCAS 1989), evaluated by the
   test's own reading of the published gate list (tests/data/published/s27.bench):
-  every one of its single line faults (every stem and every fan-out branch
-  stuck at 0 and at 1) is caught by the sequences.  Sequential test
-  generators in the literature report every collapsed fault of s27
-  detectable (100% coverage; e.g. the HITEC results tabulated in
-  M. L. Bushnell and V. D. Agrawal, *Essentials of Electronic Testing*,
-  2000, ch. 8) -- **from memory**, which is why the test checks each line
-  fault itself rather than a count.
+  its 26 lines (17 stems, 9 fan-out branches) carry 52 single stuck-at
+  faults, 32 after the textbook equivalence collapsing (the test's own
+  collapsing, gate by gate), which is the fault count published for s27 in
+  the sequential test-generation literature with every fault detected
+  (e.g. T. Niermann and J. H. Patel, "HITEC: a test generation package for
+  sequential circuits", EDAC 1991) -- **from memory**; so the test also
+  checks that every one of the 52 line faults is caught by the sequences.
 * Designs: the textbook 4-bit counter (tests/data/textbook), MCNC dk27,
   beecount and mm4a and ISCAS-89 s208 (published files).
 """
@@ -236,6 +236,26 @@ def _s27_run(bench: dict, seq: list, fault=None) -> list:
     return trace
 
 
+def _collapsed(bench: dict, readers: dict, lines: list) -> int:
+    """Classes of the line faults after textbook equivalence collapsing: an input of a gate at its
+    controlling value is its output stuck at the level that forces (an inverter: both levels)."""
+    rep: dict = {}
+
+    def find(x):
+        while rep.get(x, x) != x:
+            x = rep[x]
+        return x
+
+    forces = {"and": [(0, 0)], "nand": [(0, 1)], "or": [(1, 1)], "nor": [(1, 0)], "not": [(0, 1), (1, 0)],
+              "buf": [(0, 0), (1, 1)], "dff": []}
+    for q, kind, ins in bench["gates"]:
+        for i in ins:
+            line = (i, q) if len(readers[i]) > 1 else (i, None)
+            for v, k in forces[kind]:
+                rep[find((line, v))] = find(((q, None), k))
+    return len({find((ln, v)) for ln in lines for v in (0, 1)})
+
+
 def test_s27_sequences_catch_every_published_line_fault(tmp_path):
     bench = read_bench(open("tests/data/published/s27.bench").read())
     src = tmp_path / "s27.blif"
@@ -253,6 +273,7 @@ def test_s27_sequences_catch_every_published_line_fault(tmp_path):
             readers.setdefault(i, []).append(q)
     lines = [(s, None) for s in bench["inputs"] + [g[0] for g in bench["gates"]]]
     lines += [(s, r) for s, rs in readers.items() if len(rs) > 1 for r in rs]
+    assert len(lines) * 2 == 52 and _collapsed(bench, readers, lines) == 32   # published figure, from memory
     missed = [(ln, v) for ln in lines for v in (0, 1)
               if all(_s27_run(bench, seq, (ln, v)) == _s27_run(bench, seq) for seq in plan.sequences)]
     assert not missed
