@@ -58,8 +58,8 @@ def _seq_procedure(plan: Plan) -> list:
         "Before each sequence, set the start state: every flip-flop by its preset or clear pin as listed "
         "under 'start' (the level a flip-flop takes at power-on is not relied on).",
         f"Then do the steps of the sequence in order: set every input as listed, keeping {clocks} low; read "
-        f"every output against the expected levels; then give {clocks} one pulse (low, high, low). Hold the "
-        "inputs steady through the pulse.",
+        f"every output against the expected levels; then give {clocks} one pulse (low, high, low), except "
+        "after the last step. Hold the inputs steady through the pulse.",
         "Write down each step (by its number) and output that reads the other level; a sequence may go on "
         "after a failure, but the steps after the first failure say less.",
         "If nothing reads wrong, the wiring has none of the faults detected here.",
@@ -117,7 +117,10 @@ def plan_json(plan: Plan) -> dict:
                        for net, ref, pin, lv, n in plan.probes[p]],
         })
         if plan.sequential:
-            settings[-1].update(sequence=plan.steps[p][0] + 1, step=plan.steps[p][1] + 1, clock_pulse_after=True)
+            seq, step = plan.steps[p]
+            # the last step of a sequence is only read: a pulse after it shows nothing
+            settings[-1].update(sequence=seq + 1, step=step + 1,
+                                clock_pulse_after=step + 1 < len(plan.sequences[seq]))
     dictionary = []
     for p in range(len(plan.settings)):
         for o, name in enumerate(plan.outputs):
@@ -205,13 +208,15 @@ def plan_text(plan: Plan) -> str:
     for s in d["settings"]:
         if plan.sequential and s["step"] == 1:
             w.write(f"  sequence {s['sequence']} (set the start state first)\n")
-        w.write(f"  {s['setting']:>3}  " + (f"step {s['step']}: set " if plan.sequential else "")
-                + f"{_levels(list(s['inputs']), s['inputs'].values())}\n")
+        levels = _levels(list(s["inputs"]), s["inputs"].values())
+        if plan.sequential:
+            levels = f"step {s['step']}: " + (f"set {levels}" if levels else "(no inputs to set)")
+        w.write(f"  {s['setting']:>3}  {levels}\n")
         w.write(f"       expect  {_levels(list(s['outputs']), s['outputs'].values())}\n")
         for pr in s["probes"]:
             w.write(f"       probe   {pr['part']} pin {pr['pin']} (net {pr['net']}) = {pr['level']}"
                     f"   (wrong there: {pr['points_at']} suspect(s))\n")
-        if plan.sequential:
+        if plan.sequential and s["clock_pulse_after"]:
             w.write(f"       then    one pulse on {', '.join(plan.clocks)}\n")
     w.write("\ndiagnosis (setting, output reading the other level -> places to check)\n")
     for row in d["dictionary"]:
@@ -266,6 +271,7 @@ def plan_csv(plan: Plan) -> str:
     for p, vec in enumerate(plan.settings):
         probes = [f"{ref} pin {pin} ({net})={lv}" for net, ref, pin, lv, _ in plan.probes[p]]
         where = [plan.steps[p][0] + 1, plan.steps[p][1] + 1] if plan.sequential else []
-        pulse = ["+".join(plan.clocks)] if plan.sequential else []
+        last = plan.sequential and plan.steps[p][1] + 1 == len(plan.sequences[plan.steps[p][0]])
+        pulse = ["" if last else "+".join(plan.clocks)] if plan.sequential else []
         out.writerow([p + 1, *where, *vec, *plan.expected[p], *pulse, *probes])
     return w.getvalue()
