@@ -34,8 +34,9 @@ Edge-triggered flip-flop chips (gate builds): their data, clock, preset and
 clear pins are pins as above, and their Q and Q-bar nets are nets as above.
 A clock pin stuck at 0 and stuck at 1 are one fault -- the flip-flop never
 sees an edge and keeps its start level -- and so are a clock net read by
-clock pins only stuck at 0 and at 1.  Latches and storage built of gates
-or relays are not modelled yet.
+clock pins only stuck at 0 and at 1.  Storage built of gates is gates:
+its pins and nets are faulted as any others.  Latch chips and relay
+storage are not modelled yet.
 """
 from __future__ import annotations
 
@@ -126,8 +127,8 @@ class _Union:
 
 def fault_list(b: Build) -> FaultList:
     """The modelled faults of ``b`` and their classes (see the module docstring)."""
-    if b.latches or b.sequencers or b.storage_groups:
-        raise InternalError("faults of builds with storage are not modelled yet")
+    if b.latches or b.sequencers:
+        raise InternalError("faults of relay builds with storage are not modelled yet")
     faults, joins, left = _relay_faults(b) if b.is_relay else _gate_faults(b)
     where = {f.key: i for i, f in enumerate(faults)}
     u = _Union(len(faults))

@@ -30,7 +30,7 @@ from ..build import Build
 from ..errors import InternalError
 from .ternary import AND, classify, evaluate
 
-__all__ = ["GateCircuit", "GateMachine", "SeqMachine", "PinRef", "Flop"]
+__all__ = ["GateCircuit", "GateMachine", "SeqMachine", "LoopMachine", "PinRef", "Flop"]
 
 
 @dataclass(frozen=True)
@@ -76,11 +76,14 @@ class GateCircuit:
     driver: dict = field(default_factory=dict)   # net id -> node id
     storage: int = 0                # sections that remember and are not modelled (latches, gate storage)
     flops: list = field(default_factory=list)   # Flop per edge-triggered flip-flop section
+    loops: bool = False             # storage built of gates: loops of gates, settled by LoopMachine
+    #: node ids in order of evaluation, a loop of gates as one list: ``(False, [k])`` or ``(True, [k, ...])``
+    parts: list = field(default_factory=list)
 
     @property
     def has_state(self) -> bool:
         """Whether anything in the build remembers (flip-flops or latches)."""
-        return bool(self.storage or self.flops)
+        return bool(self.storage or self.flops or self.loops)
 
     @classmethod
     def from_build(cls, b: Build) -> GateCircuit:
@@ -116,10 +119,17 @@ class GateCircuit:
             return len(pins) - 1
 
         flops: list = []
+        loops = 0
         for ci, c in enumerate(b.cells):
             cd = b.cell_def(c)
             if cd.storage is not None and _is_flop(cd) and c.group is None:
                 flops.append(_flop(cd, c, ci, pin, nid))
+                continue
+            if c.group is not None and cd.storage is None and cd.block is None:
+                loops += 1   # a gate of a latch or flip-flop built of gates: a gate like any other
+                ins = tuple(pin(ci, c, p) for p in cd.inputs)
+                func = cd.logic_function()
+                nodes.append(("g", nid(c.pins[cd.output]), ins, classify(func), func))
                 continue
             if cd.block is not None and not cd.block.registers and c.group is None:
                 nodes += _block_nodes(cd, c, ci, pin, nid)
@@ -132,7 +142,8 @@ class GateCircuit:
             nodes.append(("g", nid(c.pins[cd.output]), ins, classify(func), func))
         outputs = [(o, nid(b.output_nets.get(o, o))) for o in b.outputs]
         pin_net = [index[p.net] for p in pins]
-        circ = cls(list(index), index, inputs, outputs, pins, pin_net, nodes, [], storage=storage, flops=flops)
+        circ = cls(list(index), index, inputs, outputs, pins, pin_net, nodes, [], storage=storage, flops=flops,
+                   loops=bool(loops or b.storage_groups))
         if not storage:
             circ._order()
         return circ
@@ -173,10 +184,20 @@ class GateCircuit:
                 src = driver.get(self.pin_net[p])
                 if src is not None:
                     g.add_edge(src, k)
-        try:
-            self.order = list(nx.topological_sort(g))
-        except nx.NetworkXUnfeasible:
-            raise InternalError("a loop of gates outside any storage group in the build") from None
+        if not self.loops:
+            try:
+                self.order = list(nx.topological_sort(g))
+            except nx.NetworkXUnfeasible:
+                raise InternalError("a loop of gates outside any storage group in the build") from None
+            self.parts = [(False, [k]) for k in self.order]
+            return
+        cond = nx.condensation(g)
+        self.parts = []
+        for comp in nx.topological_sort(cond):
+            members = sorted(cond.nodes[comp]["members"])
+            loop = len(members) > 1 or g.has_edge(members[0], members[0])
+            self.parts.append((loop, members))
+        self.order = [k for _, ks in self.parts for k in ks]
 
 
 class GateMachine:
@@ -380,3 +401,101 @@ class SeqMachine(GateMachine):
             dh, dl = self._pin(f.d)
             self.SH[j] = (dh & edge) | (self.SH[j] & ~edge)
             self.SL[j] = (dl & edge) | (self.SL[j] & ~edge)
+
+
+class LoopMachine(GateMachine):
+    """``width`` machines of a gate build whose storage is built of gates (loops), stepped clock by clock.
+
+    Every net starts unknown (the power-on state is not relied on).  After
+    each change of the inputs the gates settle one gate delay at a time:
+    in a round every gate whose inputs changed in the round before takes
+    the level its inputs give (event-driven unit-delay simulation, textbook
+    practice, e.g. Abramovici, Breuer and Friedman 1990, ch. 3).  A net
+    still changing after :data:`ROUNDS` rounds (a loop that oscillates) is
+    made unknown, and the unknown spread until nothing changes.  A step is
+    :meth:`settle` (the inputs, clocks low), then :meth:`pulse`: every clock
+    input high, then low again, each settled the same way.
+    """
+
+    def __init__(self, circ: GateCircuit, width: int, pin_faults: dict | None = None,
+                 net_faults: dict | None = None, clocks: tuple = ()):
+        if circ.storage or circ.flops:
+            raise InternalError("the loop simulator models builds whose storage is all built of gates")
+        self._setup(circ, width, pin_faults, net_faults)
+        self._clocks = [k for k, n in enumerate(circ.inputs) if n in clocks]
+        self._fresh = True
+        self._readers = circ.readers()
+        self._now: list = []
+
+    def start(self, levels: list) -> None:
+        """Power on: every net unknown (``levels`` is empty: there is nothing the builder sets)."""
+        self.H = [0] * len(self.c.nets)
+        self.L = [0] * len(self.c.nets)
+        self._fresh = True
+        self._now = []
+
+    def _apply(self, new: list) -> None:
+        """Put the inputs at ``new`` ((hi, lo) each) and settle (see the class docstring)."""
+        M = self.M
+        self._set(1, M, 0)
+        self._set(0, 0, M)
+        for net, (h, l) in zip(self.c.inputs, new):
+            self._set(net, h, l)
+        self._now = list(new)
+        if self._fresh:   # power on: every gate once, in order, then the loops settle
+            self._fresh = False
+            self._gates()
+        # the first round takes every gate, so that what a machine does never depends on what the other
+        # machines in the same words do (a gate left unknown by an oscillation gets its chance again)
+        active = set(range(len(self.c.nodes)))
+        code = self._code
+        for _ in range(ROUNDS):
+            if not active:
+                return
+            new_vals = [(k, self._gate(code[k][1], code[k][2])) for k in sorted(active)]
+            active = set()
+            for k, (h, l) in new_vals:
+                out = code[k][0]
+                before = (self.H[out], self.L[out])
+                self._set(out, h, l)
+                if (self.H[out], self.L[out]) != before:
+                    active.update(self._readers.get(out, []))
+        self._unsettled(active)
+
+    def _unsettled(self, active: set) -> None:
+        """Nets still changing: unknown where they change, spread until nothing changes (it only loses
+        knowledge, so it ends)."""
+        code = self._code
+        while active:
+            nxt: set = set()
+            for k in sorted(active):
+                out = code[k][0]
+                h, l = self._gate(code[k][1], code[k][2])
+                oh, ol = self.H[out], self.L[out]
+                self._set(out, oh & h, ol & l)   # known only where old and new agree (a stuck net stays)
+                if (self.H[out], self.L[out]) != (oh, ol):
+                    nxt.update(self._readers.get(out, []))
+            active = nxt
+
+    def settle(self, words: list) -> None:
+        """Apply the inputs ``words`` (clock inputs low whatever they say) and settle."""
+        M = self.M
+        new = [(w & M, ~w & M) for w in words]
+        for k in self._clocks:
+            new[k] = (0, M)
+        self._apply(new)
+
+    def pulse(self) -> None:
+        """Every clock input high, then low again, each settled."""
+        M = self.M
+        new = list(self._now)
+        for k in self._clocks:
+            new[k] = (M, 0)
+        self._apply(new)
+        for k in self._clocks:
+            new[k] = (0, M)
+        self._apply(list(new))
+
+
+#: unit-delay rounds after one change of the inputs before a loop still changing is called unknown
+ROUNDS = 64

@@ -123,14 +123,14 @@ def make_plan(b: Build, seed: int = 0, bound: int | None = None) -> Plan:
     ``bound`` caps the clock steps the solver unrolls for a sequential build
     (default :func:`mapper.bringup.sequences.default_bound`).
     """
-    if b.storage_groups or b.latches or b.sequencers:
-        raise UsageError("bring-up lists for builds with latches or storage made of gates or relays are not "
-                         "made yet: builds without storage, or with flip-flop chips, only")
+    if b.latches or b.sequencers:
+        raise UsageError("bring-up lists for relay builds with storage are not made yet: relay builds without "
+                         "storage only")
     if any(getattr(b.cell_def(c).block, "registers", ()) for c in b.cells):
         raise UsageError("bring-up lists for builds with medium-scale chips that hold state (counters, shift "
                          "registers) are not made yet: build on a target without them (gates-74) for a bring-up "
                          "list")
-    if any(b.cell_def(c).storage is not None for c in b.cells):
+    if b.storage_groups or any(b.cell_def(c).storage is not None for c in b.cells):
         from .seqplan import sequential_plan
         return sequential_plan(b, seed, bound)
     fl = fault_list(b)

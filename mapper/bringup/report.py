@@ -51,12 +51,18 @@ def _procedure(plan: Plan) -> list:
     ]
 
 
+#: how a sequence starts on a build whose storage is built of gates (nothing to set)
+POWER_ON = ("switch the supply off and on before each sequence; the storage built of gates starts in any "
+            "state, and the first steps bring it to a known one (an expected level '?' may read either)")
+
+
 def _seq_procedure(plan: Plan) -> list:
     clocks = ", ".join(plan.clocks)
     return [
         "Check the supply first: with a meter, VCC and GND at the supply pins of every chip.",
-        "Before each sequence, set the start state: every flip-flop by its preset or clear pin as listed "
-        "under 'start' (the level a flip-flop takes at power-on is not relied on).",
+        (f"Before each sequence: {POWER_ON}." if not plan.start else
+         "Before each sequence, set the start state: every flip-flop by its preset or clear pin as listed "
+         "under 'start' (the level a flip-flop takes at power-on is not relied on)."),
         f"Then do the steps of the sequence in order: set every input as listed, keeping {clocks} low; read "
         f"every output against the expected levels; then give {clocks} one pulse (low, high, low), except "
         "after the last step. Hold the inputs steady through the pulse.",
@@ -75,6 +81,10 @@ def coverage_line(plan: Plan) -> str:
     pct = 100.0 * len(plan.detected) / plan.detectable if plan.detectable else 100.0
     if plan.sequential:
         every = 100.0 * len(plan.detected) / plan.classes if plan.classes else 100.0
+        if not plan.bound:   # storage built of gates: random sequences only, no bound searched
+            return (f"coverage: {len(plan.detected)} detected of {plan.classes} fault classes ({every:.1f}%) from "
+                    f"{plan.total} faults; {len(plan.unresolved)} unresolved (neither detected nor shown "
+                    "undetectable: not counted as covered)")
         return (f"coverage: {len(plan.detected)} detected of {plan.detectable} fault classes detectable within "
                 f"{plan.bound} clock steps ({pct:.1f}%), of {plan.classes} classes in all ({every:.1f}%) from "
                 f"{plan.total} faults; {len(plan.beyond)} not detected by any sequence of up to {plan.bound} "
@@ -154,6 +164,7 @@ def _seq_json(plan: Plan) -> dict:
     every = 100.0 * len(plan.detected) / plan.classes if plan.classes else 100.0
     return {
         "clock_inputs": plan.clocks,
+        "start_from_power_on": not plan.start,
         "start": [{"level": lv, "how": how} for lv, how in plan.start],
         "sequences": [{"sequence": k + 1, "steps": [q + 1 for q, (p, _) in enumerate(plan.steps) if p == k]}
                       for k in range(len(plan.sequences))],
@@ -182,7 +193,8 @@ def diagnosis_text(plan: Plan, failed: set) -> str:
 
 
 def _levels(names: list, vals) -> str:
-    return " ".join(f"{n}={v}" for n, v in zip(names, vals))
+    """``a=1 b=0``; a level not known yet (storage built of gates just after power-on) shows as ``?``."""
+    return " ".join(f"{n}={'?' if v is None else v}" for n, v in zip(names, vals))
 
 
 def plan_text(plan: Plan) -> str:
@@ -250,7 +262,10 @@ def plan_text(plan: Plan) -> str:
 
 
 def _seq_text(w, d: dict) -> None:
-    w.write("\nstart (before every sequence; the power-on state is not relied on):\n")
+    if d["start_from_power_on"]:
+        w.write(f"\nstart: {POWER_ON}\n")
+    else:
+        w.write("\nstart (before every sequence; the power-on state is not relied on):\n")
     for st in d["start"]:
         w.write(f"  {st['how']}\n")
     w.write(f"\nsequences (each step: set the inputs with {', '.join(d['clock_inputs'])} low, read the outputs, "
@@ -273,5 +288,6 @@ def plan_csv(plan: Plan) -> str:
         where = [plan.steps[p][0] + 1, plan.steps[p][1] + 1] if plan.sequential else []
         last = plan.sequential and plan.steps[p][1] + 1 == len(plan.sequences[plan.steps[p][0]])
         pulse = ["" if last else "+".join(plan.clocks)] if plan.sequential else []
-        out.writerow([p + 1, *where, *vec, *plan.expected[p], *pulse, *probes])
+        expect = ["?" if v is None else v for v in plan.expected[p]]
+        out.writerow([p + 1, *where, *vec, *expect, *pulse, *probes])
     return w.getvalue()

@@ -14,6 +14,11 @@ pattern, parallel-fault sequential fault simulation: Abramovici, Breuer and
 Friedman, *Digital Systems Testing and Testable Design*, 1990, ch. 5).
 A fault is detected at a step when some output of its build is surely at
 the other level than the good build's.
+
+Storage built of gates (nand-only, nor-only) is simulated gate by gate,
+loops and all (:class:`mapper.bringup.gatesim.LoopMachine`): nothing is set
+at the start, every net starts unknown, and a step's expected level is
+``None`` where the good build is not known yet.
 """
 from __future__ import annotations
 
@@ -22,7 +27,7 @@ from dataclasses import dataclass
 from ..build import SUPPLY_NETS, Build
 from ..errors import InternalError, UsageError
 from .faults import Fault
-from .gatesim import GateCircuit, SeqMachine
+from .gatesim import GateCircuit, LoopMachine, SeqMachine
 
 __all__ = ["SeqEngine", "SeqRun", "start_state", "MAX_BITS"]
 
@@ -97,8 +102,12 @@ class SeqEngine:
         self.circ = GateCircuit.from_build(b)
         c = self.circ
         if c.storage:
-            raise UsageError("bring-up lists for builds with latches or storage made of gates are not made "
-                             "yet: only edge-triggered flip-flop chips")
+            raise UsageError("bring-up lists for builds with latch chips are not made yet: only edge-triggered "
+                             "flip-flop chips and storage built of gates")
+        self.loops = c.loops
+        if c.loops:
+            self._loop_setup(b)
+            return
         clock_nets = {c.pin_net[f.clock] for f in c.flops}
         for n in clock_nets:
             if n not in c.inputs:
@@ -119,6 +128,21 @@ class SeqEngine:
         self.start = start_state(b, c)
         self._sites = {(p.ref, p.number): pid for pid, p in enumerate(c.pins)}
 
+    def _loop_setup(self, b: Build) -> None:
+        """Storage built of gates: the clocks are the control nets of its flip-flops; nothing is set at the
+        start (the power-on state is unknown, and the first steps must make it known)."""
+        c = self.circ
+        if c.flops:
+            raise UsageError("bring-up lists for builds with both flip-flop chips and storage built of gates "
+                             "are not made yet")
+        controls = {g.control for g in b.storage_groups.values() if g.kind in ("re", "fe")}
+        self.clock_inputs = [x for x in b.inputs if x in controls]
+        self.inputs = [x for x in b.inputs if x not in self.clock_inputs]
+        self._data = [k for k, x in enumerate(b.inputs) if x not in self.clock_inputs]
+        self.outputs = list(b.outputs)
+        self.start = []
+        self._sites = {(p.ref, p.number): pid for pid, p in enumerate(c.pins)}
+
     def site(self, f: Fault) -> tuple:
         """Where fault ``f`` sits: ``("pin", pin id)`` or ``("net", net id)``."""
         if f.kind == "pin":
@@ -127,7 +151,7 @@ class SeqEngine:
             return ("net", self.circ.index[f.net])
         raise InternalError(f"no place in the simulator for fault {f.key}")
 
-    def machine(self, width: int, faults: list) -> SeqMachine:
+    def machine(self, width: int, faults: list) -> SeqMachine | LoopMachine:
         """``width`` machines; ``faults`` is a list of ``(Fault, mask)``: the machines that carry each."""
         pins: dict = {}
         nets: dict = {}
@@ -136,6 +160,9 @@ class SeqEngine:
             d = pins if kind == "pin" else nets
             lo, hi = d.get(at, (0, 0))
             d[at] = (lo | m, hi) if f.value == 0 else (lo, hi | m)
+        if self.loops:
+            clocks = tuple(self.circ.index[x] for x in self.clock_inputs)
+            return LoopMachine(self.circ, width, pins, nets, clocks)
         return SeqMachine(self.circ, width, pins, nets)
 
     def run(self, sequences: list, faults: list, nets: list | None = None) -> SeqRun:
@@ -176,19 +203,20 @@ class SeqEngine:
             words[k] = sum(1 << p for p, s in enumerate(sequences) if t < len(s) and s[t][i]) * rep
         return words
 
-    def _compare(self, m: SeqMachine, lo: int, t: int, P: int, pm: int, live: int, rep: int,
+    def _compare(self, m: SeqMachine | LoopMachine, lo: int, t: int, P: int, pm: int, live: int, rep: int,
                  good: list, fails: list) -> None:
         for o, (h, l) in enumerate(m.outputs()):
             gh, gl = h & pm, l & pm
             if lo == 0:
-                if (gh | gl) & live != live:
+                if (gh | gl) & live != live and not self.loops:
                     raise InternalError(f"output {self.outputs[o]} is not settled in the good build at step "
                                         f"{t + 1}")
                 for p in range(P):
                     if live >> p & 1:
                         if len(good[p]) <= t:
                             good[p].append([])
-                        good[p][t].append(gh >> p & 1)
+                        # storage built of gates starts unknown: None until the steps make it known
+                        good[p][t].append(gh >> p & 1 if (gh | gl) >> p & 1 else None)
             diff = ((gh * rep & l) | (gl * rep & h)) >> P
             k = 0
             while diff:

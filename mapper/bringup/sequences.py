@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import random
 
-from ..errors import InternalError
+from ..errors import InternalError, UsageError
 from .atpg import FOUND, UNDETECTABLE
 from .generate import Outcome
 from .seqengine import SeqEngine, SeqRun
@@ -52,7 +52,7 @@ def sequential(engine: SeqEngine, faults: list, seed: int = 0, bound: int | None
     ``out.stats["beyond"]`` the faults no sequence within the bound detects.
     """
     out = Outcome()
-    flops = len(engine.circ.flops)
+    flops = len(engine.circ.flops) or len(engine.b.storage_groups)
     bound = default_bound(flops) if bound is None else bound
     length = random_length(flops)
     n = len(engine.inputs)
@@ -66,6 +66,11 @@ def sequential(engine: SeqEngine, faults: list, seed: int = 0, bound: int | None
                  for _ in range(BATCH if n else 1)]
         tried += len(batch)
         run = engine.run(batch, [faults[f] for f in left])
+        if engine.loops and tried == len(batch) and all(v is None for seq in run.good for st in seq for v in st):
+            raise UsageError("bring-up sequences for this build are not made yet: its storage is built of gates, "
+                             "with no preset or clear, and no input sequence tried brings it to a known state "
+                             "from power-on (the design has no reset input); build it with flip-flop chips "
+                             "(gates-74) for a bring-up list")
         keep: dict = {}
         still = []
         for k, f in enumerate(left):
@@ -83,8 +88,12 @@ def sequential(engine: SeqEngine, faults: list, seed: int = 0, bound: int | None
             break
     out.methods.append(f"{tried} random sequence(s) of {length} clock steps simulated against the faults still "
                        f"undetected ({len(out.settings)} kept)")
-    out.stats.update(random_sequences=tried, bound=bound, beyond=[])
-    if left:
+    out.stats.update(random_sequences=tried, bound=0 if engine.loops else bound, beyond=[])
+    if left and engine.loops:
+        out.unresolved = left
+        out.methods.append(f"{len(left)} fault(s) left unresolved: the solver does not unroll storage built of "
+                           "gates yet")
+    elif left:
         _unrolled(engine, faults, left, out, bound, rng)
     return out
 

@@ -251,7 +251,9 @@ def test_every_detectable_fault_detected(tmp_path, design, target):
 
 @pytest.mark.parametrize("target", ["nand-only", "relay-spdt"])
 def test_builds_with_storage_not_made_of_chips_are_refused(target):
-    # MCNC dk27: three latches, built of gates (nand-only) or relays; flip-flop chips are in test_seq_bringup.py
+    # MCNC dk27: three latches, built of gates that no input sequence brings to a known state (nand-only) or
+    # of relays; flip-flop chips are in test_seq_bringup.py, gates that can be brought to a known state in
+    # test_loop_bringup.py
     r = flow.build("tests/data/published/dk27.blif", target)
     with pytest.raises(UsageError):
         make_plan(r.build)
