@@ -11,7 +11,9 @@ counter, ISCAS-89 s27 (published .bench, translated by the tests' reader),
 s208 and s344, MCNC dk27, beecount and mm4a -- with the sequences, their clock
 steps in all, the faults detected, those no sequence within the bound detects,
 and the coverage of the faults detectable within the bound and of all
-classes.  Block rows: msi-74 builds with adder and comparator chips.
+classes.  Rows on nand-only and nor-only have their flip-flops built of gates
+(random sequences from power-on only: the rest unresolved).  Block rows:
+msi-74 builds with adder and comparator chips.
 
 Run: ``.venv/bin/python bench/bench_bringup.py [--quick]``
 """
@@ -35,7 +37,8 @@ DESIGNS = [("c17", "nand-only"), ("rca:8", "gates-74"), ("c17", "relay-spdt"), (
            ("rca:8", "msi-74"), ("cmp2", "msi-74"),
            ("rca:32", "nand-only"), ("arr:8", "gates-74"), ("arr:13", "nand-only"), ("arr:20", "nand-only")]
 SEQUENTIAL = [("counter4", "gates-74"), ("s27", "gates-74ls"), ("dk27", "gates-74"), ("beecount", "gates-74ls"),
-              ("s208", "gates-74ls"), ("s344", "gates-74ls"), ("mm4a", "gates-74")]
+              ("dk27", "msi-74"), ("s27", "nand-only"), ("s27", "nor-only"), ("beecount", "nand-only"),
+              ("s208", "gates-74ls"), ("s344", "gates-74ls"), ("mm4a", "gates-74"), ("s344", "nand-only")]
 
 
 def _path(name: str, tmp: str) -> Path:
@@ -93,7 +96,7 @@ def main(argv=None):
     ap.add_argument("--quick", action="store_true", help="skip the biggest designs")
     args = ap.parse_args(argv)
     designs = DESIGNS[:-1] if args.quick else DESIGNS
-    seq = SEQUENTIAL[:-2] if args.quick else SEQUENTIAL
+    seq = SEQUENTIAL[:-3] if args.quick else SEQUENTIAL
     with tempfile.TemporaryDirectory() as tmp:
         sequential(seq, tmp)
         combinational(designs, tmp)

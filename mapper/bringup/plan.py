@@ -15,11 +15,13 @@
 Gate builds with edge-triggered flip-flop chips get *sequences* instead of
 settings (:mod:`mapper.bringup.seqplan`): each starts from a state the
 builder sets with the flip-flops' preset and clear pins, and each step is
-"set the inputs, read the outputs, give one clock pulse".  The steps of all
-sequences are numbered in order, and everything above (expected outputs,
-probe points, signatures, the diagnosis) is per step.  Other storage
-(latches, storage built of gates, relay seal-in storage) and builds with
-medium-scale chips are refused with a plain message.
+"set the inputs, read the outputs, give one clock pulse".  Builds whose
+flip-flops are built of gates start from power-on instead, in an unknown
+state, and an expected level is ``None`` until the steps make it known.
+The steps of all sequences are numbered in order, and everything above
+(expected outputs, probe points, signatures, the diagnosis) is per step.
+Latch chips, relay storage and medium-scale chips with registers are
+refused with a plain message.
 """
 from __future__ import annotations
 
@@ -44,7 +46,8 @@ class Plan:
     """A build's bring-up plan (see the module docstring).
 
     ``settings[p]`` is a tuple of input levels in ``inputs`` order;
-    ``expected[p]`` the output levels in ``outputs`` order; ``probes[p]`` a
+    ``expected[p]`` the output levels in ``outputs`` order (``None``: not known yet, storage built of
+    gates just after power-on); ``probes[p]`` a
     list of ``(net, ref, pin, level, splits)``: the net, the part pin that
     drives it, its expected level, and how many of the setting's suspects a
     wrong reading there points at.  ``signature[k]`` is the set of

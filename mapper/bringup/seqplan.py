@@ -1,9 +1,12 @@
 """The bring-up plan of a gate build with edge-triggered flip-flop chips: sequences of clocked steps.
 
 Assumed, and said in every report: before each sequence the builder sets
-every flip-flop to its start level with its preset or clear pin
+every flip-flop chip to its start level with its preset or clear pin
 (:func:`mapper.bringup.seqengine.start_state`); the power-on state is never
-relied on.  Each step then is: set the inputs (clock inputs low), read the
+relied on.  Flip-flops built of gates have no such pins: their sequences
+start from power-on, every net unknown, and only levels the steps make
+known are expected (the solver does not unroll them: faults random
+sequences miss are left unresolved).  Each step then is: set the inputs (clock inputs low), read the
 outputs against the expected levels, give every clock input one pulse
 (low, high, low).  Faults: every pin of every section (the flip-flops' data,
 clock, preset and clear pins included) and every net (Q and Q-bar too),
