@@ -84,7 +84,7 @@ def sequential(designs: list, tmp: str) -> None:
         t2 = time.perf_counter()
         pct = 100.0 * len(plan.detected) / plan.detectable if plan.detectable else 100.0
         every = 100.0 * len(plan.detected) / plan.classes if plan.classes else 100.0
-        print(f"{name:<10}{target:<11}{len(plan.inputs):>4}{len(plan.start):>4}{len(r.build.parts):>6}"
+        print(f"{name:<10}{target:<11}{len(plan.inputs):>4}{len(plan.start) or len(r.build.storage_groups):>4}{len(r.build.parts):>6}"
               f"{plan.total:>7}{plan.classes:>8}{len(plan.sequences):>5}{len(plan.steps):>6}{plan.bound:>6}"
               f"{len(plan.detected):>9}{len(plan.beyond):>7}{len(plan.undetectable):>6}{len(plan.unresolved):>6}"
               f"{pct:>8.1f}{every:>9.1f}{t1 - t0:>7.1f}{t2 - t1:>11.1f}", flush=True)
