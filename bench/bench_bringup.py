@@ -28,8 +28,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT / "tests"))
 
-import generated  # noqa: E402
 from read.test_published import bench_to_blif, read_bench  # noqa: E402
+
+import generated  # noqa: E402
 from mapper import flow  # noqa: E402
 from mapper.bringup.plan import make_plan  # noqa: E402
 
@@ -84,7 +85,8 @@ def sequential(designs: list, tmp: str) -> None:
         t2 = time.perf_counter()
         pct = 100.0 * len(plan.detected) / plan.detectable if plan.detectable else 100.0
         every = 100.0 * len(plan.detected) / plan.classes if plan.classes else 100.0
-        print(f"{name:<10}{target:<11}{len(plan.inputs):>4}{len(plan.start) or len(r.build.storage_groups):>4}{len(r.build.parts):>6}"
+        flops = len(plan.start) or len(r.build.storage_groups)
+        print(f"{name:<10}{target:<11}{len(plan.inputs):>4}{flops:>4}{len(r.build.parts):>6}"
               f"{plan.total:>7}{plan.classes:>8}{len(plan.sequences):>5}{len(plan.steps):>6}{plan.bound:>6}"
               f"{len(plan.detected):>9}{len(plan.beyond):>7}{len(plan.undetectable):>6}{len(plan.unresolved):>6}"
               f"{pct:>8.1f}{every:>9.1f}{t1 - t0:>7.1f}{t2 - t1:>11.1f}", flush=True)

@@ -9,9 +9,10 @@ flip-flop sections (data, clock and maybe preset and clear pins) are
 inputs, and :class:`SeqMachine` steps them clock by clock.  A medium-scale
 chip without registers (an adder, a comparator, a decoder, a multiplexer)
 is one node per wired output over the input pins that output reads, its
-function flattened from the catalog's block model.  Other storage
-(latches, storage built of gates, registers inside blocks) is counted in
-``storage`` and not modelled.
+function flattened from the catalog's block model.  The gates of storage
+built of gates (``Build.storage_groups``) are nodes like any other, in
+loops: :class:`LoopMachine` settles them.  Other storage (latch chips,
+registers inside blocks) is counted in ``storage`` and not modelled.
 
 Values are three-valued and bit-parallel (:mod:`mapper.bringup.ternary`):
 bit ``k`` of every word belongs to machine ``k``, and each machine may carry
@@ -171,9 +172,10 @@ class GateCircuit:
 
     def _order(self) -> None:
         driver: dict = {}
+        sources = self.sources()
         for k, nd in enumerate(self.nodes):
             net = nd[1]
-            if net in driver or net in self.sources():
+            if net in driver or net in sources:
                 raise InternalError(f"net {self.nets[net]} has two drivers in the build")
             driver[net] = k
         self.driver = driver
