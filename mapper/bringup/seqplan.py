@@ -18,7 +18,7 @@ from __future__ import annotations
 from ..build import Build
 from ..errors import InternalError
 from .faults import fault_list
-from .plan import PROBE_CANDIDATES, Plan, candidates, choose_probes
+from .plandata import PROBE_CANDIDATES, Plan, candidates, choose_probes
 from .seqengine import SeqEngine, SeqRun
 from .sequences import compact_sequences, flatten, sequential
 

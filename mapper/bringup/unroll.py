@@ -25,7 +25,7 @@ from __future__ import annotations
 from pysat.solvers import Solver
 
 from ..errors import InternalError
-from .atpg import CONFLICTS, FOUND, UNDETECTABLE, UNKNOWN, _clauses, _xor
+from .atpg import CONFLICTS, FOUND, UNDETECTABLE, UNKNOWN, gate_clauses, xor_clauses
 from .gatesim import GateCircuit
 
 __all__ = ["SequenceSolver", "BEYOND"]
@@ -113,13 +113,13 @@ class SequenceSolver:
         for k in c.order:
             _, out, pins, _, func = c.nodes[k]
             y = s.top = s.top + 1
-            s.add([cl for cl in _clauses(func, [g[c.pin_net[p]] for p in pins], y)])
+            s.add([cl for cl in gate_clauses(func, [g[c.pin_net[p]] for p in pins], y)])
             g[out] = y
             if out in fault.reach and out != fault.net:
                 ins = [const if p == fault.pin else bad.get(c.pin_net[p], g[c.pin_net[p]]) for p in pins]
                 if ins != [g[c.pin_net[p]] for p in pins]:
                     z = s.top = s.top + 1
-                    s.add(_clauses(func, ins, z))
+                    s.add(gate_clauses(func, ins, z))
                     bad[out] = z
         gn = [g[c.pin_net[f.d]] for f in c.flops]
         bn = []
@@ -138,7 +138,7 @@ class SequenceSolver:
         for _, n in self.circ.outputs:
             if n in bad and bad[n] != g[n]:
                 d = s.top = s.top + 1
-                s.add(_xor(d, g[n], bad[n]))
+                s.add(xor_clauses(d, g[n], bad[n]))
                 out.append(d)
         return out
 
@@ -159,7 +159,7 @@ class SequenceSolver:
             for a, b in zip(gn, bn):
                 if a != b:
                     d = s.new()
-                    s.add(_xor(d, a, b))
+                    s.add(xor_clauses(d, a, b))
                     diffs.append(d)
             if not diffs:
                 return True
