@@ -609,8 +609,12 @@ def _bringup_args(p):
     p.add_argument("--effort", type=int, default=1, choices=(0, 1),
                    help="0: one mapping pass; 1 (default): also search for fewer parts")
     p.add_argument("--seed", type=int, default=0, metavar="N", help="seed of the random settings (default 0)")
+    p.add_argument("--steps", type=_positive, metavar="N", help=(
+        "builds with flip-flops: the longest sequence the solver looks for, in clock steps (default: twice "
+        "the flip-flops and 8, at most 24)"))
     p.add_argument("--failed", metavar="S:OUT,...", help=(
-        "the failures you saw, as setting:output pairs (2:N22,4:N23): print the places to check, best first"))
+        "the failures you saw, as setting:output pairs (2:N22,4:N23; for sequences the step number): print "
+        "the places to check, best first"))
     _add_read_args(p)
     fmt = p.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print JSON")
@@ -637,7 +641,8 @@ def _failures(text: str, plan) -> set:
 def cmd_bringup(args):
     from . import flow
     _progress(argparse.Namespace(quiet=args.quiet, json=args.json or args.csv))
-    r = flow.bringup(args.design, args.target, effort=args.effort, seed=args.seed, **_read_options(args))
+    r = flow.bringup(args.design, args.target, effort=args.effort, seed=args.seed, bound=args.steps,
+                     **_read_options(args))
     if args.failed is not None:
         from .bringup.report import diagnosis_text
         sys.stdout.write(diagnosis_text(r["plan"], _failures(args.failed, r["plan"])))

@@ -504,8 +504,9 @@ def _bringup_data(b: Build) -> dict | None:
         return None
 
 
-def bringup(path, target_name, effort: int = 1, seed: int = 0, **read_options) -> dict:
-    """``netfit bringup``: the build's bring-up plan (:mod:`mapper.bringup`).
+def bringup(path, target_name, effort: int = 1, seed: int = 0, bound: int | None = None, **read_options) -> dict:
+    """``netfit bringup``: the build's bring-up plan (:mod:`mapper.bringup`); ``bound``: the most clock steps
+    the solver unrolls for a build with flip-flops.
 
     Returns ``{"result": Result, "plan": Plan, "json": data, "text": table, "csv": text}``.
     """
@@ -513,7 +514,7 @@ def bringup(path, target_name, effort: int = 1, seed: int = 0, **read_options) -
     from .bringup.report import plan_csv, plan_json, plan_text
     r = build(path, target_name, effort=effort, **read_options)
     with progress.stage("finding the bring-up settings"):
-        plan = make_plan(r.build, seed=seed)
+        plan = make_plan(r.build, seed=seed, bound=bound)
     return {"result": r, "plan": plan, "json": plan_json(plan), "text": plan_text(plan), "csv": plan_csv(plan)}
 
 

@@ -25,7 +25,7 @@ from ..logic.function import Function
 from .gatesim import GateCircuit
 from .ternary import AND, CONST, COPY, NOT, XOR, classify, primes
 
-__all__ = ["SettingSolver", "CONFLICTS", "FOUND", "UNDETECTABLE", "UNKNOWN"]
+__all__ = ["SettingSolver", "gate_clauses", "xor_clauses", "CONFLICTS", "FOUND", "UNDETECTABLE", "UNKNOWN"]
 
 #: conflicts the solver may spend on one fault before it is left unresolved
 CONFLICTS = 200_000
@@ -59,7 +59,7 @@ def _cubes(func: Function) -> tuple:
     return (op[1], op[2])
 
 
-def _clauses(func: Function, ins: list, y: int) -> list:
+def gate_clauses(func: Function, ins: list, y: int) -> list:
     """Clauses saying ``y`` is ``func`` of ``ins`` (literals)."""
     on, off = _cubes(func)
     out = [[-ins[j] for j in ones] + [ins[j] for j in zeros] + [y] for ones, zeros in on]
@@ -67,7 +67,7 @@ def _clauses(func: Function, ins: list, y: int) -> list:
     return out
 
 
-def _xor(d: int, a: int, b: int) -> list:
+def xor_clauses(d: int, a: int, b: int) -> list:
     """Clauses saying ``d`` is ``a`` XOR ``b``."""
     return [[-d, a, b], [-d, -a, -b], [d, -a, b], [d, a, -b]]
 
@@ -83,7 +83,7 @@ class SettingSolver:
         self.solver.add_clause([2])    # VCC (net id 1)
         self.solver.add_clause([-1])   # GND (net id 0)
         for nd in circ.nodes:
-            for c in _clauses(nd[4], [circ.pin_net[p] + 1 for p in nd[2]], nd[1] + 1):
+            for c in gate_clauses(nd[4], [circ.pin_net[p] + 1 for p in nd[2]], nd[1] + 1):
                 self.solver.add_clause(c)
         self.top = self.n
 
@@ -167,11 +167,11 @@ class SettingSolver:
                     ins.append(bad.get(net, net + 1))
             y = self._var()
             bad[nd[1]] = y
-            clauses += _clauses(nd[4], ins, y)
+            clauses += gate_clauses(nd[4], ins, y)
         diffs = []
         for n in reached:
             d = self._var()
-            clauses += _xor(d, n + 1, bad.get(n, n + 1))
+            clauses += xor_clauses(d, n + 1, bad.get(n, n + 1))
             diffs.append(d)
         clauses.append(diffs)
         clauses += self._paths(site, fanout, set(reached), bad)
@@ -206,7 +206,7 @@ class SettingSolver:
         for k in fanout:
             net = circ.nodes[k][1]
             x = self._var()
-            out += _xor(x, net + 1, bad[net])
+            out += xor_clauses(x, net + 1, bad[net])
             d[k] = x
         for k in fanout:
             net = circ.nodes[k][1]

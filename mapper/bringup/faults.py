@@ -28,8 +28,15 @@ Friedman, *Digital Systems Testing and Testable Design*, 1990): a net with a
 single pin on it is one line with that pin; an input pin of a gate at its
 controlling value is the gate's output stuck at the value it forces.
 On relay builds a relay fed by its own net alone is its coil, and a relay
-with one used contact is that contact.  Builds with storage are not
-modelled yet.
+with one used contact is that contact.
+
+Edge-triggered flip-flop chips (gate builds): their data, clock, preset and
+clear pins are pins as above, and their Q and Q-bar nets are nets as above.
+A clock pin stuck at 0 and stuck at 1 are one fault -- the flip-flop never
+sees an edge and keeps its start level -- and so are a clock net read by
+clock pins only stuck at 0 and at 1.  Storage built of gates is gates:
+its pins and nets are faulted as any others.  Latch chips and relay
+storage are not modelled yet.
 """
 from __future__ import annotations
 
@@ -120,8 +127,8 @@ class _Union:
 
 def fault_list(b: Build) -> FaultList:
     """The modelled faults of ``b`` and their classes (see the module docstring)."""
-    if b.latches or b.sequencers or b.storage_groups:
-        raise InternalError("faults of builds with storage are not modelled yet")
+    if b.latches or b.sequencers:
+        raise InternalError("faults of relay builds with storage are not modelled yet")
     faults, joins, left = _relay_faults(b) if b.is_relay else _gate_faults(b)
     where = {f.key: i for i, f in enumerate(faults)}
     u = _Union(len(faults))
@@ -145,6 +152,7 @@ def _gate_faults(b: Build) -> tuple:
     faults: list = []
     joins: list = []
     readers: dict = {}
+    shared: set = set()
     outputs = {b.output_nets.get(o, o) for o in b.outputs}
     for c in b.cells:
         cd = b.cell_def(c)
@@ -153,6 +161,9 @@ def _gate_faults(b: Build) -> tuple:
         for name in cd.inputs:
             net = c.pins[name]
             number = b.pin_of(c, name)
+            if (c.part_ref, number) in shared:
+                continue   # a pin the sections of a chip share (the selects of a '153): listed once
+            shared.add((c.part_ref, number))
             for v in (0, 1):
                 if net in SUPPLY_NETS and v == (1 if net == "VCC" else 0):
                     continue   # stuck at its own rail: no fault
@@ -170,10 +181,11 @@ def _gate_faults(b: Build) -> tuple:
             c, name, number, _ = loads[0]
             for v in (0, 1):
                 joins.append((f"net {net}/{v}", f"{c.part_ref}-{number}/{v}"))
+    joins += _clock_joins(b, readers)
     for c in b.cells:
         cd = b.cell_def(c)
-        if cd.storage is not None:
-            continue
+        if cd.storage is not None or cd.block is not None:
+            continue   # a block of several outputs: its pins are not merged with one output
         out = c.pins[cd.output]
         for _j, name, v, k in _controlling(cd.logic_function(), cd.inputs, c.pins):
             joins.append((f"{c.part_ref}-{b.pin_of(c, name)}/{v}", f"net {out}/{k}"))
@@ -183,6 +195,23 @@ def _gate_faults(b: Build) -> tuple:
             "tied inputs of unused sections": unused_ties,
             "support parts": len(b.support)}
     return faults, joins, left
+
+
+def _clock_joins(b: Build, readers: dict) -> list:
+    """A clock pin (or a net read by clock pins only) stuck at 0 is the same fault as stuck at 1: no edge."""
+    joins = []
+    clock_pins = set()
+    for c in b.cells:
+        cd = b.cell_def(c)
+        for name in cd.inputs:
+            if cd.storage == "re" and cd.roles.get(name) == "clock":
+                number = b.pin_of(c, name)
+                clock_pins.add((c.part_ref, name))
+                joins.append((f"{c.part_ref}-{number}/0", f"{c.part_ref}-{number}/1"))
+    for net, loads in readers.items():
+        if loads and all((c.part_ref, name) in clock_pins for c, name, _, _ in loads):
+            joins.append((f"net {net}/0", f"net {net}/1"))
+    return joins
 
 
 def _controlling(func, inputs, pins) -> list:

@@ -1,9 +1,18 @@
 """A gate build as wired, pin by pin, and a bit-parallel three-valued simulator of it with faults.
 
-The model reads a :class:`~mapper.build.Build` of chips without storage:
-every used section is a node that reads its input *pins* (each pin its own
-place where a fault can sit) and drives its output net with its catalog
-function.  Nodes are evaluated once each, in the order of the wiring.
+The model reads a :class:`~mapper.build.Build` of gate chips: every used
+section is a node that reads its input *pins* (each pin its own place where
+a fault can sit) and drives its output net with its catalog function.  Nodes
+are evaluated once each, in the order of the wiring.  Edge-triggered
+flip-flop sections (data, clock and maybe preset and clear pins) are
+:class:`Flop` records: their Q and Q-bar nets are sources of the gates, like
+inputs, and :class:`SeqMachine` steps them clock by clock.  A medium-scale
+chip without registers (an adder, a comparator, a decoder, a multiplexer)
+is one node per wired output over the input pins that output reads, its
+function flattened from the catalog's block model.  The gates of storage
+built of gates (``Build.storage_groups``) are nodes like any other, in
+loops: :class:`LoopMachine` settles them.  Other storage (latch chips,
+registers inside blocks) is counted in ``storage`` and not modelled.
 
 Values are three-valued and bit-parallel (:mod:`mapper.bringup.ternary`):
 bit ``k`` of every word belongs to machine ``k``, and each machine may carry
@@ -22,7 +31,7 @@ from ..build import Build
 from ..errors import InternalError
 from .ternary import AND, classify, evaluate
 
-__all__ = ["GateCircuit", "GateMachine", "PinRef"]
+__all__ = ["GateCircuit", "GateMachine", "SeqMachine", "LoopMachine", "PinRef", "Flop"]
 
 
 @dataclass(frozen=True)
@@ -34,6 +43,23 @@ class PinRef:
     name: str
     net: str
     cell: int
+
+
+@dataclass(frozen=True)
+class Flop:
+    """One edge-triggered flip-flop section: pin ids of its data, clock, preset and clear (``None``: the
+    section has no such pin), the net ids of Q and Q-bar (``None``: not wired), and its cell index.
+    ``preset_low`` / ``clear_low`` say the pin acts when low."""
+
+    d: int
+    clock: int
+    preset: int | None
+    clear: int | None
+    q: int
+    qn: int | None
+    cell: int
+    preset_low: bool = True
+    clear_low: bool = True
 
 
 @dataclass
@@ -49,12 +75,16 @@ class GateCircuit:
     nodes: list                     # ("g", out net id, pin ids, three-valued op, function) per section
     order: list                     # node ids, everything a node reads before it
     driver: dict = field(default_factory=dict)   # net id -> node id
-    storage: int = 0                # sections that remember (the model refuses them)
+    storage: int = 0                # sections that remember and are not modelled (latches, gate storage)
+    flops: list = field(default_factory=list)   # Flop per edge-triggered flip-flop section
+    loops: bool = False             # storage built of gates: loops of gates, settled by LoopMachine
+    #: node ids in order of evaluation, a loop of gates as one list: ``(False, [k])`` or ``(True, [k, ...])``
+    parts: list = field(default_factory=list)
 
     @property
     def has_state(self) -> bool:
         """Whether anything in the build remembers (flip-flops or latches)."""
-        return bool(self.storage)
+        return bool(self.storage or self.flops or self.loops)
 
     @classmethod
     def from_build(cls, b: Build) -> GateCircuit:
@@ -73,17 +103,39 @@ class GateCircuit:
         nodes: list = []
         storage = 0
 
+        seen: dict = {}
+
         def pin(ci: int, c, name: str) -> int:
             net = c.pins.get(name)
             if net is None:
                 raise InternalError(f"{c.part_ref} section {c.slot}: input {name} is on no net")
-            pins.append(PinRef(c.part_ref, b.pin_of(c, name), name, net, ci))
+            key = (c.part_ref, b.pin_of(c, name))
+            if key in seen:   # a pin the sections of a chip share (the selects of a '153): one place
+                if pins[seen[key]].net != net:
+                    raise InternalError(f"{key[0]} pin {key[1]} is on two nets")
+                return seen[key]
+            pins.append(PinRef(c.part_ref, key[1], name, net, ci))
             nid(net)
+            seen[key] = len(pins) - 1
             return len(pins) - 1
 
+        flops: list = []
+        loops = 0
         for ci, c in enumerate(b.cells):
             cd = b.cell_def(c)
-            if cd.storage is not None or c.group is not None:
+            if cd.storage is not None and _is_flop(cd) and c.group is None:
+                flops.append(_flop(cd, c, ci, pin, nid))
+                continue
+            if c.group is not None and cd.storage is None and cd.block is None:
+                loops += 1   # a gate of a latch or flip-flop built of gates: a gate like any other
+                ins = tuple(pin(ci, c, p) for p in cd.inputs)
+                func = cd.logic_function()
+                nodes.append(("g", nid(c.pins[cd.output]), ins, classify(func), func))
+                continue
+            if cd.block is not None and not cd.block.registers and c.group is None:
+                nodes += _block_nodes(cd, c, ci, pin, nid)
+                continue
+            if cd.storage is not None or c.group is not None or cd.block is not None:
                 storage += 1
                 continue
             ins = tuple(pin(ci, c, p) for p in cd.inputs)
@@ -91,10 +143,15 @@ class GateCircuit:
             nodes.append(("g", nid(c.pins[cd.output]), ins, classify(func), func))
         outputs = [(o, nid(b.output_nets.get(o, o))) for o in b.outputs]
         pin_net = [index[p.net] for p in pins]
-        circ = cls(list(index), index, inputs, outputs, pins, pin_net, nodes, [], storage=storage)
+        circ = cls(list(index), index, inputs, outputs, pins, pin_net, nodes, [], storage=storage, flops=flops,
+                   loops=bool(loops or b.storage_groups))
         if not storage:
             circ._order()
         return circ
+
+    def sources(self) -> set:
+        """Net ids no gate drives: rails, inputs, and the Q and Q-bar nets of the flip-flops."""
+        return {0, 1, *self.inputs, *(f.q for f in self.flops), *(f.qn for f in self.flops if f.qn is not None)}
 
     def readers(self) -> dict:
         """net id -> node ids that read it (made once)."""
@@ -115,9 +172,10 @@ class GateCircuit:
 
     def _order(self) -> None:
         driver: dict = {}
+        sources = self.sources()
         for k, nd in enumerate(self.nodes):
             net = nd[1]
-            if net in driver or net in self.inputs or net < 2:
+            if net in driver or net in sources:
                 raise InternalError(f"net {self.nets[net]} has two drivers in the build")
             driver[net] = k
         self.driver = driver
@@ -128,10 +186,20 @@ class GateCircuit:
                 src = driver.get(self.pin_net[p])
                 if src is not None:
                     g.add_edge(src, k)
-        try:
-            self.order = list(nx.topological_sort(g))
-        except nx.NetworkXUnfeasible:
-            raise InternalError("a loop of gates outside any storage group in the build") from None
+        if not self.loops:
+            try:
+                self.order = list(nx.topological_sort(g))
+            except nx.NetworkXUnfeasible:
+                raise InternalError("a loop of gates outside any storage group in the build") from None
+            self.parts = [(False, [k]) for k in self.order]
+            return
+        cond = nx.condensation(g)
+        self.parts = []
+        for comp in nx.topological_sort(cond):
+            members = sorted(cond.nodes[comp]["members"])
+            loop = len(members) > 1 or g.has_edge(members[0], members[0])
+            self.parts.append((loop, members))
+        self.order = [k for _, ks in self.parts for k in ks]
 
 
 class GateMachine:
@@ -145,11 +213,14 @@ class GateMachine:
                  net_faults: dict | None = None):
         if circ.has_state:
             raise InternalError("the bring-up simulator models builds without storage only")
+        self._setup(circ, width, pin_faults, net_faults)
+
+    def _setup(self, circ: GateCircuit, width: int, pin_faults: dict | None, net_faults: dict | None) -> None:
         self.c = circ
         self.width = width
         self.M = (1 << width) - 1
         self.net_faults = dict(net_faults or {})
-        pf = dict(pin_faults or {})
+        pf = self.pin_faults = dict(pin_faults or {})
         # every pin read resolved once with its fault: (net id, (s0, s1) or None)
         self._code = [(nd[1], tuple((circ.pin_net[p], pf.get(p)) for p in nd[2]), nd[3]) for nd in circ.nodes]
         n = len(circ.nets)
@@ -194,6 +265,9 @@ class GateMachine:
         self._set(0, 0, M)
         for net, w in zip(self.c.inputs, words):
             self._set(net, w & M, ~w & M)
+        self._gates()
+
+    def _gates(self) -> None:
         code = self._code
         for k in self.c.order:
             out, reads, op = code[k]
@@ -207,3 +281,223 @@ class GateMachine:
     def outputs(self) -> list:
         """``(hi, lo)`` of every output port, in the build's order."""
         return [(self.H[n], self.L[n]) for _, n in self.c.outputs]
+
+
+def _block_nodes(cd, c, ci: int, pin, nid) -> list:
+    """A medium-scale chip without registers as one node per wired output, each reading the chip's input
+    pins its output depends on (a pin read by several outputs is one pin id: a fault there reaches all)."""
+    blk = cd.block
+    ids = {name: pin(ci, c, name) for name in cd.inputs}   # every pin, read by an output or not
+    out = []
+    for sig in cd.outputs:
+        net = c.pins.get(sig)
+        if net is None:
+            continue
+        names, func = blk.table(sig)
+        out.append(("g", nid(net), tuple(ids[x] for x in names), classify(func), func))
+    return out
+
+
+def _is_flop(cd) -> bool:
+    """An edge-triggered section with a data and a clock pin (the rest preset or clear)."""
+    roles = sorted(cd.roles.get(p, "") for p in cd.inputs)
+    return (cd.storage == "re" and roles.count("data") == 1 and roles.count("clock") == 1
+            and all(r in ("data", "clock", "preset", "clear") for r in roles) and len(roles) == len(set(roles)))
+
+
+def _flop(cd, c, ci: int, pin, nid) -> Flop:
+    """The :class:`Flop` of section ``c`` (pins added to the model through ``pin``)."""
+    by_role = {cd.roles[p]: p for p in cd.inputs}
+    ids = {r: pin(ci, c, name) for r, name in by_role.items()}
+    qn = next((c.pins[x] for x in cd.extra_outputs if c.pins.get(x)), None)
+    return Flop(ids["data"], ids["clock"], ids.get("preset"), ids.get("clear"), nid(c.pins[cd.output]),
+                nid(qn) if qn is not None else None, ci,
+                by_role.get("preset") in cd.active_low, by_role.get("clear") in cd.active_low)
+
+
+class SeqMachine(GateMachine):
+    """``width`` machines of a gate build with flip-flops, stepped clock by clock.
+
+    Each step: :meth:`settle` applies the inputs (every clock input at rest,
+    low) with the flip-flops holding, and settles every net; :meth:`pulse`
+    then gives every clock input one pulse: a flip-flop whose clock pin sees
+    the edge takes the level on its data pin.  A machine whose clock pin (or
+    clock net) is stuck sees no edge and holds.  A preset or clear pin at its
+    active level forces the flip-flop at once, whatever the clock (both at
+    once: Q and Q-bar both high, as the data sheets of the '74 say).
+    Everything is three-valued: a flip-flop started unknown stays unknown
+    until it takes a known level.
+    """
+
+    def __init__(self, circ: GateCircuit, width: int, pin_faults: dict | None = None,
+                 net_faults: dict | None = None):
+        if circ.storage:
+            raise InternalError("the bring-up simulator models edge-triggered flip-flops only")
+        self._setup(circ, width, pin_faults, net_faults)
+        self.SH = [0] * len(circ.flops)
+        self.SL = [0] * len(circ.flops)
+        clock_nets = {circ.pin_net[f.clock] for f in circ.flops}
+        self._clock_inputs = [k for k, n in enumerate(circ.inputs) if n in clock_nets]
+
+    def _pin(self, p: int) -> tuple:
+        """``(hi, lo)`` read at pin ``p``, after its fault."""
+        net = self.c.pin_net[p]
+        a, b = self.H[net], self.L[net]
+        inj = self.pin_faults.get(p)
+        if inj is not None:
+            a, b = (a & ~inj[0]) | inj[1], (b & ~inj[1]) | inj[0]
+        return a, b
+
+    def _stuck(self, p: int) -> int:
+        """Machines in which pin ``p`` or its net is stuck (at either level)."""
+        out = 0
+        for inj in (self.pin_faults.get(p), self.net_faults.get(self.c.pin_net[p])):
+            if inj is not None:
+                out |= inj[0] | inj[1]
+        return out
+
+    def start(self, levels: list) -> None:
+        """Every machine's flip-flops at ``levels`` (0, 1, or ``None`` for unknown), as the builder sets them."""
+        M = self.M
+        for j, v in enumerate(levels):
+            self.SH[j] = M if v == 1 else 0
+            self.SL[j] = M if v == 0 else 0
+
+    def _async(self, j: int) -> tuple:
+        """``(preset, clear)``: the machines where flip-flop ``j`` is surely forced by each."""
+        f = self.c.flops[j]
+        out = []
+        for p, low in ((f.preset, f.preset_low), (f.clear, f.clear_low)):
+            if p is None:
+                out.append(0)
+                continue
+            h, l = self._pin(p)
+            out.append(l if low else h)
+        return out[0], out[1]
+
+    def settle(self, words: list) -> None:
+        """Apply the inputs ``words`` (clock inputs held low whatever they say) and settle every net."""
+        M = self.M
+        self._set(1, M, 0)
+        self._set(0, 0, M)
+        words = list(words)
+        for k in self._clock_inputs:
+            words[k] = 0
+        for net, w in zip(self.c.inputs, words):
+            self._set(net, w & M, ~w & M)
+        for j, f in enumerate(self.c.flops):
+            pre, clr = self._async(j)
+            h, l = (self.SH[j] | pre) & ~clr, (self.SL[j] | clr) & ~pre
+            self.SH[j], self.SL[j] = h | (pre & clr), l
+            self._set(f.q, self.SH[j], self.SL[j])
+            if f.qn is not None:
+                self._set(f.qn, l | (pre & clr), h & ~(pre & clr))
+        self._gates()
+
+    def pulse(self) -> None:
+        """One clock pulse: every flip-flop that sees the edge takes its data level (call after :meth:`settle`)."""
+        for j, f in enumerate(self.c.flops):
+            edge = self.M & ~self._stuck(f.clock)
+            pre, clr = self._async(j)
+            edge &= ~(pre | clr)
+            dh, dl = self._pin(f.d)
+            self.SH[j] = (dh & edge) | (self.SH[j] & ~edge)
+            self.SL[j] = (dl & edge) | (self.SL[j] & ~edge)
+
+
+class LoopMachine(GateMachine):
+    """``width`` machines of a gate build whose storage is built of gates (loops), stepped clock by clock.
+
+    Every net starts unknown (the power-on state is not relied on).  After
+    each change of the inputs the gates settle one gate delay at a time:
+    in a round every gate whose inputs changed in the round before takes
+    the level its inputs give (event-driven unit-delay simulation, textbook
+    practice, e.g. Abramovici, Breuer and Friedman 1990, ch. 3).  A net
+    still changing after :data:`ROUNDS` rounds (a loop that oscillates) is
+    made unknown, and the unknown spread until nothing changes.  A step is
+    :meth:`settle` (the inputs, clocks low), then :meth:`pulse`: every clock
+    input high, then low again, each settled the same way.
+    """
+
+    def __init__(self, circ: GateCircuit, width: int, pin_faults: dict | None = None,
+                 net_faults: dict | None = None, clocks: tuple = ()):
+        if circ.storage or circ.flops:
+            raise InternalError("the loop simulator models builds whose storage is all built of gates")
+        self._setup(circ, width, pin_faults, net_faults)
+        self._clocks = [k for k, n in enumerate(circ.inputs) if n in clocks]
+        self._fresh = True
+        self._readers = circ.readers()
+        self._now: list = []
+
+    def start(self, levels: list) -> None:
+        """Power on: every net unknown (``levels`` is empty: there is nothing the builder sets)."""
+        self.H = [0] * len(self.c.nets)
+        self.L = [0] * len(self.c.nets)
+        self._fresh = True
+        self._now = []
+
+    def _apply(self, new: list) -> None:
+        """Put the inputs at ``new`` ((hi, lo) each) and settle (see the class docstring)."""
+        M = self.M
+        self._set(1, M, 0)
+        self._set(0, 0, M)
+        for net, (h, l) in zip(self.c.inputs, new):
+            self._set(net, h, l)
+        self._now = list(new)
+        if self._fresh:   # power on: every gate once, in order, then the loops settle
+            self._fresh = False
+            self._gates()
+        # the first round takes every gate, so that what a machine does never depends on what the other
+        # machines in the same words do (a gate left unknown by an oscillation gets its chance again)
+        active = set(range(len(self.c.nodes)))
+        code = self._code
+        for _ in range(ROUNDS):
+            if not active:
+                return
+            new_vals = [(k, self._gate(code[k][1], code[k][2])) for k in sorted(active)]
+            active = set()
+            for k, (h, l) in new_vals:
+                out = code[k][0]
+                before = (self.H[out], self.L[out])
+                self._set(out, h, l)
+                if (self.H[out], self.L[out]) != before:
+                    active.update(self._readers.get(out, []))
+        self._unsettled(active)
+
+    def _unsettled(self, active: set) -> None:
+        """Nets still changing: unknown where they change, spread until nothing changes (it only loses
+        knowledge, so it ends)."""
+        code = self._code
+        while active:
+            nxt: set = set()
+            for k in sorted(active):
+                out = code[k][0]
+                h, l = self._gate(code[k][1], code[k][2])
+                oh, ol = self.H[out], self.L[out]
+                self._set(out, oh & h, ol & l)   # known only where old and new agree (a stuck net stays)
+                if (self.H[out], self.L[out]) != (oh, ol):
+                    nxt.update(self._readers.get(out, []))
+            active = nxt
+
+    def settle(self, words: list) -> None:
+        """Apply the inputs ``words`` (clock inputs low whatever they say) and settle."""
+        M = self.M
+        new = [(w & M, ~w & M) for w in words]
+        for k in self._clocks:
+            new[k] = (0, M)
+        self._apply(new)
+
+    def pulse(self) -> None:
+        """Every clock input high, then low again, each settled."""
+        M = self.M
+        new = list(self._now)
+        for k in self._clocks:
+            new[k] = (M, 0)
+        self._apply(new)
+        for k in self._clocks:
+            new[k] = (0, M)
+        self._apply(list(new))
+
+
+#: unit-delay rounds after one change of the inputs before a loop still changing is called unknown
+ROUNDS = 64

@@ -12,97 +12,43 @@
    wrong (its *signature*), reduced to the places a person checks -- a pin
    of a part (the wire into it) or a whole net (every wire of it).
 
-Builds with storage (flip-flops, latches, relay seal-in storage) are refused
-with a plain message: their sequences are not built yet.
+Gate builds with edge-triggered flip-flop chips get *sequences* instead of
+settings (:mod:`mapper.bringup.seqplan`): each starts from a state the
+builder sets with the flip-flops' preset and clear pins, and each step is
+"set the inputs, read the outputs, give one clock pulse".  Builds whose
+flip-flops are built of gates start from power-on instead, in an unknown
+state, and an expected level is ``None`` until the steps make it known.
+The steps of all sequences are numbered in order, and everything above
+(expected outputs, probe points, signatures, the diagnosis) is per step.
+Latch chips, relay storage and medium-scale chips with registers are
+refused with a plain message.
 """
-from __future__ import annotations
-
-from dataclasses import dataclass, field
-
-from ..build import SUPPLY_NETS, Build
+from ..build import Build
 from ..errors import InternalError, UsageError
 from .engine import Engine, Run
-from .faults import Fault, FaultList, fault_list
+from .faults import fault_list
 from .generate import combinational, compact
+from .plandata import PROBE_CANDIDATES, PROBES, Plan, candidates, choose_probes, place_of
+from .seqplan import sequential_plan
 
-__all__ = ["Plan", "make_plan", "place_of", "diagnose", "PROBES", "PROBE_CANDIDATES"]
-
-#: probe points offered per setting
-PROBES = 3
-#: nets scored as probe points at most (spread evenly over the nets by name)
-PROBE_CANDIDATES = 200
+__all__ = ["Plan", "make_plan", "place_of", "diagnose", "choose_probes", "candidates", "PROBES", "PROBE_CANDIDATES"]
 
 
-@dataclass
-class Plan:
-    """A build's bring-up plan (see the module docstring).
+def make_plan(b: Build, seed: int = 0, bound: int | None = None) -> Plan:
+    """The bring-up plan of build ``b`` (:class:`UsageError` for builds it cannot make one for).
 
-    ``settings[p]`` is a tuple of input levels in ``inputs`` order;
-    ``expected[p]`` the output levels in ``outputs`` order; ``probes[p]`` a
-    list of ``(net, ref, pin, level, splits)``: the net, the part pin that
-    drives it, its expected level, and how many of the setting's suspects a
-    wrong reading there points at.  ``signature[k]`` is the set of
-    ``(setting, output index)`` at which class ``k`` reads wrong.
+    ``bound`` caps the clock steps the solver unrolls for a sequential build
+    (default :func:`mapper.bringup.sequences.default_bound`).
     """
-
-    build: Build
-    faults: FaultList
-    inputs: list
-    outputs: list
-    settings: list
-    expected: list
-    probes: list
-    signature: list
-    detected: list
-    undetectable: list
-    unresolved: list
-    methods: list = field(default_factory=list)
-
-    @property
-    def total(self) -> int:
-        """Modelled faults before collapsing."""
-        return len(self.faults.faults)
-
-    @property
-    def classes(self) -> int:
-        """Classes of equivalent faults (what is left after collapsing)."""
-        return len(self.faults.classes)
-
-    @property
-    def detectable(self) -> int:
-        """Classes some setting can detect (every class not proved undetectable or left unresolved)."""
-        return self.classes - len(self.undetectable)
-
-    def places(self, k: int) -> list:
-        """The places to check for class ``k``: every pin or net of its faults, in plain words."""
-        return list(dict.fromkeys(place_of(self.faults.faults[i]) for i in self.faults.classes[k]))
-
-    def suspects(self, p: int, o: int) -> list:
-        """Classes whose builds read output ``o`` wrong under setting ``p``."""
-        return [k for k, sig in enumerate(self.signature) if (p, o) in sig]
-
-
-def place_of(f: Fault) -> str:
-    """Where a person looks for fault ``f``: ``U3 pin 5`` (the wire into that pin), ``net N11``,
-    ``K2 coil`` or ``K2 contact NO1``."""
-    if f.kind == "pin":
-        return f"{f.ref} pin {f.pin}"
-    if f.kind == "coil":
-        return f"{f.ref} coil"
-    if f.kind == "contact":
-        return f"{f.ref} contact {f.side}{f.pole}"
-    return f"net {f.net}"
-
-
-def make_plan(b: Build, seed: int = 0) -> Plan:
-    """The bring-up plan of gate build ``b`` (:class:`UsageError` for relay builds and builds with storage)."""
-    if (any(b.cell_def(c).storage is not None for c in b.cells) or b.storage_groups or b.latches
-            or b.sequencers):
-        raise UsageError("bring-up lists for builds with storage (flip-flops, latches) are not made yet: "
-                         "builds without storage only")
-    if any(b.cell_def(c).block is not None for c in b.cells):
-        raise UsageError("bring-up lists for builds with medium-scale chips (adders, comparators, counters) "
-                         "are not made yet: build on a target without them (gates-74) for a bring-up list")
+    if b.latches or b.sequencers:
+        raise UsageError("bring-up lists for relay builds with storage are not made yet: relay builds without "
+                         "storage only")
+    if any(getattr(b.cell_def(c).block, "registers", ()) for c in b.cells):
+        raise UsageError("bring-up lists for builds with medium-scale chips that hold state (counters, shift "
+                         "registers) are not made yet: build on a target without them (gates-74) for a bring-up "
+                         "list")
+    if b.storage_groups or any(b.cell_def(c).storage is not None for c in b.cells):
+        return sequential_plan(b, seed, bound)
     fl = fault_list(b)
     engine = Engine(b)
     reps = fl.representatives
@@ -119,24 +65,12 @@ def make_plan(b: Build, seed: int = 0) -> Plan:
     return plan
 
 
-def _candidates(engine: Engine) -> list:
-    """Net ids worth probing: driven inside the build, neither an input, an output nor a rail."""
-    c = engine.circ
-    outs = {n for _, n in c.outputs} | set(c.inputs)
-    inside = range(len(c.nets)) if engine.relay else c.driver   # type: ignore[union-attr]
-    nets = sorted((c.nets[n], n) for n in inside if n not in outs and c.nets[n] not in SUPPLY_NETS)
-    if len(nets) > PROBE_CANDIDATES:
-        step = len(nets) / PROBE_CANDIDATES
-        nets = [nets[int(i * step)] for i in range(PROBE_CANDIDATES)]
-    return [n for _, n in nets]
-
-
 def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
     """Up to :data:`PROBES` probe points per setting (see the module docstring)."""
     P = len(settings)
     if not P:
         return []
-    cands = _candidates(engine)
+    cands = candidates(engine)
     counts = {n: [0] * P for n in cands}
     sizes = [0] * P
     level: dict = {}
@@ -161,28 +95,7 @@ def _probes(engine: Engine, reps: list, settings: list, run: Run) -> list:
             for p in range(P):
                 if masks[p]:
                     row[p] += (diff & masks[p]).bit_count()
-    c = engine.circ
-    b = engine.b
-    drivers: dict = {}
-    for cell in b.cells:
-        cd = b.cell_def(cell)
-        drivers.setdefault(cell.pins[cd.output], (cell.part_ref, b.pin_of(cell, cd.output)))
-    if engine.relay:   # a relay net has no one driver: the first contact terminal on it
-        for net, pins in b.nets().items():
-            for ref, pin in pins:
-                if str(pin).startswith(("COM", "NO", "NC")):
-                    drivers.setdefault(net, (ref, pin))
-                    break
-    out = []
-    for p in range(P):
-        scored = sorted(((min(counts[n][p], sizes[p] - counts[n][p]), c.nets[n], n) for n in cands
-                         if counts[n][p]), key=lambda t: (-t[0], t[1]))
-        chosen = []
-        for _, name, n in scored[:PROBES]:
-            ref, pin = drivers.get(name, ("", ""))
-            chosen.append((name, ref, pin, level[n] >> p & 1, counts[n][p]))
-        out.append(chosen)
-    return out
+    return choose_probes(engine, cands, counts, sizes, [[level[n] >> p & 1 for n in cands] for p in range(P)])
 
 
 def diagnose(plan: Plan, observed) -> list:

@@ -132,8 +132,9 @@ def _rewired(b, f):
         for n in cd.inputs:
             if c.pins[n] == f.net:
                 c.pins[n] = rail
-        if c.pins[cd.output] == f.net:
-            c.pins[cd.output] = f"{f.net}__cut"
+        for n in cd.outputs:   # every output of a chip of several (an adder's sums) on the net
+            if c.pins.get(n) == f.net:
+                c.pins[n] = f"{f.net}__cut"
     for o in b.outputs:
         if b.output_nets.get(o, o) == f.net:
             nb.output_nets[o] = rail
@@ -248,9 +249,12 @@ def test_every_detectable_fault_detected(tmp_path, design, target):
             assert _outputs_all(_rewired(b, f), b) == _outputs_all(_rewired(b, _no_fault()), b), f.key
 
 
-@pytest.mark.parametrize("target", ["gates-74", "relay-spdt"])
-def test_builds_with_storage_are_refused(target):
-    r = flow.build("tests/data/published/dk27.blif", target)   # MCNC dk27: three latches
+@pytest.mark.parametrize("target", ["nand-only", "relay-spdt"])
+def test_builds_with_storage_not_made_of_chips_are_refused(target):
+    # MCNC dk27: three latches, built of gates that no input sequence brings to a known state (nand-only) or
+    # of relays; flip-flop chips are in test_seq_bringup.py, gates that can be brought to a known state in
+    # test_loop_bringup.py
+    r = flow.build("tests/data/published/dk27.blif", target)
     with pytest.raises(UsageError):
         make_plan(r.build)
 

@@ -59,8 +59,8 @@ def test_csv_rows_are_the_settings(netfit):
 
 
 def test_refusals_are_usage_errors(netfit):
-    code, out, err = netfit("bringup", "tests/data/published/dk27.blif", "-t", "gates-74")
-    assert code == 2 and "builds with storage" in err and not out
+    code, out, err = netfit("bringup", "tests/data/published/dk27.blif", "-t", "relay-spdt")
+    assert code == 2 and "not made yet" in err and not out
     code, out, err = netfit("bringup", "tests/data/nonexistent.blif", "-t", "gates-74")
     assert code == 2
 
@@ -77,3 +77,26 @@ def test_failed_names_the_faults_that_explain_them(netfit):
         assert set(c["places"]) <= set(listed[:len(c["places"]) + 4]), (c, listed)
     code, out, err = netfit("bringup", "tests/data/c17.blif", "-t", "gates-74", "--failed", "99:N22")
     assert code == 2 and "--failed" in err
+
+
+def test_sequences_of_the_textbook_counter(netfit, tmp_path):
+    # the textbook 4-bit counter (tests/data/textbook/counter4.blif, common practice) counts 0, 1, 2, ... from
+    # its start, one count per clock pulse: the expected outputs of step s are s - 1 in binary
+    code, data, err = netfit("bringup", "tests/data/textbook/counter4.blif", "-t", "gates-74", "--json",
+                             as_json=True)
+    assert code == 0 and "coverage:" in err
+    assert data["sequential"] and data["clock_inputs"] == ["clk"] and data["inputs"] == []
+    assert [s["level"] for s in data["start"]] == [0, 0, 0, 0]
+    for s in data["settings"]:
+        assert [s["outputs"][f"q{i}"] for i in range(4)] == [(s["step"] - 1) >> i & 1 for i in range(4)]
+    # q3 rises first after 8 pulses: q3 reading 0 at step 9 points at the wires of q3's flip-flop
+    code, out, err = netfit("bringup", "tests/data/textbook/counter4.blif", "-t", "gates-74", "--failed", "9:q3")
+    assert code == 0 and "net q3" in out
+
+
+def test_a_clock_that_feeds_gates_is_refused_plainly(netfit, tmp_path):
+    path = tmp_path / "gated.blif"   # the clock read by a gate as data: not made yet, said plainly
+    path.write_text(".model g\n.inputs clk a\n.outputs y\n.latch d q re clk 0\n.names a q d\n10 1\n01 1\n"
+                    ".names clk q y\n11 1\n.end\n")
+    code, out, err = netfit("bringup", path, "-t", "gates-74")
+    assert code == 2 and "clock" in err and "not made yet" in err and not out
