@@ -212,9 +212,13 @@ class _PartSearch:
         for src in sources:
             for m in mux_mappings(src, libs, self.target):
                 self.consider(m, "multiplexer parts")
-        for label, m in split_mappings(self.design, libs, self.target) + resub_mux_mappings(
-                self.design, libs, self.target):
-            self.consider(m, label)
+        # the split and the forms map a few times per library: small designs only (a budget
+        # of 20 candidates or more: up to about 500 nodes), outside the budget the later
+        # candidates share
+        if self.budget >= 20:
+            for label, m in split_mappings(self.design, libs, self.target) + resub_mux_mappings(
+                    self.design, libs, self.target):
+                self.consider(m, label)
 
     def one_cell_builds(self, effort: int) -> None:
         """The best builds of the targets of one NAND2 or NOR2 cell that this target's parts
