@@ -4,11 +4,12 @@
 A quad multiplexer part (a 74HC157) has one select pin for its four
 sections, so a form pays only where several nodes can share a select.  The
 choice here is greedy: every node with a form of two data signals (a true
-multiplexer) takes the select that the most such nodes share; selects
-shared by at least ``least`` nodes keep their nodes.  With ``fill``, the
-spare sections of each select's last package then take ANDs and ORs of
-that select (a section with one data input tied to a rail): a gate moved
-into a section that would stand empty anyway.
+multiplexer, freeing at least two AND nodes) takes the select that the
+most such nodes share.  With ``fill``, the spare sections of each select's
+last package then take ANDs and ORs of that select (a section with one
+data input tied to a rail): a gate moved into a section that would stand
+empty anyway.  A select keeps its nodes when at least ``least`` nodes could
+share it (its ANDs and ORs counted with ``fill``).
 
 Each choice is one candidate of the part search (:mod:`mapper.fit.fit`),
 mapped, packed and weighed like every other, and its build is proved equal
@@ -53,22 +54,22 @@ def resub_mux_mappings(design, libs: list, target) -> list:
     return out
 
 
-def choose(forms: dict, phases: dict, least: int, fill: bool, aig=None) -> dict:
+def choose(forms: dict, phases: dict, least: int, fill: bool, aig) -> dict:
     """variable -> its chosen form ``(s, d1, d0, compl)`` (see the module docstring).
 
-    ``phases`` maps a variable to ``(readers of its positive literal, readers
-    of its complement)``: a form that gives the phase most readers want, with
-    the fewest complemented data, is preferred.  Given ``aig``, a true
-    multiplexer form counts only where it frees at least two AND nodes (the
-    node's fan-out-free cone down to the form's inputs: a lone AND is a gate
-    already), and a node inside the cone of a chosen node is not chosen."""
-    refs = aig.fanout_counts() if aig is not None else None
+    ``forms`` is :func:`~mapper.logic.restructure.muxresub.mux_forms` of
+    ``aig``; ``phases`` maps a variable to ``(readers of its positive
+    literal, readers of its complement)``: the form with the fewest data in
+    a phase the logic does not make anyway, then giving the phase most
+    readers want, is preferred.  A true multiplexer form counts only where
+    it frees at least two AND nodes (the node's fan-out-free cone down to the
+    form's inputs: a lone AND is a gate already), and a node inside the cone
+    of a chosen node is not chosen."""
+    refs = aig.fanout_counts()
     true_forms: dict = {}
     for v, fs in forms.items():
-        # exclusive-OR forms (data of both phases of one signal) would need an inverter each
-        fs = [f for f in fs if f[1] > 1 and f[2] > 1 and f[1] != f[2] ^ 1]
-        if refs is not None:
-            fs = [f for f in fs if mffc_size(aig, v, refs, [x >> 1 for x in f[:3]])[0] >= 2]
+        fs = [f for f in fs if f[1] > 1 and f[2] > 1
+              and mffc_size(aig, v, refs, [x >> 1 for x in f[:3]])[0] >= 2]
         if fs:
             true_forms[v] = fs
     share: dict = {}
@@ -91,7 +92,7 @@ def choose(forms: dict, phases: dict, least: int, fill: bool, aig=None) -> dict:
         chosen.update((v, picked[v]) for v in vs)
         # gates take the sections the true multiplexers leave in their last package
         chosen.update(extra[:-len(vs) % 4])
-    inside = _inside(aig, refs, chosen) if refs is not None else set()
+    inside = _inside(aig, refs, chosen)
     chosen = {v: f for v, f in chosen.items() if v not in inside}
     return {v: _select_phase(f, phases.get(f[0] >> 1, (0, 0))) for v, f in chosen.items()}
 
