@@ -31,7 +31,7 @@ from ..logic.minimize import min_cover
 from ..logic.restructure.graph import frame, to_netlist
 from .gates import CellUse, Mapping, cell_depth, map_logic
 
-__all__ = ["mux_cell", "mux_roles", "mux_mapping", "mux_mappings", "mapped_with_muxes", "MIN_GROUP"]
+__all__ = ["mux_cell", "mux_roles", "mux_mappings", "mapped_with_muxes", "MIN_GROUP"]
 
 #: multiplexers that share a select before they go into multiplexer parts
 MIN_GROUP = 2
@@ -101,18 +101,12 @@ def _find_muxes(aig: AIG) -> dict:
     return out
 
 
-def mux_mapping(design, lib, target) -> Mapping | None:
-    """``design`` mapped onto ``lib`` with its multiplexers in the target's
-    multiplexer parts (see the module docstring), or ``None`` when the
-    target has no such part or the design no group of :data:`MIN_GROUP`."""
-    got = mux_mappings(design, [lib], target)
-    return got[0] if got else None
-
-
 def mux_mappings(design, libs: list, target) -> list:
-    """:func:`mux_mapping` with the rest of the logic mapped onto each of
-    ``libs`` in turn (one :class:`Mapping` each; empty where it gives ``None``):
-    the logic around the multiplexers may pack best in one kind of gate."""
+    """``design`` with its multiplexers in the target's multiplexer parts (see
+    the module docstring) and the rest of the logic mapped onto each of
+    ``libs`` in turn: one :class:`Mapping` each (the logic around the
+    multiplexers may pack best in one kind of gate); empty when the target
+    has no such part or the design no group of :data:`MIN_GROUP`."""
     got = mux_cell(target, libs[0])
     if got is None:
         return []
