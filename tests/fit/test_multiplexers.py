@@ -71,9 +71,10 @@ def test_split_designs_compute_the_design(name):
 
 @pytest.mark.parametrize("kind, width", [("rca", 4), ("ks", 8), ("bk", 8), ("arr", 4)])
 def test_multiplexer_forms_in_157_sections_compute_arithmetic(tmp_path, gates74, kind, width):
-    """The candidates built from multiplexer forms (carries and group generates as
-    multiplexers of a propagate, ANDs and ORs of a select in spare sections) use 74HC157
-    sections, and each build computes a + b or a * b on every operand pair."""
+    """The candidates built from multiplexer forms (such as carries and group generates as
+    multiplexers of a propagate, with ANDs and ORs of a select in spare sections) use 74HC157
+    sections, and each build computes a + b or a * b on every operand pair.  (They are
+    candidates: on these designs the part search keeps builds of fewer parts without them.)"""
     d = read_design(generated.make(kind, width, tmp_path))
     lib = fitmod._library(gates74)
     cands = resub_mux_mappings(d, [lib], gates74)
