@@ -210,15 +210,15 @@ class _PartSearch:
                              for k in _complete_cells(self.lib)]
         sources = [self.design] + [s[0] for s in self.subjects[:1] if s[0] is not self.design and not s[3]]
         for src in sources:
-            for m in mux_mappings(src, libs, self.target):
-                self.consider(m, "multiplexer parts")
+            for k, m in enumerate(mux_mappings(src, libs, self.target)):
+                self.consider(m, "multiplexer parts", floor=k > 0)
         # the split and the forms map a few times per library: small designs only (a budget
         # of 20 candidates or more: up to about 500 nodes), outside the budget the later
-        # candidates share
+        # candidates share; like the one-cell libraries above, they win only with fewer parts
         if self.budget >= 20:
             for label, m in split_mappings(self.design, libs, self.target) + resub_mux_mappings(
                     self.design, libs, self.target):
-                self.consider(m, label)
+                self.consider(m, label, floor=True)
 
     def one_cell_builds(self, effort: int) -> None:
         """The best builds of the targets of one NAND2 or NOR2 cell that this target's parts

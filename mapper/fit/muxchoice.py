@@ -32,10 +32,10 @@ CHOICES = [(4, True), (2, True)]
 def resub_mux_mappings(design, libs: list, target) -> list:
     """``[(label, Mapping)]``: ``design`` mapped with the nodes each of
     :data:`CHOICES` picks built in the target's multiplexer parts; empty when
-    the target has none or no select is shared."""
+    the target has none, the design has storage, or no select is shared."""
     got = mux_cell(target, libs[0])
-    if got is None:
-        return []
+    if got is None or design.storage():
+        return []   # storage: its loops and latches are built by their own rules
     aig, _ = from_netlist(design, cover=min_cover)
     forms = mux_forms(aig)
     if not forms:
@@ -83,7 +83,8 @@ def choose(forms: dict, phases: dict, least: int, fill: bool, aig) -> dict:
         s = min(f[0] for f in fs if share[f[0]] == top)
         picked[v] = _best([f for f in fs if f[0] == s], phases, v)
         groups.setdefault(s, []).append(v)
-    gates = _gate_forms(forms, phases, set(picked)) if fill else {}
+    # nodes that die with a true multiplexer are no gates for spare sections
+    gates = _gate_forms(forms, phases, set(picked) | _inside(aig, refs, picked)) if fill else {}
     chosen: dict = {}
     for s, vs in groups.items():
         extra = gates.get(s, [])
