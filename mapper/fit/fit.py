@@ -20,7 +20,9 @@ a design of over 6,000 nodes gets one mapping):
   its build has fewer whole parts than every build before it -- the stop
   rule of the restructuring script is this count, measured after mapping;
 * the design with its 2:1 multiplexers of one select in quad multiplexer
-  parts (:mod:`mapper.fit.muxes`);
+  parts (:mod:`mapper.fit.muxes`), a small design split on one input into
+  multiplexers (:mod:`mapper.fit.muxsplit`), and nodes that are
+  multiplexers of other signals under don't-cares (:mod:`mapper.fit.muxchoice`);
 * the same mappings with other cut budgets and numbers of area-flow passes;
 * re-mapping the best mapped logic itself (its NAND/NOR structure often
   exposes sharing the first subject graph hid);
@@ -192,15 +194,31 @@ class _PartSearch:
 
     def multiplexers(self) -> None:
         """The design with its 2:1 multiplexers of a common select in the target's multiplexer
-        parts (:mod:`mapper.fit.muxes`), from the design and from the best subject so far."""
+        parts (:mod:`mapper.fit.muxes`), from the design and from the best subject so far; the
+        small design split on one input into multiplexers (:mod:`mapper.fit.muxsplit`); nodes
+        that are multiplexers of other signals under don't-cares (:mod:`mapper.fit.muxchoice`).
+        The logic around the multiplexers is mapped with every cell and with each NAND2 or
+        NOR2 cell alone (it often packs best in one kind of gate)."""
         if self.keep or self.trees:
             return
-        from .muxes import mux_mapping
+        from .muxchoice import resub_mux_mappings
+        from .muxes import mux_cell, mux_mappings
+        from .muxsplit import split_mappings
+        if mux_cell(self.target, self.lib) is None:
+            return
+        libs = [self.lib] + [_library(self.target, frozenset(c for c in self.lib.cells if c != k))
+                             for k in _complete_cells(self.lib)]
         sources = [self.design] + [s[0] for s in self.subjects[:1] if s[0] is not self.design and not s[3]]
         for src in sources:
-            m = mux_mapping(src, self.lib, self.target)
-            if m is not None:
-                self.consider(m, "multiplexer parts")
+            for k, m in enumerate(mux_mappings(src, libs, self.target)):
+                self.consider(m, "multiplexer parts", floor=k > 0)
+        # the split and the forms map a few times per library: small designs only (a budget
+        # of 20 candidates or more: up to about 500 nodes), outside the budget the later
+        # candidates share; like the one-cell libraries above, they win only with fewer parts
+        if self.budget >= 20:
+            for label, m in split_mappings(self.design, libs, self.target) + resub_mux_mappings(
+                    self.design, libs, self.target):
+                self.consider(m, label, floor=True)
 
     def one_cell_builds(self, effort: int) -> None:
         """The best builds of the targets of one NAND2 or NOR2 cell that this target's parts

@@ -31,7 +31,7 @@ from ..logic.minimize import min_cover
 from ..logic.restructure.graph import frame, to_netlist
 from .gates import CellUse, Mapping, cell_depth, map_logic
 
-__all__ = ["mux_cell", "mux_roles", "mux_mapping", "MIN_GROUP"]
+__all__ = ["mux_cell", "mux_roles", "mux_mappings", "mapped_with_muxes", "MIN_GROUP"]
 
 #: multiplexers that share a select before they go into multiplexer parts
 MIN_GROUP = 2
@@ -77,8 +77,8 @@ def mux_cell(target, lib):
 
 
 def _find_muxes(aig: AIG) -> dict:
-    """AND variable -> ``(select literal, data at 1, data at 0)`` of each
-    multiplexer (the variable computes its complement)."""
+    """AND variable -> ``(select literal, data at 1, data at 0, 1)`` of each
+    multiplexer (the 1: the variable computes its complement)."""
     f0, f1 = aig.f0, aig.f1
     out: dict = {}
     for v in range(1, aig.num_vars):
@@ -97,52 +97,71 @@ def _find_muxes(aig: AIG) -> dict:
                         continue   # an exclusive-OR
                     if s & 1:
                         s, d1, d0 = s ^ 1, d0, d1
-                    out.setdefault(v, (s, d1, d0))
+                    out.setdefault(v, (s, d1, d0, 1))
     return out
 
 
-def mux_mapping(design, lib, target) -> Mapping | None:
-    """``design`` mapped onto ``lib`` with its multiplexers in the target's
-    multiplexer parts (see the module docstring), or ``None`` when the
-    target has no such part or the design no group of :data:`MIN_GROUP`."""
-    got = mux_cell(target, lib)
+def mux_mappings(design, libs: list, target) -> list:
+    """``design`` with its multiplexers in the target's multiplexer parts (see
+    the module docstring) and the rest of the logic mapped onto each of
+    ``libs`` in turn: one :class:`Mapping` each (the logic around the
+    multiplexers may pack best in one kind of gate); empty when the target
+    has no such part or the design no group of :data:`MIN_GROUP`."""
+    got = mux_cell(target, libs[0])
     if got is None:
-        return None
-    cell, (ia, ib, isel, ien, active) = got
+        return []
     aig, _ = from_netlist(design, cover=min_cover)
     muxes = _find_muxes(aig)
     groups: dict = {}
-    for v, (s, _, _) in muxes.items():
+    for v, (s, _, _, _) in muxes.items():
         groups.setdefault(s, []).append(v)
     chosen = {v for vs in groups.values() if len(vs) >= MIN_GROUP for v in vs}
     if not chosen:
-        return None
+        return []
+    return mapped_with_muxes(design, aig, muxes, chosen, libs, got)
+
+
+def mapped_with_muxes(design, aig: AIG, muxes: dict, chosen: set, libs: list, got) -> list:
+    """``design`` (as the graph ``aig``) with each ``chosen`` variable built as
+    the multiplexer ``muxes`` gives it (``(s, d1, d0, compl)``: the variable,
+    complemented when ``compl``, is ``s ? d1 : d0``) in the cell ``got`` of
+    :func:`mux_cell` names, the rest mapped onto each of ``libs``: one
+    :class:`Mapping` per library."""
+    cell, (ia, ib, isel, ien, active) = got
     cut, wires = _cut(aig, muxes, chosen, design)
     net = to_netlist(cut, design, prefix="_x")
-    inner = map_logic(net, lib)
-    outs = dict(inner.outputs)
-    cells = list(inner.cells)
-    for name, (pa, pb, ps) in wires.items():
-        args = [""] * 4
-        args[ia], args[ib], args[isel] = outs.pop(pa), outs.pop(pb), outs.pop(ps)
-        args[ien] = "VCC" if active else "GND"
-        cells.append(CellUse(cell, tuple(args), name))
-    cells = _ordered(cells)
-    outputs = {o: outs[o] for o in design.outputs}
-    area = inner.area + len(wires) / 4
-    return Mapping(cells, outputs, inner.storage_nets, area, cell_depth(cells, design.inputs))
+    out = []
+    for lib in libs:
+        inner = map_logic(net, lib)
+        outs = dict(inner.outputs)
+        cells = list(inner.cells)
+        for name, (pa, pb, ps) in wires.items():
+            args = [""] * 4
+            args[ia], args[ib], args[isel] = (x if x in ("GND", "VCC") else outs.pop(x) for x in (pa, pb, ps))
+            args[ien] = "VCC" if active else "GND"
+            cells.append(CellUse(cell, tuple(args), name))
+        cells = _ordered(cells)
+        outputs = {o: outs[o] for o in design.outputs}
+        area = inner.area + len(wires) / 4
+        out.append(Mapping(cells, outputs, inner.storage_nets, area, cell_depth(cells, design.inputs)))
+    return out
+
+
+#: the rail a constant literal of the graph is tied to
+_RAILS = {0: "GND", 1: "VCC"}
 
 
 def _cut(aig: AIG, muxes: dict, chosen: set, design) -> tuple[AIG, dict]:
     """The graph with each chosen multiplexer's output made a free input:
-    ``(graph, {input name: (data-0 output, data-1 output, select output)})``."""
+    ``(graph, {input name: (data-0 output, data-1 output, select output)})``
+    (a constant data input is the rail's name, ``GND`` or ``VCC``)."""
     taken = set(design.nodes) | set(design.inputs) | set(design.outputs)
     new, lit = frame(aig)
     # a multiplexer that drives an output is named after it
     out_of: dict = {}
     for o, x in aig.outputs:
-        if x & 1 and o not in design.inputs and o not in design.storage():
-            out_of.setdefault(x >> 1, o)
+        if o not in design.inputs and o not in design.storage():
+            out_of.setdefault(x, o)
     wires: dict = {}
     extra: list = []
     count = 0
@@ -151,19 +170,23 @@ def _cut(aig: AIG, muxes: dict, chosen: set, design) -> tuple[AIG, dict]:
         if not aig.is_and(v):
             continue
         if v in chosen:
-            s, d1, d0 = muxes[v]
-            name = out_of.get(v, "")
+            s, d1, d0, compl = muxes[v]
+            name = out_of.get(2 * v + compl, "")
             while not name:
                 count += 1
                 name = f"_mux{count}"
                 if name in taken:
                     name = ""
             m = new.add_input(name)
-            lit[v] = m ^ 1   # the AND node computes the multiplexer's complement
-            names = tuple(f"{name}_{k}" for k in ("a", "b", "s"))
-            for nm, x in zip(names, (d0, d1, s)):
-                extra.append((nm, lit[x >> 1] ^ (x & 1)))
-            wires[name] = names
+            lit[v] = m ^ compl   # the AND node may compute the multiplexer's complement
+            names = []
+            for k, x in zip("abs", (d0, d1, s)):
+                if x < 2:   # a constant data input: tied to a rail
+                    names.append(_RAILS[x])
+                    continue
+                names.append(f"{name}_{k}")
+                extra.append((names[-1], lit[x >> 1] ^ (x & 1)))
+            wires[name] = tuple(names)
             continue
         a, b = f0[v], f1[v]
         lit[v] = new.add_and(lit[a >> 1] ^ (a & 1), lit[b >> 1] ^ (b & 1))
