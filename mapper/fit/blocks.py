@@ -139,8 +139,8 @@ def _output_nets(design: Netlist, uses: list, plan: _Plan, rest: Netlist, fresh)
                 rest.add_input(net)
                 made.add(net)
             for other, inv in lits:
-                if other == net:
-                    continue
+                if other == net or other in made:
+                    continue  # (a net two pins both compute is driven from the first)
                 if other not in design.nodes:
                     raise InternalError(f"block use {u.label}: link net {other} is bound twice")
                 rest.add_logic(other, [net], _NOT if inv else _BUF)
