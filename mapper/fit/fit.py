@@ -52,8 +52,8 @@ from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary, RecostedLibrary
 from .pack import pack
-from .spellings import spellings
 from .plain import hand_mapping, plugin_mapping
+from .spellings import spellings
 from .storage import close_loops, gate_storage
 
 __all__ = ["baseline_builds", "fit_gates", "mapping_netlist"]

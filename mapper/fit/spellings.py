@@ -47,12 +47,7 @@ def fit_relays_spelled(design: Netlist, target: Target, effort: int = 1) -> Buil
     storage keep their names in every spelling, so the build is one of ``design``."""
     from .relay import fit_relays
 
-    best, score = None, None
-    for spelled in spellings(design):
-        b = fit_relays(spelled, target, effort=effort)
-        s = (len(b.parts), len(b.contacts))
-        if best is None or s < score:
-            best, score = b, s
-    assert best is not None
+    builds = [fit_relays(spelled, target, effort=effort) for spelled in spellings(design)]
+    best = min(builds, key=lambda b: (len(b.parts), len(b.contacts)))  # the first of the fewest
     best.inputs = list(design.inputs)  # the design's own port order
     return best

@@ -101,12 +101,17 @@ def structural_keys(netlist: Netlist) -> dict:
             key[name] = _key("i")
     distinct = 0
     for _ in range(ROUNDS):
+        # a storage element is a source of the order, so what it reads (and who reads an input
+        # beside it) need not come first: across storage the last round's keys are used, so that
+        # the order the file lists sources in does not matter
         down: dict = {}
         for name in order:
-            down[name] = _key(key[name], sorted((down.get(f, 0), sig) for f, sig in pins.get(name, ())))
+            fan = down if isinstance(nodes[name], Logic) else key
+            down[name] = _key(key[name], sorted((fan.get(f, 0), sig) for f, sig in pins.get(name, ())))
         up: dict = {}
         for name in reversed(order):
-            seen = sorted((down.get(r, 0), sig, up.get(r, 0)) for r, sig in readers.get(name, ()))
+            seen = sorted((down.get(r, 0), sig, up.get(r, 0) if isinstance(nodes[r], Logic) else key.get(r, 0))
+                          for r, sig in readers.get(name, ()))
             up[name] = _key(where.get(name, -1), tuple(seen))
         key = {name: _key(down[name], up[name]) for name in order}
         now = len(set(key.values()))
@@ -116,11 +121,13 @@ def structural_keys(netlist: Netlist) -> dict:
     return key
 
 
-def fanin_order(node, keys: dict) -> list:
+def fanin_order(node, keys: dict, rank: dict | None = None) -> list:
     """The pins of ``node`` (a :class:`~mapper.netlist.Logic`) in the order of their nets' keys
-    and what the function does with each (:func:`pin_signature`); pins alike keep their order."""
-    return sorted(range(len(node.fanins)), key=lambda j: (keys.get(node.fanins[j], 0),
-                                                           pin_signature(node.func, j), j))
+    and what the function does with each (:func:`pin_signature`); pins alike by ``rank`` (net ->
+    number, e.g. where the file lists the net), then in their own order."""
+    rank = rank or {}
+    return sorted(range(len(node.fanins)), key=lambda j: (keys.get(node.fanins[j], 0), pin_signature(node.func, j),
+                                                           rank.get(node.fanins[j], -1), j))
 
 
 def canonical_order(netlist: Netlist) -> Netlist:

@@ -5,6 +5,8 @@ expression, which the reader turns into a tree of small gates.  The logic is equ
 the part search maps are not, and the cover lands on different part counts.  :func:`collapse_regions`
 takes both back to one netlist:
 
+* buffers that are not outputs are taken out (a BLIF file writes ``x = y`` as a node, the Verilog
+  reader as two names of one net);
 * a *region* is a net and the logic that only it reads: a node joins the region of its reader when
   every gate that reads it lies in that one region and it is neither an output nor read by storage.
   Joining never stops another join, so the regions do not depend on the order the nodes are visited
@@ -38,6 +40,8 @@ Examples
 """
 from __future__ import annotations
 
+from dataclasses import replace
+
 from ..netlist import Logic, Netlist, Storage
 from .canonical import fanin_order, structural_keys
 from .function import Function, var_mask
@@ -48,6 +52,37 @@ __all__ = ["collapse_regions", "regions", "LIMIT"]
 #: inputs of the widest region made one node (its table has 2**LIMIT rows; the bi-decomposition
 #: of :func:`rebuilt_regions` works on tables of this many inputs, as the restructuring's does)
 LIMIT = MAX_FREE
+
+
+def _without_buffers(netlist: Netlist) -> Netlist:
+    """``netlist`` with its buffers that are not outputs gone, their readers reading what they
+    copy: a BLIF file writes ``x = y`` as a node, a Verilog reader as two names of one net."""
+    copy_of: dict = {}
+    for name, node in netlist.nodes.items():
+        if isinstance(node, Logic) and node.func.n == 1 and node.func.table() == 0b10 \
+                and name not in netlist.outputs:
+            copy_of[name] = node.fanins[0]
+    if not copy_of:
+        return netlist
+
+    def source(net: str) -> str:
+        seen = set()
+        while net in copy_of and net not in seen:  # a chain of buffers, followed to its start
+            seen.add(net)
+            net = copy_of[net]
+        return net
+
+    out = netlist.copy()
+    out.nodes = {}
+    for name, node in netlist.nodes.items():
+        if name in copy_of:
+            continue
+        if isinstance(node, Logic):
+            node = Logic(tuple(source(f) for f in node.fanins), node.func)
+        elif isinstance(node, Storage):
+            node = replace(node, d=source(node.d), control=None if node.control is None else source(node.control))
+        out.nodes[name] = node
+    return out
 
 
 def regions(netlist: Netlist) -> dict:
@@ -121,6 +156,7 @@ def collapse_regions(netlist: Netlist, limit: int = LIMIT) -> Netlist:
     """A copy of ``netlist`` with each fan-out-free region of at most ``limit`` inputs made one
     node (see the module docstring).  Ports, storage and the nets of region roots keep their names;
     nets inside a collapsed region are gone.  The copy computes what ``netlist`` computes."""
+    netlist = _without_buffers(netlist)
     region = regions(netlist)
     groups = _members(netlist, region)
     made: dict = {}
@@ -145,9 +181,11 @@ def _ordered_fanins(netlist: Netlist, made: set) -> Netlist:
     """``netlist`` with the fan-ins of the nodes in ``made`` listed by
     :func:`~mapper.logic.canonical.fanin_order`, their tables permuted to match."""
     keys = structural_keys(netlist)
+    # nets alike go by where the file lists them (the inputs first), not by where a gate read them
+    rank = {n: k for k, n in enumerate(list(netlist.inputs) + list(netlist.nodes))}
     for name in made:
         node = netlist.nodes[name]
-        perm = fanin_order(node, keys)
+        perm = fanin_order(node, keys, rank)
         if perm == list(range(len(perm))):
             continue
         table = _permuted(node.func.table(), perm)
@@ -213,7 +251,9 @@ def _gates_of(g, lit: int, name: str, nets: dict, nodes: dict, taken: set) -> No
 
 
 def _fresh(prefix: str, taken: set) -> str:
-    k = len(taken)
+    """A new net name: ``prefix`` and the first free number (counted per region, so that the
+    names do not depend on how many gates the file had)."""
+    k = 0
     while f"{prefix}{k}" in taken:
         k += 1
     taken.add(f"{prefix}{k}")
