@@ -4,13 +4,13 @@ The search keeps a change only when the whole-part count falls (ties broken
 by delay, then by wires); every candidate is a complete build, and the one
 returned is proved equal to the design by the caller (:mod:`mapper.flow`).
 
-Candidates tried, as long as the budget lasts (it shrinks with the design;
-a design of over 6,000 nodes gets one mapping):
-
 The search maps two spellings of the design made from its function in small
 regions (:mod:`mapper.fit.spellings`), so that the same design written in BLIF
 or in Verilog, with its nets renamed or reordered, gets the same parts; only
 the careful builder's builds start from the design as written.
+
+Candidates tried, as long as the budget lasts (it shrinks with the design;
+a design of over 6,000 nodes gets one mapping):
 
 * always, the builds a careful builder makes by hand (:mod:`mapper.fit.plain`):
   the design converted to NAND2 (and NOR2) forms with double inversions
@@ -217,7 +217,8 @@ class _PartSearch:
         if self.keep or self.trees:
             return
         from .muxes import mux_mapping
-        sources = [self.design] + [s[0] for s in self.subjects[:1] if s[0] is not self.design and not s[3]]
+        sources = [self.design, *self.others]
+        sources += [s[0] for s in self.subjects[:1] if all(s[0] is not x for x in sources) and not s[3]]
         for src in sources:
             m = mux_mapping(src, self.lib, self.target)
             if m is not None:
