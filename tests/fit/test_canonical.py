@@ -4,7 +4,10 @@ The designs are the textbook circuits in ``tests/data/textbook`` and ISCAS-85 c1
 Fujiwara, ISCAS 1985); each is written again with every internal net renamed and its inputs and gates
 listed in a shuffled order -- the same logic, so the same part count is expected on every target.
 Before the part search walked designs in a structural order, seg7 took 14 or 13 NAND packages
-depending on the order its gates were listed in.
+depending on the order its gates were listed in.  The spellings the search maps
+(``mapper.fit.spellings``) are checked here too: from a design's BLIF and from its Verilog export
+they are the same netlists up to names (the part counts of the two files are compared target by
+target in ``test_crossformat.py``).
 """
 from __future__ import annotations
 
