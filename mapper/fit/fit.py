@@ -51,6 +51,7 @@ from .blocks import has_blocks, with_blocks, without_blocks
 from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary, RecostedLibrary
+from .names import design_names
 from .pack import pack
 from .plain import hand_mapping, plugin_mapping
 from .spellings import spellings
@@ -372,6 +373,12 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     if restructure:
         search.one_cell_builds(effort)
     best = search.result()
+    if search.best_mapping is not None and not keep and not trees:
+        # nets of the spellings that equal the design's own nets take their names back
+        named = design_names(design, search.best_mapping, mapping_netlist(design, search.best_mapping, target))
+        again = _assemble(design, target, named, search.storage_cells) if named is not search.best_mapping else None
+        if again is not None and len(again.parts) == len(best.parts):
+            best = again
     best.inputs = ports  # the design's own port order
     if design.exdc is not None:
         from ..logic.restructure.collapse import off_care_differences
