@@ -47,7 +47,7 @@ from .canonical import fanin_order, structural_keys
 from .function import Function, var_mask
 from .restructure.decompose import MAX_FREE
 
-__all__ = ["collapse_regions", "regions", "LIMIT"]
+__all__ = ["collapse_regions", "rebuilt_regions", "regions", "LIMIT"]
 
 #: inputs of the widest region made one node (its table has 2**LIMIT rows; the bi-decomposition
 #: of :func:`rebuilt_regions` works on tables of this many inputs, as the restructuring's does)
