@@ -133,8 +133,8 @@ def target_info(name_or_path) -> dict:
 
 def _map(design: Netlist, target: Target, effort: int, keep, trees: bool) -> Build:
     if target.is_relay:
-        from .fit.relay import fit_relays
-        return fit_relays(design, target, effort=effort)
+        from .fit.spellings import fit_relays_spelled
+        return fit_relays_spelled(design, target, effort=effort)
     from .fit.fit import fit_gates
     return fit_gates(design, target, effort=effort, keep=keep, trees=trees)
 

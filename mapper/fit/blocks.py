@@ -135,15 +135,16 @@ def _output_nets(design: Netlist, uses: list, plan: _Plan, rest: Netlist, fresh)
     made: set = set()
     for k, u in enumerate(uses):
         for pin, lits in u.outputs.items():
-            plain = [net for net, inv in lits if not inv]
+            # a net an earlier pin drives already is left to it (two outputs never share a net)
+            plain = [net for net, inv in lits if not inv and net not in made]
             net = plain[0] if plain else fresh(f"{u.name}.{pin}")
             plan.pin[(k, pin)] = net
             if net in design.nodes or not plain:
                 rest.add_input(net)
                 made.add(net)
             for other, inv in lits:
-                if other == net:
-                    continue
+                if other == net or other in made:
+                    continue  # (a net two pins both compute is driven from the first)
                 if other not in design.nodes:
                     raise InternalError(f"block use {u.label}: link net {other} is bound twice")
                 rest.add_logic(other, [net], _NOT if inv else _BUF)

@@ -4,6 +4,11 @@ The search keeps a change only when the whole-part count falls (ties broken
 by delay, then by wires); every candidate is a complete build, and the one
 returned is proved equal to the design by the caller (:mod:`mapper.flow`).
 
+The search maps two spellings of the design made from its function in small
+regions (:mod:`mapper.fit.spellings`), so that the same design written in BLIF
+or in Verilog, with its nets renamed or reordered, gets the same parts; only
+the careful builder's builds start from the design as written.
+
 Candidates tried, as long as the budget lasts (it shrinks with the design;
 a design of over 6,000 nodes gets one mapping):
 
@@ -11,10 +16,10 @@ a design of over 6,000 nodes gets one mapping):
   the design converted to NAND2 (and NOR2) forms with double inversions
   cancelled and identical gates shared, and each gate plugged into the cell
   that carries it -- so the answer never has more parts than either;
-* the mapping with every cell of the target;
+* the mapping with every cell of the target, of each spelling;
 * for a target of one NAND2 or NOR2 cell, the mapping of the dual design with
   the dual cell (read back with the rails swapped);
-* the mappings of the restructured forms of the design
+* the mappings of the restructured forms of each spelling
   (:mod:`mapper.logic.restructure`: rewritten, factored, collapsed and built
   again with counters of ones and decompositions); a form is kept only when
   its build has fewer whole parts than every build before it -- the stop
@@ -48,8 +53,10 @@ from .blocks import has_blocks, with_blocks, without_blocks
 from .electrical import split_fanout
 from .gates import Mapping, map_logic, subject_graph
 from .library import CellLibrary, RecostedLibrary
+from .names import design_names
 from .pack import pack
 from .plain import hand_mapping, plugin_mapping
+from .spellings import spellings
 from .storage import close_loops, gate_storage
 
 __all__ = ["baseline_builds", "fit_gates", "mapping_netlist"]
@@ -87,8 +94,11 @@ def _score(build: Build, mapping: Mapping) -> tuple:
 class _PartSearch:
     """The candidates of :func:`fit_gates` and the best build among them (fewest parts, then levels, then cells)."""
 
-    def __init__(self, design: Netlist, target: Target, effort: int, keep, trees: bool):
+    def __init__(self, design: Netlist, target: Target, effort: int, keep, trees: bool, plain: Netlist,
+                 others: tuple = ()):
         self.design, self.target, self.keep, self.trees = design, target, keep, trees
+        self.plain = plain  # the design as written: the careful builder's builds start from it
+        self.others = others  # other spellings of the design, mapped and restructured too
         self.storage_cells = _storage_cells(target)
         self.lib = _library(target)
         self.best: Build | None = None
@@ -102,6 +112,8 @@ class _PartSearch:
         self.budget = int(min(40, 12_000 / size, 6_000_000 / size ** 2)) if effort > 0 else 0
         self.big = size > 6_000  # room for at most one candidate beyond the first
         self.subjects: list = []
+        if self.big:
+            self.others = ()  # one spelling: room for one more candidate only
 
     def spend(self) -> bool:
         if self.budget <= 0:
@@ -160,7 +172,7 @@ class _PartSearch:
         builds (``keep``, ``trees``) have their own covers and skip them."""
         if self.keep or self.trees:
             return
-        for label, m in baseline_mappings(self.design, self.target, self.lib, quick=self.big).items():
+        for label, m in baseline_mappings(self.plain, self.target, self.lib, quick=self.big).items():
             if len(self.lib.cells) == 1 and self.best is not None:
                 # one cell type: the slots alone bound the parts from below, and a floor
                 # candidate must have fewer parts; no need to pack one that cannot
@@ -179,7 +191,7 @@ class _PartSearch:
             return
         from ..logic.restructure.script import forms
         one_cell = len(self.lib.cells) == 1 and bool(_complete_cells(self.lib)) and not self.design.storage()
-        for form in forms(self.design):
+        for form in [f for d in (self.design, *self.others) for f in forms(d)]:
             ways = [("", form.netlist, self.lib)]
             dual = dual_netlist(form.netlist) if one_cell and not self.big else None
             if dual is not None:
@@ -191,6 +203,16 @@ class _PartSearch:
                 self.consider(_undual(m) if tag else m, f"{tag}{form.label}")
                 if self.best_score < before:
                     self.subjects[:] = [(net, subject, lib, tag)] + self.subjects[:1]
+
+    def other_spellings(self) -> None:
+        """Map each other spelling of the design (:mod:`mapper.logic.regions`); one that beats
+        every build so far becomes the subject the later candidates start from."""
+        for other in self.others:
+            subject = subject_graph(other)
+            before = self.best_score
+            self.consider(map_logic(other, self.lib, subject=subject), "regions as tables")
+            if self.best_score < before:
+                self.subjects[:] = [(other, subject, self.lib, "")] + self.subjects[:1]
 
     def multiplexers(self) -> None:
         """The design with its 2:1 multiplexers of a common select in the target's multiplexer
@@ -208,7 +230,8 @@ class _PartSearch:
             return
         libs = [self.lib] + [_library(self.target, frozenset(c for c in self.lib.cells if c != k))
                              for k in _complete_cells(self.lib)]
-        sources = [self.design] + [s[0] for s in self.subjects[:1] if s[0] is not self.design and not s[3]]
+        sources = [self.design, *self.others]
+        sources += [s[0] for s in self.subjects[:1] if all(s[0] is not x for x in sources) and not s[3]]
         for src in sources:
             for k, m in enumerate(mux_mappings(src, libs, self.target)):
                 self.consider(m, "multiplexer parts", floor=k > 0)
@@ -227,7 +250,8 @@ class _PartSearch:
         if len(self.lib.cells) == 1 or self.keep or self.trees:
             return
         for cell in _complete_cells(self.lib):
-            sub = _search(self.design, _one_cell_target(self.target, cell), effort, (), False, True)
+            sub = _search(self.design, _one_cell_target(self.target, cell), effort, (), False, True, self.plain,
+                          self.others)
             if sub.best_mapping is not None:
                 self.consider(sub.best_mapping, f"{cell} only, searched as its own target")
 
@@ -353,14 +377,26 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     if not keep and not trees and has_blocks(target):
         return with_blocks(design, target,
                            lambda d: fit_gates(d, without_blocks(target), effort, restructure=restructure))
-    # walked in an order from the structure alone: the same design written differently (names,
-    # the order of inputs and gates) meets the same choices and gets the same parts
+    # the search maps spellings made from the design's function in small regions, listed in an
+    # order from the structure alone (mapper.fit.spellings): the same design written differently --
+    # names, the order of inputs and gates, a sum of products or an expression -- meets the same
+    # choices and gets the same parts.  The careful builder's builds start from the design as written.
     ports = list(design.inputs)
+    subject, others = canonical_order(design), ()
+    if not keep and not trees:  # (hazard-free covers are mapped as written)
+        subject, *rest = spellings(design)
+        others = tuple(rest)
     design = canonical_order(design)
-    search = _search(design, target, effort, keep, trees, restructure)
+    search = _search(subject, target, effort, keep, trees, restructure, design, others)
     if restructure:
         search.one_cell_builds(effort)
     best = search.result()
+    if search.best_mapping is not None and not keep and not trees:
+        # nets of the spellings that equal the design's own nets take their names back
+        named = design_names(design, search.best_mapping, mapping_netlist(design, search.best_mapping, target))
+        again = _assemble(design, target, named, search.storage_cells) if named is not search.best_mapping else None
+        if again is not None and len(again.parts) == len(best.parts):
+            best = again
     best.inputs = ports  # the design's own port order
     if design.exdc is not None:
         from ..logic.restructure.collapse import off_care_differences
@@ -375,10 +411,13 @@ def fit_gates(design: Netlist, target: Target, effort: int = 1, keep=(), trees: 
     return best
 
 
-def _search(design: Netlist, target: Target, effort: int, keep, trees: bool, restructure: bool) -> _PartSearch:
-    """The part search of :func:`fit_gates` on ``target`` alone."""
-    search = _PartSearch(design, target, effort, keep, trees)
+def _search(design: Netlist, target: Target, effort: int, keep, trees: bool, restructure: bool,
+            plain: Netlist, others: tuple = ()) -> _PartSearch:
+    """The part search of :func:`fit_gates` on ``target`` alone (``plain``: the design as written;
+    ``others``: other spellings of ``design``)."""
+    search = _PartSearch(design, target, effort, keep, trees, plain, others)
     search.first_mappings()
+    search.other_spellings()
     search.baselines()
     if restructure:
         search.restructured()

@@ -79,6 +79,8 @@ class Form:
 
 
 _CACHE: dict = {}
+#: designs whose forms are remembered at once
+_CACHED = 2
 
 
 def forms(design) -> list:
@@ -91,7 +93,10 @@ def forms(design) -> list:
     if got is not None and got[0]() is design and got[1] == len(design.nodes):
         return got[2]
     out = _forms(design)
-    _CACHE.clear()   # one design at a time: the cache serves the targets of one run
+    # a few designs at a time: the cache serves the targets of one run, and the part search
+    # restructures two spellings of each design (mapper.logic.regions)
+    while len(_CACHE) >= _CACHED:
+        del _CACHE[next(iter(_CACHE))]
     _CACHE[key] = (weakref.ref(design), len(design.nodes), out)
     return out
 
