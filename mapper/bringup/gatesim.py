@@ -408,15 +408,20 @@ class SeqMachine(GateMachine):
 class LoopMachine(GateMachine):
     """``width`` machines of a gate build whose storage is built of gates (loops), stepped clock by clock.
 
-    Every net starts unknown (the power-on state is not relied on).  After
-    each change of the inputs the gates settle one gate delay at a time:
-    in a round every gate whose inputs changed in the round before takes
-    the level its inputs give (event-driven unit-delay simulation, textbook
-    practice, e.g. Abramovici, Breuer and Friedman 1990, ch. 3).  A net
-    still changing after :data:`ROUNDS` rounds (a loop that oscillates) is
-    made unknown, and the unknown spread until nothing changes.  A step is
-    :meth:`settle` (the inputs, clocks low), then :meth:`pulse`: every clock
-    input high, then low again, each settled the same way.
+    Every net starts unknown (the power-on state is not relied on).  Each
+    change of the inputs settles in the two phases of ternary simulation
+    (Eichelberger, "Hazard detection in combinational and sequential
+    switching circuits", IBM J. Res. Dev. 9(2), 1965): first every input
+    that changes is unknown and the unknown spreads through the gates until
+    nothing changes; then the inputs take their new levels and the gates
+    gain what knowledge they can.  A level known at the end is the level
+    the board shows whatever its gate delays and whatever order its loops
+    settle in; a race or an oscillation stays unknown.  (An earlier
+    unit-delay model called some faults detected that only showed with
+    equal gate delays: a rewired board settling its gates in another order
+    did not show them.)  A step is :meth:`settle` (the inputs, clocks low),
+    then :meth:`pulse`: every clock input high, then low again, each
+    settled the same way.
     """
 
     def __init__(self, circ: GateCircuit, width: int, pin_faults: dict | None = None,
@@ -441,28 +446,33 @@ class LoopMachine(GateMachine):
         M = self.M
         self._set(1, M, 0)
         self._set(0, 0, M)
+        if self._fresh:   # power on: every net unknown, every gate once, in order
+            self._fresh = False
+            for net, (h, l) in zip(self.c.inputs, new):
+                self._set(net, h, l)
+            self._gates()
+        # phase A: an input that changes is unknown while it changes, and the unknown spreads through
+        # every gate until nothing changes (it only loses knowledge, so it ends)
+        old = self._now or [(0, 0)] * len(new)
+        for net, (h, l), (oh, ol) in zip(self.c.inputs, new, old):
+            self._set(net, h & oh, l & ol)
+        self._unsettled(set(range(len(self.c.nodes))))
+        # phase B: the inputs at their new levels; gates only gain knowledge, so this ends too
         for net, (h, l) in zip(self.c.inputs, new):
             self._set(net, h, l)
         self._now = list(new)
-        if self._fresh:   # power on: every gate once, in order, then the loops settle
-            self._fresh = False
-            self._gates()
-        # the first round takes every gate, so that what a machine does never depends on what the other
-        # machines in the same words do (a gate left unknown by an oscillation gets its chance again)
-        active = set(range(len(self.c.nodes)))
         code = self._code
-        for _ in range(ROUNDS):
-            if not active:
-                return
-            new_vals = [(k, self._gate(code[k][1], code[k][2])) for k in sorted(active)]
-            active = set()
-            for k, (h, l) in new_vals:
+        active = set(range(len(self.c.nodes)))
+        while active:
+            nxt: set = set()
+            for k in sorted(active):
                 out = code[k][0]
-                before = (self.H[out], self.L[out])
-                self._set(out, h, l)
-                if (self.H[out], self.L[out]) != before:
-                    active.update(self._readers.get(out, []))
-        self._unsettled(active)
+                h, l = self._gate(code[k][1], code[k][2])
+                oh, ol = self.H[out], self.L[out]
+                self._set(out, oh | h, ol | l)
+                if (self.H[out], self.L[out]) != (oh, ol):
+                    nxt.update(self._readers.get(out, []))
+            active = nxt
 
     def _unsettled(self, active: set) -> None:
         """Nets still changing: unknown where they change, spread until nothing changes (it only loses
@@ -498,6 +508,3 @@ class LoopMachine(GateMachine):
             new[k] = (0, M)
         self._apply(list(new))
 
-
-#: unit-delay rounds after one change of the inputs before a loop still changing is called unknown
-ROUNDS = 64
