@@ -456,11 +456,17 @@ class LoopMachine(GateMachine):
         old = self._now or [(0, 0)] * len(new)
         for net, (h, l), (oh, ol) in zip(self.c.inputs, new, old):
             self._set(net, h & oh, l & ol)
-        self._unsettled(set(range(len(self.c.nodes))))
+        self._spread(gain=False)
         # phase B: the inputs at their new levels; gates only gain knowledge, so this ends too
         for net, (h, l) in zip(self.c.inputs, new):
             self._set(net, h, l)
         self._now = list(new)
+        self._spread(gain=True)
+
+    def _spread(self, gain: bool) -> None:
+        """Every gate, then the readers of each net that changed, until nothing changes.  ``gain``
+        False (phase A): a net stays known only where its old and new levels agree; True (phase B): a
+        net takes what its gate now knows.  Either way knowledge only moves one way, so it ends."""
         code = self._code
         active = set(range(len(self.c.nodes)))
         while active:
@@ -469,22 +475,8 @@ class LoopMachine(GateMachine):
                 out = code[k][0]
                 h, l = self._gate(code[k][1], code[k][2])
                 oh, ol = self.H[out], self.L[out]
-                self._set(out, oh | h, ol | l)
-                if (self.H[out], self.L[out]) != (oh, ol):
-                    nxt.update(self._readers.get(out, []))
-            active = nxt
-
-    def _unsettled(self, active: set) -> None:
-        """Nets still changing: unknown where they change, spread until nothing changes (it only loses
-        knowledge, so it ends)."""
-        code = self._code
-        while active:
-            nxt: set = set()
-            for k in sorted(active):
-                out = code[k][0]
-                h, l = self._gate(code[k][1], code[k][2])
-                oh, ol = self.H[out], self.L[out]
-                self._set(out, oh & h, ol & l)   # known only where old and new agree (a stuck net stays)
+                nh, nl = (oh | h, ol | l) if gain else (oh & h, ol & l)
+                self._set(out, nh, nl)
                 if (self.H[out], self.L[out]) != (oh, ol):
                     nxt.update(self._readers.get(out, []))
             active = nxt

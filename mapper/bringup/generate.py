@@ -29,7 +29,8 @@ from ..errors import InternalError
 from .atpg import FOUND, UNDETECTABLE, SettingSolver
 from .engine import Engine
 
-__all__ = ["Outcome", "combinational", "compact", "BATCH", "EXHAUSTIVE_INPUTS"]
+__all__ = ["Outcome", "combinational", "compact", "keep_first_hits", "keep_solved", "covers_of", "choose_cover",
+           "BATCH", "EXHAUSTIVE_INPUTS"]
 
 log = logging.getLogger(__name__)
 
@@ -59,6 +60,73 @@ class Outcome:
     stats: dict = field(default_factory=dict)
 
 
+def keep_first_hits(run, left: list, batch: list, out: Outcome) -> tuple:
+    """``(kept, still)``: of the faults ``left`` (simulated by ``run`` in that order), keep the first
+    setting of ``batch`` that detects each (one copy per setting) in ``out``; ``still`` the faults none
+    detects, ``kept`` whether any was."""
+    keep: dict = {}
+    still = []
+    for k, f in enumerate(left):
+        hit = run.detected(k)
+        if hit:
+            keep.setdefault(hit[0], []).append(f)
+        else:
+            still.append(f)
+    for p, fs in keep.items():
+        out.settings.append(batch[p])
+        for f in fs:
+            out.detects[f] = len(out.settings) - 1
+    return bool(keep), still
+
+
+def keep_solved(engine, faults: list, out: Outcome, f: int, left: list, setting, what: str) -> None:
+    """Keep the solver's ``setting`` (or sequence) for fault ``f`` in ``out``, after simulation shows it
+    detects ``f``; faults of ``left`` it detects too are taken off ``left`` (in place)."""
+    run = engine.run([setting], [faults[g] for g in [f] + left])
+    if not run.detected(0):   # the solver's answer must show the fault in simulation too
+        raise InternalError(f"the solver's {what} for {faults[f].key} does not show it in simulation "
+                            "-- a bug in netfit")
+    out.settings.append(setting)
+    p = len(out.settings) - 1
+    out.detects[f] = p
+    still = []
+    for k, g in enumerate(left, 1):
+        if run.detected(k):
+            out.detects[g] = p
+        else:
+            still.append(g)
+    left[:] = still
+
+
+def covers_of(run, targets: list) -> dict:
+    """Setting index -> the faults of ``targets`` (simulated by ``run`` in that order) it detects."""
+    covers: dict = {}
+    for k, f in enumerate(targets):
+        for p in run.detected(k):
+            covers.setdefault(p, set()).add(f)
+    return covers
+
+
+def choose_cover(covers: dict, targets: list, cost) -> list:
+    """Settings covering every fault of ``targets`` that ``covers`` covers: greedy (most new faults, then
+    least ``cost(setting)``, then the earliest), then each dropped in reverse order that the others
+    cover; in setting order."""
+    uncovered = set(targets)
+    chosen: list = []
+    while uncovered:
+        p = max(covers, key=lambda q: (len(covers[q] & uncovered), -cost(q), -q))
+        gain = covers[p] & uncovered
+        if not gain:
+            break
+        chosen.append(p)
+        uncovered -= gain
+    for p in list(reversed(chosen)):
+        rest = set().union(*(covers[q] for q in chosen if q != p)) if len(chosen) > 1 else set()
+        if covers[p] <= rest:
+            chosen.remove(p)
+    return sorted(chosen)
+
+
 def _random_vector(rng: random.Random, n: int) -> tuple:
     return tuple(rng.getrandbits(1) for _ in range(n))
 
@@ -78,21 +146,9 @@ def combinational(engine: Engine, faults: list, seed: int = 0) -> Outcome:
         batch = [_random_vector(rng, n) for _ in range(BATCH)]
         tried += len(batch)
         run = engine.run(batch, [faults[f] for f in left])
-        keep: dict = {}
-        still = []
-        for k, f in enumerate(left):
-            hit = run.detected(k)
-            if hit:
-                keep.setdefault(hit[0], []).append(f)
-            else:
-                still.append(f)
-        for p, fs in keep.items():
-            out.settings.append(batch[p])
-            for f in fs:
-                out.detects[f] = len(out.settings) - 1
-        if not keep:
+        kept, left = keep_first_hits(run, left, batch, out)
+        if not kept:
             break
-        left = still
     out.methods.append(f"{tried} random settings simulated against the faults still undetected "
                        f"({len(out.settings)} kept)")
     out.stats.update(random_settings=tried)
@@ -146,21 +202,7 @@ def _solve_all(engine: Engine, faults: list, left: list, out: Outcome, rng: rand
             unknown += 1
             continue
         found += 1
-        s = tuple(vec.get(i, rng.getrandbits(1)) for i in range(n))
-        run = engine.run([s], [faults[g] for g in [f] + left])
-        if not run.detected(0):   # the solver's setting must show the fault in simulation too
-            raise InternalError(f"the solver's setting for {faults[f].key} does not show it in simulation "
-                                "-- a bug in netfit")
-        out.settings.append(s)
-        p = len(out.settings) - 1
-        out.detects[f] = p
-        still = []
-        for k, g in enumerate(left, 1):
-            if run.detected(k):
-                out.detects[g] = p
-            else:
-                still.append(g)
-        left[:] = still
+        keep_solved(engine, faults, out, f, left, tuple(vec.get(i, rng.getrandbits(1)) for i in range(n)), "setting")
     out.methods.append(f"satisfiability (after Larrabee 1992): {found} setting(s) found, {proved} fault(s) proved "
                        f"undetectable" + (f", {unknown} left unresolved within the solver's budget" if unknown else ""))
     out.stats.update(solver_found=found, solver_proved=proved, solver_unknown=unknown)
@@ -176,23 +218,7 @@ def compact(engine: Engine, faults: list, out: Outcome) -> tuple:
     if not targets:
         return [], engine.run([], faults)
     run = engine.run(out.settings, [faults[f] for f in targets])
-    covers: dict = {}
-    for k, f in enumerate(targets):
-        for p in run.detected(k):
-            covers.setdefault(p, set()).add(f)
-    uncovered = set(targets)
-    chosen: list = []
-    while uncovered:
-        p = max(covers, key=lambda q: (len(covers[q] & uncovered), -q))
-        gain = covers[p] & uncovered
-        if not gain:
-            break
-        chosen.append(p)
-        uncovered -= gain
-    for p in list(reversed(chosen)):
-        rest = set().union(*(covers[q] for q in chosen if q != p)) if len(chosen) > 1 else set()
-        if covers[p] <= rest:
-            chosen.remove(p)
-    chosen.sort()
+    covers = covers_of(run, targets)
+    chosen = choose_cover(covers, targets, lambda q: 0)
     settings = [out.settings[p] for p in chosen]
     return settings, engine.run(settings, faults)

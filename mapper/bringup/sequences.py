@@ -19,9 +19,9 @@ from __future__ import annotations
 
 import random
 
-from ..errors import InternalError, UsageError
+from ..errors import UsageError
 from .atpg import FOUND, UNDETECTABLE
-from .generate import Outcome
+from .generate import Outcome, choose_cover, covers_of, keep_first_hits, keep_solved
 from .seqengine import SeqEngine, SeqRun
 from .unroll import BEYOND, SequenceSolver
 
@@ -71,20 +71,8 @@ def sequential(engine: SeqEngine, faults: list, seed: int = 0, bound: int | None
                              "with no preset or clear, and no input sequence tried brings it to a known state "
                              "from power-on (the design has no reset input); build it with flip-flop chips "
                              "(gates-74) for a bring-up list")
-        keep: dict = {}
-        still = []
-        for k, f in enumerate(left):
-            hit = run.detected(k)
-            if hit:
-                keep.setdefault(hit[0], []).append(f)
-            else:
-                still.append(f)
-        for p, fs in keep.items():
-            out.settings.append(batch[p])
-            for f in fs:
-                out.detects[f] = len(out.settings) - 1
-        left = still
-        if not keep or not n:
+        kept, left = keep_first_hits(run, left, batch, out)
+        if not kept or not n:
             break
     out.methods.append(f"{tried} random sequence(s) of {length} clock steps simulated against the faults still "
                        f"undetected ({len(out.settings)} kept)")
@@ -119,20 +107,7 @@ def _unrolled(engine: SeqEngine, faults: list, left: list, out: Outcome, bound: 
             unknown += 1
             continue
         found += 1
-        run = engine.run([seq], [faults[g] for g in [f] + left])
-        if not run.detected(0):   # the solver's sequence must show the fault in simulation too
-            raise InternalError(f"the solver's sequence for {faults[f].key} does not show it in simulation "
-                                "-- a bug in netfit")
-        out.settings.append(seq)
-        p = len(out.settings) - 1
-        out.detects[f] = p
-        still = []
-        for k, g in enumerate(left, 1):
-            if run.detected(k):
-                out.detects[g] = p
-            else:
-                still.append(g)
-        left[:] = still
+        keep_solved(engine, faults, out, f, left, seq, "sequence")
     out.methods.append(
         f"time-frame expansion with satisfiability (iterative logic array, Bushnell and Agrawal 2000 ch. 8; "
         f"Larrabee 1992), up to {bound} clock steps: {found} sequence(s) found, {proved} fault(s) proved "
@@ -150,24 +125,8 @@ def compact_sequences(engine: SeqEngine, faults: list, out: Outcome) -> tuple:
     if not targets:
         return [], engine.run([], faults)
     run = engine.run(out.settings, [faults[f] for f in targets])
-    covers: dict = {}
-    for k, f in enumerate(targets):
-        for p in run.detected(k):
-            covers.setdefault(p, set()).add(f)
-    uncovered = set(targets)
-    chosen: list = []
-    while uncovered:
-        p = max(covers, key=lambda q: (len(covers[q] & uncovered), -len(out.settings[q]), -q))
-        gain = covers[p] & uncovered
-        if not gain:
-            break
-        chosen.append(p)
-        uncovered -= gain
-    for p in list(reversed(chosen)):
-        rest = set().union(*(covers[q] for q in chosen if q != p)) if len(chosen) > 1 else set()
-        if covers[p] <= rest:
-            chosen.remove(p)
-    chosen.sort()
+    covers = covers_of(run, targets)
+    chosen = choose_cover(covers, targets, lambda q: len(out.settings[q]))
     # each fault is owed to the first chosen sequence that shows it; a sequence is cut after its last such step
     at = {f: k for k, f in enumerate(targets)}
     end = {p: 0 for p in chosen}

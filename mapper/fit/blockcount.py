@@ -37,7 +37,7 @@ from __future__ import annotations
 
 from collections import Counter
 
-from .blockuse import BlockUse, Signatures, cone, rail_lit
+from .blockuse import BlockUse, Signatures, cone, rail_lit, rising_groups
 
 __all__ = ["find_counters"]
 
@@ -61,13 +61,6 @@ class _Controls:
     def hold(self, sigs: Signatures) -> None:
         self.idle = {c[0]: 0 if c[1] else sigs.mask for c in (self.clear, self.load) if c is not None}
 
-
-def _rising(sigs: Signatures, taken: set) -> dict:
-    groups: dict = {}
-    for q, st in sigs.design.storage().items():
-        if st.kind == "re" and st.control is not None and q not in taken:
-            groups.setdefault(st.control, []).append(q)
-    return groups
 
 
 def _candidates(sigs: Signatures, qs: list) -> list:
@@ -188,7 +181,7 @@ def find_counters(sigs: Signatures, cells: dict, taken: set, serial) -> list:
         return []
     storage = sigs.design.storage()
     uses = []
-    for clock, qs in _rising(sigs, taken).items():
+    for clock, qs in rising_groups(sigs, taken).items():
         ctl = _controls(sigs, qs, clear_ok=cell == "count4s")
         plain = _Controls()
         while True:

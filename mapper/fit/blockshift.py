@@ -29,7 +29,7 @@ from __future__ import annotations
 
 from ..logic.function import Function
 from ..netlist import Logic
-from .blockuse import BlockUse, Signatures, rail_lit
+from .blockuse import BlockUse, Signatures, rail_lit, rising_groups
 
 __all__ = ["find_shifts", "chains"]
 
@@ -40,13 +40,6 @@ _SHIFT_STAGES = ("SA", "SB", "SC", "SD", "SE", "SF", "SG", "SH")
 MIN_CHAIN = 3
 _AND2 = Function.from_table(2, 0b1000)
 
-
-def _rising(sigs: Signatures, taken: set) -> dict:
-    groups: dict = {}
-    for q, st in sigs.design.storage().items():
-        if st.kind == "re" and st.control is not None and q not in taken:
-            groups.setdefault(st.control, []).append(q)
-    return groups
 
 
 def chains(sigs: Signatures, qs: list) -> list:
@@ -145,7 +138,7 @@ def find_shifts(sigs: Signatures, cells: dict, taken: set, serial) -> list:
     if "shift8" not in cells and "shift8o" not in cells:
         return []
     uses: list = []
-    for clock, qs in _rising(sigs, taken).items():
+    for clock, qs in rising_groups(sigs, taken).items():
         for chain in chains(sigs, [q for q in qs if q not in taken]):
             if len(chain) < MIN_CHAIN:
                 continue

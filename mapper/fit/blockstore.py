@@ -20,21 +20,13 @@ flip-flops' own clock.
 from __future__ import annotations
 
 from ..netlist import Storage
-from .blockuse import BlockUse, Signatures, rail_lit
+from .blockuse import BlockUse, Signatures, rail_lit, rising_groups
 
 __all__ = ["find_registers", "find_latches"]
 
 #: register chips: (cell, part, flip-flops a chip), the largest first
 _REGISTER_PARTS = (("dff_r", "74HC273", 8), ("dff_r", "74HC174", 6), ("dff_rq", "74HC175", 4))
 
-
-def _clocked(sigs: Signatures, taken: set) -> dict:
-    """clock net -> rising-edge flip-flops on it (design order) not taken yet."""
-    groups: dict = {}
-    for q, st in sigs.design.storage().items():
-        if st.kind == "re" and st.control is not None and q not in taken:
-            groups.setdefault(st.control, []).append(q)
-    return groups
 
 
 def find_registers(sigs: Signatures, cells: dict, taken: set, serial) -> list:
@@ -44,7 +36,7 @@ def find_registers(sigs: Signatures, cells: dict, taken: set, serial) -> list:
         return []
     storage = sigs.design.storage()
     uses = []
-    for clock, qs in _clocked(sigs, taken).items():
+    for clock, qs in rising_groups(sigs, taken).items():
         while len(qs) >= 3:
             fits = [x for x in parts if x[2] >= len(qs)]
             cell, part, size = min(fits, key=lambda x: x[2]) if fits else max(parts, key=lambda x: x[2])

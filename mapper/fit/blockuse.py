@@ -32,7 +32,8 @@ from ..netlist import Logic, Netlist, Storage
 from ..simulate import simulate
 from ..verify import DEFAULT_SOLVER
 
-__all__ = ["RAILS", "BlockUse", "Signatures", "prove_uses", "cone", "equal_lits", "rail_lit", "inactive"]
+__all__ = ["RAILS", "BlockUse", "Signatures", "prove_uses", "cone", "equal_lits", "rail_lit", "inactive",
+           "rising_groups"]
 
 log = logging.getLogger(__name__)
 
@@ -180,6 +181,16 @@ class Signatures:
             stack.append((n, True))
             stack.extend((f, False) for f in node.fanins if f not in seen)
         return order
+
+
+def rising_groups(sigs: Signatures, taken) -> dict:
+    """clock net -> the rising-edge flip-flops on it (design order) not in ``taken``: what the register,
+    counter and shift-register finders share out."""
+    groups: dict = {}
+    for q, st in sigs.design.storage().items():
+        if st.kind == "re" and st.control is not None and q not in taken:
+            groups.setdefault(st.control, []).append(q)
+    return groups
 
 
 def equal_lits(sigs: Signatures, lit: tuple, taken=()) -> list:

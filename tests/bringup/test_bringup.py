@@ -22,11 +22,12 @@ Outside checks:
 """
 from __future__ import annotations
 
-import copy
 import itertools
 import random
 
 import pytest
+from bringup.rewire import NoFault as _NoFault
+from bringup.rewire import rewired as _rewired
 
 from generated import make
 from mapper import flow
@@ -113,34 +114,6 @@ def test_c17_settings_catch_every_published_line_fault(c17):
 
 
 # -- injected faults ------------------------------------------------------------------------------
-def _rewired(b, f):
-    """A copy of build ``b`` with fault ``f`` made by moving wires (never a flag in the fault model)."""
-    nb = copy.copy(b)
-    nb.cells = [copy.copy(c) for c in b.cells]
-    nb.output_nets = dict(b.output_nets)
-    rail = "VCC" if f.value else "GND"
-    for c in nb.cells:
-        c.pins = dict(c.pins)
-    if f.kind == "pin":
-        for c in nb.cells:
-            if c.part_ref == f.ref and any(b.pin_of(c, n) == f.pin for n in b.cell_def(c).inputs):
-                name = next(n for n in b.cell_def(c).inputs if b.pin_of(c, n) == f.pin)
-                c.pins[name] = rail
-        return nb
-    for c in nb.cells:   # a net stuck: every reader's wire moved to the rail, and the driver's output cut off
-        cd = b.cell_def(c)
-        for n in cd.inputs:
-            if c.pins[n] == f.net:
-                c.pins[n] = rail
-        for n in cd.outputs:   # every output of a chip of several (an adder's sums) on the net
-            if c.pins.get(n) == f.net:
-                c.pins[n] = f"{f.net}__cut"
-    for o in b.outputs:
-        if b.output_nets.get(o, o) == f.net:
-            nb.output_nets[o] = rail
-    return nb
-
-
 def _outputs_all(nb, b) -> tuple:
     n = len(b.inputs)
     words = {name: sum(1 << p for p in range(1 << n) if p >> i & 1) for i, name in enumerate(b.inputs)}
@@ -197,10 +170,6 @@ def _check_injected(r, rng: random.Random, tries: int) -> int:
             assert place_of(f) in {x for kk in plan.suspects(p, o) for x in plan.places(kk)}
         checked += 1
     return checked
-
-
-class _NoFault:
-    kind, value, net, ref, pin = "none", 0, "", "", ""
 
 
 def _no_fault():

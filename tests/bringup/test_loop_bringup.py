@@ -14,7 +14,8 @@ from __future__ import annotations
 import random
 
 import pytest
-from bringup.test_seq_bringup import _NoFault, _rewired
+from bringup.rewire import NoFault as _NoFault
+from bringup.rewire import rewired as _rewired
 from read.test_published import bench_to_blif, read_bench
 
 from mapper import flow

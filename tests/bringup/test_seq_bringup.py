@@ -28,10 +28,11 @@ Outside checks:
 """
 from __future__ import annotations
 
-import copy
 import random
 
 import pytest
+from bringup.rewire import NoFault as _NoFault
+from bringup.rewire import rewired as _rewired
 from read.test_published import bench_to_blif, read_bench  # the published s27, read by the tests' own reader
 
 from mapper import flow
@@ -46,35 +47,6 @@ DESIGNS = [("tests/data/textbook/counter4.blif", "gates-74"), ("tests/data/publi
            ("tests/data/published/beecount.blif", "gates-74ls"), ("tests/data/published/s208.blif", "gates-74ls"),
            # msi-74: quad flip-flop chips with a shared clock and clear (no preset), and adder chips
            ("tests/data/published/dk27.blif", "msi-74"), ("tests/data/published/mm4a.blif", "msi-74")]
-
-
-def _rewired(b, f):
-    """A copy of build ``b`` with fault ``f`` made by moving wires (never a flag in the fault model)."""
-    nb = copy.copy(b)
-    nb.cells = [copy.copy(c) for c in b.cells]
-    nb.output_nets = dict(b.output_nets)
-    rail = "VCC" if f.value else "GND"
-    for c in nb.cells:
-        c.pins = dict(c.pins)
-    if f.kind == "pin":
-        for c in nb.cells:
-            for n in b.cell_def(c).inputs:
-                if c.part_ref == f.ref and b.pin_of(c, n) == f.pin:
-                    c.pins[n] = rail
-        return nb
-    if f.kind == "net":
-        for c in nb.cells:   # every reader's wire moved to the rail, the driver's output cut off
-            cd = b.cell_def(c)
-            for n in cd.inputs:
-                if c.pins[n] == f.net:
-                    c.pins[n] = rail
-            for n in cd.outputs:
-                if c.pins.get(n) == f.net:
-                    c.pins[n] = f"{f.net}__cut"
-        for o in b.outputs:
-            if b.output_nets.get(o, o) == f.net:
-                nb.output_nets[o] = rail
-    return nb
 
 
 def _netlist(nb, plan):
@@ -110,10 +82,6 @@ def _observe(nb, plan) -> set:
         for q, out in zip(steps, trace):
             seen |= {(q, o) for o, name in enumerate(plan.outputs) if out[name] != plan.expected[q][o]}
     return seen
-
-
-class _NoFault:
-    kind, value, net, ref, pin = "none", 0, "", "", ""
 
 
 def _random_runs(nb, b, plan, rng, count=8, length=40) -> list:

@@ -16,10 +16,8 @@ outside simulator, against the same definition.
 """
 from __future__ import annotations
 
-import shutil
-import subprocess
-
 import pytest
+from fit.test_block_storage import _iverilog as _run_exported
 
 from mapper import flow
 from mapper.read import read_design
@@ -78,29 +76,8 @@ def _build(tmp_path, text: str, msi74, gates74):
 
 def _iverilog(tmp_path, result, rows: list) -> list:
     """The build's exported Verilog (``<design>.v`` and its models) run in Icarus Verilog over ``rows``
-    (dicts input -> 0/1): per row a dict output -> 0/1.  A missing simulator is a failure, not a skip."""
-    assert shutil.which("iverilog") and shutil.which("vvp"), "iverilog not installed: `make debs`"
-    out = tmp_path / "out"
-    flow.write_build(result, out)
-    build = result.build
-    ins, outs = list(build.inputs), list(build.outputs)
-    lines = ["`timescale 1ns/1ns", "module bench;"]
-    lines += [f"  reg {i};" for i in ins] + [f"  wire {o};" for o in outs]
-    lines.append(f"  {build.design} dut ({', '.join(f'.{p}({p})' for p in ins + outs)});")
-    lines.append("  initial begin")
-    for r in rows:
-        lines.append("    " + " ".join(f"{i} = 1'b{r[i]};" for i in ins) + " #5;")
-        lines.append(f'    $display("%b", {{{", ".join(outs)}}});')
-    lines += ["    $finish;", "  end", "endmodule", ""]
-    (out / "bench.v").write_text("\n".join(lines))
-    sim = out / "bench.vvp"
-    files = [out / "bench.v", out / f"{build.design}.v", out / f"{build.design}_models.v"]
-    r = subprocess.run(["iverilog", "-g2001", "-o", str(sim), *map(str, files)], capture_output=True, text=True)
-    assert r.returncode == 0, r.stderr
-    r = subprocess.run(["vvp", "-n", str(sim)], capture_output=True, text=True, timeout=120)
-    got = [ln.strip() for ln in r.stdout.splitlines() if ln.strip() and set(ln.strip()) <= set("01xz")]
-    assert len(got) == len(rows), r.stdout[-1000:]
-    return [{o: int(c) if c in "01" else c for o, c in zip(outs, line)} for line in got]
+    (dicts input -> 0/1): per row a dict output -> 0/1 (the storage tests' runner, with no clock)."""
+    return _run_exported(tmp_path, result, rows, ())
 
 
 def test_textbook_3_to_8_decoder_with_enable(tmp_path, msi74, gates74):
